@@ -1,0 +1,1 @@
+"""Alembic environment and revisions of the ratebank store (installed as ratebank._migrations)."""

@@ -1,0 +1,478 @@
+"""The ``ratebank`` command line.
+
+Each command parses its options, calls one library function and renders the
+result; no SQL and no physics here. Heavy modules are imported inside the
+commands that need them, so that listings start fast.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import typer
+
+from ratebank import __version__
+from ratebank.cli import common
+from ratebank.cli.common import STATE, RatebankGroup, print_json, say, show, store_session
+
+HELP = """Curate gas-phase rate parameters: store species, reactions and measured k(T);
+fit Arrhenius expressions; estimate missing A factors from collision theory; check
+and export a mechanism table.
+
+Example: ratebank --db group.db species list
+"""
+
+app = typer.Typer(
+    cls=RatebankGroup,
+    help=HELP,
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+    rich_markup_mode=None,
+    context_settings={"help_option_names": ["-h", "--help"]},
+)
+species_app = typer.Typer(
+    help="Species and their physical data.\n\nExample: ratebank species list",
+    no_args_is_help=True,
+)
+reactions_app = typer.Typer(
+    help="Reactions, their equations and classes.\n\nExample: ratebank reactions list --species OH",
+    no_args_is_help=True,
+)
+data_app = typer.Typer(
+    help="Measured k(T) data sets.\n\nExample: ratebank data import points.csv",
+    no_args_is_help=True,
+)
+expressions_app = typer.Typer(
+    help="Rate expressions (fitted, literature, estimated, hand-entered).\n\n"
+    "Example: ratebank expressions list --reaction oh-ch4",
+    no_args_is_help=True,
+)
+app.add_typer(species_app, name="species")
+app.add_typer(reactions_app, name="reactions")
+app.add_typer(data_app, name="data")
+app.add_typer(expressions_app, name="expressions")
+
+JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
+DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")
+PRESET_OPTION = typer.Option(
+    "combustion",
+    "--units",
+    help="Unit preset for rate constants and energies: combustion, atmospheric or si.",
+)
+
+
+def _version(value: bool) -> None:
+    if value:
+        typer.echo(f"ratebank {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def main_options(
+    db: str = typer.Option(
+        None,
+        "--db",
+        envvar="RATEBANK_DB",
+        help="Store: a SQLite file path or a database URL (default ./ratebank.db).",
+        show_envvar=True,
+    ),
+    author: str = typer.Option(
+        None,
+        "--author",
+        envvar="RATEBANK_AUTHOR",
+        help="Name recorded in the history (default: your login name).",
+        show_envvar=True,
+    ),
+    quiet: bool = typer.Option(False, "--quiet", "-q", help="No summaries or progress bars."),
+    traceback: bool = typer.Option(
+        False, "--traceback", help="Show the full trace of an error (for debugging)."
+    ),
+    version: bool = typer.Option(
+        False, "--version", callback=_version, is_eager=True, help="Print the version and exit."
+    ),
+) -> None:
+    STATE.db = db
+    STATE.author = author
+    STATE.quiet = quiet
+    STATE.traceback = traceback
+    common.reset_consoles()
+
+
+# --------------------------------------------------------------------------- store
+
+
+@app.command()
+def init() -> None:
+    """Create the store, or upgrade it to this ratebank's schema.
+
+    Running it on a store that is already up to date changes nothing.
+
+    Example: ratebank --db group.db init
+    """
+    from ratebank.services.store_access import init_store
+
+    store, result = init_store(STATE.db, author=STATE.author)
+    try:
+        if result.before is None:
+            say(f"Created a ratebank store at {store.display_url} (schema {result.after}).")
+        elif result.changed:
+            say(f"Upgraded {store.display_url} from schema {result.before} to {result.after}.")
+        else:
+            say(f"{store.display_url} is up to date (schema {result.after}); nothing to do.")
+    finally:
+        store.close()
+
+
+@app.command()
+def history(
+    limit: int = typer.Option(50, "--limit", "-n", min=1, help="How many entries."),
+    target: str = typer.Option(None, "--target", help="Only entries about this file or key."),
+    author: str = typer.Option(None, "--by", help="Only entries by this author."),
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Who changed what, when (newest first).
+
+    Example: ratebank history --limit 20
+    """
+    from ratebank.report import tables
+    from ratebank.services import curate
+
+    with store_session() as session:
+        rows = curate.history(session, limit=limit, target=target, author=author)
+    if as_json:
+        print_json(tables.history_records(rows))
+    else:
+        show(tables.history_table(rows))
+
+
+@app.command()
+def demo(
+    db: Path = typer.Option(
+        Path("ratebank-demo.db"), "--db", help="Where to build the demo store."
+    ),
+    out: Path = typer.Option(Path("demo-out"), "--out", help="Folder for the demo's outputs."),
+) -> None:
+    """Build a fresh store from the invented demo scenario and summarise it.
+
+    Every rate number in the demo is synthetic. The demo store file is
+    replaced only if it is an earlier demo store.
+
+    Example: ratebank demo --db /tmp/demo.db
+    """
+    from ratebank.io.demo import run_demo
+    from ratebank.report.demo import demo_summary
+
+    result = run_demo(db, out, author=STATE.author)
+    show(*demo_summary(result))
+
+
+# --------------------------------------------------------------------------- species
+
+
+@species_app.command("add")
+def species_add(
+    name: str = typer.Argument(..., help="Species name as used in equations, e.g. OH."),
+    formula: str = typer.Argument(..., help="Formula, e.g. HO or CH3OH."),
+    molar_mass: float = typer.Option(None, "--molar-mass", help="g/mol (default: from formula)."),
+    diameter: float = typer.Option(None, "--diameter", help="Collision diameter in Å."),
+    diameter_kind: str = typer.Option(
+        None, "--diameter-kind", help="hard-sphere or lennard-jones."
+    ),
+    well_depth: float = typer.Option(None, "--well-depth", help="Well depth ε/k_B in K."),
+    critical_temperature: float = typer.Option(None, "--tc", help="Critical temperature in K."),
+    critical_pressure: float = typer.Option(None, "--pc", help="Critical pressure in bar."),
+    acentric_factor: float = typer.Option(None, "--acentric", help="Acentric factor."),
+    boiling_volume: float = typer.Option(
+        None, "--boiling-volume", help="Molar volume at the normal boiling point, cm3/mol."
+    ),
+    source: str = typer.Option(None, "--source", help="Where the numbers come from."),
+) -> None:
+    """Add one species.
+
+    Example: ratebank species add CH3OH CH3OH --tc 512.6 --pc 80.97
+    """
+    from ratebank.services import curate
+
+    def text(value: float | None) -> str | None:
+        return None if value is None else repr(value)
+
+    fields = {
+        "name": name,
+        "formula": formula,
+        "molar_mass_g_per_mol": text(molar_mass),
+        "diameter_angstrom": text(diameter),
+        "diameter_kind": diameter_kind,
+        "well_depth_K": text(well_depth),
+        "critical_temperature_K": text(critical_temperature),
+        "critical_pressure_bar": text(critical_pressure),
+        "acentric_factor": text(acentric_factor),
+        "boiling_volume_cm3_per_mol": text(boiling_volume),
+        "source": source,
+    }
+    with store_session(write=True) as session:
+        curate.add_species(session, **fields)
+    say(f"Added species {name}.")
+
+
+@species_app.command("import")
+def species_import(
+    file: Path = typer.Argument(..., help="CSV file with a header row."),
+    dry_run: bool = DRY_RUN_OPTION,
+) -> None:
+    """Import species from a CSV file (all or nothing).
+
+    Columns: name, formula (required), molar_mass_g_per_mol, diameter_angstrom,
+    diameter_kind, well_depth_K, critical_temperature_K, critical_pressure_bar,
+    acentric_factor, boiling_volume_cm3_per_mol, source.
+
+    Example: ratebank species import species.csv
+    """
+    from ratebank.io.csv_import import import_species_file
+    from ratebank.report.tables import import_message
+
+    with store_session(write=not dry_run) as session:
+        summary = import_species_file(session, file, dry_run=dry_run)
+        if dry_run:
+            session.rollback()
+    say(import_message(summary))
+
+
+@species_app.command("list")
+def species_list(
+    missing_diameter: bool = typer.Option(
+        None, "--missing-diameter/--with-diameter", help="Only species without / with a diameter."
+    ),
+    name: str = typer.Option(None, "--name", help="Only names containing this text."),
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """List species with their masses and diameters.
+
+    Example: ratebank species list --missing-diameter
+    """
+    from ratebank.report import tables
+    from ratebank.services import curate
+
+    with store_session() as session:
+        rows = curate.list_species(session, missing_diameter=missing_diameter, name_contains=name)
+    if as_json:
+        print_json(tables.species_records(rows))
+    else:
+        show(tables.species_table(rows))
+
+
+@species_app.command("show")
+def species_show(
+    name: str = typer.Argument(..., help="Species name."),
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Everything about one species and the reactions it takes part in.
+
+    Example: ratebank species show OH
+    """
+    from ratebank.report import tables
+    from ratebank.services import curate
+
+    with store_session() as session:
+        detail = curate.show_species(session, name)
+    if as_json:
+        print_json(tables.species_detail_record(detail))
+    else:
+        show(*tables.species_detail_tables(detail))
+
+
+# --------------------------------------------------------------------------- reactions
+
+
+@reactions_app.command("add")
+def reactions_add(
+    key: str = typer.Argument(..., help="Short unique key, e.g. oh-ch4."),
+    equation: str = typer.Argument(..., help="Equation, e.g. 'OH + CH4 -> CH3 + H2O'."),
+    reaction_class: str = typer.Option(None, "--class", help="Reaction class."),
+    notes: str = typer.Option(None, "--notes", help="Free text."),
+) -> None:
+    """Add one reaction (checked for known species and element balance).
+
+    Example: ratebank reactions add oh-ch4 'OH + CH4 -> CH3 + H2O' --class h-abstraction
+    """
+    from ratebank.services import curate
+
+    with store_session(write=True) as session:
+        curate.add_reaction(session, key, equation, reaction_class=reaction_class, notes=notes)
+        detail = curate.show_reaction(session, key)
+    say(f"Added reaction {key}: {detail.equation}")
+
+
+@reactions_app.command("import")
+def reactions_import(
+    file: Path = typer.Argument(..., help="CSV file with a header row."),
+    dry_run: bool = DRY_RUN_OPTION,
+) -> None:
+    """Import reactions from a CSV file (all or nothing).
+
+    Columns: key, equation (required), class, notes.
+
+    Example: ratebank reactions import reactions.csv
+    """
+    from ratebank.io.csv_import import import_reactions_file
+    from ratebank.report.tables import import_message
+
+    with store_session(write=not dry_run) as session:
+        summary = import_reactions_file(session, file, dry_run=dry_run)
+        if dry_run:
+            session.rollback()
+    say(import_message(summary))
+
+
+@reactions_app.command("list")
+def reactions_list(
+    species: str = typer.Option(None, "--species", help="Only reactions involving this species."),
+    reaction_class: str = typer.Option(None, "--class", help="Only this reaction class."),
+    status: str = typer.Option(
+        None,
+        "--status",
+        help="Only reactions that are: measured, complete, ea-only (A to estimate) or nothing.",
+    ),
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """List reactions with what the store knows of each.
+
+    Example: ratebank reactions list --species OH --status ea-only
+    """
+    from ratebank.report import tables
+    from ratebank.services import curate
+
+    with store_session() as session:
+        rows = curate.list_reactions(
+            session, species=species, reaction_class=reaction_class, status=status
+        )
+    if as_json:
+        print_json(tables.reaction_records(rows))
+    else:
+        show(tables.reactions_table(rows))
+
+
+@reactions_app.command("show")
+def reactions_show(
+    reaction: str = typer.Argument(..., help="Reaction key or equation."),
+    preset: str = PRESET_OPTION,
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Everything about one reaction: participants, data sets, expressions, history.
+
+    Example: ratebank reactions show 'CH4 + OH -> CH3 + H2O'
+    """
+    from ratebank.report import tables
+    from ratebank.services import curate
+
+    with store_session() as session:
+        detail = curate.show_reaction(session, reaction)
+    if as_json:
+        print_json(tables.reaction_detail_record(detail, preset))
+    else:
+        show(*tables.reaction_detail_tables(detail, preset))
+
+
+# --------------------------------------------------------------------------- data
+
+
+@data_app.command("import")
+def data_import(
+    file: Path = typer.Argument(..., help="CSV file, one row per measured point."),
+    k_units: str = typer.Option(
+        None, "--k-units", help="Unit of k for rows whose k_units cell is empty."
+    ),
+    dry_run: bool = DRY_RUN_OPTION,
+) -> None:
+    """Import measured k(T) points (all or nothing).
+
+    Columns: set, reaction, T_K, k (required), k_units, k_uncertainty,
+    uncertainty_kind (relative|absolute), reference, method, pressure_bar, bath_gas.
+
+    Example: ratebank data import points.csv --k-units cm3/molecule/s
+    """
+    from ratebank.io.csv_import import import_measurements_file
+    from ratebank.report.tables import import_message
+
+    with store_session(write=not dry_run) as session:
+        summary = import_measurements_file(session, file, k_units=k_units, dry_run=dry_run)
+        if dry_run:
+            session.rollback()
+    say(import_message(summary))
+
+
+@data_app.command("list")
+def data_list(
+    reaction: str = typer.Option(None, "--reaction", help="Only sets of this reaction."),
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """List measurement sets with their temperature ranges.
+
+    Example: ratebank data list --reaction oh-ch4
+    """
+    from ratebank.report import tables
+    from ratebank.services import curate
+
+    with store_session() as session:
+        rows = curate.list_sets(session, reaction=reaction)
+    if as_json:
+        print_json(tables.set_records(rows))
+    else:
+        show(tables.sets_table(rows))
+
+
+# --------------------------------------------------------------------------- expressions
+
+
+@expressions_app.command("import")
+def expressions_import(
+    file: Path = typer.Argument(..., help="CSV file of expressions."),
+    dry_run: bool = DRY_RUN_OPTION,
+) -> None:
+    """Import literature or hand-entered expressions (all or nothing).
+
+    Columns: reaction, Ea (required), A, n, Ea_units, k_units, T_min_K, T_max_K,
+    uncertainty_factor, reference, origin (literature|manual). Leave A empty for an
+    activation energy whose A is to be estimated.
+
+    Example: ratebank expressions import literature.csv
+    """
+    from ratebank.io.csv_import import import_expressions_file
+    from ratebank.report.tables import import_message
+
+    with store_session(write=not dry_run) as session:
+        summary = import_expressions_file(session, file, dry_run=dry_run)
+        if dry_run:
+            session.rollback()
+    say(import_message(summary))
+
+
+@expressions_app.command("list")
+def expressions_list(
+    reaction: str = typer.Option(None, "--reaction", help="Only expressions of this reaction."),
+    origin: str = typer.Option(
+        None,
+        "--origin",
+        help="Only this origin: measured-fit, literature, collision-estimate or manual.",
+    ),
+    preset: str = PRESET_OPTION,
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """List stored rate expressions in a unit preset.
+
+    Example: ratebank expressions list --units atmospheric
+    """
+    from ratebank.report import tables
+    from ratebank.services import curate
+
+    with store_session() as session:
+        rows = curate.list_expressions(session, reaction=reaction, origin=origin)
+    if as_json:
+        print_json(tables.expression_records(rows, preset))
+    else:
+        show(tables.expressions_table(rows, preset))
+
+
+def main() -> None:
+    """Console-script entry point."""
+    app(prog_name="ratebank")

@@ -1,0 +1,166 @@
+"""What every command shares: global state, opening the store, output, errors.
+
+Errors are turned into one ``Error: ...`` line and an exit code in exactly
+one place, :class:`RatebankGroup.invoke`; ``--traceback`` lets them through.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import sys
+from collections.abc import Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
+
+import typer
+from typer.core import TyperGroup
+
+from ratebank.errors import RatebankError
+
+if TYPE_CHECKING:
+    from rich.console import Console
+    from sqlalchemy.orm import Session
+
+    from ratebank.services.store_access import StoreHandle
+
+
+@dataclass
+class GlobalOptions:
+    db: str | None = None
+    author: str | None = None
+    quiet: bool = False
+    traceback: bool = False
+
+
+STATE = GlobalOptions()
+
+_console: Console | None = None
+_error_console: Console | None = None
+
+
+def console() -> Console:
+    """The stdout console; wide when not a terminal so tables are not cut."""
+    global _console
+    if _console is None:
+        from rich.console import Console
+
+        width = None if sys.stdout.isatty() else int(os.environ.get("COLUMNS", "200"))
+        _console = Console(width=width, highlight=False)
+    return _console
+
+
+def error_console() -> Console:
+    global _error_console
+    if _error_console is None:
+        from rich.console import Console
+
+        _error_console = Console(stderr=True, highlight=False, soft_wrap=True)
+    return _error_console
+
+
+def reset_consoles() -> None:
+    """Forget the consoles (tests swap sys.stdout between invocations)."""
+    global _console, _error_console
+    _console = None
+    _error_console = None
+
+
+def print_json(data: Any) -> None:
+    sys.stdout.write(json.dumps(data, indent=2, ensure_ascii=False, default=str) + "\n")
+
+
+def say(message: str) -> None:
+    """A summary line on stdout, unless --quiet."""
+    if not STATE.quiet:
+        console().print(message, markup=False)
+
+
+def show(*renderables: Any) -> None:
+    for renderable in renderables:
+        console().print(renderable)
+
+
+@contextmanager
+def store_session(*, write: bool = False) -> Iterator[Session]:
+    """Open the store named by the global options and give one transaction."""
+    from ratebank.services.store_access import open_store
+
+    store = open_store(STATE.db, author=STATE.author)
+    try:
+        with store.session(write=write) as session:
+            yield session
+    finally:
+        store.close()
+
+
+def open_store_handle(check: bool = True) -> StoreHandle:
+    from ratebank.services.store_access import open_store
+
+    return open_store(STATE.db, author=STATE.author, check=check)
+
+
+def _one_line(text: str) -> str:
+    return text.strip()
+
+
+def report_error(message: str) -> None:
+    error_console().print(f"Error: {_one_line(message)}", markup=False)
+
+
+class RatebankGroup(TyperGroup):
+    """A command group that turns every error into one line and an exit code."""
+
+    def invoke(self, ctx: Any) -> Any:
+        try:
+            return super().invoke(ctx)
+        except RatebankError as exc:
+            if STATE.traceback:
+                raise
+            report_error(str(exc))
+            raise typer.Exit(exc.exit_code) from None
+        except KeyboardInterrupt:
+            report_error("interrupted; nothing was written by the interrupted command")
+            raise typer.Exit(130) from None
+        except Exception as exc:
+            if STATE.traceback or _is_command_line_signal(exc):
+                raise
+            report_error(translate_exception(exc))
+            raise typer.Exit(1) from None
+
+
+def _is_command_line_signal(exc: Exception) -> bool:
+    """Exit, abort and usage errors of the command-line library pass through."""
+    if isinstance(exc, typer.Exit | typer.Abort):
+        return True
+    # usage errors (bad option, missing argument) know how to show themselves
+    return hasattr(exc, "show") and hasattr(exc, "exit_code")
+
+
+def translate_exception(exc: Exception) -> str:
+    """A one-line message for a library error, naming what to do next."""
+    from ratebank.store.engine import mask_url
+
+    try:
+        from sqlalchemy.exc import IntegrityError, OperationalError, SQLAlchemyError
+    except ImportError:  # pragma: no cover - sqlalchemy is a dependency
+        SQLAlchemyError = ()  # type: ignore[assignment]
+    if isinstance(exc, SQLAlchemyError):
+        orig = getattr(exc, "orig", None)
+        detail = str(orig) if orig is not None else str(exc)
+        detail = mask_url(detail.splitlines()[0]) if detail else type(exc).__name__
+        if isinstance(exc, OperationalError) and "locked" in detail:
+            return (
+                "the store is busy (another ratebank is writing and did not finish within "
+                "the wait); try again"
+            )
+        if isinstance(exc, IntegrityError):
+            return f"the store refused the change: {detail}; nothing was written"
+        return f"database error: {detail}; nothing was written (rerun with --traceback for details)"
+    if isinstance(exc, OSError):
+        return f"{exc.strerror or exc}: {exc.filename or ''}".rstrip(": ")
+    return (
+        f"unexpected {type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''} "
+        "(rerun with --traceback and report it)"
+    )

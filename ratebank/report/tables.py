@@ -1,0 +1,402 @@
+"""Rich tables and JSON records for the listings.
+
+Each listing has two renderings built from the same service results: a rich
+table (3-4 significant digits, units in the column headers) and JSON records
+(full precision, unit-suffixed keys).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+from rich.table import Table
+
+from ratebank.report.format import sig, trange
+from ratebank.services.curate import (
+    ExpressionSummary,
+    HistoryEntry,
+    ImportSummary,
+    ReactionDetail,
+    ReactionSummary,
+    SetSummary,
+    SpeciesDetail,
+    SpeciesSummary,
+)
+
+G_PER_KG = 1e3
+ANGSTROM_PER_M = 1e10
+BAR_PER_PA = 1e-5
+CM3_PER_M3 = 1e6
+
+
+def _opt(value: float | None, factor: float) -> float | None:
+    return None if value is None else value * factor
+
+
+# --------------------------------------------------------------------------- species
+
+
+def species_records(rows: Sequence[SpeciesSummary]) -> list[dict[str, Any]]:
+    return [
+        {
+            "name": s.name,
+            "formula": s.formula,
+            "molar_mass_g_per_mol": s.molar_mass * G_PER_KG,
+            "molar_mass_source": s.molar_mass_source,
+            "diameter_angstrom": _opt(s.diameter, ANGSTROM_PER_M),
+            "diameter_kind": s.diameter_kind,
+            "diameter_method": s.diameter_method,
+            "diameter_estimated": s.diameter_is_estimated,
+            "well_depth_K": s.well_depth,
+            "critical_temperature_K": s.critical_temperature,
+            "critical_pressure_bar": _opt(s.critical_pressure, BAR_PER_PA),
+            "acentric_factor": s.acentric_factor,
+            "boiling_volume_cm3_per_mol": _opt(s.boiling_volume, CM3_PER_M3),
+            "source": s.source,
+        }
+        for s in rows
+    ]
+
+
+def species_table(rows: Sequence[SpeciesSummary]) -> Table:
+    table = Table(title=f"Species ({len(rows)})")
+    for header in (
+        "name",
+        "formula",
+        "M (g/mol)",
+        "d (Å)",
+        "diameter",
+        "ε/k (K)",
+        "Tc (K)",
+        "Pc (bar)",
+        "source",
+    ):
+        table.add_column(header, overflow="fold")
+    for s in rows:
+        diameter_note = ""
+        if s.diameter is not None:
+            diameter_note = s.diameter_kind or ""
+            if s.diameter_is_estimated:
+                diameter_note += f" (estimated: {s.diameter_method})"
+        table.add_row(
+            s.name,
+            s.formula,
+            sig(s.molar_mass * G_PER_KG) + ("" if s.molar_mass_source == "given" else "*"),
+            sig(_opt(s.diameter, ANGSTROM_PER_M)),
+            diameter_note,
+            sig(s.well_depth),
+            sig(s.critical_temperature),
+            sig(_opt(s.critical_pressure, BAR_PER_PA)),
+            s.source or "",
+        )
+    table.caption = "* molar mass from the formula (IUPAC standard atomic weights)"
+    return table
+
+
+def species_detail_record(detail: SpeciesDetail) -> dict[str, Any]:
+    record = species_records([detail.species])[0]
+    record["reactions"] = [
+        {"key": key, "equation": equation, "role": role} for key, equation, role in detail.reactions
+    ]
+    return record
+
+
+def species_detail_tables(detail: SpeciesDetail) -> list[Table]:
+    record = species_detail_record(detail)
+    facts = Table(title=f"Species {detail.species.name}", show_header=False)
+    facts.add_column("property")
+    facts.add_column("value", overflow="fold")
+    labels = {
+        "formula": "formula",
+        "molar_mass_g_per_mol": "molar mass (g/mol)",
+        "molar_mass_source": "molar mass from",
+        "diameter_angstrom": "collision diameter (Å)",
+        "diameter_kind": "diameter kind",
+        "diameter_method": "diameter from",
+        "well_depth_K": "well depth ε/k (K)",
+        "critical_temperature_K": "critical temperature (K)",
+        "critical_pressure_bar": "critical pressure (bar)",
+        "acentric_factor": "acentric factor",
+        "boiling_volume_cm3_per_mol": "boiling-point molar volume (cm3/mol)",
+        "source": "source",
+    }
+    for key, label in labels.items():
+        value = record[key]
+        facts.add_row(label, sig(value) if isinstance(value, float) else str(value or ""))
+    reactions = Table(title=f"Reactions of {detail.species.name} ({len(detail.reactions)})")
+    for header in ("key", "equation", "role"):
+        reactions.add_column(header, overflow="fold")
+    for key, equation, role in detail.reactions:
+        reactions.add_row(key, equation, role)
+    return [facts, reactions]
+
+
+# --------------------------------------------------------------------------- reactions
+
+
+def reaction_records(rows: Sequence[ReactionSummary]) -> list[dict[str, Any]]:
+    return [
+        {
+            "key": r.key,
+            "equation": r.equation,
+            "order": r.order,
+            "third_body": r.third_body,
+            "class": r.reaction_class,
+            "sets": r.sets,
+            "points": r.points,
+            "expressions": r.expressions,
+            "status": r.status,
+        }
+        for r in rows
+    ]
+
+
+def reactions_table(rows: Sequence[ReactionSummary]) -> Table:
+    table = Table(title=f"Reactions ({len(rows)})")
+    for header in ("key", "equation", "order", "class", "sets", "points", "expressions", "status"):
+        table.add_column(header, overflow="fold")
+    for r in rows:
+        table.add_row(
+            r.key,
+            r.equation,
+            str(r.order),
+            r.reaction_class or "",
+            str(r.sets),
+            str(r.points),
+            str(r.expressions),
+            r.status,
+        )
+    return table
+
+
+# --------------------------------------------------------------------------- sets
+
+
+def set_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
+    return [
+        {
+            "set": s.name,
+            "reaction": s.reaction_key,
+            "reference": s.reference,
+            "method": s.method,
+            "bath_gas": s.bath_gas,
+            "points": s.points,
+            "T_min_K": s.t_min,
+            "T_max_K": s.t_max,
+            "k_units_given": s.k_units,
+        }
+        for s in rows
+    ]
+
+
+def sets_table(rows: Sequence[SetSummary]) -> Table:
+    table = Table(title=f"Measurement sets ({len(rows)})")
+    for header in ("set", "reaction", "points", "T (K)", "k given in", "method", "reference"):
+        table.add_column(header, overflow="fold")
+    for s in rows:
+        table.add_row(
+            s.name,
+            s.reaction_key,
+            str(s.points),
+            trange(s.t_min, s.t_max),
+            s.k_units,
+            s.method or "",
+            s.reference or "",
+        )
+    return table
+
+
+# --------------------------------------------------------------------------- expressions
+
+
+def _display_units(order: int, preset: str) -> tuple[str, str]:
+    from ratebank.science.unit_presets import energy_unit_for, rate_unit_for
+
+    return rate_unit_for(preset, order), energy_unit_for(preset)
+
+
+def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[dict[str, Any]]:
+    from ratebank.science.units import energy_from_si, rate_from_si
+
+    records = []
+    for e in rows:
+        k_units, e_units = _display_units(e.reaction_order, preset)
+        records.append(
+            {
+                "id": e.id,
+                "reaction": e.reaction_key,
+                "origin": e.origin,
+                "A": None if e.A is None else float(rate_from_si(e.A, k_units, e.reaction_order)),
+                "n": e.n,
+                "Ea": float(energy_from_si(e.Ea, e_units)),
+                "k_units": k_units,
+                "Ea_units": e_units,
+                "T_min_K": e.t_min,
+                "T_max_K": e.t_max,
+                "uncertainty_factor": e.uncertainty_factor,
+                "reference": e.reference,
+                "recommended": e.recommended,
+                "created_at": e.created_at.isoformat() if e.created_at else None,
+                "created_by": e.created_by,
+                "provenance": e.provenance,
+            }
+        )
+    return records
+
+
+def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
+    records = expression_records(rows, preset)
+    e_units = records[0]["Ea_units"] if records else ""
+    table = Table(title=f"Expressions ({len(rows)}), k = A T^n exp(-Ea/RT), {preset} units")
+    for header in (
+        "id",
+        "reaction",
+        "origin",
+        "A",
+        "k units (A: ×K^-n)",
+        "n",
+        f"Ea ({e_units})",
+        "T (K)",
+        "f",
+        "reference",
+    ):
+        table.add_column(header, overflow="fold")
+    for r in records:
+        table.add_row(
+            str(r["id"]) + (" ★" if r["recommended"] else ""),
+            r["reaction"],
+            r["origin"],
+            sig(r["A"]) if r["A"] is not None else "(to estimate)",
+            r["k_units"],
+            sig(r["n"]),
+            sig(r["Ea"]),
+            trange(r["T_min_K"], r["T_max_K"]),
+            sig(r["uncertainty_factor"], 3),
+            r["reference"] or "",
+        )
+    table.caption = "★ recommended by the curator"
+    return table
+
+
+# --------------------------------------------------------------------------- reaction detail
+
+
+def reaction_detail_record(detail: ReactionDetail, preset: str) -> dict[str, Any]:
+    return {
+        "key": detail.key,
+        "equation": detail.equation,
+        "order": detail.order,
+        "third_body": detail.third_body,
+        "class": detail.reaction_class,
+        "notes": detail.notes,
+        "steric_factor": detail.steric_factor,
+        "steric_source": detail.steric_source,
+        "participants": [
+            {"role": p.role, "coefficient": p.coefficient, **species_records([p.species])[0]}
+            for p in detail.participants
+        ],
+        "sets": set_records(detail.sets),
+        "expressions": expression_records(detail.expressions, preset),
+        "history": history_records(detail.history),
+    }
+
+
+def reaction_detail_tables(detail: ReactionDetail, preset: str) -> list[Table]:
+    facts = Table(title=f"Reaction {detail.key}", show_header=False)
+    facts.add_column("property")
+    facts.add_column("value", overflow="fold")
+    facts.add_row("equation", detail.equation)
+    kind = {1: "unimolecular", 2: "bimolecular", 3: "termolecular"}.get(detail.order, "")
+    if detail.third_body:
+        kind += " (third body M)"
+    facts.add_row("order", f"{detail.order} ({kind})")
+    facts.add_row("class", detail.reaction_class or "")
+    if detail.steric_factor is not None:
+        facts.add_row(
+            "stored steric factor", f"{sig(detail.steric_factor)} ({detail.steric_source})"
+        )
+    if detail.notes:
+        facts.add_row("notes", detail.notes)
+    participants = Table(title="Participants")
+    for header in ("role", "species", "coefficient", "M (g/mol)", "d (Å)", "ε/k (K)"):
+        participants.add_column(header)
+    for p in detail.participants:
+        d = sig(_opt(p.species.diameter, ANGSTROM_PER_M))
+        if p.species.diameter_is_estimated:
+            d += f" (estimated: {p.species.diameter_method})"
+        participants.add_row(
+            p.role,
+            p.species.name,
+            str(p.coefficient),
+            sig(p.species.molar_mass * G_PER_KG),
+            d or "(none)",
+            sig(p.species.well_depth),
+        )
+    tables = [facts, participants, sets_table(detail.sets)]
+    tables.append(expressions_table(detail.expressions, preset))
+    if detail.history:
+        tables.append(history_table(detail.history, title="Recent history"))
+    return tables
+
+
+# --------------------------------------------------------------------------- history
+
+
+def history_records(rows: Sequence[HistoryEntry]) -> list[dict[str, Any]]:
+    return [
+        {
+            "at": h.at.isoformat() if h.at else None,
+            "author": h.author,
+            "action": h.action,
+            "target": h.target,
+            "detail": h.detail,
+        }
+        for h in rows
+    ]
+
+
+def _detail_text(detail: dict[str, Any]) -> str:
+    parts = []
+    for key, value in detail.items():
+        if isinstance(value, list):
+            shown = ", ".join(str(v) for v in value[:5])
+            value = shown + (", ..." if len(value) > 5 else "")
+        parts.append(f"{key}={value}")
+    return "; ".join(parts)
+
+
+def history_table(rows: Sequence[HistoryEntry], title: str = "History") -> Table:
+    table = Table(title=f"{title} ({len(rows)}, newest first)")
+    for header in ("when (UTC)", "who", "what", "target", "detail"):
+        table.add_column(header, overflow="fold")
+    for h in rows:
+        when = h.at.strftime("%Y-%m-%d %H:%M:%S") if h.at else ""
+        table.add_row(when, h.author, h.action, h.target or "", _detail_text(h.detail))
+    return table
+
+
+# --------------------------------------------------------------------------- imports
+
+
+def import_message(summary: ImportSummary) -> str:
+    noun = {
+        "species": "species",
+        "reactions": "reactions",
+        "measurements": "points",
+        "expressions": "expressions",
+    }[summary.kind]
+    extra = ""
+    if summary.kind == "measurements":
+        extra = f" in {summary.details.get('sets', 0)} sets"
+    elif summary.kind == "expressions":
+        extra = (
+            f" ({summary.details.get('complete', 0)} complete, "
+            f"{summary.details.get('activation_energy_only', 0)} with only an activation energy)"
+        )
+    if summary.dry_run:
+        return (
+            f"{summary.source}: valid; would import {summary.added} {noun}{extra} "
+            "(dry run, nothing written)"
+        )
+    return f"{summary.source}: imported {summary.added} {noun}{extra}"

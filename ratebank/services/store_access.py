@@ -1,0 +1,86 @@
+"""Opening a store: the entry point for Python users and for the command line.
+
+>>> from ratebank.services.store_access import open_store   # doctest: +SKIP
+>>> store = open_store("group.db", author="ada")             # doctest: +SKIP
+>>> with store.session() as session:                         # doctest: +SKIP
+...     curate.list_species(session)
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
+
+from sqlalchemy import Engine
+from sqlalchemy.orm import Session
+
+from ratebank.store.engine import (
+    create_store_engine,
+    database_url,
+    default_author,
+    mask_url,
+    session_scope,
+)
+from ratebank.store.schema import InitResult, check_revision, upgrade_store
+
+
+@dataclass
+class StoreHandle:
+    """An opened store: its address (password masked), engine and author."""
+
+    url: str
+    engine: Engine
+    author: str
+
+    @property
+    def display_url(self) -> str:
+        return mask_url(self.url)
+
+    @contextmanager
+    def session(self, *, write: bool = False) -> Iterator[Session]:
+        """One transaction; committed when the block ends without an error."""
+        with session_scope(self.engine, write=write, author=self.author) as session:
+            yield session
+
+    def close(self) -> None:
+        self.engine.dispose()
+
+
+def open_store(
+    db: str | None = None, *, author: str | None = None, check: bool = True
+) -> StoreHandle:
+    """Open the store named by ``db`` (path or URL), ``RATEBANK_DB`` or ``./ratebank.db``.
+
+    With ``check`` (the default) a store whose schema revision is not this
+    ratebank's head is refused with a message saying what to run.
+    """
+    url = database_url(db)
+    engine = create_store_engine(url)
+    if check:
+        try:
+            check_revision(engine)
+        except Exception:
+            engine.dispose()
+            raise
+    return StoreHandle(url=url, engine=engine, author=author or default_author())
+
+
+def init_store(
+    db: str | None = None, *, author: str | None = None
+) -> tuple[StoreHandle, InitResult]:
+    """Create the store, or upgrade it to this ratebank's schema; a no-op at head."""
+    store = open_store(db, author=author, check=False)
+    result = upgrade_store(store.engine)
+    if result.changed:
+        from ratebank.store import audit
+
+        with store.session(write=True) as session:
+            audit.record(
+                session,
+                "store.init" if result.before is None else "store.upgrade",
+                None,
+                before=result.before,
+                after=result.after,
+            )
+    return store, result

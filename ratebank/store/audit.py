@@ -1,0 +1,26 @@
+"""The audit trail: who changed what, when."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from sqlalchemy import insert
+from sqlalchemy.orm import Session
+
+from ratebank.store.models import AuditEntry, utc_now
+
+
+def record(session: Session, action: str, target: str | None, **detail: Any) -> None:
+    """Add an audit entry in the session's transaction (author from the session)."""
+    session.execute(
+        insert(AuditEntry),
+        [
+            {
+                "at": utc_now(),
+                "author": session.info.get("author") or "unknown",
+                "action": action,
+                "target": target,
+                "detail": detail,
+            }
+        ],
+    )

@@ -1,0 +1,314 @@
+"""Typed SQLAlchemy 2.0 models of the ratebank store.
+
+Everything is stored in SI-molar units (DESIGN section 3): k in
+(m3 mol-1)^(order-1) s-1, energies in J mol-1, T in K, lengths in m, molar
+masses in kg mol-1, pressures in Pa. Conversion happens only at the
+boundaries (import, display, export).
+
+The schema is created and changed only by the Alembic revisions in
+``migrations/versions``; a test checks that these models and the head
+revision agree.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from typing import Any
+
+from sqlalchemy import (
+    JSON,
+    Boolean,
+    CheckConstraint,
+    DateTime,
+    Float,
+    ForeignKey,
+    Index,
+    Integer,
+    MetaData,
+    String,
+    Text,
+    UniqueConstraint,
+)
+from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
+
+#: Constraint names are fixed by convention so that Alembic batch migrations on
+#: SQLite can find and alter them.
+NAMING_CONVENTION = {
+    "ix": "ix_%(column_0_label)s",
+    "uq": "uq_%(table_name)s_%(column_0_name)s",
+    "ck": "ck_%(table_name)s_%(constraint_name)s",
+    "fk": "fk_%(table_name)s_%(column_0_name)s_%(referred_table_name)s",
+    "pk": "pk_%(table_name)s",
+}
+
+#: Where an expression's numbers come from; the same words appear in exports.
+ORIGINS = ("measured-fit", "literature", "collision-estimate", "manual")
+DIAMETER_KINDS = ("hard-sphere", "lennard-jones")
+PARTICIPANT_ROLES = ("reactant", "product")
+
+
+def utc_now() -> dt.datetime:
+    return dt.datetime.now(dt.UTC)
+
+
+class Base(DeclarativeBase):
+    metadata = MetaData(naming_convention=NAMING_CONVENTION)
+
+
+class Species(Base):
+    """A chemical species with the physical data collision theory needs."""
+
+    __tablename__ = "species"
+    __table_args__ = (
+        CheckConstraint("molar_mass > 0", name="molar_mass_positive"),
+        CheckConstraint("diameter IS NULL OR diameter > 0", name="diameter_positive"),
+        CheckConstraint("well_depth IS NULL OR well_depth > 0", name="well_depth_positive"),
+        CheckConstraint(
+            "critical_temperature IS NULL OR critical_temperature > 0",
+            name="critical_temperature_positive",
+        ),
+        CheckConstraint(
+            "critical_pressure IS NULL OR critical_pressure > 0",
+            name="critical_pressure_positive",
+        ),
+        CheckConstraint(
+            "boiling_volume IS NULL OR boiling_volume > 0", name="boiling_volume_positive"
+        ),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    name: Mapped[str] = mapped_column(String(200), unique=True)
+    formula: Mapped[str] = mapped_column(String(200))
+    #: kg mol-1
+    molar_mass: Mapped[float] = mapped_column(Float)
+    #: "given" when the curator entered it, else how it was computed.
+    molar_mass_source: Mapped[str] = mapped_column(String(100))
+    #: collision diameter [m]
+    diameter: Mapped[float | None] = mapped_column(Float)
+    diameter_kind: Mapped[str | None] = mapped_column(String(20))
+    #: "given", or the name of the correlation that estimated it.
+    diameter_method: Mapped[str | None] = mapped_column(String(100))
+    #: Lennard-Jones well depth as epsilon/k_B [K]
+    well_depth: Mapped[float | None] = mapped_column(Float)
+    well_depth_method: Mapped[str | None] = mapped_column(String(100))
+    #: [K]
+    critical_temperature: Mapped[float | None] = mapped_column(Float)
+    #: [Pa]
+    critical_pressure: Mapped[float | None] = mapped_column(Float)
+    acentric_factor: Mapped[float | None] = mapped_column(Float)
+    #: molar volume at the normal boiling point [m3 mol-1]
+    boiling_volume: Mapped[float | None] = mapped_column(Float)
+    source: Mapped[str | None] = mapped_column(Text)
+    created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+
+    @property
+    def diameter_is_estimated(self) -> bool:
+        return self.diameter is not None and self.diameter_method not in (None, "given")
+
+
+class Reaction(Base):
+    """An elementary reaction, identified by a key and a canonical equation."""
+
+    __tablename__ = "reaction"
+    __table_args__ = (
+        CheckConstraint("reaction_order >= 1 AND reaction_order <= 3", name="order_range"),
+        CheckConstraint(
+            "steric_factor IS NULL OR steric_factor > 0", name="steric_factor_positive"
+        ),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    key: Mapped[str] = mapped_column(String(200), unique=True)
+    #: canonical text, independent of the order in which species were written
+    equation: Mapped[str] = mapped_column(String(1000), unique=True)
+    reaction_order: Mapped[int] = mapped_column(Integer)
+    third_body: Mapped[bool] = mapped_column(Boolean, default=False)
+    reaction_class: Mapped[str | None] = mapped_column(String(200))
+    notes: Mapped[str | None] = mapped_column(Text)
+    #: steric factor the curator stored for this reaction (precedence 2)
+    steric_factor: Mapped[float | None] = mapped_column(Float)
+    steric_source: Mapped[str | None] = mapped_column(Text)
+    created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+
+    participants: Mapped[list[Participant]] = relationship(
+        back_populates="reaction", cascade="all, delete-orphan", order_by="Participant.id"
+    )
+    measurement_sets: Mapped[list[MeasurementSet]] = relationship(
+        back_populates="reaction", order_by="MeasurementSet.id"
+    )
+    expressions: Mapped[list[Expression]] = relationship(
+        back_populates="reaction", order_by="Expression.id"
+    )
+
+
+class Participant(Base):
+    """A species taking part in a reaction, with its role and coefficient."""
+
+    __tablename__ = "participant"
+    __table_args__ = (
+        UniqueConstraint("reaction_id", "species_id", "role", name="uq_participant_role"),
+        CheckConstraint("coefficient >= 1", name="coefficient_positive"),
+        CheckConstraint("role IN ('reactant', 'product')", name="role_known"),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    reaction_id: Mapped[int] = mapped_column(ForeignKey("reaction.id", ondelete="CASCADE"))
+    species_id: Mapped[int] = mapped_column(ForeignKey("species.id"))
+    role: Mapped[str] = mapped_column(String(10))
+    coefficient: Mapped[int] = mapped_column(Integer)
+
+    reaction: Mapped[Reaction] = relationship(back_populates="participants")
+    species: Mapped[Species] = relationship()
+
+
+class MeasurementSet(Base):
+    """One measured k(T) data set of one reaction, from one source."""
+
+    __tablename__ = "measurement_set"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    name: Mapped[str] = mapped_column(String(200), unique=True)
+    reaction_id: Mapped[int] = mapped_column(ForeignKey("reaction.id"))
+    reference: Mapped[str | None] = mapped_column(Text)
+    method: Mapped[str | None] = mapped_column(Text)
+    bath_gas: Mapped[str | None] = mapped_column(String(200))
+    #: the k unit the data were given in (values are stored in SI)
+    original_k_units: Mapped[str] = mapped_column(String(100))
+    source_file: Mapped[str | None] = mapped_column(Text)
+    created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+
+    reaction: Mapped[Reaction] = relationship(back_populates="measurement_sets")
+    points: Mapped[list[Point]] = relationship(
+        back_populates="measurement_set", order_by="Point.id", cascade="all, delete-orphan"
+    )
+
+
+class Point(Base):
+    """One measured rate constant at one temperature (SI units)."""
+
+    __tablename__ = "point"
+    __table_args__ = (
+        CheckConstraint("temperature > 0", name="temperature_positive"),
+        CheckConstraint("rate_constant > 0", name="rate_constant_positive"),
+        CheckConstraint(
+            "relative_uncertainty IS NULL OR relative_uncertainty > 0",
+            name="uncertainty_positive",
+        ),
+        CheckConstraint("pressure IS NULL OR pressure > 0", name="pressure_positive"),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    set_id: Mapped[int] = mapped_column(ForeignKey("measurement_set.id", ondelete="CASCADE"))
+    #: [K]
+    temperature: Mapped[float] = mapped_column(Float)
+    #: [(m3 mol-1)^(order-1) s-1]
+    rate_constant: Mapped[float] = mapped_column(Float)
+    #: one standard uncertainty of k as a fraction of k (absolute input is converted)
+    relative_uncertainty: Mapped[float | None] = mapped_column(Float)
+    #: [Pa]
+    pressure: Mapped[float | None] = mapped_column(Float)
+
+    measurement_set: Mapped[MeasurementSet] = relationship(back_populates="points")
+
+
+class Expression(Base):
+    """A rate expression k = A T^n exp(-Ea/RT) of a reaction, with its origin.
+
+    ``A`` may be empty: an activation energy whose pre-exponential factor is
+    still to be estimated. ``A`` is in the reaction's SI k unit times K^-n.
+    """
+
+    __tablename__ = "expression"
+    __table_args__ = (
+        CheckConstraint(
+            "pre_exponential IS NULL OR pre_exponential > 0", name="pre_exponential_positive"
+        ),
+        CheckConstraint(
+            "origin IN ('measured-fit', 'literature', 'collision-estimate', 'manual')",
+            name="origin_known",
+        ),
+        CheckConstraint("t_min IS NULL OR t_min > 0", name="t_min_positive"),
+        CheckConstraint("t_min IS NULL OR t_max IS NULL OR t_max >= t_min", name="t_range_ordered"),
+        CheckConstraint(
+            "uncertainty_factor IS NULL OR uncertainty_factor >= 1",
+            name="uncertainty_factor_range",
+        ),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    reaction_id: Mapped[int] = mapped_column(ForeignKey("reaction.id"))
+    origin: Mapped[str] = mapped_column(String(30))
+    #: [SI k unit times K^-n]
+    A: Mapped[float | None] = mapped_column("pre_exponential", Float)
+    n: Mapped[float] = mapped_column("temperature_exponent", Float, default=0.0)
+    #: [J mol-1]
+    Ea: Mapped[float] = mapped_column("activation_energy", Float)
+    #: [K]
+    t_min: Mapped[float | None] = mapped_column(Float)
+    t_max: Mapped[float | None] = mapped_column(Float)
+    uncertainty_factor: Mapped[float | None] = mapped_column(Float)
+    reference: Mapped[str | None] = mapped_column(Text)
+    #: every input behind the numbers (fit covariance, set ids, P rule, ...)
+    provenance: Mapped[dict[str, Any]] = mapped_column(JSON, default=dict)
+    recommended: Mapped[bool] = mapped_column(Boolean, default=False)
+    version: Mapped[int] = mapped_column(Integer, default=1)
+    created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    created_by: Mapped[str | None] = mapped_column(String(200))
+    updated_at: Mapped[dt.datetime | None] = mapped_column(DateTime(timezone=True))
+    updated_by: Mapped[str | None] = mapped_column(String(200))
+
+    reaction: Mapped[Reaction] = relationship(back_populates="expressions")
+
+    __mapper_args__ = {"version_id_col": version}  # noqa: RUF012
+
+    @property
+    def is_complete(self) -> bool:
+        return self.A is not None
+
+
+class StericRule(Base):
+    """A steric factor the curator chose for a whole reaction class."""
+
+    __tablename__ = "steric_rule"
+    __table_args__ = (
+        CheckConstraint("steric_factor > 0", name="steric_factor_positive"),
+        CheckConstraint(
+            "uncertainty_factor IS NULL OR uncertainty_factor >= 1",
+            name="uncertainty_factor_range",
+        ),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    reaction_class: Mapped[str] = mapped_column(String(200), unique=True)
+    steric_factor: Mapped[float] = mapped_column(Float)
+    uncertainty_factor: Mapped[float | None] = mapped_column(Float)
+    source: Mapped[str | None] = mapped_column(Text)
+    note: Mapped[str | None] = mapped_column(Text)
+    version: Mapped[int] = mapped_column(Integer, default=1)
+    updated_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    updated_by: Mapped[str | None] = mapped_column(String(200))
+
+    __mapper_args__ = {"version_id_col": version}  # noqa: RUF012
+
+
+class AuditEntry(Base):
+    """Who changed what, when."""
+
+    __tablename__ = "audit"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    author: Mapped[str] = mapped_column(String(200))
+    action: Mapped[str] = mapped_column(String(100))
+    target: Mapped[str | None] = mapped_column(Text)
+    detail: Mapped[dict[str, Any]] = mapped_column(JSON, default=dict)
+
+
+# Indexes for the lookups the command line makes (revision 0002).
+Index("ix_participant_species_id", Participant.species_id)
+Index("ix_participant_reaction_id", Participant.reaction_id)
+Index("ix_point_set_id", Point.set_id)
+Index("ix_measurement_set_reaction_id", MeasurementSet.reaction_id)
+Index("ix_expression_reaction_id", Expression.reaction_id)
+Index("ix_reaction_reaction_class", Reaction.reaction_class)
+Index("ix_audit_at", AuditEntry.at)

@@ -1,0 +1,1 @@
+"""The demo scenario (installed as ratebank._seed_demo): invented; every k(T) value is synthetic."""

@@ -1,0 +1,166 @@
+"""Project-wide checks: lint, doctests, layout, help texts, start-up imports."""
+
+from __future__ import annotations
+
+import doctest
+import importlib
+import pkgutil
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+import ratebank
+
+ROOT = Path(__file__).resolve().parents[1]
+PACKAGE = Path(ratebank.__file__).resolve().parent
+
+
+def _modules() -> list[str]:
+    names = []
+    for info in pkgutil.walk_packages([str(PACKAGE)], prefix="ratebank."):
+        if info.name.startswith(("ratebank._migrations", "ratebank._seed_demo")):
+            continue
+        if info.name == "ratebank.__main__":
+            continue
+        names.append(info.name)
+    return sorted(names)
+
+
+@pytest.mark.parametrize("name", _modules())
+def test_doctests(name):
+    module = importlib.import_module(name)
+    result = doctest.testmod(module, optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE)
+    assert result.failed == 0
+
+
+def test_science_functions_have_doctests():
+    for name in _modules():
+        if not name.startswith("ratebank.science.") or name.endswith((".data", ".constants")):
+            continue
+        module = importlib.import_module(name)
+        finder = doctest.DocTestFinder()
+        examples = sum(len(t.examples) for t in finder.find(module))
+        assert examples > 0, f"{name} has no doctest example"
+
+
+@pytest.mark.skipif(
+    shutil.which("ruff") is None and not (Path(sys.executable).parent / "ruff").exists(),
+    reason="ruff is installed with the test extra",
+)
+@pytest.mark.parametrize("args", [["check"], ["format", "--check"]])
+def test_ruff_is_clean(args):
+    ruff = Path(sys.executable).parent / "ruff"
+    executable = str(ruff) if ruff.exists() else "ruff"
+    result = subprocess.run(
+        [executable, *args, "ratebank", "migrations", "tests", "seed_demo"],
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+    )
+    assert result.returncode == 0, result.stdout + result.stderr
+
+
+def test_top_level_layout():
+    tracked = subprocess.run(["git", "ls-files"], cwd=ROOT, capture_output=True, text=True)
+    if tracked.returncode != 0 or not tracked.stdout:
+        pytest.skip("not a git checkout")
+    top = {line.split("/")[0] for line in tracked.stdout.splitlines()}
+    top = {name for name in top if not name.startswith(".")}
+    assert top == {
+        "README.md",
+        "DEVELOPERS.md",
+        "pyproject.toml",
+        "ratebank",
+        "migrations",
+        "tests",
+        "seed_demo",
+    }
+
+
+def test_ci_runs_the_readme_test_command():
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    blocks = [b.split("```", 1)[0].strip() for b in readme.split("```\n")[1::2]]
+    commands = [line for line in readme.splitlines() if line.startswith("python3 -m venv")]
+    assert len(commands) >= 2, blocks
+    install_demo, install_test = commands[0], commands[1]
+    assert install_demo.endswith("ratebank demo")
+    ci = (ROOT / ".ci" / "run").read_text(encoding="utf-8")
+    assert install_test in ci.splitlines()
+
+
+def _all_commands():
+    from typer.main import get_command
+
+    from ratebank.cli.app import app
+
+    root = get_command(app)
+    found = []
+
+    def walk(command, path):
+        sub = getattr(command, "commands", None)
+        if sub:
+            for name, child in sub.items():
+                walk(child, [*path, name])
+        else:
+            found.append((path, command))
+
+    walk(root, [])
+    return found
+
+
+def test_every_command_has_help_with_an_example():
+    from typer.testing import CliRunner
+
+    from ratebank.cli.app import app
+
+    commands = _all_commands()
+    assert len(commands) >= 14
+    runner = CliRunner()
+    for path, _command in commands:
+        result = runner.invoke(app, [*path, "--help"])
+        assert result.exit_code == 0, path
+        assert "Example: ratebank" in result.stdout, f"{' '.join(path)} --help has no example"
+
+
+def test_every_command_is_documented_in_the_readme():
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    reference = readme.split("### Commands", 1)[1].split("\n## ", 1)[0]
+    missing = [
+        " ".join(path) for path, _ in _all_commands() if f"`{' '.join(path)}" not in reference
+    ]
+    assert missing == []
+
+
+def test_listing_does_not_import_heavy_modules(tmp_path):
+    db = tmp_path / "s.db"
+    code = f"""
+import sys
+from ratebank.cli.app import app
+from ratebank.services.store_access import init_store
+store, _ = init_store({str(db)!r}); store.close()
+for name in list(sys.modules):
+    if name.startswith(("numpy", "scipy", "alembic", "matplotlib")):
+        del sys.modules[name]
+try:
+    app(["--db", {str(db)!r}, "reactions", "list", "--json"], standalone_mode=False)
+except SystemExit:
+    pass
+heavy = sorted(n for n in sys.modules if n.split(".")[0] in ("numpy", "scipy", "alembic", "matplotlib"))
+print("HEAVY", heavy[:5])
+"""
+    result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert result.returncode == 0, result.stderr
+    assert "HEAVY []" in result.stdout, result.stdout
+
+
+def test_version():
+    from typer.testing import CliRunner
+
+    from ratebank.cli.app import app
+
+    result = CliRunner().invoke(app, ["--version"])
+    assert result.exit_code == 0
+    assert result.stdout.strip() == f"ratebank {ratebank.__version__}"
