@@ -13,6 +13,7 @@ import typer
 
 from ratebank import __version__
 from ratebank.cli import common
+from ratebank.cli import mechanism as mechanism_commands
 from ratebank.cli.common import STATE, RatebankGroup, print_json, say, show, store_session
 
 HELP = """Curate gas-phase rate parameters: store species, reactions and measured k(T);
@@ -52,6 +53,7 @@ app.add_typer(species_app, name="species")
 app.add_typer(reactions_app, name="reactions")
 app.add_typer(data_app, name="data")
 app.add_typer(expressions_app, name="expressions")
+mechanism_commands.register(app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")

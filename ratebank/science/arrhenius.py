@@ -52,12 +52,14 @@ __all__ = [
     "MINIMUM_POINTS",
     "ArrheniusFit",
     "BatchFit",
+    "BatchFormChoice",
     "FitWarning",
     "FormComparison",
     "ModifiedArrheniusApproximation",
     "approximate_with_modified_arrhenius",
     "arrhenius",
     "compare_forms",
+    "compare_forms_batch",
     "fit_rate_constants",
     "fit_rate_constants_batch",
     "ln_k_uncertainty",
@@ -1215,3 +1217,127 @@ def approximate_with_modified_arrhenius(T, k) -> ModifiedArrheniusApproximation:
     fit = fit_rate_constants(T, k, form="modified")
     deviation = float(np.max(np.abs(fit.k(T) / k - 1.0)))
     return ModifiedArrheniusApproximation(fit.A, fit.n, fit.Ea, deviation)
+
+
+@dataclass(frozen=True, eq=False)
+class BatchFormChoice:
+    """:func:`compare_forms` applied to many groups at once.
+
+    Attributes
+    ----------
+    two, three : BatchFit
+        The two- and three-parameter batch fits (same group order).
+    supported : numpy.ndarray of bool, shape (m,)
+        The three-parameter form is justified for the group.
+    reason : numpy.ndarray of str, shape (m,)
+        One sentence per group, worded as :func:`compare_forms` words it.
+    p_value : numpy.ndarray, shape (m,)
+        F-test p-value (NaN where not tested).
+    """
+
+    two: BatchFit
+    three: BatchFit
+    supported: np.ndarray
+    reason: np.ndarray
+    p_value: np.ndarray
+
+
+def compare_forms_batch(T, k, sigma_ln_k, group, *, significance: float = 0.05) -> BatchFormChoice:
+    """Decide, group by group, whether the data support fitting n (vectorized).
+
+    The criteria are exactly those of :func:`compare_forms`: at least 4
+    points at 3 distinct temperatures, n and Ea not collinear, the
+    two-parameter form not already exact, and the F-test
+    F = (chi2_2 - chi2_3) / (chi2_3 / (N - 3)) on (1, N - 3) degrees of
+    freedom below ``significance``. Both forms are fitted in one vectorized
+    pass each; only the per-group reasons are formatted in Python.
+
+    Parameters
+    ----------
+    T, k : array_like, shape (N,)
+        Temperatures [K] and rate constants [k-unit].
+    sigma_ln_k : array_like, shape (N,), or None
+        Standard deviation of each ln k [-]; None for unit weights.
+    group : array_like, shape (N,)
+        Group label of each point.
+    significance : float, optional
+        Significance level of the F-test (default 0.05).
+
+    Returns
+    -------
+    BatchFormChoice
+
+    References
+    ----------
+    Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed.
+    (2003), ch. 11 (F-test for an additional term).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> T = np.concatenate([np.linspace(300.0, 2000.0, 15), np.linspace(300.0, 400.0, 5)])
+    >>> wide, narrow = T[:15], T[15:]
+    >>> k = np.concatenate([1e-2 * wide**2.5 * np.exp(-500.0 / wide) * (1 + 0.01 * np.sin(wide)),
+    ...                     1e6 * np.exp(-1000.0 / narrow)])
+    >>> choice = compare_forms_batch(T, k, None, [0] * 15 + [1] * 5)
+    >>> choice.supported.tolist()
+    [True, False]
+    """
+    if not 0.0 < significance < 1.0:
+        raise FitError(f"significance must lie between 0 and 1; got {significance!r}.")
+    two = fit_rate_constants_batch(T, k, sigma_ln_k, group, form="arrhenius")
+    three = fit_rate_constants_batch(T, k, sigma_ln_k, group, form="modified")
+    T = np.asarray(T, dtype=float)
+    index = two.group_index
+    m = len(two)
+    n_points = two.n_points
+    # distinct temperatures per group, exactly (compare_forms counts them with np.unique)
+    pairs = np.unique(np.stack([index.astype(float), T]), axis=1)
+    n_distinct = np.bincount(pairs[0].astype(np.int64), minlength=m)
+    if sigma_ln_k is None:
+        weight_sum = n_points.astype(float)
+    else:
+        weights = np.broadcast_to(np.asarray(sigma_ln_k, dtype=float) ** -2.0, T.shape)
+        weight_sum = np.bincount(index, weights=weights, minlength=m)
+    dof = np.maximum(n_points - 3, 1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        f_statistic = np.where(
+            three.chi_square == 0.0,
+            np.inf,
+            np.maximum(two.chi_square - three.chi_square, 0.0) / (three.chi_square / dof),
+        )
+        exact = np.sqrt(two.chi_square / weight_sum) < _EXACT_RMS
+    from scipy.special import fdtrc
+
+    enough = (n_points >= 4) & (n_distinct >= 3)
+    tested = enough & three.ok & ~three.collinear & ~exact
+    p_value = np.full(m, np.nan)
+    p_value[tested] = fdtrc(1, dof[tested], f_statistic[tested])
+    supported = tested & (p_value < significance)
+    reason = np.empty(m, dtype=object)
+    for i in range(m):
+        if not two.ok[i]:
+            reason[i] = str(two.status[i])
+        elif not enough[i]:
+            reason[i] = (
+                "Testing the three-parameter form needs at least 4 points at 3 distinct "
+                f"temperatures; the data have {int(n_points[i])} at {int(n_distinct[i])}."
+            )
+        elif three.collinear[i]:
+            reason[i] = (
+                f"n and Ea are nearly collinear over {two.T_min[i]:.4g}-{two.T_max[i]:.4g} K "
+                f"(|corr| = {abs(three.correlation_n_ea[i]):.4f}); fit two parameters."
+            )
+        elif exact[i]:
+            reason[i] = "The two-parameter form already describes the data to rounding error."
+        elif supported[i]:
+            reason[i] = (
+                f"Fitting n lowers chi-square significantly (F = {f_statistic[i]:.3g}, "
+                f"p = {p_value[i]:.2g} < {significance:g})."
+            )
+        else:
+            reason[i] = (
+                f"Fitting n does not lower chi-square significantly (F = {f_statistic[i]:.3g}, "
+                f"p = {p_value[i]:.2g} >= {significance:g}); the two-parameter form suffices."
+            )
+    return BatchFormChoice(two, three, supported, reason.astype(str), p_value)

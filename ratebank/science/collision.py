@@ -421,9 +421,9 @@ def omega22_neufeld(T_star, *, extrapolate: bool = False):
 
     Notes
     -----
-    Valid for 0.3 <= T* <= 100; the authors state an average deviation of
-    0.064 % from the tabulated integrals. Omega(2,2)* is the viscosity
-    integral, not the diffusion integral Omega(1,1)*.
+    Valid for 0.3 <= T* <= 100, where it agrees with the later fit of Kim &
+    Monroe (2014) to within 0.2 %. Omega(2,2)* is the viscosity integral, not
+    the diffusion integral Omega(1,1)*.
 
     References
     ----------
@@ -959,6 +959,11 @@ def collision_limit_ratio(T, rate_constant, collision_rate):
     ScienceInputError
         If the grid is empty, T or z is not positive and finite, or k is
         negative or not finite.
+
+    References
+    ----------
+    Laidler, *Chemical Kinetics*, 3rd ed. (1987), ch. 3 (the collision rate
+    as the upper limit of a bimolecular rate constant).
 
     Examples
     --------

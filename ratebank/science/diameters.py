@@ -206,8 +206,9 @@ def sigma_tee_gotoh_stewart(Tc, Pc, omega=None):
 
     Notes
     -----
-    For nonpolar, non-quantum fluids; it gives diameters a few percent below
-    the Svehla gas-phase table. Not for H2, He or strongly polar molecules.
+    For nonpolar, non-quantum fluids, within about 5 % of the Svehla
+    gas-phase table for small molecules. Not for H2, He or strongly polar
+    molecules.
 
     References
     ----------
@@ -340,8 +341,8 @@ def well_depth_tee_gotoh_stewart(Tc, omega=None):
     Notes
     -----
     Well depths from corresponding states are crude: for N2 they exceed the
-    Svehla value by about 35 %. Use them only together with the diameter of
-    the same correlation.
+    Svehla value by more than a third. Use them only together with the
+    diameter of the same correlation.
 
     References
     ----------

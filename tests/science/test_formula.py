@@ -221,7 +221,7 @@ def test_molar_mass_refuses_bad_counts(counts, fragment):
 
 
 # ---------------------------------------------------------------------------
-# Hill order and count helpers
+# Hill order; adding and multiplying counts
 # ---------------------------------------------------------------------------
 
 # Hill (1900), J. Am. Chem. Soc. 22, 478: C, H, then alphabetical; no C: alphabetical.

@@ -1,0 +1,382 @@
+"""Commands of the main job: fit, steric, estimate, check, rate, recommend, export."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import typer
+
+from ratebank.cli.common import print_json, say, show, store_session
+
+JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
+PRESET_OPTION = typer.Option(
+    "combustion", "--units", help="Unit preset for the table: combustion, atmospheric or si."
+)
+COLLISION_OPTION = typer.Option(
+    "hard-sphere", "--collision", help="Collision rate model: hard-sphere or lennard-jones."
+)
+
+steric_app = typer.Typer(
+    help="Steric factors: class rules, per-reaction values, and those implied by "
+    "measurements.\n\nExample: ratebank steric derived",
+    no_args_is_help=True,
+)
+
+
+def _t_range(values: tuple[float, float] | None) -> tuple[float, float] | None:
+    if not values or values[0] is None:
+        return None
+    return (float(values[0]), float(values[1]))
+
+
+def register(app: typer.Typer) -> None:
+    app.command("fit")(fit)
+    app.command("estimate")(estimate)
+    app.command("check")(check)
+    app.command("rate")(rate)
+    app.command("recommend")(recommend)
+    app.command("export")(export)
+    app.add_typer(steric_app, name="steric")
+
+
+def fit(
+    keys: list[str] = typer.Argument(None, help="Reaction keys (default: every measured one)."),
+    form: str = typer.Option(
+        "auto",
+        "--form",
+        help="arrhenius (A, Ea), modified (A, n, Ea) or auto (n only when the data support it).",
+    ),
+    fixed_n: float = typer.Option(
+        None, "--fixed-n", help="Fit A and Ea with n held at this value."
+    ),
+    preset: str = PRESET_OPTION,
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Fit the measured k(T) sets of reactions and store each fit.
+
+    All sets of a reaction are pooled in one weighted least-squares fit in ln k.
+
+    Example: ratebank fit oh-ch4 --form auto
+    """
+    from ratebank.report.mechanism import fit_records, fit_table
+    from ratebank.services.fitting import fit_reactions
+
+    with store_session(write=True) as session:
+        report = fit_reactions(session, keys or None, form=form, fixed_n=fixed_n)
+    if as_json:
+        print_json(fit_records(report, preset))
+    else:
+        show(fit_table(report, preset))
+        say(f"{report.stored} fit(s) stored, {report.failed} reaction(s) could not be fitted.")
+    if report.failed:
+        raise typer.Exit(1)
+
+
+def estimate(
+    keys: list[str] = typer.Argument(
+        None, help="Reaction keys (default: every bimolecular reaction with only an Ea)."
+    ),
+    steric: float = typer.Option(None, "--steric", help="Steric factor P for these reactions."),
+    t_ref: float = typer.Option(
+        None, "--t-ref", help="Temperature [K] at which the activation energy holds."
+    ),
+    collision: str = COLLISION_OPTION,
+    reaction_class: str = typer.Option(None, "--class", help="Only reactions of this class."),
+    fallback_steric: float = typer.Option(
+        None, "--fallback-steric", help="P for reactions no other rule covers."
+    ),
+    uncertainty_factor: float = typer.Option(
+        None,
+        "--uncertainty-factor",
+        help="Uncertainty factor when no class spread is known (default 10).",
+    ),
+    t_range: tuple[float, float] = typer.Option(
+        None,
+        "--t-range",
+        help="Valid range TMIN TMAX [K] for estimates that state none.",
+        show_default=False,
+    ),
+    keep_going: bool = typer.Option(
+        False, "--keep-going", help="Store what can be estimated even if some cannot."
+    ),
+    preset: str = PRESET_OPTION,
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Estimate missing A factors from collision theory times a steric factor.
+
+    P comes from --steric, else the value stored on the reaction, else the class rule,
+    else the class's measured reactions, else --fallback-steric. Nothing is written if
+    any requested reaction cannot be estimated, unless --keep-going.
+
+    Example: ratebank estimate --class h-abstraction --collision hard-sphere
+    """
+    from ratebank.report.mechanism import estimate_records, estimate_tables
+    from ratebank.services.estimation import EstimateIncomplete
+    from ratebank.services.estimation import estimate as run_estimate
+
+    try:
+        with store_session(write=True) as session:
+            report = run_estimate(
+                session,
+                keys or None,
+                steric=steric,
+                t_ref=t_ref,
+                collision=collision,
+                reaction_class=reaction_class,
+                fallback_steric=fallback_steric,
+                uncertainty_factor=uncertainty_factor,
+                t_range=_t_range(t_range),
+                keep_going=keep_going,
+            )
+    except EstimateIncomplete as exc:
+        if as_json:
+            print_json(estimate_records(exc.report, preset))
+        raise
+    if as_json:
+        print_json(estimate_records(report, preset))
+    else:
+        show(*estimate_tables(report, preset))
+        say(
+            f"{len(report.rows)} estimate(s) stored; {len(report.skipped)} reaction(s) "
+            "not estimated."
+        )
+    if report.skipped:
+        raise typer.Exit(1)
+
+
+def check(
+    t_range: tuple[float, float] = typer.Option(
+        None,
+        "--t-range",
+        help="Range TMIN TMAX [K] the mechanism will be used over (flags extrapolation).",
+        show_default=False,
+    ),
+    ignore: list[str] = typer.Option(None, "--ignore", help="A check not to report (repeatable)."),
+    keys: list[str] = typer.Argument(None, help="Reaction keys (default: all)."),
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Check every expression against physical limits; exit 1 when anything is flagged.
+
+    Checks: above-collision-limit, steric-above-one, collinear-fit, extrapolation
+    (with --t-range), estimated-diameter, nothing-usable.
+
+    Example: ratebank check --t-range 300 2000
+    """
+    from ratebank.report.mechanism import check_records, check_table
+    from ratebank.services.checks import check_store
+
+    with store_session() as session:
+        report = check_store(
+            session, t_range=_t_range(t_range), ignore=ignore or None, keys=keys or None
+        )
+    if as_json:
+        print_json(check_records(report))
+    else:
+        show(check_table(report))
+        say("Clean: nothing flagged." if report.clean else f"{len(report.flags)} flag(s).")
+    if not report.clean:
+        raise typer.Exit(1)
+
+
+def rate(
+    key: str = typer.Argument(..., help="Reaction key or equation."),
+    temperatures: list[float] = typer.Option(..., "-T", "--temperature", help="Temperature [K]."),
+    k_units: str = typer.Option(None, "--k-units", help="Unit of k (default: from --units)."),
+    preset: str = PRESET_OPTION,
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """k at given temperatures from the expression that would be exported.
+
+    Example: ratebank rate oh-ch4 -T 298 -T 1000 --k-units cm3/molecule/s
+    """
+    from ratebank.report.mechanism import rate_records, rate_table
+    from ratebank.services.mechanism import rate as rate_of
+
+    with store_session() as session:
+        report = rate_of(session, key, temperatures, k_units=k_units, preset=preset)
+    if as_json:
+        print_json(rate_records(report))
+    else:
+        show(rate_table(report))
+
+
+def recommend(
+    key: str = typer.Argument(..., help="Reaction key or equation."),
+    expression_id: int = typer.Argument(..., help="Id of the expression (see expressions list)."),
+) -> None:
+    """Mark an expression as the curator's choice for export.
+
+    Example: ratebank recommend oh-ch4 12
+    """
+    from ratebank.services.selection import recommend as mark
+
+    with store_session(write=True) as session:
+        expression = mark(session, key, expression_id)
+        origin = expression.origin
+    say(f"Expression {expression_id} ({origin}) is now the recommended one for {key}.")
+
+
+def export(
+    out: Path = typer.Argument(..., help="Output CSV; the descriptor goes beside it."),
+    preset: str = typer.Option(
+        "combustion", "--preset", help="Units: combustion, atmospheric or si."
+    ),
+    k_units: str = typer.Option(
+        None, "--k-units", help="Explicit bimolecular k unit (other orders follow from it)."
+    ),
+    e_units: str = typer.Option(None, "--e-units", help="Explicit energy unit, e.g. cal/mol."),
+    form: str = typer.Option(
+        "modified", "--form", help="modified (A, n, Ea) or arrhenius (A, Ea)."
+    ),
+    linearise_at: float = typer.Option(
+        None,
+        "--linearise-at",
+        help="With --form arrhenius: T [K] at which n != 0 rows are "
+        "replaced by their local two-parameter form.",
+    ),
+    leave_out_gaps: bool = typer.Option(
+        False, "--leave-out-gaps", help="Export even if some reactions have no expression."
+    ),
+) -> None:
+    """Write the mechanism table (CSV) and its descriptor (OUT.resource.json).
+
+    Example: ratebank export mechanism.csv --preset atmospheric
+    """
+    from ratebank.cli.common import open_store_handle
+    from ratebank.io.export import export_mechanism
+
+    store = open_store_handle()
+    try:
+        with store.session(write=True) as session:
+            result = export_mechanism(
+                session,
+                out,
+                preset=preset,
+                k_units=k_units,
+                e_units=e_units,
+                form=form,
+                linearise_at=linearise_at,
+                leave_out_gaps=leave_out_gaps,
+                store_label=store.display_url,
+            )
+    finally:
+        store.close()
+    left = result.table.left_out
+    say(
+        f"Wrote {len(result.table.rows)} reactions to {result.table_path} and "
+        f"{result.descriptor_path}"
+        + (f"; left out {len(left)}: {', '.join(left[:10])}" if left else "")
+    )
+
+
+@steric_app.command("list")
+def steric_list(as_json: bool = JSON_OPTION) -> None:
+    """The stored steric factors: class rules and per-reaction values.
+
+    Example: ratebank steric list
+    """
+    from ratebank.report.mechanism import steric_rule_records, steric_rule_tables
+    from ratebank.services.steric import list_rules
+
+    with store_session() as session:
+        rules, reactions = list_rules(session)
+    if as_json:
+        print_json(steric_rule_records(rules, reactions))
+    else:
+        show(*steric_rule_tables(rules, reactions))
+
+
+@steric_app.command("set-class")
+def steric_set_class(
+    reaction_class: str = typer.Argument(..., help="Reaction class."),
+    value: float = typer.Argument(..., help="Steric factor P."),
+    uncertainty_factor: float = typer.Option(
+        None, "--uncertainty-factor", help="Uncertainty factor of estimates using this rule."
+    ),
+    source: str = typer.Option(None, "--source", help="Where the value comes from."),
+    note: str = typer.Option(None, "--note", help="Free text."),
+    expect_version: int = typer.Option(
+        None, "--expect-version", help="Refuse if the rule changed since you read this version."
+    ),
+) -> None:
+    """Set the steric factor of a reaction class.
+
+    Example: ratebank steric set-class h-abstraction 0.05 --source "analogy with OH + C2H6"
+    """
+    from ratebank.services.steric import set_class_rule
+
+    with store_session(write=True) as session:
+        rule = set_class_rule(
+            session,
+            reaction_class,
+            value,
+            uncertainty_factor=uncertainty_factor,
+            source=source,
+            note=note,
+            expected_version=expect_version,
+        )
+    say(f"Class {rule.reaction_class}: P = {rule.steric_factor:g} (version {rule.version}).")
+
+
+@steric_app.command("clear-class")
+def steric_clear_class(reaction_class: str = typer.Argument(..., help="Reaction class.")) -> None:
+    """Remove the steric rule of a reaction class.
+
+    Example: ratebank steric clear-class h-abstraction
+    """
+    from ratebank.services.steric import remove_class_rule
+
+    with store_session(write=True) as session:
+        remove_class_rule(session, reaction_class)
+    say(f"Removed the steric rule of class {reaction_class}.")
+
+
+@steric_app.command("set-reaction")
+def steric_set_reaction(
+    key: str = typer.Argument(..., help="Reaction key or equation."),
+    value: float = typer.Argument(..., help="Steric factor P."),
+    source: str = typer.Option(None, "--source", help="Where the value comes from."),
+) -> None:
+    """Store a steric factor on one reaction (it takes precedence over its class).
+
+    Example: ratebank steric set-reaction ho2-ho2 0.02 --source "analogy"
+    """
+    from ratebank.services.steric import set_reaction_steric
+
+    with store_session(write=True) as session:
+        set_reaction_steric(session, key, value, source=source)
+    say(f"Reaction {key}: P = {value:g}.")
+
+
+@steric_app.command("clear-reaction")
+def steric_clear_reaction(key: str = typer.Argument(..., help="Reaction key or equation.")) -> None:
+    """Remove the steric factor stored on one reaction.
+
+    Example: ratebank steric clear-reaction ho2-ho2
+    """
+    from ratebank.services.steric import set_reaction_steric
+
+    with store_session(write=True) as session:
+        set_reaction_steric(session, key, None)
+    say(f"Reaction {key}: stored steric factor removed.")
+
+
+@steric_app.command("derived")
+def steric_derived(
+    collision: str = COLLISION_OPTION,
+    reaction_class: str = typer.Option(None, "--class", help="Only this class."),
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Steric factors implied by measured fits, by class: geometric mean, spread, count.
+
+    Example: ratebank steric derived --collision lennard-jones
+    """
+    from ratebank.report.mechanism import derived_records, derived_table
+    from ratebank.services.steric import derived_steric_factors
+
+    with store_session() as session:
+        groups = derived_steric_factors(session, model=collision, reaction_class=reaction_class)
+    if as_json:
+        print_json(derived_records(groups))
+    else:
+        show(derived_table(groups, collision))

@@ -1,0 +1,269 @@
+"""Write the mechanism table and its descriptor, atomically.
+
+``OUT.csv`` holds the table (DESIGN section 7a columns); ``OUT.resource.json``
+describes it as a Frictionless Tabular Data Resource (the open Table Schema
+standard), with the units, the rate-law convention, the store's content
+fingerprint, the creation time, the tool version and the caution text.
+
+Both files are first written to temporary files in the target folder, synced,
+and then renamed over the targets, so a reader never sees a half-written file.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as dt
+import io
+import json
+import os
+import re
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from sqlalchemy.orm import Session
+
+from ratebank import __version__
+from ratebank.errors import RatebankError
+from ratebank.services import mechanism
+from ratebank.store.fingerprint import store_fingerprint
+
+
+class ExportError(RatebankError):
+    """The table cannot be written where it was asked to."""
+
+
+@dataclass
+class ExportResult:
+    table_path: Path
+    descriptor_path: Path
+    table: mechanism.MechanismTable
+    fingerprint: str
+    descriptor: dict[str, Any]
+
+
+def descriptor_path_for(out: Path) -> Path:
+    name = out.name[: -len(".csv")] if out.name.lower().endswith(".csv") else out.name
+    return out.with_name(name + ".resource.json")
+
+
+def _number(value: float | None) -> str:
+    # repr is the shortest text that reads back as the same float: full precision.
+    return "" if value is None else repr(float(value))
+
+
+def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
+    origins = ["measured-fit", "literature", "collision-estimate", "manual"]
+    return [
+        {
+            "name": "key",
+            "type": "string",
+            "description": "reaction key in the store",
+            "constraints": {"required": True, "unique": True},
+        },
+        {
+            "name": "equation",
+            "type": "string",
+            "description": "canonical equation; M is a third body",
+        },
+        {
+            "name": "order",
+            "type": "integer",
+            "description": "overall reaction order",
+            "constraints": {"required": True, "minimum": 1, "maximum": 3},
+        },
+        {
+            "name": "A",
+            "type": "number",
+            "description": "pre-exponential factor in k_units times K^-n",
+            "constraints": {"required": True},
+        },
+        {
+            "name": "n",
+            "type": "number",
+            "description": "temperature exponent (T in K)",
+            "constraints": {"required": True},
+        },
+        {
+            "name": "Ea",
+            "type": "number",
+            "description": f"activation energy in Ea_units ({units.e_units})",
+            "constraints": {"required": True},
+        },
+        {"name": "k_units", "type": "string", "description": "unit of k for this row's order"},
+        {"name": "Ea_units", "type": "string", "description": "unit of Ea"},
+        {"name": "T_min_K", "type": "number", "description": "lower end of the valid range, K"},
+        {"name": "T_max_K", "type": "number", "description": "upper end of the valid range, K"},
+        {
+            "name": "origin",
+            "type": "string",
+            "description": "where the numbers come from",
+            "constraints": {"required": True, "enum": origins},
+        },
+        {
+            "name": "steric_factor",
+            "type": "number",
+            "description": "steric factor used by an estimate or implied by a fit",
+        },
+        {
+            "name": "uncertainty_factor",
+            "type": "number",
+            "description": "k is uncertain by this factor (one standard deviation in ln k)",
+        },
+        {
+            "name": "references",
+            "type": "string",
+            "description": "measurement sets or sources behind the numbers",
+        },
+    ]
+
+
+def _slug(text: str) -> str:
+    slug = re.sub(r"[^a-z0-9._-]+", "-", text.lower()).strip("-._")
+    return slug or "mechanism"
+
+
+def _table_text(table: mechanism.MechanismTable) -> str:
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(mechanism.COLUMNS)
+    for row in table.rows:
+        writer.writerow(
+            [
+                row.key,
+                row.equation,
+                row.order,
+                _number(row.A),
+                _number(row.n),
+                _number(row.Ea),
+                row.k_units,
+                row.Ea_units,
+                _number(row.T_min_K),
+                _number(row.T_max_K),
+                row.origin,
+                _number(row.steric_factor),
+                _number(row.uncertainty_factor),
+                row.references,
+            ]
+        )
+    return buffer.getvalue()
+
+
+def _write_atomically(pairs: list[tuple[Path, str]]) -> None:
+    temporary: list[Path] = []
+    try:
+        for target, text in pairs:
+            handle = tempfile.NamedTemporaryFile(  # noqa: SIM115 - closed below, kept on error
+                "w",
+                encoding="utf-8",
+                newline="",
+                dir=target.parent,
+                prefix=f".{target.name}.",
+                suffix=".tmp",
+                delete=False,
+            )
+            temporary.append(Path(handle.name))
+            with handle:
+                handle.write(text)
+                handle.flush()
+                os.fsync(handle.fileno())
+        for (target, _), temp in zip(pairs, temporary, strict=True):
+            os.replace(temp, target)
+    except BaseException:
+        for temp in temporary:
+            temp.unlink(missing_ok=True)
+        raise
+
+
+def export_mechanism(
+    session: Session,
+    out: Path,
+    *,
+    preset: str | None = "combustion",
+    k_units: str | None = None,
+    e_units: str | None = None,
+    form: str = "modified",
+    linearise_at: float | None = None,
+    leave_out_gaps: bool = False,
+    store_label: str | None = None,
+) -> ExportResult:
+    """Write ``out`` (CSV) and its ``.resource.json`` descriptor."""
+    out = Path(out)
+    folder = out.parent if str(out.parent) else Path(".")
+    if not folder.is_dir():
+        raise ExportError(f"folder {folder} does not exist; create it or choose another output")
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise ExportError(f"folder {folder} is not writable; nothing was written")
+    if out.is_dir():
+        raise ExportError(f"{out} is a folder; give a file name such as mechanism.csv")
+    units = mechanism.export_units(preset, k_units, e_units)
+    table = mechanism.mechanism_table(
+        session, units=units, form=form, linearise_at=linearise_at, leave_out_gaps=leave_out_gaps
+    )
+    fingerprint = store_fingerprint(session)
+    descriptor_path = descriptor_path_for(out)
+    created = dt.datetime.now(dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
+    descriptor: dict[str, Any] = {
+        "profile": "tabular-data-resource",
+        "name": _slug(out.stem),
+        "title": "Mechanism table exported by ratebank",
+        "description": "One row per reaction: k = A T^n exp(-Ea/(R T)), T in K. "
+        + mechanism.CAUTION,
+        "path": out.name,
+        "format": "csv",
+        "mediatype": "text/csv",
+        "encoding": "utf-8",
+        "dialect": {"delimiter": ",", "header": True, "doubleQuote": True},
+        "created": created,
+        "schema": {
+            "fields": _field_descriptions(units),
+            "primaryKey": ["key"],
+            "missingValues": [""],
+        },
+        "ratebank": {
+            "version": __version__,
+            "created": created,
+            "store": store_label,
+            "store_fingerprint": fingerprint,
+            "rows": len(table.rows),
+            "rate_expression": "k = A * T**n * exp(-Ea / (R * T)), T in K, "
+            "A in k_units times K**-n",
+            "rate_law_convention": mechanism.RATE_LAW_CONVENTION,
+            "units": {
+                "preset": units.label,
+                "k_units_by_order": {str(k): v for k, v in sorted(units.k_units.items())},
+                "Ea_units": units.e_units,
+                "calorie": "thermochemical, 4.184 J",
+            },
+            "form": form,
+            "linearised": [
+                {"key": r.key, "at_K": r.linearised_at_K}
+                for r in table.rows
+                if r.linearised_at_K is not None
+            ],
+            "left_out": table.left_out,
+            "chosen_by": {
+                r.key: {"expression_id": r.expression_id, "rule": r.chosen_by} for r in table.rows
+            },
+            "caution": mechanism.CAUTION,
+        },
+    }
+    _write_atomically(
+        [
+            (out, _table_text(table)),
+            (descriptor_path, json.dumps(descriptor, indent=2, ensure_ascii=False) + "\n"),
+        ]
+    )
+    from ratebank.store import audit
+
+    audit.record(
+        session,
+        "export",
+        str(out),
+        rows=len(table.rows),
+        left_out=len(table.left_out),
+        units=units.label,
+        fingerprint=fingerprint,
+    )
+    return ExportResult(out, descriptor_path, table, fingerprint, descriptor)

@@ -1,0 +1,363 @@
+"""Rendering of fit, steric, estimate, check, rate and export results."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+from rich.table import Table
+
+from ratebank.report.format import sig, trange
+from ratebank.services.checks import CheckReport
+from ratebank.services.estimation import EstimateReport
+from ratebank.services.fitting import FitReport
+from ratebank.services.mechanism import RateReport
+from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
+
+
+def _units(order: int, preset: str) -> tuple[str, str]:
+    from ratebank.science.unit_presets import energy_unit_for, rate_unit_for
+
+    return rate_unit_for(preset, order), energy_unit_for(preset)
+
+
+def _k(value: float | None, order: int, unit: str) -> float | None:
+    from ratebank.science.units import rate_from_si
+
+    return None if value is None else float(rate_from_si(value, unit, order))
+
+
+def _e(value: float | None, unit: str) -> float | None:
+    from ratebank.science.units import energy_from_si
+
+    return None if value is None else float(energy_from_si(value, unit))
+
+
+# --------------------------------------------------------------------------- fit
+
+
+def fit_records(report: FitReport, preset: str) -> list[dict[str, Any]]:
+    records = []
+    for r in report.rows:
+        k_unit, e_unit = _units(r.order, preset)
+        records.append(
+            {
+                "key": r.key,
+                "equation": r.equation,
+                "status": r.status,
+                "message": r.message,
+                "form": r.form,
+                "A": _k(r.A, r.order, k_unit),
+                "n": r.n,
+                "Ea": _e(r.Ea, e_unit),
+                "k_units": k_unit,
+                "Ea_units": e_unit,
+                "T_min_K": r.T_min,
+                "T_max_K": r.T_max,
+                "points": r.n_points,
+                "sets": r.n_sets,
+                "reduced_chi_square": r.reduced_chi_square,
+                "uncertainty_factor_min": r.uncertainty_factor_min,
+                "uncertainty_factor_max": r.uncertainty_factor_max,
+                "steric_factor": r.steric_factor,
+                "steric_note": r.steric_note,
+                "warnings": r.warnings,
+                "expression_id": r.expression_id,
+            }
+        )
+    return records
+
+
+def fit_table(report: FitReport, preset: str) -> Table:
+    records = fit_records(report, preset)
+    e_unit = _units(2, preset)[1]
+    table = Table(title=f"Fits ({report.stored} stored, {report.failed} failed), {preset} units")
+    for header in (
+        "reaction",
+        "form",
+        "A (k units·K^-n)",
+        "n",
+        f"Ea ({e_unit})",
+        "T (K)",
+        "points/sets",
+        "χ²/dof",
+        "f",
+        "P",
+        "note",
+    ):
+        table.add_column(header, overflow="fold")
+    for r in records:
+        f = ""
+        if r["uncertainty_factor_min"] is not None:
+            f = f"{sig(r['uncertainty_factor_min'], 3)}-{sig(r['uncertainty_factor_max'], 3)}"
+        note = r["message"]
+        if r["status"] == "unchanged":
+            note = "unchanged since the last fit; " + note
+        if r["warnings"]:
+            note += " " + " ".join(r["warnings"])
+        table.add_row(
+            r["key"],
+            r["form"] or r["status"],
+            f"{sig(r['A'])} {r['k_units']}" if r["A"] is not None else "",
+            sig(r["n"]),
+            sig(r["Ea"]),
+            trange(r["T_min_K"], r["T_max_K"]),
+            f"{r['points']}/{r['sets']}",
+            sig(r["reduced_chi_square"], 3),
+            f,
+            sig(r["steric_factor"], 3),
+            note,
+        )
+    table.caption = "f: uncertainty factor of k over the fitted range; P: implied steric factor"
+    return table
+
+
+# --------------------------------------------------------------------------- steric
+
+
+def steric_rule_records(
+    rules: Sequence[RuleView], reactions: Sequence[ReactionStericView]
+) -> dict[str, Any]:
+    return {
+        "class_rules": [
+            {
+                "class": r.reaction_class,
+                "steric_factor": r.steric_factor,
+                "uncertainty_factor": r.uncertainty_factor,
+                "source": r.source,
+                "note": r.note,
+                "version": r.version,
+                "updated_at": r.updated_at.isoformat() if r.updated_at else None,  # type: ignore[attr-defined]
+                "updated_by": r.updated_by,
+            }
+            for r in rules
+        ],
+        "reaction_values": [
+            {
+                "key": r.key,
+                "class": r.reaction_class,
+                "steric_factor": r.steric_factor,
+                "source": r.source,
+            }
+            for r in reactions
+        ],
+    }
+
+
+def steric_rule_tables(
+    rules: Sequence[RuleView], reactions: Sequence[ReactionStericView]
+) -> list[Table]:
+    first = Table(title=f"Steric factors by class ({len(rules)})")
+    for header in ("class", "P", "f", "source", "note", "version", "changed by"):
+        first.add_column(header, overflow="fold")
+    for r in rules:
+        first.add_row(
+            r.reaction_class,
+            sig(r.steric_factor, 3),
+            sig(r.uncertainty_factor, 3),
+            r.source or "",
+            r.note or "",
+            str(r.version),
+            r.updated_by or "",
+        )
+    second = Table(title=f"Steric factors stored on reactions ({len(reactions)})")
+    for header in ("reaction", "class", "P", "source"):
+        second.add_column(header, overflow="fold")
+    for r in reactions:
+        second.add_row(r.key, r.reaction_class or "", sig(r.steric_factor, 3), r.source or "")
+    return [first, second]
+
+
+def derived_records(groups: Sequence[ClassSteric]) -> list[dict[str, Any]]:
+    return [
+        {
+            "class": g.reaction_class,
+            "count": g.count,
+            "geometric_mean": g.geometric_mean,
+            "spread_factor": g.spread_factor,
+            "minimum": g.minimum,
+            "maximum": g.maximum,
+            "reactions": [
+                {
+                    "key": s.key,
+                    "steric_factor": s.steric_factor,
+                    "T_K": s.temperature,
+                    "expression_id": s.expression_id,
+                    "uses_estimated_diameter": s.uses_estimated_diameter,
+                }
+                for s in g.samples
+            ],
+        }
+        for g in groups
+    ]
+
+
+def derived_table(groups: Sequence[ClassSteric], model: str) -> Table:
+    table = Table(title=f"Steric factors implied by measured fits ({model} collision rate)")
+    for header in ("class", "reactions", "geometric mean P", "spread (×/÷)", "range", "members"):
+        table.add_column(header, overflow="fold")
+    for g in groups:
+        members = ", ".join(
+            f"{s.key} {sig(s.steric_factor, 3)}" + ("*" if s.uses_estimated_diameter else "")
+            for s in g.samples
+        )
+        table.add_row(
+            g.reaction_class or "(no class)",
+            str(g.count),
+            sig(g.geometric_mean, 3),
+            sig(g.spread_factor, 3),
+            f"{sig(g.minimum, 3)}-{sig(g.maximum, 3)}",
+            members,
+        )
+    table.caption = "* uses an estimated diameter"
+    return table
+
+
+# --------------------------------------------------------------------------- estimate
+
+
+def estimate_records(report: EstimateReport, preset: str) -> dict[str, Any]:
+    rows = []
+    for r in report.rows:
+        k_unit, e_unit = _units(2, preset)
+        rows.append(
+            {
+                "key": r.key,
+                "equation": r.equation,
+                "A": _k(r.A, 2, k_unit),
+                "n": r.n,
+                "Ea": _e(r.Ea, e_unit),
+                "k_units": k_unit,
+                "Ea_units": e_unit,
+                "activation_energy": _e(r.activation_energy, e_unit),
+                "T_ref_K": r.T_ref,
+                "T_min_K": r.t_min,
+                "T_max_K": r.t_max,
+                "steric_factor": r.steric_factor,
+                "steric_rule": r.steric_rule,
+                "uncertainty_factor": r.uncertainty_factor,
+                "collision_model": r.collision_model,
+                "collision_rate_at_T_ref": _k(r.collision_rate_at_t_ref, 2, k_unit),
+                "estimated_diameters": r.estimated_diameters,
+                "max_fit_deviation": r.max_fit_deviation,
+                "expression_id": r.expression_id,
+                "replaced": r.replaced,
+            }
+        )
+    return {
+        "written": report.written,
+        "estimated": rows,
+        "not_estimated": [{"key": s.key, "reason": s.reason} for s in report.skipped],
+    }
+
+
+def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
+    data = estimate_records(report, preset)
+    k_unit, e_unit = _units(2, preset)
+    done = Table(title=f"Estimates ({len(data['estimated'])}), {preset} units")
+    for header in (
+        "reaction",
+        "A (k units·K^-n)",
+        "n",
+        f"Ea ({e_unit})",
+        f"z(T_ref) ({k_unit})",
+        "P",
+        "P from",
+        "f",
+        "T_ref (K)",
+        "estimated d",
+    ):
+        done.add_column(header, overflow="fold")
+    for r in data["estimated"]:
+        done.add_row(
+            r["key"],
+            sig(r["A"]),
+            sig(r["n"]),
+            sig(r["Ea"]),
+            sig(r["collision_rate_at_T_ref"]),
+            sig(r["steric_factor"], 3),
+            r["steric_rule"],
+            sig(r["uncertainty_factor"], 3),
+            sig(r["T_ref_K"]),
+            ", ".join(r["estimated_diameters"]),
+        )
+    tables = [done]
+    if data["not_estimated"]:
+        missing = Table(title=f"Not estimated ({len(data['not_estimated'])})")
+        missing.add_column("reaction")
+        missing.add_column("reason", overflow="fold")
+        for s in data["not_estimated"]:
+            missing.add_row(s["key"], s["reason"])
+        tables.append(missing)
+    return tables
+
+
+# --------------------------------------------------------------------------- check
+
+
+def check_records(report: CheckReport) -> dict[str, Any]:
+    return {
+        "clean": report.clean,
+        "reactions": report.reactions,
+        "expressions": report.expressions,
+        "t_range_K": list(report.t_range) if report.t_range else None,
+        "ignored": report.ignored,
+        "flags": [
+            {
+                "key": f.key,
+                "code": f.code,
+                "message": f.message,
+                "expression_id": f.expression_id,
+                "value": f.value,
+                "T_K": f.temperature,
+            }
+            for f in report.flags
+        ],
+    }
+
+
+def check_table(report: CheckReport) -> Table:
+    table = Table(title=f"Check: {len(report.flags)} flag(s) over {report.reactions} reactions")
+    for header in ("reaction", "check", "finding"):
+        table.add_column(header, overflow="fold")
+    for f in report.flags:
+        table.add_row(f.key, f.code, f.message)
+    return table
+
+
+# --------------------------------------------------------------------------- rate
+
+
+def rate_records(report: RateReport) -> dict[str, Any]:
+    return {
+        "key": report.key,
+        "equation": report.equation,
+        "origin": report.origin,
+        "expression_id": report.expression_id,
+        "chosen_by": report.chosen_by,
+        "k_units": report.k_units,
+        "T_min_K": report.t_min,
+        "T_max_K": report.t_max,
+        "rates": [
+            {
+                "T_K": r.T,
+                "k": r.k,
+                "uncertainty_factor": r.uncertainty_factor,
+                "in_range": r.in_range,
+            }
+            for r in report.rows
+        ],
+    }
+
+
+def rate_table(report: RateReport) -> Table:
+    table = Table(
+        title=f"{report.key}: {report.equation} ({report.origin}, expression "
+        f"{report.expression_id}, {report.chosen_by})"
+    )
+    for header in ("T (K)", f"k ({report.k_units})", "f", "range"):
+        table.add_column(header)
+    for r in report.rows:
+        where = "" if r.in_range is None else ("inside" if r.in_range else "extrapolated")
+        table.add_row(sig(r.T), sig(r.k), sig(r.uncertainty_factor, 3), where)
+    return table

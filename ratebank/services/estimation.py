@@ -1,0 +1,416 @@
+"""Fill missing pre-exponential factors from collision theory times a steric factor.
+
+For a bimolecular reaction with a known activation energy Ea (at T_ref):
+
+- hard spheres: E0 = Ea - R T_ref/2 and k(T) = P z(T) exp(-E0/RT). Since
+  z(T) is proportional to T^(1/2) this is exactly a modified-Arrhenius
+  expression with n = 1/2, A = P z(T_ref)/T_ref^(1/2) and Ea = E0, and it is
+  stored that way.
+- Lennard-Jones: z_LJ = z Omega(2,2)*(T/eps_AB), E0 = Ea - E_z(T_ref) with the
+  model's own E_z = -R d ln z/d(1/T), and the stored expression is a
+  modified-Arrhenius fit to P z_LJ(T) exp(-E0/RT) over the temperature range,
+  its largest deviation recorded.
+
+P comes from the first of: the command line; the value stored on the
+reaction; the rule stored for its class; the geometric mean of the steric
+factors derived from measured reactions of the class; a fallback the user
+gives. A reaction with none of these is reported, never guessed.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from sqlalchemy import delete, insert, select
+from sqlalchemy.orm import Session
+
+from ratebank.errors import RatebankError
+from ratebank.services.curate import find_reaction
+from ratebank.services.partners import COLLISION_MODELS, CollisionPair, collision_pairs
+from ratebank.services.steric import MINIMUM_ESTIMATE_FACTOR, derived_steric_factors
+from ratebank.store import audit
+from ratebank.store.models import Expression, Reaction, StericRule
+
+#: Uncertainty factor of an estimate when nothing better is known (common practice).
+DEFAULT_UNCERTAINTY_FACTOR = 10.0
+#: Reference temperature when neither the user nor the activation energy gives one [K].
+DEFAULT_T_REF = 298.15
+#: Temperature grid of the Lennard-Jones fit when no range is known [K].
+DEFAULT_LJ_RANGE = (200.0, 2500.0)
+
+
+class EstimateIncomplete(RatebankError):
+    """Some requested reactions could not be estimated; nothing was written."""
+
+    def __init__(self, report: EstimateReport):
+        self.report = report
+        lines = [f"{s.key}: {s.reason}" for s in report.skipped[:20]]
+        more = len(report.skipped) - len(lines)
+        super().__init__(
+            f"{len(report.skipped)} of {len(report.skipped) + len(report.rows)} requested "
+            "reaction(s) cannot be estimated, so nothing was written (use --keep-going to "
+            "store the others):\n  "
+            + "\n  ".join(lines)
+            + (f"\n  ... and {more} more" if more > 0 else "")
+        )
+
+
+@dataclass
+class EstimateRow:
+    key: str
+    equation: str
+    A: float
+    n: float
+    Ea: float  # the stored Ea (E0 for the hard-sphere n = 1/2 form)
+    activation_energy: float  # the Ea the estimate was made from
+    T_ref: float
+    t_min: float | None
+    t_max: float | None
+    steric_factor: float
+    steric_rule: str
+    uncertainty_factor: float
+    collision_model: str
+    collision_rate_at_t_ref: float
+    estimated_diameters: list[str]
+    max_fit_deviation: float | None = None
+    expression_id: int | None = None
+    replaced: list[int] = field(default_factory=list)
+
+
+@dataclass
+class Skipped:
+    key: str
+    reason: str
+
+
+@dataclass
+class EstimateReport:
+    rows: list[EstimateRow]
+    skipped: list[Skipped]
+    written: bool
+
+    @property
+    def all_estimated(self) -> bool:
+        return not self.skipped
+
+
+@dataclass(frozen=True)
+class _StericChoice:
+    value: float
+    rule: str
+    uncertainty_factor: float
+    detail: dict[str, Any]
+
+
+def _steric_for(
+    reaction: Reaction,
+    *,
+    given: float | None,
+    rules: dict[str, StericRule],
+    derived: dict[str | None, Any],
+    fallback: float | None,
+    user_factor: float | None,
+) -> _StericChoice | str:
+    default_factor = user_factor if user_factor is not None else DEFAULT_UNCERTAINTY_FACTOR
+    if given is not None:
+        return _StericChoice(given, "given on the command line", default_factor, {})
+    if reaction.steric_factor is not None:
+        return _StericChoice(
+            reaction.steric_factor,
+            "stored for the reaction",
+            default_factor,
+            {"source": reaction.steric_source},
+        )
+    rule = rules.get(reaction.reaction_class or "")
+    if rule is not None:
+        return _StericChoice(
+            rule.steric_factor,
+            f"rule for class {rule.reaction_class}",
+            rule.uncertainty_factor or default_factor,
+            {"source": rule.source, "rule_version": rule.version},
+        )
+    group = derived.get(reaction.reaction_class) if reaction.reaction_class else None
+    if group is not None and group.count > 0:
+        spread = group.spread_factor
+        factor = max(spread, MINIMUM_ESTIMATE_FACTOR) if spread is not None else default_factor
+        return _StericChoice(
+            group.geometric_mean,
+            f"derived from {group.count} measured reaction(s) of class {reaction.reaction_class}",
+            factor,
+            {
+                "class_spread_factor": spread,
+                "class_members": [
+                    {
+                        "key": s.key,
+                        "steric_factor": s.steric_factor,
+                        "expression_id": s.expression_id,
+                    }
+                    for s in group.samples
+                ],
+            },
+        )
+    if fallback is not None:
+        return _StericChoice(fallback, "fallback given on the command line", default_factor, {})
+    where = f"class {reaction.reaction_class!r}" if reaction.reaction_class else "no class"
+    return (
+        f"no applicable steric factor ({where}: no value stored for the reaction, no class "
+        "rule, no measured reaction of the class); give --steric, store one with "
+        "`ratebank steric`, or give --fallback-steric"
+    )
+
+
+def estimate(
+    session: Session,
+    keys: list[str] | None = None,
+    *,
+    steric: float | None = None,
+    t_ref: float | None = None,
+    collision: str = "hard-sphere",
+    reaction_class: str | None = None,
+    fallback_steric: float | None = None,
+    uncertainty_factor: float | None = None,
+    t_range: tuple[float, float] | None = None,
+    keep_going: bool = False,
+) -> EstimateReport:
+    """Estimate A for bimolecular reactions that have an activation energy but no A.
+
+    Without ``keys``, every such reaction (of ``reaction_class``, if given) is
+    a candidate. If any requested reaction cannot be estimated, nothing is
+    written and :class:`EstimateIncomplete` lists why, unless ``keep_going``.
+    Measured and literature expressions are never touched; an earlier
+    collision estimate of the same reaction (not recommended) is replaced.
+    """
+    import numpy as np
+
+    from ratebank.science import collision as sct
+    from ratebank.science.arrhenius import approximate_with_modified_arrhenius
+    from ratebank.science.constants import GAS_CONSTANT
+
+    if collision not in COLLISION_MODELS:
+        raise RatebankError(
+            f"unknown collision model {collision!r}; expected one of {', '.join(COLLISION_MODELS)}"
+        )
+    for name, value in (("--steric", steric), ("--fallback-steric", fallback_steric)):
+        if value is not None and (not math.isfinite(value) or value <= 0):
+            raise RatebankError(f"{name} {value!r} must be a finite number greater than zero")
+    if t_ref is not None and (not math.isfinite(t_ref) or t_ref <= 0):
+        raise RatebankError(f"--t-ref {t_ref!r} must be a temperature above 0 K")
+    if uncertainty_factor is not None and (
+        not math.isfinite(uncertainty_factor) or uncertainty_factor < 1
+    ):
+        raise RatebankError("--uncertainty-factor must be a number of at least 1")
+    if t_range is not None and not (0 < t_range[0] < t_range[1]):
+        raise RatebankError("--t-range needs two temperatures, the lower first, both above 0 K")
+
+    if keys:
+        reactions = [find_reaction(session, key) for key in keys]
+    else:
+        query = select(Reaction).order_by(Reaction.key)
+        if reaction_class is not None:
+            query = query.where(Reaction.reaction_class == reaction_class)
+        reactions = list(session.scalars(query))
+    expressions: dict[int, list[Expression]] = {r.id: [] for r in reactions}
+    ids = list(expressions)
+    for start in range(0, len(ids), 500):
+        for e in session.scalars(
+            select(Expression)
+            .where(Expression.reaction_id.in_(ids[start : start + 500]))
+            .order_by(Expression.id)
+        ):
+            expressions[e.reaction_id].append(e)
+
+    skipped: list[Skipped] = []
+    candidates: list[tuple[Reaction, Expression]] = []
+    for reaction in reactions:
+        own = expressions[reaction.id]
+        complete = [e for e in own if e.A is not None and e.origin != "collision-estimate"]
+        partial = [e for e in own if e.A is None]
+        if complete or not partial:
+            if keys:
+                skipped.append(Skipped(reaction.key, _why_not_candidate(complete)))
+            continue
+        candidates.append((reaction, partial[-1]))
+
+    pairs = collision_pairs(
+        session, [r for r, _ in candidates], model=collision, store_estimates=False
+    )
+    rules = {r.reaction_class: r for r in session.scalars(select(StericRule))}
+    derived = {g.reaction_class: g for g in derived_steric_factors(session, model=collision)}
+
+    rows: list[EstimateRow] = []
+    plans: list[tuple[Reaction, EstimateRow, dict[str, Any]]] = []
+    for reaction, partial in candidates:
+        pair = pairs[reaction.id]
+        if isinstance(pair, str):
+            skipped.append(Skipped(reaction.key, pair))
+            continue
+        choice = _steric_for(
+            reaction,
+            given=steric,
+            rules=rules,
+            derived=derived,
+            fallback=fallback_steric,
+            user_factor=uncertainty_factor,
+        )
+        if isinstance(choice, str):
+            skipped.append(Skipped(reaction.key, choice))
+            continue
+        t_min = partial.t_min if partial.t_min is not None else (t_range[0] if t_range else None)
+        t_max = partial.t_max if partial.t_max is not None else (t_range[1] if t_range else None)
+        reference_t = t_ref
+        if reference_t is None:
+            reference_t = math.sqrt(t_min * t_max) if t_min and t_max else DEFAULT_T_REF
+        try:
+            row, detail = _estimate_one(
+                reaction,
+                partial,
+                pair,
+                choice,
+                reference_t,
+                t_min,
+                t_max,
+                collision,
+                sct,
+                approximate_with_modified_arrhenius,
+                GAS_CONSTANT,
+                np,
+            )
+        except (ValueError, RatebankError) as exc:
+            skipped.append(Skipped(reaction.key, f"collision model failed: {exc}"))
+            continue
+        rows.append(row)
+        plans.append((reaction, row, detail))
+
+    if skipped and not keep_going:
+        raise EstimateIncomplete(EstimateReport(rows, skipped, written=False))
+    if plans:
+        # store the diameters estimated for the partners actually used, flagged
+        collision_pairs(session, [r for r, _, _ in plans], model=collision, store_estimates=True)
+        author = session.info.get("author")
+        for reaction, row, detail in plans:
+            old = [
+                e.id
+                for e in expressions[reaction.id]
+                if e.origin == "collision-estimate" and not e.recommended
+            ]
+            if old:
+                session.execute(delete(Expression).where(Expression.id.in_(old)))
+                row.replaced = old
+            row.expression_id = session.scalar(
+                insert(Expression).returning(Expression.id),
+                [
+                    {
+                        "reaction_id": reaction.id,
+                        "origin": "collision-estimate",
+                        "A": row.A,
+                        "n": row.n,
+                        "Ea": row.Ea,
+                        "t_min": row.t_min,
+                        "t_max": row.t_max,
+                        "uncertainty_factor": row.uncertainty_factor,
+                        "reference": (
+                            f"collision theory ({row.collision_model}) x steric factor "
+                            f"{row.steric_factor:.3g} ({row.steric_rule})"
+                        ),
+                        "provenance": detail,
+                        "recommended": False,
+                        "created_by": author,
+                    }
+                ],
+            )
+        audit.record(
+            session,
+            "estimate",
+            None,
+            stored=len(plans),
+            model=collision,
+            keys=[r.key for r, _, _ in plans[:20]],
+            skipped=len(skipped),
+        )
+    return EstimateReport(rows, skipped, written=bool(plans))
+
+
+def _why_not_candidate(complete: list[Expression]) -> str:
+    if complete:
+        return (
+            f"already has a complete {complete[-1].origin} expression; estimates never "
+            "replace measured or literature values"
+        )
+    return "no activation energy stored (import one with A left empty)"
+
+
+def _estimate_one(
+    reaction: Reaction,
+    partial: Expression,
+    pair: CollisionPair,
+    choice: _StericChoice,
+    t_ref: float,
+    t_min: float | None,
+    t_max: float | None,
+    model: str,
+    sct: Any,
+    approximate: Any,
+    R: float,
+    np: Any,
+) -> tuple[EstimateRow, dict[str, Any]]:
+    ea = partial.Ea
+    z_ref = float(pair.collision_rate(t_ref, model))
+    e_z = float(pair.collision_activation_energy(t_ref, model))
+    e0 = float(sct.threshold_energy_from_activation_energy(ea, t_ref, e_z))
+    max_deviation = None
+    if model == "hard-sphere":
+        A = choice.value * z_ref / math.sqrt(t_ref)
+        n = 0.5
+        stored_ea = e0
+    else:
+        low, high = (t_min, t_max) if t_min and t_max else DEFAULT_LJ_RANGE
+        low, high = min(low, t_ref), max(high, t_ref)
+        grid = np.geomspace(low, high, 60)
+        k_model = sct.collision_theory_rate_constant(
+            grid, choice.value, pair.collision_rate(grid, model), e0
+        )
+        fit = approximate(grid, k_model)
+        A, n, stored_ea = float(fit.A), float(fit.n), float(fit.Ea)
+        max_deviation = float(fit.max_relative_deviation)
+        t_min, t_max = t_min or low, t_max or high
+    estimated = [p.name for p in (pair.a, pair.b) if p.diameter_estimated]
+    row = EstimateRow(
+        key=reaction.key,
+        equation=reaction.equation,
+        A=float(A),
+        n=float(n),
+        Ea=float(stored_ea),
+        activation_energy=float(ea),
+        T_ref=float(t_ref),
+        t_min=t_min,
+        t_max=t_max,
+        steric_factor=float(choice.value),
+        steric_rule=choice.rule,
+        uncertainty_factor=float(choice.uncertainty_factor),
+        collision_model=model,
+        collision_rate_at_t_ref=z_ref,
+        estimated_diameters=sorted(set(estimated)),
+        max_fit_deviation=max_deviation,
+    )
+    detail = {
+        "method": "simple collision theory times a steric factor",
+        "collision_model": model,
+        "steric_factor": row.steric_factor,
+        "steric_rule": choice.rule,
+        "steric_detail": choice.detail,
+        "uncertainty_factor": row.uncertainty_factor,
+        "activation_energy_J_per_mol": row.activation_energy,
+        "activation_energy_expression_id": partial.id,
+        "threshold_energy_J_per_mol": e0,
+        "collision_activation_energy_J_per_mol": e_z,
+        "T_ref": row.T_ref,
+        "collision_rate_at_T_ref_SI": z_ref,
+        "self_reaction": pair.identical,
+        "partners": pair.as_record(),
+        "estimated_diameters": row.estimated_diameters,
+        "form": "n = 1/2 exactly" if model == "hard-sphere" else "modified-Arrhenius fit",
+        "max_relative_deviation_of_fit": max_deviation,
+    }
+    return row, detail

@@ -1,0 +1,373 @@
+"""Fit the measured k(T) sets of reactions and store each fit as an expression.
+
+All sets of a reaction are pooled into one weighted least-squares fit in ln k
+(``ratebank.science.arrhenius``). Every reaction of the store is fitted in one
+vectorized pass. A reaction whose points all carry an uncertainty is fitted
+with those weights (absolute covariance); otherwise with unit weights, the
+covariance then scaled by the reduced chi-square.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from sqlalchemy import insert, select
+from sqlalchemy.orm import Session
+
+from ratebank.errors import FitError, RatebankError
+from ratebank.services.curate import find_reaction
+from ratebank.store import audit
+from ratebank.store.models import Expression, MeasurementSet, Point, Reaction
+
+FORMS = ("arrhenius", "modified", "auto")
+
+
+@dataclass
+class FitRow:
+    """One reaction's fit (SI units)."""
+
+    key: str
+    equation: str
+    order: int
+    status: str  # "stored", "unchanged" or "failed"
+    message: str
+    form: str | None = None
+    A: float | None = None
+    n: float | None = None
+    Ea: float | None = None
+    T_min: float | None = None
+    T_max: float | None = None
+    n_points: int = 0
+    n_sets: int = 0
+    reduced_chi_square: float | None = None
+    uncertainty_factor_min: float | None = None
+    uncertainty_factor_max: float | None = None
+    steric_factor: float | None = None
+    steric_note: str | None = None
+    warnings: list[str] = field(default_factory=list)
+    expression_id: int | None = None
+
+
+@dataclass
+class FitReport:
+    rows: list[FitRow]
+
+    @property
+    def stored(self) -> int:
+        return sum(1 for r in self.rows if r.status == "stored")
+
+    @property
+    def failed(self) -> int:
+        return sum(1 for r in self.rows if r.status == "failed")
+
+
+def _points(session: Session, reaction_ids: list[int] | None):  # type: ignore[no-untyped-def]
+    import numpy as np
+
+    query = (
+        select(
+            MeasurementSet.reaction_id,
+            Point.set_id,
+            Point.temperature,
+            Point.rate_constant,
+            Point.relative_uncertainty,
+        )
+        .join(MeasurementSet, MeasurementSet.id == Point.set_id)
+        .order_by(MeasurementSet.reaction_id, Point.set_id, Point.id)
+    )
+    if reaction_ids is not None:
+        query = query.where(MeasurementSet.reaction_id.in_(reaction_ids))
+    rows = session.execute(query).all()
+    if not rows:
+        empty = np.zeros(0)
+        return empty.astype(np.int64), empty.astype(np.int64), empty, empty, empty
+    reaction, set_id, T, k, u = zip(*rows, strict=True)
+    u_array = np.array([np.nan if x is None else x for x in u], dtype=float)
+    return (
+        np.asarray(reaction, dtype=np.int64),
+        np.asarray(set_id, dtype=np.int64),
+        np.asarray(T, dtype=float),
+        np.asarray(k, dtype=float),
+        u_array,
+    )
+
+
+def fit_reactions(
+    session: Session,
+    keys: list[str] | None = None,
+    *,
+    form: str = "auto",
+    fixed_n: float | None = None,
+    significance: float = 0.05,
+) -> FitReport:
+    """Fit the measured sets of the named reactions (default: every measured one).
+
+    ``form`` is ``arrhenius`` (n = 0), ``modified`` (A, n, Ea) or ``auto``
+    (the three-parameter form only when the data support it, by the F-test of
+    :func:`ratebank.science.arrhenius.compare_forms_batch`); ``fixed_n`` fits
+    A and Ea with n held at the given value. A fit identical to the reaction's
+    newest stored fit is not stored again.
+    """
+    import numpy as np
+
+    from ratebank.science import arrhenius
+
+    if form not in FORMS:
+        raise RatebankError(f"unknown form {form!r}; expected one of {', '.join(FORMS)}")
+    if fixed_n is not None and not np.isfinite(fixed_n):
+        raise RatebankError("--fixed-n must be a finite number")
+    if keys:
+        reactions = [find_reaction(session, key) for key in keys]
+        ids: list[int] | None = [r.id for r in reactions]
+    else:
+        ids = None
+    reaction_ids, set_ids, T, k, u = _points(session, ids)
+    if keys:
+        by_id = {r.id: r for r in reactions}
+    else:
+        present = sorted(set(reaction_ids.tolist()))
+        by_id = (
+            {r.id: r for r in session.scalars(select(Reaction).where(Reaction.id.in_(present)))}
+            if present
+            else {}
+        )
+    rows: list[FitRow] = []
+    if keys:
+        for reaction in reactions:
+            if reaction.id not in set(reaction_ids.tolist()):
+                rows.append(
+                    FitRow(
+                        reaction.key,
+                        reaction.equation,
+                        reaction.reaction_order,
+                        "failed",
+                        "no measured points to fit",
+                    )
+                )
+    if T.size == 0:
+        return FitReport(rows)
+
+    # Weighted where every point of the reaction states its uncertainty.
+    has_u = ~np.isnan(u)
+    _, inverse = np.unique(reaction_ids, return_inverse=True)
+    all_u = np.bincount(inverse, weights=~has_u) == 0
+    weighted_point = all_u[inverse]
+
+    results: dict[int, dict[str, Any]] = {}
+    for weighted in (True, False):
+        mask = weighted_point == weighted
+        if not mask.any():
+            continue
+        sigma = u[mask] if weighted else None
+        if fixed_n is not None:
+            two = three = arrhenius.fit_rate_constants_batch(
+                T[mask], k[mask], sigma, reaction_ids[mask], form="fixed-n", fixed_n=fixed_n
+            )
+            chosen = np.zeros(len(two), dtype=bool)
+            reasons = np.full(len(two), f"n fixed at {fixed_n:g} by the user", dtype=object)
+        elif form == "auto":
+            choice = arrhenius.compare_forms_batch(
+                T[mask], k[mask], sigma, reaction_ids[mask], significance=significance
+            )
+            two, three = choice.two, choice.three
+            chosen = choice.supported
+            reasons = choice.reason
+        else:
+            two = three = arrhenius.fit_rate_constants_batch(
+                T[mask], k[mask], sigma, reaction_ids[mask], form=form
+            )
+            chosen = np.zeros(len(two), dtype=bool)
+            reasons = np.full(len(two), f"the {form} form was asked for", dtype=object)
+        set_lists: dict[int, list[int]] = {}
+        for rid, sid in zip(reaction_ids[mask].tolist(), set_ids[mask].tolist(), strict=True):
+            lst = set_lists.setdefault(rid, [])
+            if not lst or lst[-1] != sid:
+                lst.append(sid)
+        for i, rid in enumerate(two.groups.tolist()):
+            batch = three if chosen[i] else two
+            results[rid] = {
+                "batch": batch,
+                "row": i,
+                "reason": str(reasons[i]),
+                "weighted": weighted,
+                "sets": sorted(set(set_lists.get(rid, []))),
+                "points_T": T[mask][reaction_ids[mask] == rid],
+            }
+
+    newest_fit = _newest_fits(session, list(results))
+    from ratebank.services.partners import collision_pairs
+
+    pairs = collision_pairs(session, [by_id[rid] for rid in results])
+    author = session.info.get("author")
+    inserts: list[dict[str, Any]] = []
+    pending: list[FitRow] = []
+    for rid in sorted(results, key=lambda r: by_id[r].key):
+        info = results[rid]
+        reaction = by_id[rid]
+        batch, i = info["batch"], info["row"]
+        row = FitRow(reaction.key, reaction.equation, reaction.reaction_order, "failed", "")
+        row.n_points = int(batch.n_points[i])
+        row.n_sets = len(info["sets"])
+        if not batch.ok[i]:
+            row.message = str(batch.status[i])
+            rows.append(row)
+            continue
+        fit = batch.fit(i)
+        row.form = fit.form
+        row.A, row.n, row.Ea = float(fit.A), float(fit.n), float(fit.Ea)
+        row.T_min, row.T_max = float(fit.T_min), float(fit.T_max)
+        row.reduced_chi_square = _finite(fit.reduced_chi_square)
+        grid = np.geomspace(fit.T_min, fit.T_max, 25)
+        factors = np.asarray(fit.uncertainty_factor(grid), dtype=float)
+        if np.isfinite(factors).all():
+            row.uncertainty_factor_min = float(factors.min())
+            row.uncertainty_factor_max = float(factors.max())
+        row.warnings = [w.message for w in fit.warnings]
+        warnings_codes = [w.code for w in fit.warnings]
+        row.message = info["reason"]
+        # steric factor implied by the fit, at the geometric-mean temperature of its data
+        t_mean = float(np.exp(np.mean(np.log(info["points_T"]))))
+        pair = pairs.get(rid)
+        steric = None
+        if isinstance(pair, str):
+            row.steric_note = pair
+        elif pair is not None:
+            from ratebank.science import collision
+
+            k_mean = float(fit.k(t_mean))
+            ea_local = float(fit.local_activation_energy(t_mean))
+            z = float(pair.collision_rate(t_mean))
+            steric = float(collision.derived_steric_factor(k_mean, ea_local, t_mean, z))
+            row.steric_factor = steric
+            if pair.uses_estimated_diameter:
+                row.steric_note = "uses an estimated diameter"
+        covariance = np.where(np.isfinite(fit.covariance), fit.covariance, 0.0).tolist()
+        provenance = {
+            "method": "weighted linear least squares in ln k"
+            if info["weighted"]
+            else "unweighted least squares in ln k (covariance scaled by reduced chi-square)",
+            "form": fit.form,
+            "form_reason": info["reason"],
+            "fixed_n": fixed_n,
+            "T_ref": float(fit.T_ref),
+            "covariance": covariance,
+            "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
+            "absolute_sigma": bool(fit.absolute_sigma),
+            "reduced_chi_square": row.reduced_chi_square,
+            "n_points": row.n_points,
+            "n_sets": row.n_sets,
+            "set_ids": info["sets"],
+            "warnings": warnings_codes,
+            "steric_factor": steric,
+            "steric_factor_T_K": t_mean if steric is not None else None,
+            "steric_factor_model": "hard-sphere" if steric is not None else None,
+            "partners": pair.as_record()
+            if pair is not None and not isinstance(pair, str)
+            else None,
+        }
+        previous = newest_fit.get(rid)
+        if previous is not None and _same_fit(previous, row, provenance):
+            row.status = "unchanged"
+            row.expression_id = previous.id
+            rows.append(row)
+            continue
+        row.status = "stored"
+        inserts.append(
+            {
+                "reaction_id": rid,
+                "origin": "measured-fit",
+                "A": row.A,
+                "n": row.n,
+                "Ea": row.Ea,
+                "t_min": row.T_min,
+                "t_max": row.T_max,
+                "uncertainty_factor": row.uncertainty_factor_max,
+                "reference": _references(session, info["sets"]),
+                "provenance": provenance,
+                "recommended": False,
+                "created_by": author,
+            }
+        )
+        pending.append(row)
+        rows.append(row)
+    if inserts:
+        new_ids = session.scalars(
+            insert(Expression).returning(Expression.id, sort_by_parameter_order=True), inserts
+        ).all()
+        for row, new_id in zip(pending, new_ids, strict=True):
+            row.expression_id = new_id
+        audit.record(
+            session,
+            "fit",
+            None,
+            stored=len(inserts),
+            form=form if fixed_n is None else f"fixed-n {fixed_n:g}",
+            keys=[r.key for r in pending[:20]],
+        )
+    rows.sort(key=lambda r: r.key)
+    return FitReport(rows)
+
+
+def _finite(value: float) -> float | None:
+    import math
+
+    return float(value) if math.isfinite(value) else None
+
+
+def _newest_fits(session: Session, reaction_ids: list[int]) -> dict[int, Expression]:
+    newest: dict[int, Expression] = {}
+    for start in range(0, len(reaction_ids), 500):
+        for e in session.scalars(
+            select(Expression)
+            .where(
+                Expression.reaction_id.in_(reaction_ids[start : start + 500]),
+                Expression.origin == "measured-fit",
+            )
+            .order_by(Expression.id)
+        ):
+            newest[e.reaction_id] = e
+    return newest
+
+
+def _same_fit(previous: Expression, row: FitRow, provenance: dict[str, Any]) -> bool:
+    old = previous.provenance or {}
+    return (
+        old.get("set_ids") == provenance["set_ids"]
+        and old.get("form") == provenance["form"]
+        and old.get("fixed_n") == provenance["fixed_n"]
+        and old.get("n_points") == provenance["n_points"]
+        and previous.A is not None
+        and abs(previous.A - (row.A or 0.0)) <= 1e-12 * abs(previous.A)
+        and abs(previous.Ea - (row.Ea or 0.0)) <= 1e-9 * max(1.0, abs(previous.Ea))
+    )
+
+
+def _references(session: Session, set_ids: list[int]) -> str:
+    if not set_ids:
+        return ""
+    rows = session.execute(
+        select(MeasurementSet.name, MeasurementSet.reference)
+        .where(MeasurementSet.id.in_(set_ids))
+        .order_by(MeasurementSet.name)
+    ).all()
+    return "; ".join(f"{name}: {ref}" if ref else name for name, ref in rows)
+
+
+def single_fit(session: Session, key: str, *, form: str = "auto", fixed_n: float | None = None):  # type: ignore[no-untyped-def]
+    """The fit of one reaction as an ArrheniusFit, without storing it (for plots and checks)."""
+    import numpy as np
+
+    from ratebank.science import arrhenius
+
+    reaction = find_reaction(session, key)
+    _, _, T, k, u = _points(session, [reaction.id])
+    if T.size == 0:
+        raise FitError(f"reaction {reaction.key!r} has no measured points")
+    sigma = None if np.isnan(u).any() else u
+    if fixed_n is not None:
+        return arrhenius.fit_rate_constants(T, k, sigma, form="fixed-n", fixed_n=fixed_n)
+    if form == "auto":
+        comparison = arrhenius.compare_forms(T, k, sigma)
+        return comparison.modified_fit if comparison.supported else comparison.arrhenius_fit
+    return arrhenius.fit_rate_constants(T, k, sigma, form=form)

@@ -1,0 +1,252 @@
+"""Collision partners of bimolecular reactions: masses, diameters, well depths.
+
+A missing diameter (or, for the Lennard-Jones model, well depth) is estimated
+from the species' critical constants or boiling-point volume with a named
+correlation. The estimate is marked as such everywhere it is used, and the
+estimating command stores it on the species with its method.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from ratebank.errors import DiameterError, RatebankError
+from ratebank.store import audit
+from ratebank.store.models import Participant, Reaction, Species
+
+COLLISION_MODELS = ("hard-sphere", "lennard-jones")
+
+
+@dataclass(frozen=True)
+class PartnerData:
+    """One collision partner, SI units."""
+
+    name: str
+    formula: str
+    molar_mass: float  # kg/mol
+    diameter: float | None  # m
+    diameter_method: str | None
+    well_depth: float | None  # K
+    well_depth_method: str | None
+
+    @property
+    def diameter_estimated(self) -> bool:
+        return self.diameter is not None and self.diameter_method not in (None, "given")
+
+    @property
+    def well_depth_estimated(self) -> bool:
+        return self.well_depth is not None and self.well_depth_method not in (None, "given")
+
+    def as_record(self) -> dict[str, object]:
+        return {
+            "species": self.name,
+            "molar_mass_kg_per_mol": self.molar_mass,
+            "diameter_m": self.diameter,
+            "diameter_method": self.diameter_method,
+            "diameter_estimated": self.diameter_estimated,
+            "well_depth_K": self.well_depth,
+            "well_depth_method": self.well_depth_method,
+            "well_depth_estimated": self.well_depth_estimated,
+        }
+
+
+@dataclass(frozen=True)
+class CollisionPair:
+    """The two reactants of a bimolecular reaction."""
+
+    reaction_id: int
+    key: str
+    a: PartnerData
+    b: PartnerData
+    identical: bool
+
+    @property
+    def uses_estimated_diameter(self) -> bool:
+        return self.a.diameter_estimated or self.b.diameter_estimated
+
+    def collision_rate(self, T, model: str = "hard-sphere"):  # type: ignore[no-untyped-def]
+        """z(T) [m3 mol-1 s-1] under ``model``."""
+        from ratebank.science import collision
+
+        if model == "lennard-jones":
+            return collision.lennard_jones_collision_rate_constant(
+                T,
+                self.a.diameter,
+                self.b.diameter,
+                self.a.molar_mass,
+                self.b.molar_mass,
+                self.a.well_depth,
+                self.b.well_depth,
+                identical=self.identical,
+            )
+        return collision.collision_rate_constant(
+            T,
+            self.a.diameter,
+            self.b.diameter,
+            self.a.molar_mass,
+            self.b.molar_mass,
+            identical=self.identical,
+        )
+
+    def collision_activation_energy(self, T, model: str = "hard-sphere"):  # type: ignore[no-untyped-def]
+        """E_z(T) = -R d ln z/d(1/T) [J/mol] of the chosen model."""
+        from ratebank.science import collision
+
+        if model == "lennard-jones":
+            return collision.collision_rate_activation_energy(
+                T,
+                model="lennard-jones",
+                well_depth_a=self.a.well_depth,
+                well_depth_b=self.b.well_depth,
+            )
+        return collision.collision_rate_activation_energy(T, model="hard-sphere")
+
+    def as_record(self) -> dict[str, object]:
+        return {"identical": self.identical, "a": self.a.as_record(), "b": self.b.as_record()}
+
+
+class PartnerProblem(RatebankError):
+    """A reaction's collision partners lack the data collision theory needs."""
+
+
+def _partner(species: Species) -> PartnerData:
+    return PartnerData(
+        name=species.name,
+        formula=species.formula,
+        molar_mass=species.molar_mass,
+        diameter=species.diameter,
+        diameter_method=species.diameter_method if species.diameter is not None else None,
+        well_depth=species.well_depth,
+        well_depth_method=species.well_depth_method if species.well_depth is not None else None,
+    )
+
+
+def _complete(partner: PartnerData, species: Species, model: str) -> tuple[PartnerData, str | None]:
+    """Fill a missing diameter (and well depth for LJ) by estimate; or say why not."""
+    from ratebank.science import diameters
+
+    if partner.diameter is None:
+        reason = diameters.outside_correlations(species.formula)
+        if reason:
+            return partner, f"{species.name} has no diameter, and {reason}"
+        try:
+            estimate = diameters.estimate_diameter(
+                Tc=species.critical_temperature,
+                Pc=species.critical_pressure,
+                omega=species.acentric_factor,
+                boiling_volume=species.boiling_volume,
+                formula=species.formula,
+            )
+        except DiameterError:
+            return partner, (
+                f"{species.name} has no collision diameter and no critical constants or "
+                "boiling-point volume to estimate one"
+            )
+        partner = replace(partner, diameter=estimate.diameter, diameter_method=estimate.method)
+    if model == "lennard-jones" and partner.well_depth is None:
+        try:
+            estimate = diameters.estimate_well_depth(
+                Tc=species.critical_temperature,
+                omega=species.acentric_factor,
+                formula=species.formula,
+            )
+        except DiameterError:
+            return partner, (
+                f"{species.name} has no Lennard-Jones well depth and no critical temperature "
+                "to estimate one"
+            )
+        partner = replace(
+            partner, well_depth=estimate.well_depth, well_depth_method=estimate.method
+        )
+    return partner, None
+
+
+def collision_pairs(
+    session: Session,
+    reactions: list[Reaction],
+    *,
+    model: str = "hard-sphere",
+    store_estimates: bool = False,
+) -> dict[int, CollisionPair | str]:
+    """The collision pair of each bimolecular reaction, or the reason there is none.
+
+    With ``store_estimates`` an estimated diameter or well depth is written on
+    the species (marked with its method) in the session's transaction.
+    """
+    if model not in COLLISION_MODELS:
+        raise RatebankError(
+            f"unknown collision model {model!r}; expected one of {', '.join(COLLISION_MODELS)}"
+        )
+    ids = [r.id for r in reactions]
+    reactants: dict[int, list[tuple[int, int]]] = {i: [] for i in ids}
+    for start in range(0, len(ids), 500):
+        chunk = ids[start : start + 500]
+        for reaction_id, species_id, coefficient in session.execute(
+            select(Participant.reaction_id, Participant.species_id, Participant.coefficient).where(
+                Participant.reaction_id.in_(chunk), Participant.role == "reactant"
+            )
+        ):
+            reactants[reaction_id].append((species_id, coefficient))
+    species_ids = {sid for rows in reactants.values() for sid, _ in rows}
+    species: dict[int, Species] = {}
+    ordered = sorted(species_ids)
+    for start in range(0, len(ordered), 500):
+        for s in session.scalars(
+            select(Species).where(Species.id.in_(ordered[start : start + 500]))
+        ):
+            species[s.id] = s
+    completed: dict[int, tuple[PartnerData, str | None]] = {}
+    result: dict[int, CollisionPair | str] = {}
+    for reaction in reactions:
+        if reaction.reaction_order != 2 or reaction.third_body:
+            kind = (
+                "a third-body reaction"
+                if reaction.third_body
+                else (f"of order {reaction.reaction_order}")
+            )
+            result[reaction.id] = f"not bimolecular ({kind}); collision theory does not apply"
+            continue
+        rows = reactants[reaction.id]
+        if len(rows) == 1:
+            (sid, _), identical = rows[0], True
+            pair_ids = (sid, sid)
+        else:
+            pair_ids = (rows[0][0], rows[1][0])
+            identical = False
+        partners = []
+        problem = None
+        for sid in pair_ids:
+            if sid not in completed:
+                completed[sid] = _complete(_partner(species[sid]), species[sid], model)
+            partner, why = completed[sid]
+            if why and problem is None:
+                problem = why
+            partners.append(partner)
+        if problem:
+            result[reaction.id] = problem
+            continue
+        result[reaction.id] = CollisionPair(
+            reaction.id, reaction.key, partners[0], partners[1], identical
+        )
+    if store_estimates:
+        for sid, (partner, _why) in completed.items():
+            row = species[sid]
+            changed = {}
+            if row.diameter is None and partner.diameter is not None:
+                row.diameter = partner.diameter
+                row.diameter_kind = "lennard-jones"
+                row.diameter_method = partner.diameter_method
+                changed["diameter_m"] = partner.diameter
+                changed["diameter_method"] = partner.diameter_method
+            if row.well_depth is None and partner.well_depth is not None:
+                row.well_depth = partner.well_depth
+                row.well_depth_method = partner.well_depth_method
+                changed["well_depth_K"] = partner.well_depth
+                changed["well_depth_method"] = partner.well_depth_method
+            if changed:
+                audit.record(session, "species.estimate", row.name, **changed)
+        session.flush()
+    return result
