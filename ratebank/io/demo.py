@@ -12,10 +12,17 @@ from pathlib import Path
 
 from ratebank.errors import RatebankError
 from ratebank.io import csv_import
+from ratebank.io.export import ExportResult, export_mechanism
 from ratebank.services import curate
+from ratebank.services.checks import CheckReport, check_store
 from ratebank.services.curate import ImportSummary
+from ratebank.services.estimation import EstimateReport, estimate
+from ratebank.services.fitting import FitReport, fit_reactions
+from ratebank.services.steric import set_reaction_steric
 
 DEMO_MARK = "demo.build"
+DEMO_STERIC_REACTION = "ho2-ho2"
+DEMO_STERIC_VALUE = 0.02
 FILES = ("species.csv", "reactions.csv", "measurements.csv", "expressions.csv")
 
 
@@ -44,6 +51,11 @@ class DemoResult:
     imports: list[ImportSummary]
     counts: dict[str, int]
     statuses: dict[str, int] = field(default_factory=dict)
+    fit: FitReport | None = None
+    estimate: EstimateReport | None = None
+    check: CheckReport | None = None
+    exports: list[ExportResult] = field(default_factory=list)
+    origins: dict[str, int] = field(default_factory=dict)
 
 
 def _is_demo_store(db: Path) -> bool:
@@ -74,29 +86,70 @@ def _clear(db: Path) -> None:
 
 
 def run_demo(db: Path, out: Path, *, author: str | None = None) -> DemoResult:
-    """Build the demo store at ``db`` from the seed files and summarise it."""
+    """Build the demo store at ``db``, then fit, estimate, check and export into ``out``.
+
+    The steps are those a curator runs before a simulation: import the seed
+    files, fit every measured reaction (``--form auto``), estimate every
+    activation-energy-only bimolecular reaction that can be estimated
+    (``--keep-going``), check, and export the mechanism in the combustion and
+    atmospheric presets, leaving out the gaps.
+    """
     from ratebank.services.store_access import init_store
     from ratebank.store import audit
 
     seed = seed_folder()
     db = db.expanduser().absolute()
+    out = out.expanduser().absolute()
     if not db.parent.is_dir():
         raise DemoError(f"folder {db.parent} does not exist for the demo store")
+    if out.exists() and not out.is_dir():
+        raise DemoError(f"{out} exists and is not a folder; choose another --out")
     _clear(db)
     store, _ = init_store(str(db), author=author or "ratebank demo")
     try:
-        imports = []
+        result = DemoResult(db=db, out=out, imports=[], counts={})
         with store.session(write=True) as session:
-            imports.append(csv_import.import_species_file(session, seed / "species.csv"))
-            imports.append(csv_import.import_reactions_file(session, seed / "reactions.csv"))
-            imports.append(csv_import.import_measurements_file(session, seed / "measurements.csv"))
-            imports.append(csv_import.import_expressions_file(session, seed / "expressions.csv"))
+            result.imports.append(csv_import.import_species_file(session, seed / "species.csv"))
+            result.imports.append(csv_import.import_reactions_file(session, seed / "reactions.csv"))
+            result.imports.append(
+                csv_import.import_measurements_file(session, seed / "measurements.csv")
+            )
+            result.imports.append(
+                csv_import.import_expressions_file(session, seed / "expressions.csv")
+            )
             audit.record(session, DEMO_MARK, str(db), seed=str(seed))
+        with store.session(write=True) as session:
+            # The demo curator's own choice for the self-reaction (synthetic, by analogy);
+            # the other HO2 reactions stay without a steric factor and are reported.
+            set_reaction_steric(
+                session,
+                DEMO_STERIC_REACTION,
+                DEMO_STERIC_VALUE,
+                source="synthetic: demo curator's choice by analogy with radical + O3 (invented)",
+            )
+        with store.session(write=True) as session:
+            result.fit = fit_reactions(session, form="auto")
+        with store.session(write=True) as session:
+            result.estimate = estimate(session, keep_going=True)
         with store.session() as session:
-            counts = curate.store_counts(session)
-            statuses: dict[str, int] = {}
+            result.check = check_store(session)
+            result.counts = curate.store_counts(session)
             for reaction in curate.list_reactions(session):
-                statuses[reaction.status] = statuses.get(reaction.status, 0) + 1
+                result.statuses[reaction.status] = result.statuses.get(reaction.status, 0) + 1
+        out.mkdir(parents=True, exist_ok=True)
+        for preset in ("combustion", "atmospheric"):
+            with store.session(write=True) as session:
+                result.exports.append(
+                    export_mechanism(
+                        session,
+                        out / f"mechanism-{preset}.csv",
+                        preset=preset,
+                        leave_out_gaps=True,
+                        store_label=store.display_url,
+                    )
+                )
+        for row in result.exports[0].table.rows:
+            result.origins[row.origin] = result.origins.get(row.origin, 0) + 1
     finally:
         store.close()
-    return DemoResult(db=db, out=out, imports=imports, counts=counts, statuses=statuses)
+    return result

@@ -11,7 +11,7 @@ OH,HO,,3.147,lennard-jones,79.8,,,,Svehla 1962 (from memory)
 CH4,CH4,,3.758,lennard-jones,148.6,,,,Poling App. B
 CH3,CH3,,,,,,,,
 H2O,H2O,18.015,2.641,lennard-jones,809.1,,,,Poling App. B
-HO2,HO2,,,,,,,,
+HO2,HO2,,3.458,lennard-jones,107.4,,,,assumed like O2 for the tests
 H2O2,H2O2,,,,,,,,
 O2,O2,,3.467,lennard-jones,106.7,,,,Poling App. B
 O3,O3,,,,,261.0,55.73,,Tc and Pc from the chemicals package

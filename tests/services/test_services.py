@@ -1,0 +1,246 @@
+"""Service-level behaviour: precedence rules, refits, steric rules, fingerprints, the demo."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from helpers.cli import run, write
+from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+from scipy import constants
+
+from ratebank.errors import ConflictError, RatebankError
+from ratebank.services import estimation, fitting, selection, steric
+from ratebank.services.store_access import open_store
+
+
+@pytest.fixture
+def filled(db_url, tmp_path):
+    assert run(db_url, "init").exit_code == 0
+    for command, name, text in (
+        ("species", "species.csv", SPECIES_CSV),
+        ("reactions", "reactions.csv", REACTIONS_CSV),
+        ("data", "points.csv", MEASUREMENTS_CSV),
+        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
+    ):
+        assert run(db_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
+    return db_url
+
+
+@pytest.fixture
+def store(filled):
+    handle = open_store(filled, author="tester")
+    yield handle
+    handle.close()
+
+
+# --------------------------------------------------------------------------- selection
+
+
+def test_export_choice_precedence(store):
+    with store.session(write=True) as session:
+        from ratebank.services.curate import find_reaction
+
+        reaction = find_reaction(session, "oh-ch4")
+        choice = selection.choose(reaction.expressions)
+        assert choice is not None and choice[1] == "newest literature"
+        report = fitting.fit_reactions(session, ["oh-ch4"], form="arrhenius")
+        assert report.rows[0].status == "stored"
+        session.expire_all()
+        choice = selection.choose(find_reaction(session, "oh-ch4").expressions)
+        assert choice[0].origin == "measured-fit" and choice[1] == "newest measured fit"
+        literature = next(e for e in reaction.expressions if e.origin == "literature")
+        selection.recommend(session, "oh-ch4", literature.id)
+        session.expire_all()
+        choice = selection.choose(find_reaction(session, "oh-ch4").expressions)
+        assert choice[0].id == literature.id and choice[1] == "recommended"
+
+
+def test_recommend_refuses_incomplete_or_foreign_expressions(store):
+    with store.session(write=True) as session:
+        from ratebank.services.curate import find_reaction
+
+        ea_only = next(e for e in find_reaction(session, "ho2-ho2").expressions if e.A is None)
+        with pytest.raises(ConflictError, match="no pre-exponential factor yet"):
+            selection.recommend(session, "ho2-ho2", ea_only.id)
+        with pytest.raises(ConflictError, match="belongs to reaction 'ho2-ho2'"):
+            selection.recommend(session, "oh-ch4", ea_only.id)
+
+
+# --------------------------------------------------------------------------- fitting
+
+
+def test_refit_of_unchanged_data_is_not_stored_twice(store):
+    with store.session(write=True) as session:
+        first = fitting.fit_reactions(session, form="arrhenius")
+        second = fitting.fit_reactions(session, form="arrhenius")
+    assert [r.status for r in first.rows] == ["stored"]
+    assert [r.status for r in second.rows] == ["unchanged"]
+    assert second.rows[0].expression_id == first.rows[0].expression_id
+
+
+def test_store_fit_equals_a_one_at_a_time_fit(store):
+    """The batch path of `fit` gives the parameters of a direct fit of the same points."""
+    from ratebank.science.arrhenius import fit_rate_constants
+
+    with store.session(write=True) as session:
+        report = fitting.fit_reactions(session, form="arrhenius")
+    row = report.rows[0]
+    # the five points of tests/helpers/data.py, converted by hand: cm3/molecule/s * N_A * 1e-6
+    T = np.array([300.0, 350.0, 400.0, 800.0, 1000.0])
+    k = np.array(
+        [
+            6.4e-15 * constants.N_A * 1e-6,
+            1.4e-14 * constants.N_A * 1e-6,
+            2.6e-14 * constants.N_A * 1e-6,
+            1.1e12 * 1e-6,
+            2.2e12 * 1e-6,
+        ]
+    )
+    sigma = np.array([0.1, 0.1, 0.1, 1e11 / 1.1e12, 2e11 / 2.2e12])
+    direct = fit_rate_constants(T, k, sigma, form="arrhenius")
+    assert row.A == pytest.approx(direct.A, rel=1e-10)
+    assert row.Ea == pytest.approx(direct.Ea, rel=1e-10)
+    assert row.n_sets == 2 and row.n_points == 5
+
+
+def test_fit_of_a_reaction_without_points_fails_cleanly(store):
+    with store.session(write=True) as session:
+        report = fitting.fit_reactions(session, ["ho2-ho2"])
+    assert report.rows[0].status == "failed"
+    assert report.rows[0].message == "no measured points to fit"
+
+
+# --------------------------------------------------------------------------- steric
+
+
+def test_class_rule_versions_refuse_stale_edits(store):
+    with store.session(write=True) as session:
+        rule = steric.set_class_rule(session, "ho2-self", 0.05, source="analogy")
+        assert rule.version == 1
+    with store.session(write=True) as session:
+        steric.set_class_rule(session, "ho2-self", 0.04, expected_version=1)
+    with (
+        store.session(write=True) as session,
+        pytest.raises(ConflictError, match=r"changed by tester at .* you read version 1"),
+    ):
+        steric.set_class_rule(session, "ho2-self", 0.03, expected_version=1)
+    with store.session() as session:
+        rules, _ = steric.list_rules(session)
+    assert [(r.reaction_class, r.steric_factor, r.version) for r in rules] == [
+        ("ho2-self", 0.04, 2)
+    ]
+
+
+@pytest.mark.parametrize("value", [0.0, -1.0, math.inf, math.nan])
+def test_steric_values_must_be_positive_and_finite(store, value):
+    with store.session(write=True) as session, pytest.raises(RatebankError):
+        steric.set_class_rule(session, "x", value)
+
+
+def test_steric_precedence_in_estimates(store):
+    """command line > stored on the reaction > class rule > fallback; none -> reported."""
+
+    def estimate_p(**kwargs):
+        with store.session(write=True) as session:
+            report = estimation.estimate(session, ["ho2-ho2"], **kwargs)
+            session.rollback()
+        return report.rows[0].steric_factor, report.rows[0].steric_rule
+
+    with (
+        store.session(write=True) as session,
+        pytest.raises(estimation.EstimateIncomplete, match="no applicable steric factor"),
+    ):
+        estimation.estimate(session, ["ho2-ho2"])
+    assert estimate_p(fallback_steric=0.3) == (0.3, "fallback given on the command line")
+    with store.session(write=True) as session:
+        steric.set_class_rule(session, "ho2-self", 0.2, source="test rule")
+    assert estimate_p(fallback_steric=0.3) == (0.2, "rule for class ho2-self")
+    with store.session(write=True) as session:
+        steric.set_reaction_steric(session, "ho2-ho2", 0.1, source="test value")
+    assert estimate_p() == (0.1, "stored for the reaction")
+    assert estimate_p(steric=0.05) == (0.05, "given on the command line")
+
+
+def test_estimate_never_touches_measured_or_literature(store):
+    with store.session(write=True) as session:
+        with pytest.raises(estimation.EstimateIncomplete, match="already has a complete"):
+            estimation.estimate(session, ["oh-ch4"], steric=0.1)
+        report = estimation.estimate(session, ["oh-ch4"], steric=0.1, keep_going=True)
+    assert report.rows == [] and not report.written
+
+
+def test_estimated_diameter_is_stored_and_flagged(db_url, tmp_path):
+    """O3 has only critical constants: its diameter is estimated (Tee-Gotoh-Stewart) and marked."""
+    assert run(db_url, "init").exit_code == 0
+    run(db_url, "species", "import", str(write(tmp_path / "s.csv", SPECIES_CSV)))
+    run(db_url, "reactions", "add", "h-o3", "H + O3 -> OH + O2")
+    run(db_url, "species", "add", "Hx", "H", "--diameter", "2.708")
+    run(db_url, "reactions", "add", "hx-o3", "Hx + O3 -> OH + O2")
+    expressions = "reaction,Ea,Ea_units\nhx-o3,4.0,kJ/mol\n"
+    run(db_url, "expressions", "import", str(write(tmp_path / "e.csv", expressions)))
+    outcome = run(db_url, "estimate", "hx-o3", "--steric", "0.1")
+    assert outcome.exit_code == 0, outcome.stderr
+    import json
+
+    o3 = json.loads(run(db_url, "species", "show", "O3", "--json").stdout)
+    assert o3["diameter_estimated"] is True
+    assert o3["diameter_method"] == "tee-gotoh-stewart"
+    # TGS without omega: 2.3647 (Tc/Pc[atm])^(1/3) Å (Tee, Gotoh & Stewart 1966)
+    expected = 2.3647 * (261.0 / (55.73e5 / constants.atm)) ** (1 / 3)
+    assert o3["diameter_angstrom"] == pytest.approx(expected, rel=1e-12)
+    flags = json.loads(run(db_url, "check", "hx-o3", "--json").stdout)["flags"]
+    assert [f["code"] for f in flags] == ["estimated-diameter"]
+    assert "O3" in flags[0]["message"]
+
+
+# --------------------------------------------------------------------------- fingerprint
+
+
+def test_fingerprint_follows_content_not_reads(store):
+    from ratebank.store.fingerprint import store_fingerprint
+
+    with store.session() as session:
+        first = store_fingerprint(session)
+        again = store_fingerprint(session)
+    assert first == again and first.startswith("sha256:")
+    with store.session(write=True) as session:
+        steric.set_class_rule(session, "x", 0.1)
+    with store.session() as session:
+        assert store_fingerprint(session) != first
+
+
+# --------------------------------------------------------------------------- demo
+
+
+def test_demo_builds_fits_estimates_and_exports(tmp_path):
+    db = tmp_path / "demo.db"
+    out = tmp_path / "out"
+    outcome = run(str(tmp_path / "unused.db"), "demo", "--db", str(db), "--out", str(out))
+    assert outcome.exit_code == 0, outcome.stderr
+    assert "every rate number in it is synthetic" in outcome.stdout
+    assert "Caution:" in outcome.stdout
+    for preset in ("combustion", "atmospheric"):
+        assert (out / f"mechanism-{preset}.csv").is_file()
+        assert (out / f"mechanism-{preset}.resource.json").is_file()
+    import csv
+
+    with (out / "mechanism-atmospheric.csv").open(encoding="utf-8") as handle:
+        rows = {r["key"]: r for r in csv.DictReader(handle)}
+    origins = {r["origin"] for r in rows.values()}
+    assert origins == {"measured-fit", "literature", "collision-estimate"}
+    assert rows["ho2-ho2"]["origin"] == "collision-estimate"
+    assert rows["ho2-ho2"]["steric_factor"] == "0.02"
+    # a second run replaces its own store
+    again = run(str(tmp_path / "unused.db"), "demo", "--db", str(db), "--out", str(out))
+    assert again.exit_code == 0
+
+
+def test_demo_refuses_to_overwrite_a_store_it_did_not_build(tmp_path):
+    db = tmp_path / "precious.db"
+    assert run(str(db), "init").exit_code == 0
+    outcome = run(str(db), "demo", "--db", str(db), "--out", str(tmp_path / "o"))
+    assert outcome.exit_code == 1
+    assert "is not a ratebank demo store" in outcome.stderr
+    assert db.exists()
