@@ -15,6 +15,7 @@ from ratebank import __version__
 from ratebank.cli import common
 from ratebank.cli import mechanism as mechanism_commands
 from ratebank.cli.common import STATE, RatebankGroup, print_json, say, show, store_session
+from ratebank.cli.progress import progress_bar
 
 HELP = """Curate gas-phase rate parameters: store species, reactions and measured k(T);
 fit Arrhenius expressions; estimate missing A factors from collision theory; check
@@ -233,8 +234,8 @@ def species_import(
     from ratebank.io.csv_import import import_species_file
     from ratebank.report.tables import import_message
 
-    with store_session(write=not dry_run) as session:
-        summary = import_species_file(session, file, dry_run=dry_run)
+    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
+        summary = import_species_file(session, file, dry_run=dry_run, progress=progress)
         if dry_run:
             session.rollback()
     say(import_message(summary))
@@ -319,8 +320,8 @@ def reactions_import(
     from ratebank.io.csv_import import import_reactions_file
     from ratebank.report.tables import import_message
 
-    with store_session(write=not dry_run) as session:
-        summary = import_reactions_file(session, file, dry_run=dry_run)
+    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
+        summary = import_reactions_file(session, file, dry_run=dry_run, progress=progress)
         if dry_run:
             session.rollback()
     say(import_message(summary))
@@ -357,22 +358,25 @@ def reactions_list(
 @reactions_app.command("show")
 def reactions_show(
     reaction: str = typer.Argument(..., help="Reaction key or equation."),
+    temperatures: list[float] = typer.Option(
+        None, "-T", "--temperature", help="Temperatures [K] for the k table (repeatable)."
+    ),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
 ) -> None:
-    """Everything about one reaction: participants, data sets, expressions, history.
+    """Everything about one reaction: participants, data sets, expressions, k(T), flags, history.
 
-    Example: ratebank reactions show 'CH4 + OH -> CH3 + H2O'
+    Example: ratebank reactions show 'CH4 + OH -> CH3 + H2O' -T 300 -T 1000
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.overview import reaction_overview
 
     with store_session() as session:
-        detail = curate.show_reaction(session, reaction)
+        overview = reaction_overview(session, reaction, temperatures=temperatures or None)
     if as_json:
-        print_json(tables.reaction_detail_record(detail, preset))
+        print_json(tables.reaction_overview_record(overview, preset))
     else:
-        show(*tables.reaction_detail_tables(detail, preset))
+        show(*tables.reaction_overview_tables(overview, preset))
 
 
 # --------------------------------------------------------------------------- data
@@ -396,8 +400,10 @@ def data_import(
     from ratebank.io.csv_import import import_measurements_file
     from ratebank.report.tables import import_message
 
-    with store_session(write=not dry_run) as session:
-        summary = import_measurements_file(session, file, k_units=k_units, dry_run=dry_run)
+    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
+        summary = import_measurements_file(
+            session, file, k_units=k_units, dry_run=dry_run, progress=progress
+        )
         if dry_run:
             session.rollback()
     say(import_message(summary))
@@ -442,8 +448,8 @@ def expressions_import(
     from ratebank.io.csv_import import import_expressions_file
     from ratebank.report.tables import import_message
 
-    with store_session(write=not dry_run) as session:
-        summary = import_expressions_file(session, file, dry_run=dry_run)
+    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
+        summary = import_expressions_file(session, file, dry_run=dry_run, progress=progress)
         if dry_run:
             session.rollback()
     say(import_message(summary))

@@ -6,7 +6,8 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import print_json, say, show, store_session
+from ratebank.cli.common import STATE, print_json, say, show, store_session
+from ratebank.cli.progress import progress_bar
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 PRESET_OPTION = typer.Option(
@@ -61,8 +62,8 @@ def fit(
     from ratebank.report.mechanism import fit_records, fit_table
     from ratebank.services.fitting import fit_reactions
 
-    with store_session(write=True) as session:
-        report = fit_reactions(session, keys or None, form=form, fixed_n=fixed_n)
+    with store_session(write=True) as session, progress_bar(STATE.quiet) as progress:
+        report = fit_reactions(session, keys or None, form=form, fixed_n=fixed_n, progress=progress)
     if as_json:
         print_json(fit_records(report, preset))
     else:
@@ -115,7 +116,7 @@ def estimate(
     from ratebank.services.estimation import estimate as run_estimate
 
     try:
-        with store_session(write=True) as session:
+        with store_session(write=True) as session, progress_bar(STATE.quiet) as progress:
             report = run_estimate(
                 session,
                 keys or None,
@@ -127,6 +128,7 @@ def estimate(
                 uncertainty_factor=uncertainty_factor,
                 t_range=_t_range(t_range),
                 keep_going=keep_going,
+                progress=progress,
             )
     except EstimateIncomplete as exc:
         if as_json:

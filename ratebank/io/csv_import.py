@@ -19,6 +19,7 @@ from sqlalchemy.orm import Session
 from ratebank.errors import ImportValidationError, RatebankError
 from ratebank.services import curate
 from ratebank.services import validate as v
+from ratebank.services.progress import Progress
 
 #: Longest accepted cell, in characters (a guard against runaway quoting).
 MAX_FIELD = 100_000
@@ -129,21 +130,25 @@ def _row_dicts(table: CsvTable) -> list[tuple[int | None, dict[str, str | None]]
 
 
 def import_species_file(
-    session: Session, path: str | Path, *, dry_run: bool = False
+    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
 ) -> curate.ImportSummary:
     table = read_table(path, v.SPECIES_COLUMNS, v.SPECIES_REQUIRED)
-    return curate.import_species(session, _row_dicts(table), source=table.path, dry_run=dry_run)
+    return curate.import_species(
+        session, _row_dicts(table), source=table.path, dry_run=dry_run, progress=progress
+    )
 
 
 def import_reactions_file(
-    session: Session, path: str | Path, *, dry_run: bool = False
+    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
 ) -> curate.ImportSummary:
     table = read_table(path, v.REACTION_COLUMNS, v.REACTION_REQUIRED)
-    return curate.import_reactions(session, _row_dicts(table), source=table.path, dry_run=dry_run)
+    return curate.import_reactions(
+        session, _row_dicts(table), source=table.path, dry_run=dry_run, progress=progress
+    )
 
 
 def import_expressions_file(
-    session: Session, path: str | Path, *, dry_run: bool = False
+    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
 ) -> curate.ImportSummary:
     table = read_table(path, v.EXPRESSION_COLUMNS, v.EXPRESSION_REQUIRED)
     return curate.import_expressions(session, _row_dicts(table), source=table.path, dry_run=dry_run)
@@ -155,6 +160,7 @@ def import_measurements_file(
     *,
     k_units: str | None = None,
     dry_run: bool = False,
+    progress: Progress | None = None,
 ) -> curate.ImportSummary:
     table = read_table(path, v.MEASUREMENT_COLUMNS, v.MEASUREMENT_REQUIRED)
     if "k_units" not in table.header and not k_units:
@@ -174,4 +180,5 @@ def import_measurements_file(
         source=table.path,
         default_k_units=k_units,
         dry_run=dry_run,
+        progress=progress,
     )

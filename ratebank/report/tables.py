@@ -23,6 +23,7 @@ from ratebank.services.curate import (
     SpeciesDetail,
     SpeciesSummary,
 )
+from ratebank.services.overview import ReactionOverview
 
 G_PER_KG = 1e3
 ANGSTROM_PER_M = 1e10
@@ -400,3 +401,74 @@ def import_message(summary: ImportSummary) -> str:
             "(dry run, nothing written)"
         )
     return f"{summary.source}: imported {summary.added} {noun}{extra}"
+
+
+# --------------------------------------------------------------------------- reaction overview
+
+
+def reaction_overview_record(overview: ReactionOverview, preset: str) -> dict[str, Any]:
+    from ratebank.science.unit_presets import rate_unit_for
+    from ratebank.science.units import rate_from_si
+
+    detail = overview.detail
+    record = reaction_detail_record(detail, preset)
+    unit = rate_unit_for(preset, detail.order)
+    record["chosen_expression"] = {"id": overview.chosen_id, "rule": overview.chosen_rule}
+    record["rates"] = {
+        "T_K": overview.temperatures,
+        "k_units": unit,
+        "by_expression": {
+            str(eid): [float(rate_from_si(k, unit, detail.order)) for k in values]
+            for eid, values in overview.rates.items()
+        },
+    }
+    record["steric_factors"] = [
+        {"expression_id": eid, "origin": origin, "steric_factor": p}
+        for eid, origin, p in overview.steric_factors
+    ]
+    record["flags"] = [
+        {"code": f.code, "message": f.message, "expression_id": f.expression_id}
+        for f in overview.flags
+    ]
+    return record
+
+
+def reaction_overview_tables(overview: ReactionOverview, preset: str) -> list[Table]:
+    from ratebank.science.unit_presets import rate_unit_for
+    from ratebank.science.units import rate_from_si
+
+    detail = overview.detail
+    tables = reaction_detail_tables(detail, preset)
+    history = tables.pop() if detail.history else None
+    unit = rate_unit_for(preset, detail.order)
+    origin = {e.id: e.origin for e in detail.expressions}
+    rates = Table(title=f"k at a temperature grid ({unit})")
+    rates.add_column("T (K)")
+    ids = list(overview.rates)
+    for eid in ids:
+        mark = " ★" if eid == overview.chosen_id else ""
+        rates.add_column(f"{eid} {origin[eid]}{mark}")
+    for i, t in enumerate(overview.temperatures):
+        rates.add_row(
+            sig(t),
+            *[sig(float(rate_from_si(overview.rates[eid][i], unit, detail.order))) for eid in ids],
+        )
+    if overview.chosen_id is not None:
+        rates.caption = f"★ exported ({overview.chosen_rule})"
+    tables.append(rates)
+    if overview.steric_factors:
+        steric = Table(title="Steric factors")
+        for header in ("expression", "origin", "P"):
+            steric.add_column(header)
+        for eid, kind, p in overview.steric_factors:
+            steric.add_row(str(eid), kind, sig(p, 3))
+        tables.append(steric)
+    flags = Table(title=f"Check flags ({len(overview.flags)})")
+    flags.add_column("check")
+    flags.add_column("finding", overflow="fold")
+    for f in overview.flags:
+        flags.add_row(f.code, f.message)
+    tables.append(flags)
+    if history is not None:
+        tables.append(history)
+    return tables

@@ -16,6 +16,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import ImportValidationError, NotFoundError
 from ratebank.services import validate as v
+from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.store import audit
 from ratebank.store.bulk import insert_rows
 from ratebank.store.models import (
@@ -30,6 +31,9 @@ from ratebank.store.models import (
 
 #: Reaction status words used by listings and filters, in order of precedence.
 STATUSES = ("measured", "complete", "ea-only", "nothing")
+#: Points are written in chunks of this many rows (progress is reported per chunk).
+POINT_CHUNK = 100_000
+
 STATUS_HELP = {
     "measured": "has measured k(T) sets",
     "complete": "has a complete expression (A, n, Ea) but no measurements",
@@ -127,12 +131,16 @@ def import_species(
     *,
     source: str,
     dry_run: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     """Validate and add species rows (DESIGN 7a columns); all or nothing."""
+    progress = progress or NoProgress()
+    progress.start("validating species", len(rows))
     problems = v.Problems()
     names = [v.cell(row, "name") for _, row in rows]
     existing = existing_species_names(session, [n for n in names if n])
     records = v.validate_species(rows, existing, problems)
+    progress.advance(len(rows))
     _raise_problems(source, problems)
     if not dry_run and records:
         session.execute(
@@ -169,13 +177,17 @@ def import_reactions(
     *,
     source: str,
     dry_run: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     """Validate and add reactions (parsed, balanced, canonical); all or nothing."""
+    progress = progress or NoProgress()
+    progress.start("validating reactions", len(rows))
     problems = v.Problems()
     formulas = species_formulas(session)
     keys = set(session.scalars(select(Reaction.key)))
     equations = dict(session.execute(select(Reaction.equation, Reaction.key)).all())
     records = v.validate_reactions(rows, formulas, keys, equations, problems)
+    progress.advance(len(rows))
     _raise_problems(source, problems)
     if not dry_run and records:
         species_ids = dict(session.execute(select(Species.name, Species.id)).all())
@@ -224,12 +236,15 @@ def import_measurements(
     source: str,
     default_k_units: str | None = None,
     dry_run: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     """Validate and add measured points column-wise; all or nothing.
 
     ``columns`` maps each DESIGN 7a measurement column to its stripped cell
     texts ("" when empty); ``lines`` gives each row's line in the source.
     """
+    progress = progress or NoProgress()
+    progress.start("validating points", len(lines))
     problems = v.Problems()
     set_names = set(columns["set"])
     existing_sets: set[str] = set()
@@ -250,6 +265,7 @@ def import_measurements(
         problems,
         default_k_units=default_k_units,
     )
+    progress.advance(len(lines))
     _raise_problems(source, problems)
     if dry_run or batch.n_points == 0:
         return ImportSummary(
@@ -285,19 +301,27 @@ def import_measurements(
             return [None if x != x else x for x in listed]
         return listed
 
-    insert_rows(
-        session,
-        "point",
-        ("set_id", "temperature", "rate_constant", "relative_uncertainty", "pressure"),
-        zip(
-            point_set_ids.tolist(),
-            batch.temperature.tolist(),
-            batch.rate_constant.tolist(),
-            optional(batch.relative_uncertainty),
-            optional(batch.pressure),
-            strict=True,
-        ),
-    )
+    set_column = point_set_ids.tolist()
+    temperature = batch.temperature.tolist()
+    rate_constant = batch.rate_constant.tolist()
+    uncertainty = optional(batch.relative_uncertainty)
+    pressure = optional(batch.pressure)
+    progress.start("writing points", batch.n_points)
+    for start, stop in chunks(batch.n_points, POINT_CHUNK):
+        insert_rows(
+            session,
+            "point",
+            ("set_id", "temperature", "rate_constant", "relative_uncertainty", "pressure"),
+            zip(
+                set_column[start:stop],
+                temperature[start:stop],
+                rate_constant[start:stop],
+                uncertainty[start:stop],
+                pressure[start:stop],
+                strict=True,
+            ),
+        )
+        progress.advance(stop - start)
     audit.record(session, "data.import", source, sets=len(batch.sets), points=batch.n_points)
     return ImportSummary(
         "measurements", source, len(lines), batch.n_points, dry_run, {"sets": len(batch.sets)}
@@ -310,10 +334,14 @@ def import_expressions(
     *,
     source: str,
     dry_run: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     """Validate and add literature or hand-entered expressions; all or nothing."""
+    progress = progress or NoProgress()
+    progress.start("validating expressions", len(rows))
     problems = v.Problems()
     records = v.validate_expressions(rows, reaction_resolver(session), problems)
+    progress.advance(len(rows))
     _raise_problems(source, problems)
     if not dry_run and records:
         author = session.info.get("author")

@@ -29,6 +29,7 @@ from sqlalchemy.orm import Session
 from ratebank.errors import RatebankError
 from ratebank.services.curate import find_reaction
 from ratebank.services.partners import COLLISION_MODELS, CollisionPair, collision_pairs
+from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.services.steric import MINIMUM_ESTIMATE_FACTOR, derived_steric_factors
 from ratebank.store import audit
 from ratebank.store.models import Expression, Reaction, StericRule
@@ -173,6 +174,7 @@ def estimate(
     uncertainty_factor: float | None = None,
     t_range: tuple[float, float] | None = None,
     keep_going: bool = False,
+    progress: Progress | None = None,
 ) -> EstimateReport:
     """Estimate A for bimolecular reactions that have an activation energy but no A.
 
@@ -241,7 +243,10 @@ def estimate(
 
     rows: list[EstimateRow] = []
     plans: list[tuple[Reaction, EstimateRow, dict[str, Any]]] = []
+    progress = progress or NoProgress()
+    progress.start("estimating", len(candidates))
     for reaction, partial in candidates:
+        progress.advance()
         pair = pairs[reaction.id]
         if isinstance(pair, str):
             skipped.append(Skipped(reaction.key, pair))
@@ -289,45 +294,57 @@ def estimate(
         # store the diameters estimated for the partners actually used, flagged
         collision_pairs(session, [r for r, _, _ in plans], model=collision, store_estimates=True)
         author = session.info.get("author")
-        for reaction, row, detail in plans:
-            old = [
+        replaced: list[int] = []
+        for reaction, row, _detail in plans:
+            row.replaced = [
                 e.id
                 for e in expressions[reaction.id]
                 if e.origin == "collision-estimate" and not e.recommended
             ]
-            if old:
-                session.execute(delete(Expression).where(Expression.id.in_(old)))
-                row.replaced = old
-            row.expression_id = session.scalar(
-                insert(Expression).returning(Expression.id),
-                [
-                    {
-                        "reaction_id": reaction.id,
-                        "origin": "collision-estimate",
-                        "A": row.A,
-                        "n": row.n,
-                        "Ea": row.Ea,
-                        "t_min": row.t_min,
-                        "t_max": row.t_max,
-                        "uncertainty_factor": row.uncertainty_factor,
-                        "reference": (
-                            f"collision theory ({row.collision_model}) x steric factor "
-                            f"{row.steric_factor:.3g} ({row.steric_rule})"
-                        ),
-                        "provenance": detail,
-                        "recommended": False,
-                        "created_by": author,
-                    }
-                ],
-            )
-        audit.record(
+            replaced.extend(row.replaced)
+        for start, stop in chunks(len(replaced), 500):
+            session.execute(delete(Expression).where(Expression.id.in_(replaced[start:stop])))
+        new_ids = session.scalars(
+            insert(Expression).returning(Expression.id, sort_by_parameter_order=True),
+            [
+                {
+                    "reaction_id": reaction.id,
+                    "origin": "collision-estimate",
+                    "A": row.A,
+                    "n": row.n,
+                    "Ea": row.Ea,
+                    "t_min": row.t_min,
+                    "t_max": row.t_max,
+                    "uncertainty_factor": row.uncertainty_factor,
+                    "reference": (
+                        f"collision theory ({row.collision_model}) x steric factor "
+                        f"{row.steric_factor:.3g} ({row.steric_rule})"
+                    ),
+                    "provenance": detail,
+                    "recommended": False,
+                    "created_by": author,
+                }
+                for reaction, row, detail in plans
+            ],
+        ).all()
+        for (_, row, _), new_id in zip(plans, new_ids, strict=True):
+            row.expression_id = new_id
+        audit.record_many(
             session,
             "estimate",
-            None,
-            stored=len(plans),
-            model=collision,
-            keys=[r.key for r, _, _ in plans[:20]],
-            skipped=len(skipped),
+            [
+                (
+                    row.key,
+                    {
+                        "expression": row.expression_id,
+                        "model": row.collision_model,
+                        "steric_factor": row.steric_factor,
+                        "steric_rule": row.steric_rule,
+                        "replaced": row.replaced,
+                    },
+                )
+                for _, row, _ in plans
+            ],
         )
     return EstimateReport(rows, skipped, written=bool(plans))
 

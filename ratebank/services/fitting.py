@@ -17,6 +17,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import FitError, RatebankError
 from ratebank.services.curate import find_reaction
+from ratebank.services.progress import NoProgress, Progress
 from ratebank.store import audit
 from ratebank.store.models import Expression, MeasurementSet, Point, Reaction
 
@@ -100,6 +101,7 @@ def fit_reactions(
     form: str = "auto",
     fixed_n: float | None = None,
     significance: float = 0.05,
+    progress: Progress | None = None,
 ) -> FitReport:
     """Fit the measured sets of the named reactions (default: every measured one).
 
@@ -122,6 +124,7 @@ def fit_reactions(
         ids: list[int] | None = [r.id for r in reactions]
     else:
         ids = None
+    progress = progress or NoProgress()
     reaction_ids, set_ids, T, k, u = _points(session, ids)
     if keys:
         by_id = {r.id: r for r in reactions}
@@ -195,6 +198,7 @@ def fit_reactions(
                 "points_T": T[mask][reaction_ids[mask] == rid],
             }
 
+    progress.start("storing fits", len(results))
     newest_fit = _newest_fits(session, list(results))
     from ratebank.services.partners import collision_pairs
 
@@ -266,6 +270,7 @@ def fit_reactions(
             if pair is not None and not isinstance(pair, str)
             else None,
         }
+        progress.advance()
         previous = newest_fit.get(rid)
         if previous is not None and _same_fit(previous, row, provenance):
             row.status = "unchanged"
@@ -297,13 +302,21 @@ def fit_reactions(
         ).all()
         for row, new_id in zip(pending, new_ids, strict=True):
             row.expression_id = new_id
-        audit.record(
+        audit.record_many(
             session,
             "fit",
-            None,
-            stored=len(inserts),
-            form=form if fixed_n is None else f"fixed-n {fixed_n:g}",
-            keys=[r.key for r in pending[:20]],
+            [
+                (
+                    row.key,
+                    {
+                        "expression": row.expression_id,
+                        "form": row.form,
+                        "points": row.n_points,
+                        "sets": row.n_sets,
+                    },
+                )
+                for row in pending
+            ],
         )
     rows.sort(key=lambda r: r.key)
     return FitReport(rows)

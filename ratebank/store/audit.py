@@ -24,3 +24,20 @@ def record(session: Session, action: str, target: str | None, **detail: Any) -> 
             }
         ],
     )
+
+
+def record_many(
+    session: Session, action: str, entries: list[tuple[str | None, dict[str, Any]]]
+) -> None:
+    """One audit entry per (target, detail), in one statement."""
+    if not entries:
+        return
+    at = utc_now()
+    author = session.info.get("author") or "unknown"
+    session.execute(
+        insert(AuditEntry),
+        [
+            {"at": at, "author": author, "action": action, "target": target, "detail": detail}
+            for target, detail in entries
+        ],
+    )
