@@ -27,6 +27,7 @@ from ratebank.store.models import (
     Point,
     Reaction,
     Species,
+    utc_now,
 )
 
 #: Reaction status words used by listings and filters, in order of precedence.
@@ -191,37 +192,48 @@ def import_reactions(
     _raise_problems(source, problems)
     if not dry_run and records:
         species_ids = dict(session.execute(select(Species.name, Species.id)).all())
-        ids = session.scalars(
-            insert(Reaction).returning(Reaction.id, sort_by_parameter_order=True),
+        now = utc_now()
+        insert_rows(
+            session,
+            "reaction",
+            (
+                "key",
+                "equation",
+                "reaction_order",
+                "third_body",
+                "reaction_class",
+                "notes",
+                "created_at",
+            ),
             [
-                {
-                    "key": r.key,
-                    "equation": r.equation,
-                    "reaction_order": r.order,
-                    "third_body": r.third_body,
-                    "reaction_class": r.reaction_class,
-                    "notes": r.notes,
-                }
+                (r.key, r.equation, r.order, r.third_body, r.reaction_class, r.notes, now)
                 for r in records
             ],
-        ).all()
+        )
+        ids_by_key: dict[str, int] = {}
+        keys = [r.key for r in records]
+        for start, stop in chunks(len(keys), 500):
+            ids_by_key.update(
+                session.execute(
+                    select(Reaction.key, Reaction.id).where(Reaction.key.in_(keys[start:stop]))
+                ).all()
+            )
         participants = []
-        for reaction_id, record in zip(ids, records, strict=True):
+        for record in records:
+            reaction_id = ids_by_key[record.key]
             for role, counts in (
                 ("reactant", record.reactant_counts),
                 ("product", record.product_counts),
             ):
                 for name, coefficient in counts.items():
-                    participants.append(
-                        {
-                            "reaction_id": reaction_id,
-                            "species_id": species_ids[name],
-                            "role": role,
-                            "coefficient": coefficient,
-                        }
-                    )
+                    participants.append((reaction_id, species_ids[name], role, coefficient))
         if participants:
-            session.execute(insert(Participant), participants)
+            insert_rows(
+                session,
+                "participant",
+                ("reaction_id", "species_id", "role", "coefficient"),
+                participants,
+            )
         audit.record(
             session, "reactions.add", source, count=len(records), keys=[r.key for r in records[:20]]
         )

@@ -97,11 +97,13 @@ def _derive_orders(unit: str) -> dict[int, str]:
             expected = candidate.to_si ** (given.order - 1)
             if math.isclose(given.to_si, expected, rel_tol=1e-12):
                 sixth, _ = _VOLUMES[volume]
-                return {
+                derived = {
                     1: "s-1",
                     2: f"{volume}/{amount}/s",
                     3: f"{sixth}/{amount}2/s",
                 }
+                derived[given.order] = unit  # keep the user's own spelling for its order
+                return derived
     raise UnitError(
         f"cannot derive the units of other reaction orders from {unit!r}: give a bimolecular "
         "unit built from cm3, dm3, L or m3 with molecule or mol, per second "
@@ -189,6 +191,8 @@ def mechanism_table(
         raise RatebankError(f"unknown form {form!r}; expected one of {', '.join(FORMS)}")
     if linearise_at is not None and (not math.isfinite(linearise_at) or linearise_at <= 0):
         raise RatebankError("--linearise-at must be a temperature above 0 K")
+    if linearise_at is not None and form != "arrhenius":
+        raise RatebankError("--linearise-at applies only to --form arrhenius")
     chosen, gap_reactions = chosen_expressions(session)
     gaps = [r.key for r in gap_reactions]
     if gaps and not leave_out_gaps:

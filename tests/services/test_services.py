@@ -244,3 +244,42 @@ def test_demo_refuses_to_overwrite_a_store_it_did_not_build(tmp_path):
     assert outcome.exit_code == 1
     assert "is not a ratebank demo store" in outcome.stderr
     assert db.exists()
+
+
+# --------------------------------------------------------------------------- export units
+
+
+@pytest.mark.parametrize(
+    ("given", "expected"),
+    [
+        ("cm3/molecule/s", {1: "s-1", 2: "cm3/molecule/s", 3: "cm6/molecule2/s"}),
+        ("L/mol/s", {1: "s-1", 2: "L/mol/s", 3: "L2/mol2/s"}),
+        ("cm6/mol2/s", {1: "s-1", 2: "cm3/mol/s", 3: "cm6/mol2/s"}),
+        ("m3 mol-1 s-1", {1: "s-1", 2: "m3 mol-1 s-1", 3: "m6/mol2/s"}),
+    ],
+)
+def test_explicit_k_units_follow_for_every_order(given, expected):
+    from ratebank.services.mechanism import export_units
+
+    assert export_units("combustion", given, None).k_units == expected
+
+
+def test_first_order_unit_cannot_define_the_others():
+    from ratebank.errors import UnitError
+    from ratebank.services.mechanism import export_units
+
+    with pytest.raises(UnitError, match="first-order unit"):
+        export_units(None, "s-1", None)
+
+
+def test_linearise_only_with_two_parameter_form(store):
+    from ratebank.services.mechanism import export_units, mechanism_table
+
+    with store.session() as session, pytest.raises(RatebankError, match="only to --form arrhenius"):
+        mechanism_table(
+            session,
+            units=export_units(),
+            form="modified",
+            linearise_at=300.0,
+            leave_out_gaps=True,
+        )
