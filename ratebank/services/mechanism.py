@@ -91,7 +91,8 @@ def _derive_orders(unit: str) -> dict[int, str]:
             f"{unit!r} is a first-order unit and says nothing about volume or amount; give a "
             "bimolecular unit such as cm3/molecule/s with --k-units"
         )
-    for volume in _VOLUMES:
+    # dm3 and L are the same volume: try first the symbol the user wrote
+    for volume in sorted(_VOLUMES, key=lambda v: v.rstrip("3") not in unit):
         for amount in _AMOUNTS:
             candidate = parse_rate_unit(f"{volume}/{amount}/s")
             expected = candidate.to_si ** (given.order - 1)
