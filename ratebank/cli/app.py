@@ -14,6 +14,7 @@ import typer
 from ratebank import __version__
 from ratebank.cli import common
 from ratebank.cli import mechanism as mechanism_commands
+from ratebank.cli import plot as plot_commands
 from ratebank.cli.common import STATE, RatebankGroup, print_json, say, show, store_session
 from ratebank.cli.progress import progress_bar
 
@@ -55,6 +56,7 @@ app.add_typer(reactions_app, name="reactions")
 app.add_typer(data_app, name="data")
 app.add_typer(expressions_app, name="expressions")
 mechanism_commands.register(app)
+plot_commands.register(app, mechanism_commands.steric_app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")

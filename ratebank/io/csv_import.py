@@ -23,6 +23,8 @@ from ratebank.services.progress import Progress
 
 #: Longest accepted cell, in characters (a guard against runaway quoting).
 MAX_FIELD = 100_000
+#: Rows of a measurements file validated and written at a time.
+CHUNK_ROWS = 100_000
 
 
 class CsvFileError(RatebankError):
@@ -37,8 +39,7 @@ class CsvTable:
     lines: list[int]
 
 
-def read_table(path: str | Path, columns: Sequence[str], required: Sequence[str]) -> CsvTable:
-    """Read a CSV file whose header must use ``columns`` and include ``required``."""
+def _open_check(path: str | Path, columns: Sequence[str]) -> Path:
     name = str(path)
     file = Path(path)
     if not file.exists():
@@ -46,72 +47,136 @@ def read_table(path: str | Path, columns: Sequence[str], required: Sequence[str]
     if file.is_dir():
         raise CsvFileError(f"{name}: is a folder; expected a CSV file")
     try:
-        raw = file.read_bytes()
+        size = file.stat().st_size
     except OSError as exc:
         raise CsvFileError(f"{name}: cannot be read ({exc.strerror})") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw[: exc.start].count(b"\n") + 1
-        raise CsvFileError(
-            f"{name}:{line}: byte 0x{raw[exc.start]:02x} is not UTF-8; "
-            "expected a UTF-8 text file (save it as UTF-8)"
-        ) from None
-    if "\x00" in text:
-        line = text[: text.index("\x00")].count("\n") + 1
-        raise CsvFileError(f"{name}:{line}: contains a NUL character; expected a text CSV file")
-    if not text.strip():
+    if size == 0:
         raise CsvFileError(
             f"{name}: is empty; expected a header row with the columns {', '.join(columns)}"
         )
+    return file
+
+
+def _decode_error(name: str, file: Path) -> CsvFileError:
+    raw = file.read_bytes()
+    try:
+        raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        return CsvFileError(
+            f"{name}:{line}: byte 0x{raw[exc.start]:02x} is not UTF-8; "
+            "expected a UTF-8 text file (save it as UTF-8)"
+        )
+    return CsvFileError(f"{name}: cannot be decoded as UTF-8 text")
+
+
+def _csv_error(name: str, line: int, exc: csv.Error) -> CsvFileError:
+    message = str(exc)
+    if "unexpected end of data" in message or "EOF" in message:
+        message = "a quoted cell is not closed (unclosed quote)"
+    elif "field larger than field limit" in message:
+        message = f"a cell is longer than {MAX_FIELD} characters"
+    elif "NUL" in message:
+        message = "contains a NUL character"
+    return CsvFileError(f"{name}:{line}: {message}; expected valid CSV")
+
+
+def iter_table(
+    path: str | Path,
+    columns: Sequence[str],
+    required: Sequence[str],
+    *,
+    problems: v.Problems,
+    chunk_rows: int = 100_000,
+):  # type: ignore[no-untyped-def]
+    """Yield the header, then chunks of (rows, lines) of a CSV file, streaming.
+
+    The header is checked first (unknown, missing, duplicate columns). Rows
+    whose number of cells differs from the header's are reported into
+    ``problems`` and skipped; blank rows are skipped.
+    """
+    name = str(path)
+    file = _open_check(path, columns)
     csv.field_size_limit(MAX_FIELD)
-    reader = csv.reader(text.splitlines(keepends=True), strict=True)
+    try:
+        handle = file.open(encoding="utf-8-sig", newline="")
+    except OSError as exc:
+        raise CsvFileError(f"{name}: cannot be read ({exc.strerror})") from None
+    with handle:
+        reader = csv.reader(handle, strict=True)
+        try:
+            try:
+                header = [h.strip() for h in next(reader)]
+            except StopIteration:
+                raise CsvFileError(
+                    f"{name}: is empty; expected a header row with the columns {', '.join(columns)}"
+                ) from None
+            header_line = reader.line_num
+            header_problems = v.Problems()
+            seen: set[str] = set()
+            for h in header:
+                if h == "":
+                    header_problems.add(header_line, "", "the header has an empty column name")
+                elif h in seen:
+                    header_problems.add(header_line, h, "appears twice in the header")
+                elif h not in columns:
+                    header_problems.add(
+                        header_line,
+                        h,
+                        f"unknown column; expected columns are {', '.join(columns)}",
+                    )
+                seen.add(h)
+            for r in required:
+                if r not in seen:
+                    header_problems.add(
+                        header_line, r, "required column is missing from the header"
+                    )
+            if header_problems:
+                raise ImportValidationError(
+                    name, [p.render(name) for p in header_problems.sorted()]
+                )
+            yield header
+            width = len(header)
+            previous = reader.line_num
+            rows: list[list[str]] = []
+            lines: list[int] = []
+            for row in reader:
+                line = previous + 1
+                previous = reader.line_num
+                if len(row) != width or not (row[0] or any(row)):
+                    if not row or all(c.strip() == "" for c in row):
+                        continue
+                    problems.add(
+                        line,
+                        "",
+                        f"has {len(row)} cells but the header has {width}; check for a stray "
+                        "delimiter or an unclosed quote",
+                    )
+                    continue
+                rows.append(row)
+                lines.append(line)
+                if len(rows) >= chunk_rows:
+                    yield rows, lines
+                    rows, lines = [], []
+            if rows:
+                yield rows, lines
+        except csv.Error as exc:
+            raise _csv_error(name, reader.line_num, exc) from None
+        except UnicodeDecodeError:
+            raise _decode_error(name, file) from None
+
+
+def read_table(path: str | Path, columns: Sequence[str], required: Sequence[str]) -> CsvTable:
+    """Read a whole (small) CSV file whose header must use ``columns`` and include ``required``."""
+    name = str(path)
+    problems = v.Problems()
+    stream = iter_table(path, columns, required, problems=problems, chunk_rows=1 << 30)
+    header = next(stream)
     rows: list[list[str]] = []
     lines: list[int] = []
-    try:
-        header = [h.strip() for h in next(reader)]
-        header_line = reader.line_num
-        problems = v.Problems()
-        seen: set[str] = set()
-        for h in header:
-            if h == "":
-                problems.add(header_line, "", "the header has an empty column name")
-            elif h in seen:
-                problems.add(header_line, h, "appears twice in the header")
-            elif h not in columns:
-                problems.add(
-                    header_line, h, f"unknown column; expected columns are {', '.join(columns)}"
-                )
-            seen.add(h)
-        for r in required:
-            if r not in seen:
-                problems.add(header_line, r, "required column is missing from the header")
-        if problems:
-            raise ImportValidationError(name, [p.render(name) for p in problems.sorted()])
-        width = len(header)
-        previous = reader.line_num
-        for row in reader:
-            line = previous + 1
-            previous = reader.line_num
-            if not row or all(c.strip() == "" for c in row):
-                continue
-            if len(row) != width:
-                problems.add(
-                    line,
-                    "",
-                    f"has {len(row)} cells but the header has {width}; check for a stray "
-                    "delimiter or an unclosed quote",
-                )
-                continue
-            rows.append(row)
-            lines.append(line)
-    except csv.Error as exc:
-        message = str(exc)
-        if "unexpected end of data" in message or "EOF" in message:
-            message = "a quoted cell is not closed (unclosed quote)"
-        elif "field larger than field limit" in message:
-            message = f"a cell is longer than {MAX_FIELD} characters"
-        raise CsvFileError(f"{name}:{reader.line_num}: {message}; expected valid CSV") from None
+    for chunk_rows, chunk_lines in stream:
+        rows.extend(chunk_rows)
+        lines.extend(chunk_lines)
     if problems:
         raise ImportValidationError(
             name, [p.render(name) for p in problems.sorted()], total=problems.total
@@ -161,24 +226,44 @@ def import_measurements_file(
     k_units: str | None = None,
     dry_run: bool = False,
     progress: Progress | None = None,
+    chunk_rows: int = CHUNK_ROWS,
 ) -> curate.ImportSummary:
-    table = read_table(path, v.MEASUREMENT_COLUMNS, v.MEASUREMENT_REQUIRED)
-    if "k_units" not in table.header and not k_units:
+    """Stream a measurements file into the store in one transaction; all or nothing.
+
+    Memory stays flat in the number of rows: the file is read, validated and
+    written ``chunk_rows`` rows at a time.
+    """
+    name = str(path)
+    problems = v.Problems()
+    stream = iter_table(
+        path,
+        v.MEASUREMENT_COLUMNS,
+        v.MEASUREMENT_REQUIRED,
+        problems=problems,
+        chunk_rows=chunk_rows,
+    )
+    header = next(stream)
+    if "k_units" not in header and not k_units:
         raise CsvFileError(
-            f"{table.path}:1: k_units: the file has no k_units column and no --k-units was "
+            f"{name}:1: k_units: the file has no k_units column and no --k-units was "
             "given; expected one of them"
         )
-    transposed = list(zip(*table.rows, strict=True)) if table.rows else []
-    columns = {
-        name: [cell.strip() for cell in values]
-        for name, values in zip(table.header, transposed, strict=True)
-    }
-    return curate.import_measurements(
+    try:
+        expected = max(Path(path).stat().st_size // 60, 0)
+    except OSError:
+        expected = 0
+    importer = curate.MeasurementImporter(
         session,
-        columns,
-        table.lines,
-        source=table.path,
+        source=name,
         default_k_units=k_units,
         dry_run=dry_run,
         progress=progress,
+        problems=problems,
+        expected_rows=expected,
     )
+    for rows, lines in stream:
+        columns = dict(zip(header, (list(c) for c in zip(*rows, strict=True)), strict=True))
+        importer.add(columns, lines)
+    if importer.rows == 0 and not problems:
+        raise CsvFileError(f"{name}: has a header but no data rows")
+    return importer.finish()

@@ -7,7 +7,7 @@ transaction; the caller commits. Values in and out are SI-molar.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -240,104 +240,197 @@ def import_reactions(
     return ImportSummary("reactions", source, len(rows), len(records), dry_run)
 
 
+class LazyReactionResolver(v.ReactionResolver):
+    """Resolves reaction cells with queries for just the keys and equations asked for."""
+
+    def __init__(self, session: Session):
+        super().__init__({}, {})
+        self.session = session
+
+    def prefetch(self, texts: Iterable[str]) -> None:
+        wanted_keys = [t for t in texts if t and t not in self.by_key and t not in self._cache]
+        equations: dict[str, str] = {}
+        for text in wanted_keys:
+            if "->" in text or "→" in text:
+                from ratebank.science.equation import parse_equation
+
+                try:
+                    equations[text] = parse_equation(text).canonical
+                except Exception:  # reported when resolved
+                    continue
+        columns = (Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order)
+        keys = [t for t in wanted_keys if t not in equations]
+        for start, stop in chunks(len(keys), 500):
+            for rid, key, equation, order in self.session.execute(
+                select(*columns).where(Reaction.key.in_(keys[start:stop]))
+            ):
+                ref = v.ReactionRef(rid, key, order)
+                self.by_key[key] = ref
+                self.by_equation[equation] = ref
+        canonical = list(set(equations.values()) - set(self.by_equation))
+        for start, stop in chunks(len(canonical), 500):
+            for rid, key, equation, order in self.session.execute(
+                select(*columns).where(Reaction.equation.in_(canonical[start:stop]))
+            ):
+                ref = v.ReactionRef(rid, key, order)
+                self.by_key[key] = ref
+                self.by_equation[equation] = ref
+
+    def resolve(self, text: str) -> v.ReactionRef | str:
+        if text not in self.by_key and text not in self._cache:
+            self.prefetch([text])
+        return super().resolve(text)
+
+
+class MeasurementImporter:
+    """Streams measured points into the store, chunk by chunk, in one transaction.
+
+    Each chunk is validated completely. Chunks are written only while no
+    problem has been found anywhere; once one is, the rest of the file is
+    still validated (so every problem is reported) and :meth:`finish` raises,
+    which rolls the whole transaction back: nothing is written.
+    """
+
+    def __init__(
+        self,
+        session: Session,
+        *,
+        source: str,
+        default_k_units: str | None = None,
+        dry_run: bool = False,
+        progress: Progress | None = None,
+        problems: v.Problems | None = None,
+        expected_rows: int = 0,
+    ):
+        self.session = session
+        self.source = source
+        self.dry_run = dry_run
+        self.progress = progress or NoProgress()
+        self.problems = problems if problems is not None else v.Problems()
+        self.rows = 0
+        self.points = 0
+        known = set(session.scalars(select(MeasurementSet.name)))
+        self.validator = v.MeasurementValidator(
+            LazyReactionResolver(session),
+            lambda names: known.intersection(names),
+            self.problems,
+            default_k_units=default_k_units,
+        )
+        self._set_ids: list[int] = []
+        self._last_set_id = session.scalar(select(func.max(MeasurementSet.id))) or 0
+        self.progress.start("importing points", expected_rows)
+
+    def add(self, columns: Mapping[str, Sequence[str]], lines: Sequence[int]) -> None:
+        """Validate (and, while the input is clean, write) one chunk of rows."""
+        chunk = self.validator.validate_chunk(columns, lines)
+        self.rows += len(lines)
+        if not self.problems and not self.dry_run:
+            self._write(chunk)
+        self.points += chunk.n_points
+        self.progress.advance(len(lines))
+
+    def _write(self, chunk: v.MeasurementChunk) -> None:
+        import numpy as np
+
+        session = self.session
+        if chunk.new_sets:
+            insert_rows(
+                session,
+                "measurement_set",
+                (
+                    "name",
+                    "reaction_id",
+                    "reference",
+                    "method",
+                    "bath_gas",
+                    "original_k_units",
+                    "source_file",
+                    "created_at",
+                ),
+                [
+                    (
+                        s.name,
+                        s.reaction.id,
+                        s.reference,
+                        s.method,
+                        s.bath_gas,
+                        s.k_units,
+                        self.source,
+                        utc_now(),
+                    )
+                    for s in chunk.new_sets
+                ],
+            )
+            wanted = {s.name: s for s in chunk.new_sets}
+            for set_id, name in session.execute(
+                select(MeasurementSet.id, MeasurementSet.name).where(
+                    MeasurementSet.id > self._last_set_id
+                )
+            ):
+                record = wanted.get(name)
+                if record is not None:
+                    record.id = set_id
+                self._last_set_id = max(self._last_set_id, set_id)
+        ids = np.array(
+            [s.id if s.id is not None else -1 for s in self.validator.sets], dtype=np.int64
+        )
+        point_set_ids = ids[chunk.set_index].tolist()
+
+        def optional(values: np.ndarray) -> list[float | None]:
+            listed = values.tolist()
+            if np.isnan(values).any():
+                return [None if x != x else x for x in listed]
+            return listed
+
+        insert_rows(
+            session,
+            "point",
+            ("set_id", "temperature", "rate_constant", "relative_uncertainty", "pressure"),
+            zip(
+                point_set_ids,
+                chunk.temperature.tolist(),
+                chunk.rate_constant.tolist(),
+                optional(chunk.relative_uncertainty),
+                optional(chunk.pressure),
+                strict=True,
+            ),
+        )
+
+    def finish(self) -> ImportSummary:
+        _raise_problems(self.source, self.problems)
+        sets = len(self.validator.sets)
+        if not self.dry_run and self.points:
+            audit.record(self.session, "data.import", self.source, sets=sets, points=self.points)
+        return ImportSummary(
+            "measurements", self.source, self.rows, self.points, self.dry_run, {"sets": sets}
+        )
+
+
 def import_measurements(
     session: Session,
-    columns: Mapping[str, list[str]],
-    lines: list[int],
+    columns: Mapping[str, Sequence[str]],
+    lines: Sequence[int],
     *,
     source: str,
     default_k_units: str | None = None,
     dry_run: bool = False,
     progress: Progress | None = None,
 ) -> ImportSummary:
-    """Validate and add measured points column-wise; all or nothing.
+    """Validate and add measured points given column-wise; all or nothing.
 
-    ``columns`` maps each DESIGN 7a measurement column to its stripped cell
-    texts ("" when empty); ``lines`` gives each row's line in the source.
+    ``columns`` maps each DESIGN 7a measurement column to its cell texts
+    ("" when empty); ``lines`` gives each row's line in the source.
     """
-    progress = progress or NoProgress()
-    progress.start("validating points", len(lines))
-    problems = v.Problems()
-    set_names = set(columns["set"])
-    existing_sets: set[str] = set()
-    names = [n for n in set_names if n]
-    for start in range(0, len(names), 500):
-        existing_sets.update(
-            session.scalars(
-                select(MeasurementSet.name).where(
-                    MeasurementSet.name.in_(names[start : start + 500])
-                )
-            )
-        )
-    batch = v.validate_measurements(
-        columns,
-        lines,
-        reaction_resolver(session),
-        existing_sets,
-        problems,
+    importer = MeasurementImporter(
+        session,
+        source=source,
         default_k_units=default_k_units,
+        dry_run=dry_run,
+        progress=progress,
+        expected_rows=len(lines),
     )
-    progress.advance(len(lines))
-    _raise_problems(source, problems)
-    if dry_run or batch.n_points == 0:
-        return ImportSummary(
-            "measurements",
-            source,
-            len(lines),
-            batch.n_points,
-            dry_run,
-            {"sets": len(batch.sets)},
-        )
-    import numpy as np
-
-    set_ids = session.scalars(
-        insert(MeasurementSet).returning(MeasurementSet.id, sort_by_parameter_order=True),
-        [
-            {
-                "name": s.name,
-                "reaction_id": s.reaction.id,
-                "reference": s.reference,
-                "method": s.method,
-                "bath_gas": s.bath_gas,
-                "original_k_units": s.k_units,
-                "source_file": source,
-            }
-            for s in batch.sets
-        ],
-    ).all()
-    point_set_ids = np.asarray(set_ids, dtype=np.int64)[batch.set_index]
-
-    def optional(values: np.ndarray) -> list[float | None]:
-        listed = values.tolist()
-        if np.isnan(values).any():
-            return [None if x != x else x for x in listed]
-        return listed
-
-    set_column = point_set_ids.tolist()
-    temperature = batch.temperature.tolist()
-    rate_constant = batch.rate_constant.tolist()
-    uncertainty = optional(batch.relative_uncertainty)
-    pressure = optional(batch.pressure)
-    progress.start("writing points", batch.n_points)
-    for start, stop in chunks(batch.n_points, POINT_CHUNK):
-        insert_rows(
-            session,
-            "point",
-            ("set_id", "temperature", "rate_constant", "relative_uncertainty", "pressure"),
-            zip(
-                set_column[start:stop],
-                temperature[start:stop],
-                rate_constant[start:stop],
-                uncertainty[start:stop],
-                pressure[start:stop],
-                strict=True,
-            ),
-        )
-        progress.advance(stop - start)
-    audit.record(session, "data.import", source, sets=len(batch.sets), points=batch.n_points)
-    return ImportSummary(
-        "measurements", source, len(lines), batch.n_points, dry_run, {"sets": len(batch.sets)}
-    )
+    importer.add(columns, lines)
+    return importer.finish()
 
 
 def import_expressions(

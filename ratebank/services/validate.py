@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Iterable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 from ratebank.errors import EquationError, FormulaError, UnitError
@@ -414,6 +414,10 @@ class ReactionResolver:
         self.by_equation = by_equation
         self._cache: dict[str, ReactionRef | str] = {}
 
+    def prefetch(self, texts: Iterable[str]) -> None:
+        """Look up many reaction cells at once (a no-op when everything is loaded)."""
+        return None
+
     def resolve(self, text: str) -> ReactionRef | str:
         """The reaction, or a message saying why it cannot be found."""
         if text in self._cache:
@@ -448,15 +452,17 @@ class MeasurementSetRecord:
     method: str | None
     bath_gas: str | None
     first_line: int
-    point_rows: list[int] = field(default_factory=list)
+    factor: float = float("nan")
+    valid: bool = True
+    id: int | None = None
 
 
 @dataclass
-class MeasurementBatch:
-    """Validated points, column-wise, SI units, with the set each belongs to."""
+class MeasurementChunk:
+    """Validated points of one chunk, column-wise, SI units."""
 
-    sets: list[MeasurementSetRecord]
-    set_index: Any  # numpy int array: index into ``sets`` for each point
+    new_sets: list[MeasurementSetRecord]
+    set_index: Any  # numpy int array: index into MeasurementValidator.sets per point
     temperature: Any
     rate_constant: Any
     relative_uncertainty: Any  # NaN where not given
@@ -480,235 +486,284 @@ def _column_numbers(
     """Parse a column of number texts with numpy; report the bad cells by line."""
     import numpy as np
 
-    values = np.full(len(texts), np.nan)
-    present = np.fromiter((t != "" for t in texts), dtype=bool, count=len(texts))
+    n = len(texts)
+    values = np.full(n, np.nan)
+    if "" in texts:
+        present = np.fromiter((t != "" for t in texts), dtype=bool, count=n)
+        candidates = [t for t in texts if t != ""]
+    else:
+        present = np.ones(n, dtype=bool)
+        candidates = list(texts)
     try:
-        values[present] = np.array([t for t in texts if t != ""], dtype=np.float64)
-        parsed_all = True
+        values[present] = np.array(candidates, dtype=np.float64)
     except ValueError:
-        parsed_all = False
-    if not parsed_all:
         for i, text in enumerate(texts):
             if text == "":
                 continue
             try:
                 values[i] = float(text)
             except ValueError:
-                problems.add(lines[i], column, f"{text!r} is not a number; expected {what}")
+                problems.add(lines[i], column, f"{text.strip()!r} is not a number; expected {what}")
                 present[i] = False
-    bad_finite = present & ~np.isfinite(values)
-    for i in np.flatnonzero(bad_finite):
-        problems.add(lines[i], column, f"{texts[i]!r} is not a finite number; expected {what}")
-    ok = present & np.isfinite(values)
+    finite = np.isfinite(values)
+    for i in np.flatnonzero(present & ~finite):
+        problems.add(
+            lines[i], column, f"{texts[i].strip()!r} is not a finite number; expected {what}"
+        )
     if positive:
-        for i in np.flatnonzero(ok & (values <= 0)):
-            problems.add(lines[i], column, f"{texts[i]} must be greater than zero; expected {what}")
+        for i in np.flatnonzero(present & finite & (values <= 0)):
+            problems.add(
+                lines[i], column, f"{texts[i].strip()} must be greater than zero; expected {what}"
+            )
     if required:
         for i in np.flatnonzero(~present):
-            if texts[i] == "":
-                problems.add(lines[i], column, f"is empty; expected {what}")
+            problems.add(lines[i], column, f"is empty; expected {what}")
     return values
 
 
-def validate_measurements(
-    columns: Mapping[str, Sequence[str]],
-    lines: Sequence[int],
-    resolver: ReactionResolver,
-    existing_sets: set[str],
-    problems: Problems,
-    *,
-    default_k_units: str | None = None,
-) -> MeasurementBatch:
-    """Validate measurement rows given column-wise (stripped strings, "" when empty)."""
-    import numpy as np
+class MeasurementValidator:
+    """Validates measurement rows chunk by chunk, keeping the sets seen so far.
 
-    from ratebank.science.units import parse_rate_unit
+    Validation is column-wise (numpy) so that a million rows are checked in a
+    few passes; rows are looked at one by one only to name problems. The
+    result is the same whatever the chunk size (a test checks this).
+    """
 
-    n = len(lines)
-    set_names = columns["set"]
-    reactions = columns["reaction"]
-    empty = [""] * n
-    units_col = columns.get("k_units", empty)
-    unc_col = columns.get("k_uncertainty", empty)
-    kind_col = columns.get("uncertainty_kind", empty)
-    ref_col = columns.get("reference", empty)
-    method_col = columns.get("method", empty)
-    bath_col = columns.get("bath_gas", empty)
+    def __init__(
+        self,
+        resolver: ReactionResolver,
+        set_exists: Any,
+        problems: Problems,
+        *,
+        default_k_units: str | None = None,
+    ):
+        self.resolver = resolver
+        self.set_exists = set_exists  # callable: list of names -> set of names in the store
+        self.problems = problems
+        self.default_k_units = default_k_units or ""
+        self.sets: list[MeasurementSetRecord] = []
+        self.by_name: dict[str, int] = {}
+        self._unit_cache: dict[tuple[str, int], float | str] = {}
 
-    temperature = _column_numbers(
-        columns["T_K"],
-        lines,
-        "T_K",
-        problems,
-        required=True,
-        positive=True,
-        what="a temperature in K greater than zero",
-    )
-    rate_constant = _column_numbers(
-        columns["k"],
-        lines,
-        "k",
-        problems,
-        required=True,
-        positive=True,
-        what="a rate constant greater than zero",
-    )
-    uncertainty = _column_numbers(
-        unc_col,
-        lines,
-        "k_uncertainty",
-        problems,
-        required=False,
-        positive=True,
-        what="an uncertainty greater than zero",
-    )
-    pressure = _column_numbers(
-        columns.get("pressure_bar", empty),
-        lines,
-        "pressure_bar",
-        problems,
-        required=False,
-        positive=True,
-        what="a pressure in bar greater than zero",
-    )
+    def _unit_factor(self, text: str, order: int) -> float | str:
+        from ratebank.science.units import parse_rate_unit
 
-    sets: list[MeasurementSetRecord] = []
-    set_by_name: dict[str, int] = {}
-    set_index = np.zeros(n, dtype=np.int64)
-    factor = np.full(n, np.nan)
-    unit_cache: dict[tuple[str, int], float | str] = {}
-    absolute = np.zeros(n, dtype=bool)
-    row_ok = np.ones(n, dtype=bool)
+        key = (text, order)
+        if key not in self._unit_cache:
+            try:
+                self._unit_cache[key] = parse_rate_unit(text, order=order).to_si
+            except UnitError as exc:
+                self._unit_cache[key] = str(exc)
+        return self._unit_cache[key]
 
-    for i in range(n):
-        line = lines[i]
-        name = set_names[i]
-        if name == "":
-            problems.add(line, "set", "is empty; expected the name of the measurement set")
-            row_ok[i] = False
-            continue
-        kind = kind_col[i] or "relative"
-        if kind not in UNCERTAINTY_KINDS:
-            problems.add(line, "uncertainty_kind", f"{kind!r} is not one of relative, absolute")
-            row_ok[i] = False
-        elif kind == "absolute":
-            absolute[i] = True
-        index = set_by_name.get(name)
-        if index is not None:
-            record = sets[index]
-            set_index[i] = index
-            if reactions[i] not in ("", record.reaction.key) and record.reaction.id != -1:
-                resolved = resolver.resolve(reactions[i])
-                if not isinstance(resolved, ReactionRef) or resolved.id != record.reaction.id:
-                    problems.add(
-                        line,
-                        "reaction",
-                        f"set {name!r} was given for reaction {record.reaction.key!r} on line "
-                        f"{record.first_line}; one set belongs to one reaction",
-                    )
-                    row_ok[i] = False
-            unit_text = units_col[i] or default_k_units or ""
-            if unit_text and unit_text != record.k_units:
-                problems.add(
-                    line,
-                    "k_units",
-                    f"{unit_text!r} differs from {record.k_units!r} used for set {name!r} on "
-                    f"line {record.first_line}; one set uses one unit",
-                )
-                row_ok[i] = False
-            for column, values, attr in (
-                ("reference", ref_col, "reference"),
-                ("method", method_col, "method"),
-                ("bath_gas", bath_col, "bath_gas"),
-            ):
-                value = values[i] or None
-                if value is not None and value != getattr(record, attr):
-                    problems.add(
-                        line,
-                        column,
-                        f"{value!r} differs from {getattr(record, attr)!r} given for set "
-                        f"{name!r} on line {record.first_line}",
-                    )
-                    row_ok[i] = False
-            factor[i] = factor[record.point_rows[0]] if record.point_rows else np.nan
-            record.point_rows.append(i)
-            continue
-        # first row of a new set
+    def _new_set(self, name: str, row: Mapping[str, str], line: int) -> MeasurementSetRecord:
+        problems = self.problems
+        reaction_text = row["reaction"]
+        unit_text = row["k_units"] or self.default_k_units
+        record = MeasurementSetRecord(
+            name=name,
+            reaction=ReactionRef(-1, reaction_text, 0),
+            k_units=unit_text,
+            reference=row["reference"] or None,
+            method=row["method"] or None,
+            bath_gas=row["bath_gas"] or None,
+            first_line=line,
+            valid=False,
+        )
         ok = True
-        if name in existing_sets:
-            problems.add(line, "set", f"measurement set {name!r} is already in the store")
-            ok = False
-        if reactions[i] == "":
+        if reaction_text == "":
             problems.add(line, "reaction", "is empty; expected a reaction key or equation")
             ok = False
-            resolved: ReactionRef | str | None = None
         else:
-            resolved = resolver.resolve(reactions[i])
-            if not isinstance(resolved, ReactionRef):
+            resolved = self.resolver.resolve(reaction_text)
+            if isinstance(resolved, ReactionRef):
+                record.reaction = resolved
+            else:
                 problems.add(line, "reaction", resolved)
                 ok = False
-        unit_text = units_col[i] or default_k_units or ""
-        unit_factor: float | None = None
         if unit_text == "":
             problems.add(line, "k_units", "is empty and no --k-units was given; expected a unit")
             ok = False
-        elif isinstance(resolved, ReactionRef):
-            key = (unit_text, resolved.order)
-            if key not in unit_cache:
-                try:
-                    unit_cache[key] = parse_rate_unit(unit_text, order=resolved.order).to_si
-                except UnitError as exc:
-                    unit_cache[key] = str(exc)
-            cached = unit_cache[key]
-            if isinstance(cached, str):
-                problems.add(line, "k_units", cached)
+        elif record.reaction.id != -1:
+            factor = self._unit_factor(unit_text, record.reaction.order)
+            if isinstance(factor, str):
+                problems.add(line, "k_units", factor)
                 ok = False
             else:
-                unit_factor = cached
-        if not ok or not isinstance(resolved, ReactionRef):
-            # Register the set anyway so that its other rows are not reported again.
-            row_ok[i] = False
-            placeholder = MeasurementSetRecord(
-                name=name,
-                reaction=ReactionRef(-1, reactions[i], 0),
-                k_units=unit_text,
-                reference=ref_col[i] or None,
-                method=method_col[i] or None,
-                bath_gas=bath_col[i] or None,
-                first_line=line,
-                point_rows=[i],
-            )
-            set_by_name[name] = len(sets)
-            set_index[i] = len(sets)
-            sets.append(placeholder)
-            continue
-        record = MeasurementSetRecord(
-            name=name,
-            reaction=resolved,
-            k_units=unit_text,
-            reference=ref_col[i] or None,
-            method=method_col[i] or None,
-            bath_gas=bath_col[i] or None,
-            first_line=line,
-            point_rows=[i],
-        )
-        set_by_name[name] = len(sets)
-        set_index[i] = len(sets)
-        sets.append(record)
-        factor[i] = unit_factor if unit_factor is not None else np.nan
+                record.factor = factor
+        record.valid = ok
+        return record
 
-    # Rows of a set whose first row failed carry no factor; they are already reported.
-    rate_si = rate_constant * factor
-    with np.errstate(invalid="ignore", divide="ignore"):
-        relative = np.where(absolute, uncertainty * factor / rate_si, uncertainty)
-    return MeasurementBatch(
-        sets=sets,
-        set_index=set_index,
-        temperature=temperature,
-        rate_constant=rate_si,
-        relative_uncertainty=relative,
-        pressure=pressure * BAR_PA,
-    )
+    def validate_chunk(self, columns: Mapping[str, Sequence[str]], lines: Sequence[int]):
+        """Validate one chunk of rows given column-wise (raw cell texts)."""
+        import numpy as np
+
+        problems = self.problems
+        n = len(lines)
+        empty = [""] * n
+
+        def stripped(name: str) -> list[str]:
+            values = columns.get(name)
+            if values is None:
+                return empty
+            # strip each distinct text once: a million cells hold few distinct ones
+            table = {text: text.strip() for text in dict.fromkeys(values)}
+            return [table[text] for text in values]
+
+        set_names = stripped("set")
+        reactions = stripped("reaction")
+        units = stripped("k_units")
+        kinds = stripped("uncertainty_kind")
+        references = stripped("reference")
+        methods = stripped("method")
+        baths = stripped("bath_gas")
+
+        temperature = _column_numbers(
+            columns["T_K"],
+            lines,
+            "T_K",
+            problems,
+            required=True,
+            positive=True,
+            what="a temperature in K greater than zero",
+        )
+        rate_constant = _column_numbers(
+            columns["k"],
+            lines,
+            "k",
+            problems,
+            required=True,
+            positive=True,
+            what="a rate constant greater than zero",
+        )
+        uncertainty = _column_numbers(
+            columns.get("k_uncertainty", empty),
+            lines,
+            "k_uncertainty",
+            problems,
+            required=False,
+            positive=True,
+            what="an uncertainty greater than zero",
+        )
+        pressure = _column_numbers(
+            columns.get("pressure_bar", empty),
+            lines,
+            "pressure_bar",
+            problems,
+            required=False,
+            positive=True,
+            what="a pressure in bar greater than zero",
+        )
+
+        # sets: the first row of each new set defines it
+        first_rows: dict[str, int] = {}
+        for i, name in enumerate(set_names):
+            if name not in first_rows:
+                first_rows[name] = i
+        new_sets: list[MeasurementSetRecord] = []
+        if "" in first_rows:
+            for i in (j for j, name in enumerate(set_names) if name == ""):
+                problems.add(lines[i], "set", "is empty; expected the name of the measurement set")
+        fresh = [name for name in first_rows if name and name not in self.by_name]
+        existing = self.set_exists(fresh) if fresh else set()
+        self.resolver.prefetch({reactions[first_rows[name]] for name in fresh})
+        for name in fresh:
+            i = first_rows[name]
+            row = {
+                "reaction": reactions[i],
+                "k_units": units[i],
+                "reference": references[i],
+                "method": methods[i],
+                "bath_gas": baths[i],
+            }
+            record = self._new_set(name, row, lines[i])
+            if name in existing:
+                problems.add(lines[i], "set", f"measurement set {name!r} is already in the store")
+                record.valid = False
+            self.by_name[name] = len(self.sets)
+            self.sets.append(record)
+            new_sets.append(record)
+        set_index = np.fromiter(
+            (self.by_name.get(name, -1) for name in set_names), dtype=np.int64, count=n
+        )
+        # work on the sets this chunk touches only, so that cost does not grow with the file
+        local_sets, local_index = np.unique(set_index, return_inverse=True)
+        local_index = local_index.reshape(-1)
+        touched = [self.sets[i] if i >= 0 else None for i in local_sets.tolist()]
+        factor_of_set = np.array([r.factor if r is not None else np.nan for r in touched])
+
+        # every row of a set must agree with the set's first row
+        units_filled = [u or self.default_k_units for u in units] if self.default_k_units else units
+        for column, values in (
+            ("reaction", reactions),
+            ("k_units", units_filled),
+            ("reference", references),
+            ("method", methods),
+            ("bath_gas", baths),
+        ):
+            self._check_agreement(touched, local_index, set_names, values, column, lines)
+
+        kind_array = np.array(kinds, dtype=object)
+        absolute = kind_array == "absolute"
+        unknown = ~(absolute | (kind_array == "relative") | (kind_array == ""))
+        for i in np.flatnonzero(unknown):
+            problems.add(
+                lines[i], "uncertainty_kind", f"{kinds[i]!r} is not one of relative, absolute"
+            )
+
+        factor = factor_of_set[local_index]
+        rate_si = rate_constant * factor
+        with np.errstate(invalid="ignore", divide="ignore"):
+            relative = np.where(absolute, uncertainty * factor / rate_si, uncertainty)
+        return MeasurementChunk(
+            new_sets=new_sets,
+            set_index=set_index,
+            temperature=temperature,
+            rate_constant=rate_si,
+            relative_uncertainty=relative,
+            pressure=pressure * BAR_PA,
+        )
+
+    def _check_agreement(self, touched, local_index, set_names, values, column, lines) -> None:  # type: ignore[no-untyped-def]
+        import numpy as np
+
+        if column == "reaction":
+            expected = [
+                r.reaction.key if r is not None and r.reaction.id != -1 else None for r in touched
+            ]
+        else:
+            expected = [(getattr(r, column) or "") if r is not None else None for r in touched]
+        reference = np.array(expected, dtype=object)[local_index]
+        given = np.array(values, dtype=object)
+        differs = (given != reference) & (given != "") & (reference != None)  # noqa: E711
+        for i in np.flatnonzero(differs):
+            record = touched[local_index[i]]
+            if lines[i] == record.first_line:
+                continue
+            if column == "reaction":
+                resolved = self.resolver.resolve(values[i])
+                if isinstance(resolved, ReactionRef) and resolved.id == record.reaction.id:
+                    continue
+                self.problems.add(
+                    lines[i],
+                    "reaction",
+                    f"set {set_names[i]!r} was given for reaction {record.reaction.key!r} on "
+                    f"line {record.first_line}; one set belongs to one reaction",
+                )
+            elif column == "k_units":
+                self.problems.add(
+                    lines[i],
+                    "k_units",
+                    f"{values[i]!r} differs from {record.k_units!r} used for set "
+                    f"{set_names[i]!r} on line {record.first_line}; one set uses one unit",
+                )
+            else:
+                self.problems.add(
+                    lines[i],
+                    column,
+                    f"{values[i]!r} differs from {expected[local_index[i]]!r} given for set "
+                    f"{set_names[i]!r} on line {record.first_line}",
+                )
 
 
 # --------------------------------------------------------------------------- expressions

@@ -19,10 +19,13 @@ from pathlib import Path
 
 import numpy as np
 
+#: ``sets`` x ``points_per_set`` points are fitted; ``load_points`` points (one
+#: set of 10 per reaction, as many reactions as needed) are imported by the load
+#: benchmark.
 SCALES = {
-    "full": {"reactions": 100_000, "sets": 10_000, "points_per_set": 10},
-    "medium": {"reactions": 20_000, "sets": 2_000, "points_per_set": 10},
-    "small": {"reactions": 5_000, "sets": 1_000, "points_per_set": 10},
+    "full": {"reactions": 100_000, "sets": 10_000, "points_per_set": 10, "load_points": 1_000_000},
+    "medium": {"reactions": 20_000, "sets": 2_000, "points_per_set": 10, "load_points": 200_000},
+    "small": {"reactions": 5_000, "sets": 1_000, "points_per_set": 10, "load_points": 50_000},
 }
 
 
@@ -32,6 +35,7 @@ class Files:
     species: Path
     reactions: Path
     measurements: Path
+    load_points: Path
     expressions: Path
     n_reactions: int
     n_sets: int
@@ -113,6 +117,22 @@ def generate(folder: Path, scale: str = "small", seed: int = 2026) -> Files:
             for t, value in zip(T, k, strict=True):
                 writer.writerow([f"s{s}", key, f"{t:.2f}", f"{value:.6e}", "cm3/molecule/s", "0.1"])
 
+    load_path = folder / "load-points.csv"
+    n_load_sets = size["load_points"] // per_set
+    with load_path.open("w", newline="", encoding="utf-8") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(["set", "reaction", "T_K", "k", "k_units", "k_uncertainty"])
+        T = np.linspace(300.0, 1200.0, per_set)
+        a = 10 ** rng.uniform(-12.5, -11.0, n_load_sets)
+        b = rng.uniform(500.0, 5000.0, n_load_sets)
+        for s in range(n_load_sets):
+            key = keys[s % len(keys)]
+            k = a[s] * np.exp(-b[s] / T)
+            for t, value in zip(T, k, strict=True):
+                writer.writerow(
+                    [f"load{s}", key, f"{t:.2f}", f"{value:.6e}", "cm3/molecule/s", "0.1"]
+                )
+
     expressions_path = folder / "expressions.csv"
     measured_set = set(int(i) for i in measured)
     with expressions_path.open("w", newline="", encoding="utf-8") as handle:
@@ -136,6 +156,7 @@ def generate(folder: Path, scale: str = "small", seed: int = 2026) -> Files:
         species_path,
         reactions_path,
         measurements_path,
+        load_path,
         expressions_path,
         len(keys),
         n_sets,

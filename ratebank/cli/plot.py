@@ -1,0 +1,106 @@
+"""Plot commands: ``plot`` (Arrhenius plots) and ``steric plot`` (steric-factor distributions).
+
+Attach them with :func:`register`. matplotlib is imported by the drawing
+functions only, never when this module is imported.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import typer
+
+from ratebank.cli.common import say, store_session
+
+OUT_OPTION = typer.Option(
+    ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
+)
+WIDTH_OPTION = typer.Option(7.0, "--width", help="Figure width in inches.")
+HEIGHT_OPTION = typer.Option(5.0, "--height", help="Figure height in inches.")
+DPI_OPTION = typer.Option(
+    150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels."
+)
+
+
+def register(app: typer.Typer, steric_app: typer.Typer) -> None:
+    """Add ``plot`` to ``app`` and ``plot`` to the ``steric`` group ``steric_app``."""
+    app.command("plot")(plot)
+    steric_app.command("plot")(steric_plot)
+
+
+def _written(kind: str, result) -> str:  # type: ignore[no-untyped-def]
+    return f"Wrote {kind} to {result.path} ({result.format.upper()}, {result.size_text})."
+
+
+def plot(
+    keys: list[str] = typer.Argument(..., help="Reaction keys or equations."),
+    out: Path = OUT_OPTION,
+    preset: str = typer.Option(
+        "combustion", "--units", help="Unit preset of k: combustion, atmospheric or si."
+    ),
+    k_units: str = typer.Option(
+        None, "--k-units", help="Explicit k unit, e.g. cm3/molecule/s (overrides --units)."
+    ),
+    t_range: tuple[float, float] = typer.Option(
+        None,
+        "--t-range",
+        help="Temperature span TMIN TMAX [K] (default: the data and expression ranges "
+        "with a margin).",
+        show_default=False,
+    ),
+    panels: bool = typer.Option(False, "--panels", help="One panel per reaction."),
+    width: float = WIDTH_OPTION,
+    height: float = HEIGHT_OPTION,
+    dpi: float = DPI_OPTION,
+) -> None:
+    """Arrhenius plot: log10 k against 1000/T, with T on the top axis.
+
+    Shows the measured points of every set with their error bars, the expression
+    that is exported with its uncertainty band (solid inside its T range, dotted
+    outside), the other stored expressions dashed, and the hard-sphere collision
+    limit of bimolecular reactions.
+
+    Example: ratebank plot oh-ch4 ho2-ho2 --panels -o arrhenius.png --dpi 200
+    """
+    from ratebank.report.plots import check_plot_target, render_arrhenius
+    from ratebank.services.plot_data import arrhenius_plot_data
+
+    check_plot_target(out, width, height, dpi)
+    span = None if not t_range or t_range[0] is None else (t_range[0], t_range[1])
+    with store_session() as session:
+        data = arrhenius_plot_data(session, keys, preset=preset, k_units=k_units, t_range=span)
+    result = render_arrhenius(data, out, panels=panels, width=width, height=height, dpi=dpi)
+    shown = ", ".join(d.key for d in data)
+    say(_written(f"the Arrhenius plot of {len(data)} reaction(s) ({shown})", result))
+
+
+def steric_plot(
+    out: Path = OUT_OPTION,
+    collision: str = typer.Option(
+        "hard-sphere", "--collision", help="Collision rate model: hard-sphere or lennard-jones."
+    ),
+    reaction_class: str = typer.Option(None, "--class", help="Only this class."),
+    width: float = WIDTH_OPTION,
+    height: float = HEIGHT_OPTION,
+    dpi: float = DPI_OPTION,
+) -> None:
+    """Plot the steric factors implied by measured fits, per reaction class (log scale).
+
+    One point per reaction (hollow: an estimated diameter), the class geometric
+    mean as a bar with its spread.
+
+    Example: ratebank steric plot -o steric.svg
+    """
+    from ratebank.report.plots import check_plot_target, render_steric
+    from ratebank.services.plot_data import steric_plot_data
+
+    check_plot_target(out, width, height, dpi)
+    with store_session() as session:
+        data = steric_plot_data(session, collision, reaction_class=reaction_class)
+    result = render_steric(data, out, width=width, height=height, dpi=dpi)
+    say(
+        _written(
+            f"the steric factors of {data.count} reaction(s) in {len(data.classes)} class(es)",
+            result,
+        )
+    )
