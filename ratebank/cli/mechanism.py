@@ -66,7 +66,7 @@ def fit(
         report = fit_reactions(session, keys or None, form=form, fixed_n=fixed_n, progress=progress)
     if as_json:
         print_json(fit_records(report, preset))
-    else:
+    elif not STATE.quiet:
         show(fit_table(report, preset))
         say(f"{report.stored} fit(s) stored, {report.failed} reaction(s) could not be fitted.")
     if report.failed:
@@ -136,7 +136,7 @@ def estimate(
         raise
     if as_json:
         print_json(estimate_records(report, preset))
-    else:
+    elif not STATE.quiet:
         show(*estimate_tables(report, preset))
         say(
             f"{len(report.rows)} estimate(s) stored; {len(report.skipped)} reaction(s) "

@@ -36,3 +36,18 @@ def trange(t_min: float | None, t_max: float | None) -> str:
     if t_min is None and t_max is None:
         return ""
     return f"{sig(t_min)}-{sig(t_max)}"
+
+
+#: Longest table drawn in a terminal; the rest is counted (``--json`` gives all).
+MAX_TABLE_ROWS = 200
+
+
+def shown(rows: list, limit: int = MAX_TABLE_ROWS) -> tuple[list, str]:
+    """The rows to draw and a note about the ones left out.
+
+    >>> shown([1, 2, 3], limit=2)
+    ([1, 2], '... and 1 more row(s) not shown; use --json for all')
+    """
+    if len(rows) <= limit:
+        return rows, ""
+    return rows[:limit], f"... and {len(rows) - limit} more row(s) not shown; use --json for all"

@@ -7,7 +7,7 @@ from typing import Any
 
 from rich.table import Table
 
-from ratebank.report.format import sig, trange
+from ratebank.report.format import shown, sig, trange
 from ratebank.services.checks import CheckReport
 from ratebank.services.estimation import EstimateReport
 from ratebank.services.fitting import FitReport
@@ -86,6 +86,7 @@ def fit_table(report: FitReport, preset: str) -> Table:
         "note",
     ):
         table.add_column(header, overflow="fold")
+    records, more = shown(records)
     for r in records:
         f = ""
         if r["uncertainty_factor_min"] is not None:
@@ -108,7 +109,9 @@ def fit_table(report: FitReport, preset: str) -> Table:
             sig(r["steric_factor"], 3),
             note,
         )
-    table.caption = "f: uncertainty factor of k over the fitted range; P: implied steric factor"
+    table.caption = "f: uncertainty factor of k over the fitted range; P: implied steric factor" + (
+        f"\n{more}" if more else ""
+    )
     return table
 
 
@@ -268,7 +271,10 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
         "estimated d",
     ):
         done.add_column(header, overflow="fold")
-    for r in data["estimated"]:
+    estimated, more = shown(data["estimated"])
+    if more:
+        done.caption = more
+    for r in estimated:
         done.add_row(
             r["key"],
             sig(r["A"]),
@@ -286,7 +292,10 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
         missing = Table(title=f"Not estimated ({len(data['not_estimated'])})")
         missing.add_column("reaction")
         missing.add_column("reason", overflow="fold")
-        for s in data["not_estimated"]:
+        not_estimated, more_missing = shown(data["not_estimated"])
+        if more_missing:
+            missing.caption = more_missing
+        for s in not_estimated:
             missing.add_row(s["key"], s["reason"])
         tables.append(missing)
     return tables
@@ -320,7 +329,10 @@ def check_table(report: CheckReport) -> Table:
     table = Table(title=f"Check: {len(report.flags)} flag(s) over {report.reactions} reactions")
     for header in ("reaction", "check", "finding"):
         table.add_column(header, overflow="fold")
-    for f in report.flags:
+    flags, more = shown(report.flags)
+    if more:
+        table.caption = more
+    for f in flags:
         table.add_row(f.key, f.code, f.message)
     return table
 

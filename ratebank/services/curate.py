@@ -18,7 +18,7 @@ from ratebank.errors import ImportValidationError, NotFoundError
 from ratebank.services import validate as v
 from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.store import audit
-from ratebank.store.bulk import insert_rows
+from ratebank.store.bulk import db_timestamp, insert_rows
 from ratebank.store.models import (
     AuditEntry,
     Expression,
@@ -27,7 +27,6 @@ from ratebank.store.models import (
     Point,
     Reaction,
     Species,
-    utc_now,
 )
 
 #: Reaction status words used by listings and filters, in order of precedence.
@@ -192,7 +191,7 @@ def import_reactions(
     _raise_problems(source, problems)
     if not dry_run and records:
         species_ids = dict(session.execute(select(Species.name, Species.id)).all())
-        now = utc_now()
+        now = db_timestamp(session)
         insert_rows(
             session,
             "reaction",
@@ -334,6 +333,7 @@ class MeasurementImporter:
 
         session = self.session
         if chunk.new_sets:
+            now = db_timestamp(session)
             insert_rows(
                 session,
                 "measurement_set",
@@ -356,7 +356,7 @@ class MeasurementImporter:
                         s.bath_gas,
                         s.k_units,
                         self.source,
-                        utc_now(),
+                        now,
                     )
                     for s in chunk.new_sets
                 ],

@@ -263,7 +263,7 @@ def _validated_changes(
         )
     if A is not None:
         if not _finite(A) or A <= 0:
-            problems.append(f"A: {A!r} must be a finite number greater than zero")
+            problems.append(f"A: {A:g} must be a finite number greater than zero")
         elif not k_units:
             problems.append("A: needs its unit (--k-units, e.g. cm3/molecule/s)")
         else:
@@ -275,7 +275,7 @@ def _validated_changes(
         problems.append("k_units: is given without --A; give the A it is the unit of")
     if Ea is not None:
         if not _finite(Ea):
-            problems.append(f"Ea: {Ea!r} must be a finite number")
+            problems.append(f"Ea: {Ea:g} must be a finite number")
         elif not Ea_units:
             problems.append("Ea: needs its unit (--Ea-units, e.g. kJ/mol or K)")
         else:
@@ -287,19 +287,19 @@ def _validated_changes(
         problems.append("Ea_units: is given without --Ea; give the Ea it is the unit of")
     if n is not None:
         if not _finite(n):
-            problems.append(f"n: {n!r} must be a finite number")
+            problems.append(f"n: {n:g} must be a finite number")
         else:
             new["n"] = float(n)
     for name, value in (("t_min", t_min), ("t_max", t_max)):
         if value is not None:
             if not _finite(value) or value <= 0:
-                problems.append(f"{name}: {value!r} K must be a finite temperature above zero")
+                problems.append(f"{name}: {value:g} K must be a finite temperature above zero")
             else:
                 new[name] = float(value)
     if uncertainty_factor is not None:
         if not _finite(uncertainty_factor) or uncertainty_factor < 1:
             problems.append(
-                f"uncertainty_factor: {uncertainty_factor!r} must be a finite number of at least 1"
+                f"uncertainty_factor: {uncertainty_factor:g} must be a finite number of at least 1"
             )
         else:
             new["uncertainty_factor"] = float(uncertainty_factor)

@@ -23,7 +23,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-from sqlalchemy import delete, insert, select
+from sqlalchemy import delete, select
 from sqlalchemy.orm import Session
 
 from ratebank.errors import RatebankError
@@ -32,6 +32,7 @@ from ratebank.services.partners import COLLISION_MODELS, CollisionPair, collisio
 from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.services.steric import MINIMUM_ESTIMATE_FACTOR, derived_steric_factors
 from ratebank.store import audit
+from ratebank.store.bulk import EXPRESSION_COLUMNS, db_json, db_timestamp, insert_returning_ids
 from ratebank.store.models import Expression, Reaction, StericRule
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
@@ -188,7 +189,6 @@ def estimate(
 
     from ratebank.science import collision as sct
     from ratebank.science.arrhenius import approximate_with_modified_arrhenius
-    from ratebank.science.constants import GAS_CONSTANT
 
     if collision not in COLLISION_MODELS:
         raise RatebankError(
@@ -245,6 +245,7 @@ def estimate(
     plans: list[tuple[Reaction, EstimateRow, dict[str, Any]]] = []
     progress = progress or NoProgress()
     progress.start("estimating", len(candidates))
+    ready: list[tuple[Reaction, Expression, CollisionPair, _StericChoice, float, Any, Any]] = []
     for reaction, partial in candidates:
         progress.advance()
         pair = pairs[reaction.id]
@@ -267,6 +268,25 @@ def estimate(
         reference_t = t_ref
         if reference_t is None:
             reference_t = math.sqrt(t_min * t_max) if t_min and t_max else DEFAULT_T_REF
+        ready.append((reaction, partial, pair, choice, reference_t, t_min, t_max))
+
+    # the collision rate of every candidate at its T_ref in one vectorized call
+    z_ref = np.zeros(len(ready))
+    e_z = np.zeros(len(ready))
+    if ready and collision == "hard-sphere":
+        pairs_ready = [item[2] for item in ready]
+        T_ref = np.array([item[4] for item in ready])
+        distinct = sct.collision_rate_constant(
+            T_ref,
+            np.array([p.a.diameter for p in pairs_ready]),
+            np.array([p.b.diameter for p in pairs_ready]),
+            np.array([p.a.molar_mass for p in pairs_ready]),
+            np.array([p.b.molar_mass for p in pairs_ready]),
+        )
+        # A + A: mu = m/2 comes out of the same formula; the 1/2 is ratebank's rate law
+        z_ref = np.where([p.identical for p in pairs_ready], 0.5, 1.0) * distinct
+        e_z = np.asarray(sct.collision_rate_activation_energy(T_ref, model="hard-sphere"))
+    for i, (reaction, partial, pair, choice, reference_t, t_min, t_max) in enumerate(ready):
         try:
             row, detail = _estimate_one(
                 reaction,
@@ -279,8 +299,9 @@ def estimate(
                 collision,
                 sct,
                 approximate_with_modified_arrhenius,
-                GAS_CONSTANT,
                 np,
+                z_ref=float(z_ref[i]) if collision == "hard-sphere" else None,
+                e_z=float(e_z[i]) if collision == "hard-sphere" else None,
             )
         except (ValueError, RatebankError) as exc:
             skipped.append(Skipped(reaction.key, f"collision model failed: {exc}"))
@@ -304,29 +325,32 @@ def estimate(
             replaced.extend(row.replaced)
         for start, stop in chunks(len(replaced), 500):
             session.execute(delete(Expression).where(Expression.id.in_(replaced[start:stop])))
-        new_ids = session.scalars(
-            insert(Expression).returning(Expression.id, sort_by_parameter_order=True),
+        now = db_timestamp(session)
+        new_ids = insert_returning_ids(
+            session,
+            "expression",
+            EXPRESSION_COLUMNS,
             [
-                {
-                    "reaction_id": reaction.id,
-                    "origin": "collision-estimate",
-                    "A": row.A,
-                    "n": row.n,
-                    "Ea": row.Ea,
-                    "t_min": row.t_min,
-                    "t_max": row.t_max,
-                    "uncertainty_factor": row.uncertainty_factor,
-                    "reference": (
-                        f"collision theory ({row.collision_model}) x steric factor "
-                        f"{row.steric_factor:.3g} ({row.steric_rule})"
-                    ),
-                    "provenance": detail,
-                    "recommended": False,
-                    "created_by": author,
-                }
+                (
+                    reaction.id,
+                    "collision-estimate",
+                    row.A,
+                    row.n,
+                    row.Ea,
+                    row.t_min,
+                    row.t_max,
+                    row.uncertainty_factor,
+                    f"collision theory ({row.collision_model}) x steric factor "
+                    f"{row.steric_factor:.3g} ({row.steric_rule})",
+                    db_json(session, detail),
+                    False,
+                    1,
+                    now,
+                    author,
+                )
                 for reaction, row, detail in plans
             ],
-        ).all()
+        )
         for (_, row, _), new_id in zip(plans, new_ids, strict=True):
             row.expression_id = new_id
         audit.record_many(
@@ -369,13 +393,18 @@ def _estimate_one(
     model: str,
     sct: Any,
     approximate: Any,
-    R: float,
     np: Any,
+    *,
+    z_ref: float | None = None,
+    e_z: float | None = None,
 ) -> tuple[EstimateRow, dict[str, Any]]:
     ea = partial.Ea
-    z_ref = float(pair.collision_rate(t_ref, model))
-    e_z = float(pair.collision_activation_energy(t_ref, model))
-    e0 = float(sct.threshold_energy_from_activation_energy(ea, t_ref, e_z))
+    if z_ref is None:
+        z_ref = float(pair.collision_rate(t_ref, model))
+    if e_z is None:
+        e_z = float(pair.collision_activation_energy(t_ref, model))
+    # E0 = Ea - E_z(T_ref) (plain arithmetic: E_z is already the model's own)
+    e0 = ea - e_z
     max_deviation = None
     if model == "hard-sphere":
         A = choice.value * z_ref / math.sqrt(t_ref)

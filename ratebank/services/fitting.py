@@ -12,13 +12,14 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
-from sqlalchemy import insert, select
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ratebank.errors import FitError, RatebankError
 from ratebank.services.curate import find_reaction
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.store import audit
+from ratebank.store.bulk import EXPRESSION_COLUMNS, db_json, db_timestamp, insert_returning_ids
 from ratebank.store.models import Expression, MeasurementSet, Point, Reaction
 
 FORMS = ("arrhenius", "modified", "auto")
@@ -203,6 +204,9 @@ def fit_reactions(
     from ratebank.services.partners import collision_pairs
 
     pairs = collision_pairs(session, [by_id[rid] for rid in results])
+    steric_of = _implied_steric_factors(results, pairs)
+    factors_of = _uncertainty_factor_ranges(results)
+    references = _references(session, [sid for info in results.values() for sid in info["sets"]])
     author = session.info.get("author")
     inserts: list[dict[str, Any]] = []
     pending: list[FitRow] = []
@@ -222,27 +226,15 @@ def fit_reactions(
         row.A, row.n, row.Ea = float(fit.A), float(fit.n), float(fit.Ea)
         row.T_min, row.T_max = float(fit.T_min), float(fit.T_max)
         row.reduced_chi_square = _finite(fit.reduced_chi_square)
-        grid = np.geomspace(fit.T_min, fit.T_max, 25)
-        factors = np.asarray(fit.uncertainty_factor(grid), dtype=float)
-        if np.isfinite(factors).all():
-            row.uncertainty_factor_min = float(factors.min())
-            row.uncertainty_factor_max = float(factors.max())
+        row.uncertainty_factor_min, row.uncertainty_factor_max = factors_of.get(rid, (None, None))
         row.warnings = [w.message for w in fit.warnings]
         warnings_codes = [w.code for w in fit.warnings]
         row.message = info["reason"]
-        # steric factor implied by the fit, at the geometric-mean temperature of its data
-        t_mean = float(np.exp(np.mean(np.log(info["points_T"]))))
         pair = pairs.get(rid)
-        steric = None
+        steric, t_mean = steric_of.get(rid, (None, None))
         if isinstance(pair, str):
             row.steric_note = pair
         elif pair is not None:
-            from ratebank.science import collision
-
-            k_mean = float(fit.k(t_mean))
-            ea_local = float(fit.local_activation_energy(t_mean))
-            z = float(pair.collision_rate(t_mean))
-            steric = float(collision.derived_steric_factor(k_mean, ea_local, t_mean, z))
             row.steric_factor = steric
             if pair.uses_estimated_diameter:
                 row.steric_note = "uses an estimated diameter"
@@ -288,7 +280,7 @@ def fit_reactions(
                 "t_min": row.T_min,
                 "t_max": row.T_max,
                 "uncertainty_factor": row.uncertainty_factor_max,
-                "reference": _references(session, info["sets"]),
+                "reference": "; ".join(references[sid] for sid in info["sets"]),
                 "provenance": provenance,
                 "recommended": False,
                 "created_by": author,
@@ -297,9 +289,31 @@ def fit_reactions(
         pending.append(row)
         rows.append(row)
     if inserts:
-        new_ids = session.scalars(
-            insert(Expression).returning(Expression.id, sort_by_parameter_order=True), inserts
-        ).all()
+        now = db_timestamp(session)
+        new_ids = insert_returning_ids(
+            session,
+            "expression",
+            EXPRESSION_COLUMNS,
+            [
+                (
+                    e["reaction_id"],
+                    e["origin"],
+                    e["A"],
+                    e["n"],
+                    e["Ea"],
+                    e["t_min"],
+                    e["t_max"],
+                    e["uncertainty_factor"],
+                    e["reference"],
+                    db_json(session, e["provenance"]),
+                    False,
+                    1,
+                    now,
+                    e["created_by"],
+                )
+                for e in inserts
+            ],
+        )
         for row, new_id in zip(pending, new_ids, strict=True):
             row.expression_id = new_id
         audit.record_many(
@@ -356,15 +370,76 @@ def _same_fit(previous: Expression, row: FitRow, provenance: dict[str, Any]) -> 
     )
 
 
-def _references(session: Session, set_ids: list[int]) -> str:
-    if not set_ids:
-        return ""
-    rows = session.execute(
-        select(MeasurementSet.name, MeasurementSet.reference)
-        .where(MeasurementSet.id.in_(set_ids))
-        .order_by(MeasurementSet.name)
-    ).all()
-    return "; ".join(f"{name}: {ref}" if ref else name for name, ref in rows)
+def _references(session: Session, set_ids: list[int]) -> dict[int, str]:
+    """'set name: reference' of each set, by id."""
+    found: dict[int, str] = {}
+    unique = sorted(set(set_ids))
+    for start in range(0, len(unique), 500):
+        for set_id, name, reference in session.execute(
+            select(MeasurementSet.id, MeasurementSet.name, MeasurementSet.reference).where(
+                MeasurementSet.id.in_(unique[start : start + 500])
+            )
+        ):
+            found[set_id] = f"{name}: {reference}" if reference else name
+    return found
+
+
+def _implied_steric_factors(results, pairs):  # type: ignore[no-untyped-def]
+    """P implied by each fit at the geometric-mean T of its data (hard spheres), vectorized."""
+    import numpy as np
+
+    from ratebank.science import collision
+    from ratebank.science.arrhenius import local_activation_energy, modified_arrhenius
+    from ratebank.services.partners import CollisionPair
+
+    rids = [
+        rid
+        for rid, info in results.items()
+        if isinstance(pairs.get(rid), CollisionPair) and info["batch"].ok[info["row"]]
+    ]
+    if not rids:
+        return {}
+    A = np.array([results[r]["batch"].A[results[r]["row"]] for r in rids])
+    n = np.array([results[r]["batch"].n[results[r]["row"]] for r in rids])
+    Ea = np.array([results[r]["batch"].Ea[results[r]["row"]] for r in rids])
+    t_mean = np.array([np.exp(np.mean(np.log(results[r]["points_T"]))) for r in rids])
+    chosen = [pairs[r] for r in rids]
+    z = collision.collision_rate_constant(
+        t_mean,
+        np.array([p.a.diameter for p in chosen]),
+        np.array([p.b.diameter for p in chosen]),
+        np.array([p.a.molar_mass for p in chosen]),
+        np.array([p.b.molar_mass for p in chosen]),
+    ) * np.where([p.identical for p in chosen], 0.5, 1.0)
+    k_mean = modified_arrhenius(t_mean, A, n, Ea)
+    ea_local = local_activation_energy(t_mean, n, Ea)
+    steric = collision.derived_steric_factor(k_mean, ea_local, t_mean, z)
+    return {rid: (float(p), float(t)) for rid, p, t in zip(rids, steric, t_mean, strict=True)}
+
+
+def _uncertainty_factor_ranges(results):  # type: ignore[no-untyped-def]
+    """(smallest, largest) f(T) over each fit's range, from its covariance, vectorized."""
+    import numpy as np
+
+    from ratebank.science.constants import GAS_CONSTANT
+
+    rids = [rid for rid, info in results.items() if info["batch"].ok[info["row"]]]
+    if not rids:
+        return {}
+    rows = [(results[r]["batch"], results[r]["row"]) for r in rids]
+    low = np.array([b.T_min[i] for b, i in rows])
+    high = np.array([b.T_max[i] for b, i in rows])
+    cov = np.stack([b.covariance[i] for b, i in rows])
+    grid = np.exp(np.linspace(np.log(low), np.log(high), 25, axis=1))  # (m, 25)
+    g = np.stack([np.ones_like(grid), np.log(grid), -1.0 / (GAS_CONSTANT * grid)], axis=-1)
+    variance = np.einsum("mti,mij,mtj->mt", g, cov, g)
+    with np.errstate(invalid="ignore"):
+        factor = np.exp(np.sqrt(np.maximum(variance, 0.0)))
+    ranges = {}
+    for rid, f in zip(rids, factor, strict=True):
+        if np.isfinite(f).all():
+            ranges[rid] = (float(f.min()), float(f.max()))
+    return ranges
 
 
 def single_fit(session: Session, key: str, *, form: str = "auto", fixed_n: float | None = None):  # type: ignore[no-untyped-def]

@@ -12,6 +12,24 @@ from collections.abc import Iterable, Sequence
 
 from sqlalchemy.orm import Session
 
+#: Column order of raw inserts into ``expression`` (the model's column names).
+EXPRESSION_COLUMNS = (
+    "reaction_id",
+    "origin",
+    "pre_exponential",
+    "temperature_exponent",
+    "activation_energy",
+    "t_min",
+    "t_max",
+    "uncertainty_factor",
+    "reference",
+    "provenance",
+    "recommended",
+    "version",
+    "created_at",
+    "created_by",
+)
+
 
 def insert_rows(
     session: Session, table: str, columns: Sequence[str], rows: Iterable[Sequence[object]]
@@ -33,3 +51,68 @@ def insert_rows(
             cursor.executemany(f"INSERT INTO {table} ({column_list}) VALUES ({marks})", rows)
     finally:
         cursor.close()
+
+
+def db_timestamp(session: Session, when: object | None = None) -> object:
+    """A UTC timestamp as the session's database stores it.
+
+    SQLAlchemy keeps SQLite datetimes as naive ISO text; raw inserts must
+    write the same text so the ORM reads them back.
+    """
+    import datetime as dt
+
+    moment = when if isinstance(when, dt.datetime) else dt.datetime.now(dt.UTC)
+    if session.connection().dialect.name == "sqlite":
+        return moment.astimezone(dt.UTC).replace(tzinfo=None).strftime("%Y-%m-%d %H:%M:%S.%f")
+    return moment
+
+
+def insert_returning_ids(
+    session: Session, table: str, columns: Sequence[str], rows: list[Sequence[object]]
+) -> list[int]:
+    """Insert ``rows`` and return their new ids, in order.
+
+    SQLite: the driver's executemany inside the session's write transaction
+    (``BEGIN IMMEDIATE``, so no other writer can interleave), then the ids
+    above the previous maximum. PostgreSQL: ``INSERT ... RETURNING`` per batch.
+    """
+    from sqlalchemy import text
+
+    if not rows:
+        return []
+    connection = session.connection()
+    if connection.dialect.name == "sqlite":
+        before = connection.execute(text(f"SELECT COALESCE(MAX(id), 0) FROM {table}")).scalar()
+        insert_rows(session, table, columns, rows)
+        ids = [
+            row[0]
+            for row in connection.execute(
+                text(f"SELECT id FROM {table} WHERE id > :before ORDER BY id"), {"before": before}
+            )
+        ]
+    else:
+        raw = connection.connection.dbapi_connection
+        assert raw is not None
+        marks = ", ".join(["%s"] * len(columns))
+        statement = f"INSERT INTO {table} ({', '.join(columns)}) VALUES ({marks}) RETURNING id"
+        ids = []
+        with raw.cursor() as cursor:
+            cursor.executemany(statement, rows, returning=True)
+            while True:
+                ids.append(cursor.fetchone()[0])
+                if not cursor.nextset():
+                    break
+    if len(ids) != len(rows):
+        raise RuntimeError(f"inserted {len(rows)} rows into {table} but found {len(ids)} ids")
+    return ids
+
+
+def db_json(session: Session, value: object) -> object:
+    """A JSON value as a raw insert into a JSON column needs it."""
+    import json
+
+    if session.connection().dialect.name == "sqlite":
+        return json.dumps(value)
+    from psycopg.types.json import Json
+
+    return Json(value)
