@@ -142,7 +142,7 @@ SETS: list[SetPlan] = [
             "dm3/mol/s", 0.22, "relative", torr(10), "He", 0.93),
     SetPlan("s09-h-c3h8-lab-d", "h-c3h8", "Lab D", 2, PP_MS, (700, 1300), 8,
             "dm3/mol/s", 0.20, "relative", torr(10), "He", 1.00),
-    SetPlan("s10-o-ch4-lab-b", "o-ch4", "Lab B", 4, ST_RA, (700, 1400), 8,
+    SetPlan("s10-o-ch4-lab-b", "o-ch4", "Lab B", 4, ST_RA, (600, 1800), 10,
             "cm3/mol/s", 0.25, "relative", (1.0, 2.0), "Ar", 1.00),
     SetPlan("s11-o-c2h6-lab-d", "o-c2h6", "Lab D", 3, PP_MS, (500, 1000), 9,
             "dm3/mol/s", 0.18, "relative", torr(10), "He", 1.05),
