@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 
 import pytest
 from helpers.cli import run, snapshot, write
@@ -503,3 +504,39 @@ def test_author_option_wins(store):
     )
     assert result.exit_code == 0
     assert json.loads(run(store, "history", "--json").stdout)[0]["author"] == "grace"
+
+
+def test_reaction_show_has_everything_on_one_screen(filled):
+    run(filled, "fit", "oh-ch4", "--form", "arrhenius")
+    shown = run(
+        filled, "reactions", "show", "oh-ch4", "--units", "atmospheric", "-T", "300", "-T", "1000"
+    )
+    assert shown.exit_code == 0, shown.stderr
+    text = shown.stdout
+    for heading in (
+        "Reaction oh-ch4",
+        "Participants",
+        "M (g/mol)",
+        "d (Å)",
+        "ε/k (K)",
+        "Measurement sets (2)",
+        "Expressions (2), k = A T^n exp(-Ea/RT), atmospheric units",
+        "Ea (K)",
+        "k at a temperature grid (cm3/molecule/s)",
+        "Steric factors",
+        "Check flags (0)",
+        "Recent history",
+    ):
+        assert heading in text, heading
+    assert "exported (newest measured fit)" in text
+    record = json.loads(
+        run(filled, "reactions", "show", "oh-ch4", "--json", "-T", "300", "-T", "1000").stdout
+    )
+    assert record["rates"]["T_K"] == [300.0, 1000.0]
+    assert record["rates"]["k_units"] == "cm3/mol/s"
+    chosen = str(record["chosen_expression"]["id"])
+    fit = next(e for e in record["expressions"] if e["origin"] == "measured-fit")
+    # k = A T^n exp(-Ea/RT) with the listed (combustion-unit) numbers; R from scipy.constants
+    expected = fit["A"] * 300.0 ** fit["n"] * math.exp(-fit["Ea"] * 1000 / (constants.R * 300.0))
+    assert record["rates"]["by_expression"][chosen][0] == pytest.approx(expected, rel=1e-9)
+    assert [h["action"] for h in record["history"]][:1] == ["fit"]
