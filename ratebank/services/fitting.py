@@ -188,6 +188,10 @@ def fit_reactions(
             lst = set_lists.setdefault(rid, [])
             if not lst or lst[-1] != sid:
                 lst.append(sid)
+        # geometric-mean temperature of each group's data, in the batch's group order
+        log_mean_T = np.bincount(
+            two.group_index, weights=np.log(T[mask]), minlength=len(two)
+        ) / np.maximum(two.n_points, 1)
         for i, rid in enumerate(two.groups.tolist()):
             batch = three if chosen[i] else two
             results[rid] = {
@@ -196,7 +200,7 @@ def fit_reactions(
                 "reason": str(reasons[i]),
                 "weighted": weighted,
                 "sets": sorted(set(set_lists.get(rid, []))),
-                "points_T": T[mask][reaction_ids[mask] == rid],
+                "t_mean": float(np.exp(log_mean_T[i])),
             }
 
     progress.start("storing fits", len(results))
@@ -402,7 +406,7 @@ def _implied_steric_factors(results, pairs):  # type: ignore[no-untyped-def]
     A = np.array([results[r]["batch"].A[results[r]["row"]] for r in rids])
     n = np.array([results[r]["batch"].n[results[r]["row"]] for r in rids])
     Ea = np.array([results[r]["batch"].Ea[results[r]["row"]] for r in rids])
-    t_mean = np.array([np.exp(np.mean(np.log(results[r]["points_T"]))) for r in rids])
+    t_mean = np.array([results[r]["t_mean"] for r in rids])
     chosen = [pairs[r] for r in rids]
     z = collision.collision_rate_constant(
         t_mean,

@@ -19,7 +19,12 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import RatebankError, UnitError
 from ratebank.services.curate import find_reaction
-from ratebank.services.selection import Chosen, chosen_expressions, evaluate, uncertainty_factor
+from ratebank.services.selection import (
+    chosen_expressions,
+    chosen_rows,
+    evaluate,
+    uncertainty_factor,
+)
 
 COLUMNS = (
     "key",
@@ -166,11 +171,6 @@ class MechanismTable:
     left_out: list[str] = field(default_factory=list)
 
 
-def _steric_of(chosen: Chosen) -> float | None:
-    value = (chosen.expression.provenance or {}).get("steric_factor")
-    return float(value) if value is not None else None
-
-
 def mechanism_table(
     session: Session,
     *,
@@ -194,12 +194,11 @@ def mechanism_table(
         raise RatebankError("--linearise-at must be a temperature above 0 K")
     if linearise_at is not None and form != "arrhenius":
         raise RatebankError("--linearise-at applies only to --form arrhenius")
-    chosen, gap_reactions = chosen_expressions(session)
-    gaps = [r.key for r in gap_reactions]
+    chosen, gaps = chosen_rows(session)
     if gaps and not leave_out_gaps:
         raise ExportGapsError(gaps)
     if form == "arrhenius" and linearise_at is None:
-        curved = [c.reaction.key for c in chosen if c.expression.n != 0]
+        curved = [c.reaction_key for c in chosen if c.n != 0]
         if curved:
             raise RatebankError(
                 f"{len(curved)} expression(s) have n != 0 and cannot be written as two-parameter "
@@ -207,11 +206,13 @@ def mechanism_table(
                 "local form at T, or export --form modified"
             )
     rows: list[MechanismRow] = []
+    factors: dict[int, float] = {}
     for c in chosen:
-        e = c.expression
-        order = c.reaction.reaction_order
-        assert e.A is not None
-        A, n, Ea = e.A, e.n, e.Ea
+        if c.order not in factors:
+            factors[c.order] = float(rate_from_si(1.0, units.k_unit(c.order), c.order))
+    energy_factor = float(energy_from_si(1.0, units.e_units))
+    for c in chosen:
+        A, n, Ea = c.A, c.n, c.Ea
         linearised = None
         if form == "arrhenius" and n != 0:
             assert linearise_at is not None
@@ -219,24 +220,24 @@ def mechanism_table(
             Ea = float(local_activation_energy(linearise_at, n, Ea))
             n = 0.0
             linearised = linearise_at
-        k_unit = units.k_unit(order)
         rows.append(
             MechanismRow(
-                key=c.reaction.key,
-                equation=c.reaction.equation,
-                order=order,
-                A=float(rate_from_si(A, k_unit, order)),
+                key=c.reaction_key,
+                equation=c.equation,
+                order=c.order,
+                # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged)
+                A=A * factors[c.order],
                 n=float(n),
-                Ea=float(energy_from_si(Ea, units.e_units)),
-                k_units=k_unit,
+                Ea=Ea * energy_factor,
+                k_units=units.k_unit(c.order),
                 Ea_units=units.e_units,
-                T_min_K=e.t_min,
-                T_max_K=e.t_max,
-                origin=e.origin,
-                steric_factor=_steric_of(c),
-                uncertainty_factor=e.uncertainty_factor,
-                references=e.reference or "",
-                expression_id=e.id,
+                T_min_K=c.t_min,
+                T_max_K=c.t_max,
+                origin=c.origin,
+                steric_factor=c.steric_factor,
+                uncertainty_factor=c.uncertainty_factor,
+                references=c.reference or "",
+                expression_id=c.expression_id,
                 chosen_by=c.rule,
                 linearised_at_K=linearised,
             )

@@ -1,17 +1,17 @@
 """A fingerprint of the store's content: SHA-256 over every curated row.
 
 The audit trail is left out (reading or exporting does not change the
-content), and so are timestamps; floats enter with their exact repr. Two
-stores with the same species, reactions, measurements, expressions and
-steric rules have the same fingerprint on SQLite and PostgreSQL.
+content), and so are timestamps and lock versions. Rows are hashed as the
+text of their values in primary-key order; booleans are read as integers and
+JSON columns as their stored text, so that the same content gives the same
+fingerprint on SQLite and PostgreSQL. Floats enter with their exact repr.
 """
 
 from __future__ import annotations
 
 import hashlib
-import json
 
-from sqlalchemy import select
+from sqlalchemy import JSON, Boolean, Integer, Text, cast, select
 from sqlalchemy.orm import Session
 
 from ratebank.store.models import (
@@ -28,14 +28,12 @@ _SKIP = {"created_at", "updated_at", "updated_by", "created_by", "version"}
 TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
 
 
-def _canonical(value: object) -> object:
-    if isinstance(value, float):
-        return repr(value)
-    if isinstance(value, dict):
-        return {k: _canonical(v) for k, v in sorted(value.items())}
-    if isinstance(value, list | tuple):
-        return [_canonical(v) for v in value]
-    return value
+def _selectable(column):  # type: ignore[no-untyped-def]
+    if isinstance(column.type, Boolean):
+        return cast(column, Integer)
+    if isinstance(column.type, JSON):
+        return cast(column, Text)
+    return column
 
 
 def store_fingerprint(session: Session) -> str:
@@ -46,11 +44,11 @@ def store_fingerprint(session: Session) -> str:
         columns = [c for c in table.columns if c.name not in _SKIP]
         digest.update(f"\n#{table.name}:{','.join(c.name for c in columns)}\n".encode())
         result = session.execute(
-            select(*columns)
+            select(*[_selectable(c) for c in columns])
             .order_by(*table.primary_key.columns)
-            .execution_options(yield_per=10_000)
+            .execution_options(yield_per=20_000)
         )
-        for row in result:
-            digest.update(json.dumps([_canonical(v) for v in row], separators=(",", ":")).encode())
+        for partition in result.partitions():
+            digest.update("\n".join(repr(tuple(row)) for row in partition).encode())
             digest.update(b"\n")
     return "sha256:" + digest.hexdigest()

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import os
 
 import numpy as np
 import pytest
@@ -283,3 +284,42 @@ def test_linearise_only_with_two_parameter_form(store):
             linearise_at=300.0,
             leave_out_gaps=True,
         )
+
+
+@pytest.mark.skipif(not os.environ.get("RATEBANK_TEST_PG_URL"), reason="needs PostgreSQL")
+def test_fingerprint_is_the_same_on_sqlite_and_postgresql(tmp_path):
+    """The same imports into both dialects give the same content fingerprint."""
+    import uuid
+
+    from sqlalchemy import create_engine, text
+
+    from ratebank.store.fingerprint import store_fingerprint
+
+    base = os.environ["RATEBANK_TEST_PG_URL"].replace("postgresql://", "postgresql+psycopg://", 1)
+    schema = "rbfp_" + uuid.uuid4().hex[:10]
+    admin = create_engine(base, isolation_level="AUTOCOMMIT")
+    with admin.connect() as connection:
+        connection.execute(text(f'CREATE SCHEMA "{schema}"'))
+    pg_url = f"{base}?options=-csearch_path%3D{schema}"
+    try:
+        prints = []
+        for url in (str(tmp_path / "fp.db"), pg_url):
+            assert run(url, "init").exit_code == 0
+            for command, name, content in (
+                ("species", "s.csv", SPECIES_CSV),
+                ("reactions", "r.csv", REACTIONS_CSV),
+                ("data", "m.csv", MEASUREMENTS_CSV),
+                ("expressions", "e.csv", EXPRESSIONS_CSV),
+            ):
+                assert (
+                    run(url, command, "import", str(write(tmp_path / name, content))).exit_code == 0
+                )
+            handle = open_store(url)
+            with handle.session() as session:
+                prints.append(store_fingerprint(session))
+            handle.close()
+        assert prints[0] == prints[1]
+    finally:
+        with admin.connect() as connection:
+            connection.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
+        admin.dispose()
