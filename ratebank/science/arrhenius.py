@@ -847,6 +847,17 @@ class BatchFit:
             raise FitError(f"Group {group!r} is not in this batch.")
         return row
 
+    def fit_warnings(self, i: int) -> tuple[FitWarning, ...]:
+        """The warnings :meth:`fit` would attach to the i-th group, without building it (O(1))."""
+        return _warnings(
+            self.form,
+            float(self.correlation_n_ea[i]),
+            int(self.dof[i]),
+            self.absolute_sigma,
+            self.T_min[i],
+            self.T_max[i],
+        )
+
     def fit(self, i: int) -> ArrheniusFit:
         """The i-th group's result as an :class:`ArrheniusFit` (O(N) for the residuals).
 

@@ -80,12 +80,22 @@ def _points(session: Session, reaction_ids: list[int] | None):  # type: ignore[n
     )
     if reaction_ids is not None:
         query = query.where(MeasurementSet.reaction_id.in_(reaction_ids))
-    rows = session.execute(query).all()
+    compiled = query.compile(
+        dialect=session.connection().dialect, compile_kwargs={"literal_binds": True}
+    )
+    raw = session.connection().connection.dbapi_connection
+    assert raw is not None
+    cursor = raw.cursor()
+    try:
+        cursor.execute(str(compiled))
+        rows = cursor.fetchall()
+    finally:
+        cursor.close()
     if not rows:
         empty = np.zeros(0)
         return empty.astype(np.int64), empty.astype(np.int64), empty, empty, empty
     reaction, set_id, T, k, u = zip(*rows, strict=True)
-    u_array = np.array([np.nan if x is None else x for x in u], dtype=float)
+    u_array = np.array(u, dtype=float)  # None becomes NaN
     return (
         np.asarray(reaction, dtype=np.int64),
         np.asarray(set_id, dtype=np.int64),
@@ -225,14 +235,16 @@ def fit_reactions(
             row.message = str(batch.status[i])
             rows.append(row)
             continue
-        fit = batch.fit(i)
-        row.form = fit.form
-        row.A, row.n, row.Ea = float(fit.A), float(fit.n), float(fit.Ea)
-        row.T_min, row.T_max = float(fit.T_min), float(fit.T_max)
-        row.reduced_chi_square = _finite(fit.reduced_chi_square)
+        # read the batch's arrays directly: building a full fit object per row costs O(N)
+        warnings = batch.fit_warnings(i)
+        row.form = batch.form
+        row.A, row.n, row.Ea = float(batch.A[i]), float(batch.n[i]), float(batch.Ea[i])
+        row.T_min, row.T_max = float(batch.T_min[i]), float(batch.T_max[i])
+        row.reduced_chi_square = _finite(float(batch.reduced_chi_square[i]))
         row.uncertainty_factor_min, row.uncertainty_factor_max = factors_of.get(rid, (None, None))
-        row.warnings = [w.message for w in fit.warnings]
-        warnings_codes = [w.code for w in fit.warnings]
+        row.warnings = [w.message for w in warnings]
+        warnings_codes = [w.code for w in warnings]
+        fit_covariance = batch.covariance[i]
         row.message = info["reason"]
         pair = pairs.get(rid)
         steric, t_mean = steric_of.get(rid, (None, None))
@@ -242,18 +254,18 @@ def fit_reactions(
             row.steric_factor = steric
             if pair.uses_estimated_diameter:
                 row.steric_note = "uses an estimated diameter"
-        covariance = np.where(np.isfinite(fit.covariance), fit.covariance, 0.0).tolist()
+        covariance = np.where(np.isfinite(fit_covariance), fit_covariance, 0.0).tolist()
         provenance = {
             "method": "weighted linear least squares in ln k"
             if info["weighted"]
             else "unweighted least squares in ln k (covariance scaled by reduced chi-square)",
-            "form": fit.form,
+            "form": batch.form,
             "form_reason": info["reason"],
             "fixed_n": fixed_n,
-            "T_ref": float(fit.T_ref),
+            "T_ref": float(batch.T_ref[i]),
             "covariance": covariance,
             "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
-            "absolute_sigma": bool(fit.absolute_sigma),
+            "absolute_sigma": bool(batch.absolute_sigma),
             "reduced_chi_square": row.reduced_chi_square,
             "n_points": row.n_points,
             "n_sets": row.n_sets,
