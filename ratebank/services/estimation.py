@@ -28,7 +28,12 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import RatebankError
 from ratebank.services.curate import find_reaction
-from ratebank.services.partners import COLLISION_MODELS, CollisionPair, collision_pairs
+from ratebank.services.partners import (
+    COLLISION_MODELS,
+    CollisionPair,
+    collision_pairs,
+    store_estimated_partners,
+)
 from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.services.steric import MINIMUM_ESTIMATE_FACTOR, derived_steric_factors
 from ratebank.store import audit
@@ -107,7 +112,7 @@ class _StericChoice:
 
 
 def _steric_for(
-    reaction: Reaction,
+    reaction: _ReactionRow,
     *,
     given: float | None,
     rules: dict[str, StericRule],
@@ -206,25 +211,11 @@ def estimate(
     if t_range is not None and not (0 < t_range[0] < t_range[1]):
         raise RatebankError("--t-range needs two temperatures, the lower first, both above 0 K")
 
-    if keys:
-        reactions = [find_reaction(session, key) for key in keys]
-    else:
-        query = select(Reaction).order_by(Reaction.key)
-        if reaction_class is not None:
-            query = query.where(Reaction.reaction_class == reaction_class)
-        reactions = list(session.scalars(query))
-    expressions: dict[int, list[Expression]] = {r.id: [] for r in reactions}
-    ids = list(expressions)
-    for start in range(0, len(ids), 500):
-        for e in session.scalars(
-            select(Expression)
-            .where(Expression.reaction_id.in_(ids[start : start + 500]))
-            .order_by(Expression.id)
-        ):
-            expressions[e.reaction_id].append(e)
+    reactions = _reactions(session, keys, reaction_class)
+    expressions = _expressions(session, [r.id for r in reactions])
 
     skipped: list[Skipped] = []
-    candidates: list[tuple[Reaction, Expression]] = []
+    candidates: list[tuple[_ReactionRow, _ExpressionRow]] = []
     for reaction in reactions:
         own = expressions[reaction.id]
         complete = [e for e in own if e.A is not None and e.origin != "collision-estimate"]
@@ -242,10 +233,12 @@ def estimate(
     derived = {g.reaction_class: g for g in derived_steric_factors(session, model=collision)}
 
     rows: list[EstimateRow] = []
-    plans: list[tuple[Reaction, EstimateRow, dict[str, Any]]] = []
+    plans: list[tuple[_ReactionRow, EstimateRow, dict[str, Any]]] = []
     progress = progress or NoProgress()
     progress.start("estimating", len(candidates))
-    ready: list[tuple[Reaction, Expression, CollisionPair, _StericChoice, float, Any, Any]] = []
+    ready: list[
+        tuple[_ReactionRow, _ExpressionRow, CollisionPair, _StericChoice, float, Any, Any]
+    ] = []
     for reaction, partial in candidates:
         progress.advance()
         pair = pairs[reaction.id]
@@ -313,7 +306,7 @@ def estimate(
         raise EstimateIncomplete(EstimateReport(rows, skipped, written=False))
     if plans:
         # store the diameters estimated for the partners actually used, flagged
-        collision_pairs(session, [r for r, _, _ in plans], model=collision, store_estimates=True)
+        store_estimated_partners(session, [pairs[r.id] for r, _, _ in plans])
         author = session.info.get("author")
         replaced: list[int] = []
         for reaction, row, _detail in plans:
@@ -373,7 +366,86 @@ def estimate(
     return EstimateReport(rows, skipped, written=bool(plans))
 
 
-def _why_not_candidate(complete: list[Expression]) -> str:
+@dataclass(frozen=True)
+class _ReactionRow:
+    """The reaction columns estimation reads (a plain row, not an ORM object)."""
+
+    id: int
+    key: str
+    equation: str
+    reaction_order: int
+    third_body: bool
+    reaction_class: str | None
+    steric_factor: float | None
+    steric_source: str | None
+
+
+@dataclass(frozen=True)
+class _ExpressionRow:
+    id: int
+    reaction_id: int
+    origin: str
+    A: float | None
+    Ea: float
+    t_min: float | None
+    t_max: float | None
+    recommended: bool
+
+
+_REACTION_COLUMNS = (
+    Reaction.id,
+    Reaction.key,
+    Reaction.equation,
+    Reaction.reaction_order,
+    Reaction.third_body,
+    Reaction.reaction_class,
+    Reaction.steric_factor,
+    Reaction.steric_source,
+)
+
+
+def _reactions(
+    session: Session, keys: list[str] | None, reaction_class: str | None
+) -> list[_ReactionRow]:
+    if keys:
+        ids = [find_reaction(session, key).id for key in keys]
+        found = {
+            row[0]: _ReactionRow(*row)
+            for row in session.execute(select(*_REACTION_COLUMNS).where(Reaction.id.in_(ids)))
+        }
+        return [found[i] for i in ids]
+    query = select(*_REACTION_COLUMNS).order_by(Reaction.key)
+    if reaction_class is not None:
+        query = query.where(Reaction.reaction_class == reaction_class)
+    return [_ReactionRow(*row) for row in session.execute(query)]
+
+
+def _expressions(session: Session, reaction_ids: list[int]) -> dict[int, list[_ExpressionRow]]:
+    columns = (
+        Expression.id,
+        Expression.reaction_id,
+        Expression.origin,
+        Expression.A,
+        Expression.Ea,
+        Expression.t_min,
+        Expression.t_max,
+        Expression.recommended,
+    )
+    found: dict[int, list[_ExpressionRow]] = {i: [] for i in reaction_ids}
+    query = select(*columns).order_by(Expression.id)
+    if len(reaction_ids) <= 5000:
+        for start in range(0, len(reaction_ids), 500):
+            chunk = reaction_ids[start : start + 500]
+            for row in session.execute(query.where(Expression.reaction_id.in_(chunk))):
+                found[row[1]].append(_ExpressionRow(*row))
+    else:  # most of the store: one pass is cheaper than thousands of IN lists
+        for row in session.execute(query):
+            if row[1] in found:
+                found[row[1]].append(_ExpressionRow(*row))
+    return found
+
+
+def _why_not_candidate(complete: list[_ExpressionRow]) -> str:
     if complete:
         return (
             f"already has a complete {complete[-1].origin} expression; estimates never "
@@ -383,8 +455,8 @@ def _why_not_candidate(complete: list[Expression]) -> str:
 
 
 def _estimate_one(
-    reaction: Reaction,
-    partial: Expression,
+    reaction: _ReactionRow,
+    partial: _ExpressionRow,
     pair: CollisionPair,
     choice: _StericChoice,
     t_ref: float,

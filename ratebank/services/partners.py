@@ -182,14 +182,20 @@ def collision_pairs(
         )
     ids = [r.id for r in reactions]
     reactants: dict[int, list[tuple[int, int]]] = {i: [] for i in ids}
-    for start in range(0, len(ids), 500):
-        chunk = ids[start : start + 500]
-        for reaction_id, species_id, coefficient in session.execute(
-            select(Participant.reaction_id, Participant.species_id, Participant.coefficient).where(
-                Participant.reaction_id.in_(chunk), Participant.role == "reactant"
-            )
-        ):
-            reactants[reaction_id].append((species_id, coefficient))
+    query = select(Participant.reaction_id, Participant.species_id, Participant.coefficient).where(
+        Participant.role == "reactant"
+    )
+    if len(ids) > 5000:  # most of the store: one pass beats thousands of IN lists
+        for reaction_id, species_id, coefficient in session.execute(query):
+            if reaction_id in reactants:
+                reactants[reaction_id].append((species_id, coefficient))
+    else:
+        for start in range(0, len(ids), 500):
+            chunk = ids[start : start + 500]
+            for reaction_id, species_id, coefficient in session.execute(
+                query.where(Participant.reaction_id.in_(chunk))
+            ):
+                reactants[reaction_id].append((species_id, coefficient))
     species_ids = {sid for rows in reactants.values() for sid, _ in rows}
     species: dict[int, Species] = {}
     ordered = sorted(species_ids)
@@ -250,3 +256,36 @@ def collision_pairs(
                 audit.record(session, "species.estimate", row.name, **changed)
         session.flush()
     return result
+
+
+def store_estimated_partners(session: Session, pairs: list[CollisionPair]) -> None:
+    """Write the estimated diameters and well depths these pairs use onto their species.
+
+    Only species that have no value yet are changed; each change is audited
+    with the correlation that produced it.
+    """
+    from sqlalchemy import update
+
+    partners: dict[str, PartnerData] = {}
+    for pair in pairs:
+        for partner in (pair.a, pair.b):
+            if partner.diameter_estimated or partner.well_depth_estimated:
+                partners[partner.name] = partner
+    for name, partner in sorted(partners.items()):
+        species = session.scalar(select(Species).where(Species.name == name))
+        if species is None:
+            continue
+        changed: dict[str, object] = {}
+        if species.diameter is None and partner.diameter_estimated:
+            changed.update(
+                diameter=partner.diameter,
+                diameter_kind="lennard-jones",
+                diameter_method=partner.diameter_method,
+            )
+        if species.well_depth is None and partner.well_depth_estimated:
+            changed.update(
+                well_depth=partner.well_depth, well_depth_method=partner.well_depth_method
+            )
+        if changed:
+            session.execute(update(Species).where(Species.id == species.id).values(**changed))
+            audit.record(session, "species.estimate", name, **changed)

@@ -34,8 +34,9 @@ def record_many(
         return
     at = utc_now()
     author = session.info.get("author") or "unknown"
+    # the table, not the mapped class: a plain executemany, no ORM bookkeeping per row
     session.execute(
-        insert(AuditEntry),
+        insert(AuditEntry.__table__),
         [
             {"at": at, "author": author, "action": action, "target": target, "detail": detail}
             for target, detail in entries
