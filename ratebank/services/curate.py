@@ -317,6 +317,8 @@ class MeasurementImporter:
         )
         self._set_ids: list[int] = []
         self._last_set_id = session.scalar(select(func.max(MeasurementSet.id))) or 0
+        # a savepoint makes the import all-or-nothing even inside a caller's larger transaction
+        self._savepoint = session.begin_nested()
         self.progress.start("importing points", expected_rows)
 
     def add(self, columns: Mapping[str, Sequence[str]], lines: Sequence[int]) -> None:
@@ -397,7 +399,10 @@ class MeasurementImporter:
         )
 
     def finish(self) -> ImportSummary:
-        _raise_problems(self.source, self.problems)
+        if self.problems:
+            self._savepoint.rollback()
+            _raise_problems(self.source, self.problems)
+        self._savepoint.commit()
         sets = len(self.validator.sets)
         if not self.dry_run and self.points:
             audit.record(self.session, "data.import", self.source, sets=sets, points=self.points)
