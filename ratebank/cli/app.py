@@ -12,6 +12,7 @@ from pathlib import Path
 import typer
 
 from ratebank import __version__
+from ratebank.cli import admin as admin_commands
 from ratebank.cli import common
 from ratebank.cli import mechanism as mechanism_commands
 from ratebank.cli import plot as plot_commands
@@ -57,6 +58,7 @@ app.add_typer(data_app, name="data")
 app.add_typer(expressions_app, name="expressions")
 mechanism_commands.register(app)
 plot_commands.register(app, mechanism_commands.steric_app)
+admin_commands.register(app, expressions_app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")

@@ -74,7 +74,8 @@ def print_json(data: Any) -> None:
 def say(message: str) -> None:
     """A summary line on stdout, unless --quiet."""
     if not STATE.quiet:
-        console().print(message, markup=False)
+        # one logical line stays one line, however long, so scripts can read it
+        console().print(_scrub(message), markup=False, soft_wrap=True)
 
 
 def show(*renderables: Any) -> None:
@@ -105,8 +106,25 @@ def _one_line(text: str) -> str:
     return text.strip()
 
 
+def _scrub(text: str) -> str:
+    """``text`` without the password of the store address in use (belt and braces).
+
+    Every address shown is masked where it is made (``mask_url``); this also
+    catches a password that a driver or library echoes in its own words.
+    """
+    if "://" not in (STATE.db or "") and "://" not in os.environ.get("RATEBANK_DB", ""):
+        return text
+    from ratebank.store.engine import redact
+
+    return redact(text, STATE.db, os.environ.get("RATEBANK_DB"))
+
+
 def report_error(message: str) -> None:
-    error_console().print(f"Error: {_one_line(message)}", markup=False)
+    error_console().print(f"Error: {_scrub(_one_line(message))}", markup=False)
+
+
+#: Exit status of a command stopped by Ctrl-C (128 + SIGINT), as shells report it.
+INTERRUPTED_EXIT = 130
 
 
 class RatebankGroup(TyperGroup):
@@ -121,8 +139,14 @@ class RatebankGroup(TyperGroup):
             report_error(str(exc))
             raise typer.Exit(exc.exit_code) from None
         except KeyboardInterrupt:
+            if STATE.traceback:
+                # click turns a KeyboardInterrupt into a bare "Aborted!"; print the trace
+                # ourselves so that --traceback shows where the command was stopped.
+                import traceback
+
+                traceback.print_exc(file=sys.stderr)
             report_error("interrupted; nothing was written by the interrupted command")
-            raise typer.Exit(130) from None
+            raise typer.Exit(INTERRUPTED_EXIT) from None
         except Exception as exc:
             if STATE.traceback or _is_command_line_signal(exc):
                 raise
@@ -140,23 +164,50 @@ def _is_command_line_signal(exc: Exception) -> bool:
 
 def translate_exception(exc: Exception) -> str:
     """A one-line message for a library error, naming what to do next."""
-    from ratebank.store.engine import mask_url
+    from ratebank.store.engine import database_url, explain_sqlite_error, mask_url
 
     try:
-        from sqlalchemy.exc import IntegrityError, OperationalError, SQLAlchemyError
+        from sqlalchemy.exc import (
+            DataError,
+            DBAPIError,
+            IntegrityError,
+            OperationalError,
+            SQLAlchemyError,
+        )
+        from sqlalchemy.orm.exc import StaleDataError
     except ImportError:  # pragma: no cover - sqlalchemy is a dependency
         SQLAlchemyError = ()  # type: ignore[assignment]
+    if isinstance(exc, StaleDataError):
+        # Sessions made by ratebank.store.engine name the row and who changed it; this
+        # is for a StaleDataError that reached here some other way.
+        return (
+            "someone else changed a record you were editing at the same time; nothing was "
+            "written; read it again before changing it"
+        )
     if isinstance(exc, SQLAlchemyError):
         orig = getattr(exc, "orig", None)
         detail = str(orig) if orig is not None else str(exc)
-        detail = mask_url(detail.splitlines()[0]) if detail else type(exc).__name__
-        if isinstance(exc, OperationalError) and "locked" in detail:
-            return (
-                "the store is busy (another ratebank is writing and did not finish within "
-                "the wait); try again"
-            )
+        detail = mask_url(detail.splitlines()[0]) if detail.strip() else type(exc).__name__
+        try:
+            url = database_url(STATE.db)
+        except RatebankError:  # an address that could not have been opened anyway
+            url = ""
+        if url.startswith("sqlite"):
+            explained = explain_sqlite_error(exc, url.split("///", 1)[-1])
+            if explained is not None:
+                return str(explained)
         if isinstance(exc, IntegrityError):
             return f"the store refused the change: {detail}; nothing was written"
+        if isinstance(exc, DataError):
+            # A value validation let through but the database cannot hold (too long, NUL).
+            return f"the store refused a value: {detail}; nothing was written"
+        if isinstance(exc, DBAPIError) and exc.connection_invalidated:
+            return (
+                f"lost the connection to the database server ({detail}); nothing was "
+                "written; try again"
+            )
+        if isinstance(exc, OperationalError) and not url.startswith("sqlite"):
+            return f"the database server reported: {detail}; nothing was written; try again"
         return f"database error: {detail}; nothing was written (rerun with --traceback for details)"
     if isinstance(exc, OSError):
         return f"{exc.strerror or exc}: {exc.filename or ''}".rstrip(": ")

@@ -81,6 +81,16 @@ def _csv_error(name: str, line: int, exc: csv.Error) -> CsvFileError:
     return CsvFileError(f"{name}:{line}: {message}; expected valid CSV")
 
 
+def _without_nul(handle, name: str):  # type: ignore[no-untyped-def]
+    """The file's lines, refusing a NUL character (a binary file, or a broken export)."""
+    for number, line in enumerate(handle, start=1):
+        if "\x00" in line:
+            raise CsvFileError(
+                f"{name}:{number}: contains a NUL character; expected a text CSV file"
+            )
+        yield line
+
+
 def iter_table(
     path: str | Path,
     columns: Sequence[str],
@@ -103,7 +113,7 @@ def iter_table(
     except OSError as exc:
         raise CsvFileError(f"{name}: cannot be read ({exc.strerror})") from None
     with handle:
-        reader = csv.reader(handle, strict=True)
+        reader = csv.reader(_without_nul(handle, name), strict=True)
         try:
             try:
                 header = [h.strip() for h in next(reader)]

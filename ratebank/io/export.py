@@ -150,7 +150,25 @@ def _table_text(table: mechanism.MechanismTable) -> str:
     return buffer.getvalue()
 
 
+#: Temporary files of an export killed half-way are removed after this long [s].
+STALE_TEMPORARY_AGE = 3600.0
+
+
+def _remove_stale_temporaries(target: Path) -> None:
+    import time
+
+    cutoff = time.time() - STALE_TEMPORARY_AGE
+    for leftover in target.parent.glob(f".{target.name}.*.tmp"):
+        try:
+            if leftover.stat().st_mtime < cutoff:
+                leftover.unlink()
+        except OSError:
+            pass
+
+
 def _write_atomically(pairs: list[tuple[Path, str]]) -> None:
+    for target, _ in pairs:
+        _remove_stale_temporaries(target)
     temporary: list[Path] = []
     try:
         for target, text in pairs:

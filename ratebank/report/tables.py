@@ -238,6 +238,7 @@ def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[d
                 "uncertainty_factor": e.uncertainty_factor,
                 "reference": e.reference,
                 "recommended": e.recommended,
+                "version": e.version,
                 "created_at": e.created_at.isoformat() if e.created_at else None,
                 "created_by": e.created_by,
                 "provenance": e.provenance,
@@ -261,6 +262,7 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
         "T (K)",
         "f",
         "reference",
+        "v",
     ):
         table.add_column(header, overflow="fold")
     for r in records:
@@ -275,8 +277,9 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
             trange(r["T_min_K"], r["T_max_K"]),
             sig(r["uncertainty_factor"], 3),
             r["reference"] or "",
+            str(r["version"]),
         )
-    table.caption = "★ recommended by the curator"
+    table.caption = "★ recommended by the curator; v: version (for edits with --expect-version)"
     return table
 
 

@@ -259,9 +259,12 @@ def _link_without_replacing(temp: Path, target: Path) -> None:
 
 def _read_content(path: Path) -> tuple[dict[str, int], str]:
     """Counts and fingerprint of a SQLite store file, opened read-only."""
+    from urllib.parse import quote
+
     from sqlalchemy import create_engine
 
-    engine = create_engine(f"sqlite:///file:{path}?mode=ro&uri=true")
+    uri = f"file:{quote(str(path))}?mode=ro"
+    engine = create_engine("sqlite://", creator=lambda: sqlite3.connect(uri, uri=True))
     try:
         with Session(engine) as session:
             return _content(session)

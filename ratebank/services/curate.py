@@ -702,6 +702,7 @@ class ExpressionSummary:
     created_at: Any
     created_by: str | None
     provenance: dict[str, Any]
+    version: int = 1
 
 
 @dataclass(frozen=True)
@@ -737,6 +738,7 @@ def _expression_summary(e: Expression, reaction: Reaction) -> ExpressionSummary:
         created_at=e.created_at,
         created_by=e.created_by,
         provenance=dict(e.provenance or {}),
+        version=e.version,
     )
 
 

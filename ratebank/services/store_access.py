@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from sqlalchemy import Engine
 from sqlalchemy.orm import Session
@@ -29,9 +29,9 @@ from ratebank.store.schema import InitResult, check_revision, upgrade_store
 class StoreHandle:
     """An opened store: its address (password masked), engine and author."""
 
-    url: str
-    engine: Engine
-    author: str
+    url: str = field(repr=False)  # may hold a password: never in a repr
+    engine: Engine = field(repr=False)
+    author: str = ""
 
     @property
     def display_url(self) -> str:
@@ -71,7 +71,11 @@ def init_store(
 ) -> tuple[StoreHandle, InitResult]:
     """Create the store, or upgrade it to this ratebank's schema; a no-op at head."""
     store = open_store(db, author=author, check=False)
-    result = upgrade_store(store.engine)
+    try:
+        result = upgrade_store(store.engine)
+    except BaseException:
+        store.close()
+        raise
     if result.changed:
         from ratebank.store import audit
 

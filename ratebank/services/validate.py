@@ -114,6 +114,28 @@ class Problems:
         return sorted(self.shown, key=lambda p: (p.line or 0, p.column))
 
 
+#: Longest text the store's columns hold (the same on SQLite and PostgreSQL).
+TEXT_LIMITS = {
+    "name": 200,
+    "formula": 200,
+    "key": 200,
+    "class": 200,
+    "equation": 1000,
+    "set": 200,
+    "bath_gas": 200,
+    "k_units": 100,
+}
+
+
+def too_long(problems: Problems, line: int | None, column: str, value: str | None) -> bool:
+    """Report (and say True) if ``value`` is longer than the store keeps for ``column``."""
+    limit = TEXT_LIMITS.get(column)
+    if value is None or limit is None or len(value) <= limit:
+        return False
+    problems.add(line, column, f"is {len(value)} characters long; the store keeps at most {limit}")
+    return True
+
+
 def blank(value: str | None) -> bool:
     return value is None or value.strip() == ""
 
@@ -199,6 +221,8 @@ def validate_species(
         formula = cell(row, "formula")
         if name is None:
             problems.add(line, "name", "is empty; expected the species name")
+        elif too_long(problems, line, "name", name):
+            name = None
         elif name in seen:
             where = f" (first on line {seen[name]})" if seen[name] is not None else ""
             problems.add(line, "name", f"species {name!r} appears twice in the input{where}")
@@ -209,6 +233,8 @@ def validate_species(
         computed_mass = None
         if formula is None:
             problems.add(line, "formula", "is empty; expected a formula such as CH3OH")
+        elif too_long(problems, line, "formula", formula):
+            formula = None
         else:
             try:
                 computed_mass = molar_mass(parse_formula(formula))
@@ -323,6 +349,8 @@ def validate_reactions(
         text = cell(row, "equation")
         if key is None:
             problems.add(line, "key", "is empty; expected a short unique reaction key")
+        elif too_long(problems, line, "key", key):
+            key = None
         elif any(ch.isspace() for ch in key):
             problems.add(line, "key", f"{key!r} contains spaces; expected a key without spaces")
             key = None
@@ -355,6 +383,10 @@ def validate_reactions(
             problems.add(line, "equation", str(exc))
             continue
         canonical = equation.canonical
+        if too_long(problems, line, "equation", canonical) or too_long(
+            problems, line, "class", cell(row, "class")
+        ):
+            continue
         if equation.order > 3 or equation.order < 1:
             problems.add(
                 line, "equation", f"has order {equation.order}; ratebank stores orders 1 to 3"
@@ -664,6 +696,10 @@ class MeasurementValidator:
         if "" in first_rows:
             for i in (j for j, name in enumerate(set_names) if name == ""):
                 problems.add(lines[i], "set", "is empty; expected the name of the measurement set")
+        for name in first_rows:
+            i = first_rows[name]
+            for column, value in (("set", name), ("bath_gas", baths[i]), ("k_units", units[i])):
+                too_long(problems, lines[i], column, value)
         fresh = [name for name in first_rows if name and name not in self.by_name]
         existing = self.set_exists(fresh) if fresh else set()
         self.resolver.prefetch({reactions[first_rows[name]] for name in fresh})

@@ -1,0 +1,383 @@
+"""Schema evolution: a store written at the first revision keeps every row through the upgrade;
+a store from a newer ratebank is refused by every command and left exactly as it was."""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+
+import pytest
+from helpers.cli import snapshot, write
+from sqlalchemy import select, text
+
+from ratebank.services.store_access import open_store
+from ratebank.store.engine import create_store_engine, database_url
+from ratebank.store.fingerprint import store_fingerprint
+from ratebank.store.models import Base
+from ratebank.store.schema import HEAD_REVISION, KNOWN_REVISIONS, current_revision, upgrade_store
+
+WHEN = dt.datetime(2024, 3, 1, 12, 30, 45, 123456, tzinfo=dt.UTC)
+
+# Rows as the first revision's schema defines them (migrations/versions/0001), in plain
+# SQL: they do not depend on today's models. Floats that round-trip only at full precision,
+# text with quotes and non-ASCII, JSON with nesting, NULLs where the schema allows them.
+ROWS: dict[str, list[dict[str, object]]] = {
+    "species": [
+        {
+            "id": 1,
+            "name": "OH",
+            "formula": "HO",
+            "molar_mass": 0.017007,
+            "molar_mass_source": "formula",
+            "diameter": 3.147e-10,
+            "diameter_kind": "lennard-jones",
+            "diameter_method": "given",
+            "well_depth": 79.8,
+            "well_depth_method": "given",
+            "critical_temperature": None,
+            "critical_pressure": None,
+            "acentric_factor": None,
+            "boiling_volume": None,
+            "source": "Svehla's table, 'as printed' — Ångström",
+            "created_at": WHEN,
+        },
+        {
+            "id": 2,
+            "name": "CH4",
+            "formula": "CH4",
+            "molar_mass": 0.016043,
+            "molar_mass_source": "formula",
+            "diameter": 3.758e-10,
+            "diameter_kind": "lennard-jones",
+            "diameter_method": "given",
+            "well_depth": 148.6,
+            "well_depth_method": "given",
+            "critical_temperature": 190.564,
+            "critical_pressure": 4599200.0,
+            "acentric_factor": 0.011,
+            "boiling_volume": 3.79e-05,
+            "source": None,
+            "created_at": WHEN,
+        },
+        {
+            "id": 3,
+            "name": "CH3",
+            "formula": "CH3",
+            "molar_mass": 0.015035,
+            "molar_mass_source": "formula",
+            "diameter": None,
+            "diameter_kind": None,
+            "diameter_method": None,
+            "well_depth": None,
+            "well_depth_method": None,
+            "critical_temperature": None,
+            "critical_pressure": None,
+            "acentric_factor": None,
+            "boiling_volume": None,
+            "source": None,
+            "created_at": WHEN,
+        },
+        {
+            "id": 4,
+            "name": "H2O",
+            "formula": "H2O",
+            "molar_mass": 0.018015,
+            "molar_mass_source": "given",
+            "diameter": 2.641e-10,
+            "diameter_kind": "lennard-jones",
+            "diameter_method": "given",
+            "well_depth": 809.1,
+            "well_depth_method": "given",
+            "critical_temperature": None,
+            "critical_pressure": None,
+            "acentric_factor": None,
+            "boiling_volume": None,
+            "source": None,
+            "created_at": WHEN,
+        },
+    ],
+    "reaction": [
+        {
+            "id": 1,
+            "key": "oh-ch4",
+            "equation": "CH4 + OH -> CH3 + H2O",
+            "reaction_order": 2,
+            "third_body": False,
+            "reaction_class": "h-abstraction",
+            "notes": "notes with a ' quote",
+            "steric_factor": 0.0123456789012345,
+            "steric_source": "analogy",
+            "created_at": WHEN,
+        }
+    ],
+    "participant": [
+        {"id": 1, "reaction_id": 1, "species_id": 2, "role": "reactant", "coefficient": 1},
+        {"id": 2, "reaction_id": 1, "species_id": 1, "role": "reactant", "coefficient": 1},
+        {"id": 3, "reaction_id": 1, "species_id": 3, "role": "product", "coefficient": 1},
+        {"id": 4, "reaction_id": 1, "species_id": 4, "role": "product", "coefficient": 1},
+    ],
+    "measurement_set": [
+        {
+            "id": 1,
+            "name": "s1",
+            "reaction_id": 1,
+            "reference": "test lab A",
+            "method": "flash photolysis",
+            "bath_gas": "He",
+            "original_k_units": "cm3/molecule/s",
+            "source_file": "points.csv",
+            "created_at": WHEN,
+        }
+    ],
+    "point": [
+        {
+            "id": i + 1,
+            "set_id": 1,
+            "temperature": 300.0 + 50 * i + 0.1,
+            "rate_constant": (6.4e-15 + i * 1.1e-15) * 6.02214076e17,
+            "relative_uncertainty": 0.1 if i % 2 else None,
+            "pressure": 10000.0 if i % 3 else None,
+        }
+        for i in range(12)
+    ],
+    "expression": [
+        {
+            "id": 1,
+            "reaction_id": 1,
+            "origin": "literature",
+            "pre_exponential": 1.114087e-05,
+            "temperature_exponent": 2.82,
+            "activation_energy": 8206.3,
+            "t_min": 200.0,
+            "t_max": 2000.0,
+            "uncertainty_factor": 1.2,
+            "reference": "test review",
+            "provenance": {"source_file": "e.csv", "line": 2, "given_units": {"Ea_units": "K"}},
+            "recommended": True,
+            "version": 3,
+            "created_at": WHEN,
+            "created_by": "ada",
+            "updated_at": WHEN,
+            "updated_by": "grace",
+        },
+        {
+            "id": 2,
+            "reaction_id": 1,
+            "origin": "manual",
+            "pre_exponential": None,
+            "temperature_exponent": 0.0,
+            "activation_energy": -4900.0,
+            "t_min": None,
+            "t_max": None,
+            "uncertainty_factor": None,
+            "reference": None,
+            "provenance": {},
+            "recommended": False,
+            "version": 1,
+            "created_at": WHEN,
+            "created_by": None,
+            "updated_at": None,
+            "updated_by": None,
+        },
+    ],
+    "steric_rule": [
+        {
+            "id": 1,
+            "reaction_class": "h-abstraction",
+            "steric_factor": 0.05,
+            "uncertainty_factor": 3.0,
+            "source": "analogy with OH + C2H6",
+            "note": None,
+            "version": 2,
+            "updated_at": WHEN,
+            "updated_by": "ada",
+        }
+    ],
+    "audit": [
+        {
+            "id": 1,
+            "at": WHEN,
+            "author": "ada",
+            "action": "store.init",
+            "target": None,
+            "detail": {"before": None, "after": "0001"},
+        },
+        {
+            "id": 2,
+            "at": WHEN,
+            "author": "ada",
+            "action": "species.add",
+            "target": "species.csv",
+            "detail": {"count": 4, "names": ["OH", "CH4", "CH3", "H2O"]},
+        },
+    ],
+}
+JSON_COLUMNS = {"provenance", "detail"}
+DATE_COLUMNS = {"created_at", "updated_at", "at"}
+
+
+def _sql_value(column: str, value: object, postgres: bool) -> object:
+    if value is None:
+        return None
+    if column in JSON_COLUMNS:
+        return json.dumps(value)
+    if column in DATE_COLUMNS:
+        assert isinstance(value, dt.datetime)
+        # How each backend's first ratebank stored a UTC time.
+        return value.strftime("%Y-%m-%d %H:%M:%S.%f") + ("+00" if postgres else "")
+    return value
+
+
+def _insert_first_revision_rows(engine) -> None:
+    postgres = engine.dialect.name == "postgresql"
+    with engine.begin() as connection:
+        for table, rows in ROWS.items():
+            columns = list(rows[0])
+            placeholders = ", ".join(f":{c}" for c in columns)
+            statement = text(f"INSERT INTO {table} ({', '.join(columns)}) VALUES ({placeholders})")
+            connection.execute(
+                statement,
+                [{c: _sql_value(c, row[c], postgres) for c in columns} for row in rows],
+            )
+
+
+def _read_all(engine) -> dict[str, list[dict[str, object]]]:
+    with engine.connect() as connection:
+        return {
+            table.name: [
+                dict(row._mapping)
+                for row in connection.execute(select(table).order_by(*table.primary_key.columns))
+            ]
+            for table in Base.metadata.sorted_tables
+        }
+
+
+def _normalised(value: object) -> object:
+    if isinstance(value, dt.datetime):
+        return value.replace(tzinfo=dt.UTC) if value.tzinfo is None else value.astimezone(dt.UTC)
+    return value
+
+
+def test_rows_written_at_the_first_revision_survive_the_upgrade(db_url, cli, tmp_path):
+    engine = create_store_engine(database_url(db_url))
+    try:
+        upgrade_store(engine, KNOWN_REVISIONS[0])
+        _insert_first_revision_rows(engine)
+        if engine.dialect.name == "postgresql":
+            with engine.begin() as connection:  # ids were given explicitly
+                for table in ROWS:
+                    connection.execute(
+                        text(
+                            f"SELECT setval(pg_get_serial_sequence('{table}', 'id'), "
+                            f"(SELECT MAX(id) FROM {table}))"
+                        )
+                    )
+        before = _read_all(engine)
+        old = open_store(db_url, check=False)
+        with old.session() as session:
+            fingerprint_before = store_fingerprint(session)
+        old.close()
+        result = upgrade_store(engine)
+        assert (result.before, result.after) == (KNOWN_REVISIONS[0], HEAD_REVISION)
+        assert current_revision(engine) == HEAD_REVISION
+        after = _read_all(engine)
+    finally:
+        engine.dispose()
+
+    assert after == before
+    # every row is the one written, value for value (floats exactly)
+    for table, rows in ROWS.items():
+        model_table = Base.metadata.tables[table]
+        read = after[table]
+        assert len(read) == len(rows), table
+        for expected, got in zip(rows, read, strict=True):
+            for column, value in expected.items():
+                key = model_table.c[column].name
+                assert _normalised(got[key]) == value, (table, column)
+    store = open_store(db_url)
+    try:
+        with store.session() as session:
+            assert store_fingerprint(session) == fingerprint_before
+    finally:
+        store.close()
+
+    # ... and the upgraded store works: lookups, a fit, an export
+    shown = json.loads(cli(db_url, "reactions", "show", "OH + CH4 -> H2O + CH3", "--json").stdout)
+    assert shown["key"] == "oh-ch4"
+    assert [s["points"] for s in shown["sets"]] == [12]
+    assert {e["origin"] for e in shown["expressions"]} == {"literature", "manual"}
+    assert cli(db_url, "fit", "oh-ch4").exit_code == 0
+    exported = cli(db_url, "export", str(tmp_path / "m.csv"))
+    assert exported.exit_code == 0, exported.stderr
+    assert "oh-ch4" in (tmp_path / "m.csv").read_text(encoding="utf-8")
+    # new rows get fresh ids after the explicitly numbered old ones
+    assert cli(db_url, "species", "add", "O2", "O2").exit_code == 0
+    assert cli(db_url, "species", "show", "O2").exit_code == 0
+
+
+@pytest.fixture
+def newer_store(db_url, cli, tmp_path):
+    assert cli(db_url, "init").exit_code == 0
+    assert cli(db_url, "species", "add", "CH4", "CH4").exit_code == 0
+    engine = create_store_engine(database_url(db_url))
+    with engine.begin() as connection:
+        connection.execute(text("UPDATE alembic_version SET version_num = '0099'"))
+    engine.dispose()
+    return db_url
+
+
+NEWER_COMMANDS = [
+    ["init"],
+    ["species", "list"],
+    ["species", "show", "CH4"],
+    ["species", "add", "O2", "O2"],
+    ["species", "import", "{species_csv}"],
+    ["reactions", "list"],
+    ["data", "list"],
+    ["expressions", "list"],
+    ["expressions", "edit", "1", "--n", "1", "--expect-version", "1"],
+    ["fit"],
+    ["check"],
+    ["history"],
+    ["steric", "set-class", "x", "0.1"],
+    ["export", "{out}"],
+    ["backup", "{backup}"],
+]
+
+
+def test_a_store_from_a_newer_ratebank_is_refused_and_unchanged(newer_store, cli, tmp_path):
+    species_csv = write(tmp_path / "s.csv", "name,formula\nO3,O3\n")
+    names = {"species_csv": str(species_csv), "out": str(tmp_path / "m.csv")}
+    names["backup"] = str(tmp_path / "b.db")
+    engine = create_store_engine(database_url(newer_store))
+    try:
+        for command in NEWER_COMMANDS:
+            args = [part.format(**names) for part in command]
+            before = snapshot(newer_store)
+            outcome = cli(newer_store, *args)
+            assert outcome.exit_code == 1, (command, outcome.stdout)
+            message = outcome.stderr.strip()
+            assert len(message.splitlines()) == 1, command
+            assert message.startswith("Error: "), command
+            if command[0] == "backup" and "postgresql" in newer_store:
+                assert "pg_dump" in message  # refused before it looks at the revision
+            else:
+                assert "schema revision 0099, unknown to ratebank" in message, command
+                assert "newer ratebank" in message, command
+            assert snapshot(newer_store) == before, command
+            assert current_revision(engine) == "0099", command
+            assert not (tmp_path / "m.csv").exists(), command
+            assert not (tmp_path / "b.db").exists(), command
+    finally:
+        engine.dispose()
+
+
+def test_restore_refuses_a_newer_target_and_leaves_it(newer_store, cli, tmp_path):
+    source = tmp_path / "src.db"
+    assert cli(str(source), "init").exit_code == 0
+    assert cli(str(source), "backup", str(tmp_path / "b.db")).exit_code == 0
+    before = snapshot(newer_store)
+    outcome = cli(newer_store, "restore", str(tmp_path / "b.db"))
+    assert outcome.exit_code == 1
+    assert "newer ratebank" in outcome.stderr
+    assert snapshot(newer_store) == before
