@@ -1,7 +1,7 @@
 """CSV importers: read a file, check its header, hand the rows to validation.
 
 Files are UTF-8 (a byte-order mark is accepted) with a header row; column
-names are those of DESIGN section 7a. Unknown columns are an error (a typo must
+names are those of the README (Import files). Unknown columns are an error (a typo must
 not be dropped silently); empty cells mean "not given". Every problem is
 reported as ``FILE:LINE: column: message`` and nothing is written unless the
 whole file is valid.

@@ -1,6 +1,6 @@
 """Write the mechanism table and its descriptor, atomically.
 
-``OUT.csv`` holds the table (DESIGN section 7a columns); ``OUT.resource.json``
+``OUT.csv`` holds the table (the README's column names); ``OUT.resource.json``
 describes it as a Frictionless Tabular Data Resource (the open Table Schema
 standard), with the units, the rate-law convention, the store's content
 fingerprint, the creation time, the tool version and the caution text.

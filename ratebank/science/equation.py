@@ -32,7 +32,7 @@ and ``+ M`` last; single spaces around ``+`` and ``->``. Parsing the canonical
 text gives the same :class:`Equation`, and any reordering of the species of
 an equation gives the same canonical text.
 
-Rate-law convention (DESIGN.md section 3): the rate of reaction is
+Rate-law convention (the README (Units and the rate-law convention)): the rate of reaction is
 r = k prod [X_i]^nu_i over the reactants, so for A + A -> products,
 r = k [A]^2 and d[A]/dt = -2 r.
 """

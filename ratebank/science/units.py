@@ -1,8 +1,8 @@
 """Rate-constant and activation-energy units: a small explicit dimensional parser.
 
 Inside ratebank every rate constant of reaction order n is stored in
-(m^3 mol^-1)^(n-1) s^-1 and every activation energy in J mol^-1 (DESIGN.md
-section 3). This module converts at the boundaries. It holds its own table of
+(m^3 mol^-1)^(n-1) s^-1 and every activation energy in J mol^-1 (the README, Units
+and the rate-law convention). This module converts at the boundaries. It holds its own table of
 a dozen unit symbols instead of a general unit library: the table is short
 enough to read in full and costs nothing at start-up.
 

@@ -133,7 +133,7 @@ def import_species(
     dry_run: bool = False,
     progress: Progress | None = None,
 ) -> ImportSummary:
-    """Validate and add species rows (DESIGN 7a columns); all or nothing."""
+    """Validate and add species rows (README column names); all or nothing."""
     progress = progress or NoProgress()
     progress.start("validating species", len(rows))
     problems = v.Problems()
@@ -423,7 +423,7 @@ def import_measurements(
 ) -> ImportSummary:
     """Validate and add measured points given column-wise; all or nothing.
 
-    ``columns`` maps each DESIGN 7a measurement column to its cell texts
+    ``columns`` maps each measurement column of the README to its cell texts
     ("" when empty); ``lines`` gives each row's line in the source.
     """
     importer = MeasurementImporter(

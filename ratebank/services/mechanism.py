@@ -1,7 +1,7 @@
 """The mechanism table: one row per reaction, in the units the modeller needs.
 
 Also ``rate``: k at given temperatures from the expression that would be
-exported. The table's columns (DESIGN section 7a), in order::
+exported. The table's columns (the README (Import files)), in order::
 
     key, equation, order, A, n, Ea, k_units, Ea_units, T_min_K, T_max_K,
     origin, steric_factor, uncertainty_factor, references

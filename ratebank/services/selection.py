@@ -1,6 +1,6 @@
 """Which expression of a reaction is used (exported, rated, checked), and its k(T).
 
-The precedence (DESIGN section 8): the expression the curator marked
+The precedence (README, The mechanism table): the expression the curator marked
 recommended; otherwise the newest measured fit; otherwise the newest complete
 literature (then hand-entered) expression; otherwise the newest collision
 estimate. Expressions without A are never used.

@@ -1,7 +1,7 @@
 """Steric factors: the curator's rules, per-reaction values, and those implied by measurements.
 
-The steric factor P of a measured reaction is derived from its fit (DESIGN
-section 4): P = k_fit(T_m) / (z(T_m) exp(-E0/RT_m)) at the geometric-mean
+The steric factor P of a measured reaction is derived from its fit (README, Estimates
+and steric factors): P = k_fit(T_m) / (z(T_m) exp(-E0/RT_m)) at the geometric-mean
 temperature T_m of its data, with E0 = Ea_local(T_m) - E_z(T_m). Grouped by
 reaction class, their geometric mean and spread supply P for estimates of the
 class's unmeasured reactions.

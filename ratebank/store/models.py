@@ -1,6 +1,6 @@
 """Typed SQLAlchemy 2.0 models of the ratebank store.
 
-Everything is stored in SI-molar units (DESIGN section 3): k in
+Everything is stored in SI-molar units (README, Units and the rate-law convention): k in
 (m3 mol-1)^(order-1) s-1, energies in J mol-1, T in K, lengths in m, molar
 masses in kg mol-1, pressures in Pa. Conversion happens only at the
 boundaries (import, display, export).

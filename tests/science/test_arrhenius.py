@@ -520,7 +520,7 @@ def test_batch_handles_many_groups_in_one_pass():
 
 def test_modified_arrhenius_approximation_of_a_lennard_jones_estimate():
     # The LJ-corrected collision rate is not of modified-Arrhenius form; the fit's stated
-    # deviation must be the true largest deviation on the grid (DESIGN s4).
+    # deviation must be the true largest deviation on the grid (README, Estimates and steric factors).
     from ratebank.science.collision import lennard_jones_collision_rate_constant
 
     T = np.geomspace(300.0, 2500.0, 40)

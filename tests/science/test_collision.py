@@ -141,7 +141,7 @@ def test_collision_rate_table(row):
     assert omega == pytest.approx(float(row["omega22"]), rel=1e-4)
     z_lj = lennard_jones_collision_rate_constant(T, da, db, ma, mb, ea, eb, per_molecule=True)
     assert z_lj * 1e6 == pytest.approx(float(row["sigma_c_omega"]), rel=1e-4)
-    # The two-parameter A of the half-order estimate is sqrt(e) sigma c (DESIGN s4).
+    # The two-parameter A of the half-order estimate is sqrt(e) sigma c (README, Estimates and steric factors).
     A, _ = half_order_to_arrhenius(z_molecule / math.sqrt(T), 0.0, T)
     assert pytest.approx(float(row["sqrt_e_sigma_c"]), rel=1e-4) == A * 1e6
     if row["half_sigma_c"]:
@@ -213,7 +213,7 @@ def test_lennard_jones_collision_activation_energy(T, Ea_over_R, source):
         T, model="lennard-jones", well_depth_a=e_n2, well_depth_b=e_o2
     )
     assert analytic / R == pytest.approx(Ea_over_R, rel=5e-3)
-    assert analytic < 0.5 * R * T  # Omega falls with T (DESIGN s4)
+    assert analytic < 0.5 * R * T  # Omega falls with T (README, Estimates and steric factors)
 
     def ln_z(t):
         return np.log(lennard_jones_collision_rate_constant(t, d_n2, d_o2, m_n2, m_o2, e_n2, e_o2))
@@ -223,7 +223,7 @@ def test_lennard_jones_collision_activation_energy(T, Ea_over_R, source):
 
 
 def test_threshold_from_lennard_jones_activation_energy_reproduces_ea():
-    # E0 = Ea - E_z(T_ref) with the model's own E_z (DESIGN s4): the estimate's numerical
+    # E0 = Ea - E_z(T_ref) with the model's own E_z (README, Estimates and steric factors): the estimate's numerical
     # Ea at T_ref is then the Ea it was made from (central difference, common practice).
     d_n2, e_n2, m_n2 = poling("7727-37-9")
     d_o2, e_o2, m_o2 = poling("7782-44-7")
@@ -256,9 +256,14 @@ def test_threshold_and_activation_energy_are_inverse():
 @pytest.mark.parametrize(
     ("A_half", "E0", "T_ref", "source"),
     [
-        (4.2e7, 0.0, 298.15, "DESIGN s4: A = A_half sqrt(T_ref) e^(1/2), Ea = E0 + R T_ref/2"),
-        (1.3e5, 35e3, 1000.0, "DESIGN s4"),
-        (2.0e6, -4e3, 220.0, "DESIGN s4"),
+        (
+            4.2e7,
+            0.0,
+            298.15,
+            "README, Estimates and steric factors: A = A_half sqrt(T_ref) e^(1/2), Ea = E0 + R T_ref/2",
+        ),
+        (1.3e5, 35e3, 1000.0, "README, Estimates and steric factors"),
+        (2.0e6, -4e3, 220.0, "README, Estimates and steric factors"),
     ],
 )
 def test_half_order_and_arrhenius_forms_agree_at_t_ref(A_half, E0, T_ref, source):
@@ -277,7 +282,7 @@ def test_half_order_and_arrhenius_forms_agree_at_t_ref(A_half, E0, T_ref, source
 
 
 def test_derived_steric_factor_recovers_p_and_keeps_p_above_one():
-    # P = k / (z exp(-E0/RT)) with E0 = Ea - RT/2 (DESIGN s4); P > 1 is not clipped.
+    # P = k / (z exp(-E0/RT)) with E0 = Ea - RT/2 (README, Estimates and steric factors); P > 1 is not clipped.
     T = np.array([300.0, 300.0])
     z = np.array([1.6e8, 1.6e8])
     P = np.array([3e-3, 4.0])
@@ -436,7 +441,7 @@ def test_collision_rate_scales_as_square_root_of_temperature(T, da, db, ma, mb, 
 
 @given(temperatures, diameters, masses)
 def test_self_reaction_is_half_the_distinguishable_rate(T, d, m):
-    # DESIGN s3: r = k[A]^2 with d[A]/dt = -2r, so z(A + A) = z(A + B with B = A) / 2.
+    # README, rate-law convention: r = k[A]^2 with d[A]/dt = -2r, so z(A + A) = z(A + B with B = A) / 2.
     assert collision_rate_constant(T, d, d, m, m, identical=True) == pytest.approx(
         0.5 * collision_rate_constant(T, d, d, m, m), rel=1e-14
     )

@@ -213,8 +213,16 @@ def test_non_positive_input_is_refused():
 @pytest.mark.parametrize(
     ("formula", "reason", "source"),
     [
-        ("H2", "quantum gas", "REFERENCE-CHECKS s6 (+15-24 % error); DESIGN s4"),
-        ("He", "quantum gas", "REFERENCE-CHECKS s6 (+22-42 % error); DESIGN s4"),
+        (
+            "H2",
+            "quantum gas",
+            "REFERENCE-CHECKS s6 (+15-24 % error); README, Estimates and steric factors",
+        ),
+        (
+            "He",
+            "quantum gas",
+            "REFERENCE-CHECKS s6 (+22-42 % error); README, Estimates and steric factors",
+        ),
         ("D2", "quantum gas", "common practice"),
         ("H2O", "strongly polar", "REFERENCE-CHECKS s6 (+19-33 % error); common practice"),
         ("NH3", "strongly polar", "common practice"),

@@ -290,7 +290,7 @@ def test_atomic_weight_table_pin():
 
 
 # IUPAC 2021 abridged values (Prohaska et al., Pure Appl. Chem. 94, 573 (2022)),
-# from memory; the brief names H, C, N, O and Cl explicitly.
+# from memory; H, C, N, O and Cl are the elements of most species in a mechanism.
 SPOT_WEIGHTS = [
     ("H", 1, 1.008),
     ("He", 2, 4.0026),

@@ -81,7 +81,7 @@ def test_rate_conversion_matches_constants(
         assert converted == pytest.approx(printed, rel=rtol), source
 
 
-# Every spelling the brief and RATE_UNIT_EXAMPLES name, with the order and
+# Every spelling README, Units and the rate-law convention and RATE_UNIT_EXAMPLES name, with the order and
 # SI factor it must give (factors computed from N_A).
 SPELLINGS = [
     ("cm3/molecule/s", 2, 1e-6 * N_A),
