@@ -8,9 +8,12 @@ table (3-4 significant digits, units in the column headers) and JSON records
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
+
+if TYPE_CHECKING:  # the overview pulls in the checks; a listing should not pay for them
+    from ratebank.services.overview import ReactionOverview
 
 from ratebank.report.format import sig, trange
 from ratebank.services.curate import (
@@ -23,7 +26,6 @@ from ratebank.services.curate import (
     SpeciesDetail,
     SpeciesSummary,
 )
-from ratebank.services.overview import ReactionOverview
 
 G_PER_KG = 1e3
 ANGSTROM_PER_M = 1e10
