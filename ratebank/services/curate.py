@@ -66,18 +66,6 @@ def species_formulas(session: Session) -> dict[str, dict[str, int]]:
     }
 
 
-def reaction_resolver(session: Session) -> v.ReactionResolver:
-    by_key: dict[str, v.ReactionRef] = {}
-    by_equation: dict[str, v.ReactionRef] = {}
-    for rid, key, equation, order in session.execute(
-        select(Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order)
-    ):
-        ref = v.ReactionRef(rid, key, order)
-        by_key[key] = ref
-        by_equation[equation] = ref
-    return v.ReactionResolver(by_key, by_equation)
-
-
 def find_reaction(session: Session, key_or_equation: str) -> Reaction:
     """The reaction with this key, or whose equation is any spelling of this one."""
     reaction = session.scalar(select(Reaction).where(Reaction.key == key_or_equation))
@@ -450,7 +438,7 @@ def import_expressions(
     progress = progress or NoProgress()
     progress.start("validating expressions", len(rows))
     problems = v.Problems()
-    records = v.validate_expressions(rows, reaction_resolver(session), problems)
+    records = v.validate_expressions(rows, LazyReactionResolver(session), problems)
     progress.advance(len(rows))
     _raise_problems(source, problems)
     if not dry_run and records:

@@ -9,14 +9,12 @@ checks that walk it) untouched.
 from __future__ import annotations
 
 import copy
-import os
-import uuid
 from collections.abc import Callable, Iterator
 from pathlib import Path
 
 import pytest
 from helpers.cli import Outcome
-from sqlalchemy import create_engine, text
+from helpers.pg import pg_base_url, scratch_schema
 from typer.testing import CliRunner
 
 HERE = Path(__file__).resolve().parent
@@ -88,19 +86,7 @@ def postgres_url() -> Iterator[str]:
     Property tests run many examples; they run fully on SQLite (``sqlite_url``)
     and with fewer examples here, where each example costs more.
     """
-    base = os.environ.get("RATEBANK_TEST_PG_URL")
-    if not base:
+    if pg_base_url() is None:
         pytest.skip("needs RATEBANK_TEST_PG_URL")
-    if base.startswith("postgresql://"):
-        base = "postgresql+psycopg://" + base.split("://", 1)[1]
-    schema = "rbtest_" + uuid.uuid4().hex[:12]
-    admin = create_engine(base, isolation_level="AUTOCOMMIT")
-    with admin.connect() as connection:
-        connection.execute(text(f'CREATE SCHEMA "{schema}"'))
-    separator = "&" if "?" in base else "?"
-    try:
-        yield f"{base}{separator}options=-csearch_path%3D{schema}"
-    finally:
-        with admin.connect() as connection:
-            connection.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
-        admin.dispose()
+    with scratch_schema() as url:
+        yield url

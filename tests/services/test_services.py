@@ -289,20 +289,12 @@ def test_linearise_only_with_two_parameter_form(store):
 @pytest.mark.skipif(not os.environ.get("RATEBANK_TEST_PG_URL"), reason="needs PostgreSQL")
 def test_fingerprint_is_the_same_on_sqlite_and_postgresql(tmp_path):
     """The same imports into both dialects give the same content fingerprint."""
-    import uuid
-
-    from sqlalchemy import create_engine, text
+    from helpers.pg import scratch_schema
 
     from ratebank.store.fingerprint import store_fingerprint
 
-    base = os.environ["RATEBANK_TEST_PG_URL"].replace("postgresql://", "postgresql+psycopg://", 1)
-    schema = "rbfp_" + uuid.uuid4().hex[:10]
-    admin = create_engine(base, isolation_level="AUTOCOMMIT")
-    with admin.connect() as connection:
-        connection.execute(text(f'CREATE SCHEMA "{schema}"'))
-    pg_url = f"{base}?options=-csearch_path%3D{schema}"
-    try:
-        prints = []
+    prints = []
+    with scratch_schema() as pg_url:
         for url in (str(tmp_path / "fp.db"), pg_url):
             assert run(url, "init").exit_code == 0
             for command, name, content in (
@@ -311,15 +303,10 @@ def test_fingerprint_is_the_same_on_sqlite_and_postgresql(tmp_path):
                 ("data", "m.csv", MEASUREMENTS_CSV),
                 ("expressions", "e.csv", EXPRESSIONS_CSV),
             ):
-                assert (
-                    run(url, command, "import", str(write(tmp_path / name, content))).exit_code == 0
-                )
+                path = write(tmp_path / name, content)
+                assert run(url, command, "import", str(path)).exit_code == 0
             handle = open_store(url)
             with handle.session() as session:
                 prints.append(store_fingerprint(session))
             handle.close()
-        assert prints[0] == prints[1]
-    finally:
-        with admin.connect() as connection:
-            connection.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
-        admin.dispose()
+    assert prints[0] == prints[1]
