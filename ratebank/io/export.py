@@ -14,11 +14,11 @@ from __future__ import annotations
 import csv
 import datetime as dt
 import io
-import json
 import os
 import re
 import tempfile
 from dataclasses import dataclass
+from operator import itemgetter
 from pathlib import Path
 from typing import Any
 
@@ -27,6 +27,7 @@ from sqlalchemy.orm import Session
 from ratebank import __version__
 from ratebank.errors import RatebankError
 from ratebank.services import mechanism
+from ratebank.store import json_codec
 from ratebank.store.fingerprint import store_fingerprint
 
 
@@ -46,11 +47,6 @@ class ExportResult:
 def descriptor_path_for(out: Path) -> Path:
     name = out.name[: -len(".csv")] if out.name.lower().endswith(".csv") else out.name
     return out.with_name(name + ".resource.json")
-
-
-def _number(value: float | None) -> str:
-    # repr is the shortest text that reads back as the same float: full precision.
-    return "" if value is None else repr(float(value))
 
 
 def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
@@ -128,25 +124,10 @@ def _table_text(table: mechanism.MechanismTable) -> str:
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(mechanism.COLUMNS)
-    for row in table.rows:
-        writer.writerow(
-            [
-                row.key,
-                row.equation,
-                row.order,
-                _number(row.A),
-                _number(row.n),
-                _number(row.Ea),
-                row.k_units,
-                row.Ea_units,
-                _number(row.T_min_K),
-                _number(row.T_max_K),
-                row.origin,
-                _number(row.steric_factor),
-                _number(row.uncertainty_factor),
-                row.references,
-            ]
-        )
+    # Rows start with the table's columns. The csv module writes a float as its
+    # repr, the shortest text that reads back as the same float (full
+    # precision), and None as an empty cell.
+    writer.writerows(map(itemgetter(slice(0, len(mechanism.COLUMNS))), table.rows))
     return buffer.getvalue()
 
 
@@ -270,7 +251,8 @@ def export_mechanism(
     _write_atomically(
         [
             (out, _table_text(table)),
-            (descriptor_path, json.dumps(descriptor, indent=2, ensure_ascii=False) + "\n"),
+            # a mechanism's descriptor lists every reaction: the C encoder, not json's
+            (descriptor_path, json_codec.dumps_indented(descriptor) + "\n"),
         ]
     )
     from ratebank.store import audit

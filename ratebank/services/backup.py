@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from sqlalchemy import DateTime, Engine, func, insert, select, text
+from sqlalchemy import JSON, DateTime, Engine, Text, cast, func, select, text
 from sqlalchemy.orm import Session
 
 from ratebank.errors import ConflictError, RatebankError, StoreRevisionError
@@ -426,7 +426,7 @@ def _restore(
         session.execute(AuditEntry.__table__.delete())
         with backup_engine.connect() as backup:
             for table in Base.metadata.sorted_tables:
-                _copy_table(session, backup, table, utc_naive=target_is_postgres)
+                _copy_table(session, backup, table)
         if target_is_postgres:
             _advance_sequences(session)
         counts, fingerprint = _content(session)
@@ -459,30 +459,42 @@ def _restore(
     )
 
 
-def _copy_table(session: Session, backup: Any, table: Any, *, utc_naive: bool) -> None:
+def _copy_table(session: Session, backup: Any, table: Any) -> None:
     from ratebank.store.bulk import insert_rows
 
     names = [column.name for column in table.columns]
     dates = [i for i, column in enumerate(table.columns) if isinstance(column.type, DateTime)]
+    # JSON travels as its stored text, byte for byte: the content fingerprint
+    # hashes that text, and decoding and re-encoding could respell it
+    selected = [
+        cast(column, Text) if isinstance(column.type, JSON) else column for column in table.columns
+    ]
     result = backup.execute(
-        select(table)
+        select(*selected)
         .order_by(*table.primary_key.columns)
         .execution_options(yield_per=RESTORE_CHUNK)
     )
+    target_is_sqlite = session.connection().dialect.name == "sqlite"
     for rows in result.partitions():
         values = [list(row) for row in rows]
-        if utc_naive and dates:
-            # SQLite hands back naive datetimes; ratebank wrote them in UTC, and a
-            # PostgreSQL server would otherwise read them in its own time zone.
+        if dates:
             for row in values:
                 for i in dates:
-                    if isinstance(row[i], dt.datetime) and row[i].tzinfo is None:
-                        row[i] = row[i].replace(tzinfo=dt.UTC)
-        if table.name == "point":
-            # Points arrive by the hundred thousand: the driver's bulk path.
-            insert_rows(session, table.name, names, values)
-        else:
-            session.execute(insert(table), [dict(zip(names, row, strict=True)) for row in values])
+                    moment = row[i]
+                    if not isinstance(moment, dt.datetime):
+                        continue
+                    if moment.tzinfo is not None:
+                        moment = moment.astimezone(dt.UTC).replace(tzinfo=None)
+                    # ratebank writes UTC: naive text for SQLite (as SQLAlchemy does), and
+                    # an aware value for PostgreSQL, which would otherwise read it in the
+                    # server's own time zone
+                    row[i] = (
+                        moment.strftime("%Y-%m-%d %H:%M:%S.%f")
+                        if target_is_sqlite
+                        else moment.replace(tzinfo=dt.UTC)
+                    )
+        # the driver's bulk path for every table: points arrive by the hundred thousand
+        insert_rows(session, table.name, names, values)
 
 
 def _advance_sequences(session: Session) -> None:

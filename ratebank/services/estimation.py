@@ -37,7 +37,13 @@ from ratebank.services.partners import (
 from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.services.steric import MINIMUM_ESTIMATE_FACTOR, derived_steric_factors
 from ratebank.store import audit
-from ratebank.store.bulk import EXPRESSION_COLUMNS, db_json, db_timestamp, insert_returning_ids
+from ratebank.store.bulk import (
+    EXPRESSION_COLUMNS,
+    db_timestamp,
+    fetch_all,
+    insert_returning_ids,
+    json_adapter,
+)
 from ratebank.store.models import Expression, Reaction, StericRule
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
@@ -226,9 +232,7 @@ def estimate(
             continue
         candidates.append((reaction, partial[-1]))
 
-    pairs = collision_pairs(
-        session, [r for r, _ in candidates], model=collision, store_estimates=False
-    )
+    pairs = collision_pairs(session, [r for r, _ in candidates], model=collision)
     rules = {r.reaction_class: r for r in session.scalars(select(StericRule))}
     derived = {g.reaction_class: g for g in derived_steric_factors(session, model=collision)}
 
@@ -279,6 +283,9 @@ def estimate(
         # A + A: mu = m/2 comes out of the same formula; the 1/2 is ratebank's rate law
         z_ref = np.where([p.identical for p in pairs_ready], 0.5, 1.0) * distinct
         e_z = np.asarray(sct.collision_rate_activation_energy(T_ref, model="hard-sphere"))
+    z_ref_list = np.broadcast_to(z_ref, (len(ready),)).tolist()
+    e_z_list = np.broadcast_to(e_z, (len(ready),)).tolist()
+    partner_records: dict[int, dict[str, object]] = {}  # one record per species, shared
     for i, (reaction, partial, pair, choice, reference_t, t_min, t_max) in enumerate(ready):
         try:
             row, detail = _estimate_one(
@@ -293,8 +300,9 @@ def estimate(
                 sct,
                 approximate_with_modified_arrhenius,
                 np,
-                z_ref=float(z_ref[i]) if collision == "hard-sphere" else None,
-                e_z=float(e_z[i]) if collision == "hard-sphere" else None,
+                z_ref=z_ref_list[i] if collision == "hard-sphere" else None,
+                e_z=e_z_list[i] if collision == "hard-sphere" else None,
+                partner_records=partner_records,
             )
         except (ValueError, RatebankError) as exc:
             skipped.append(Skipped(reaction.key, f"collision model failed: {exc}"))
@@ -319,6 +327,7 @@ def estimate(
         for start, stop in chunks(len(replaced), 500):
             session.execute(delete(Expression).where(Expression.id.in_(replaced[start:stop])))
         now = db_timestamp(session)
+        encode = json_adapter(session)
         new_ids = insert_returning_ids(
             session,
             "expression",
@@ -335,7 +344,7 @@ def estimate(
                     row.uncertainty_factor,
                     f"collision theory ({row.collision_model}) x steric factor "
                     f"{row.steric_factor:.3g} ({row.steric_rule})",
-                    db_json(session, detail),
+                    encode(detail),
                     False,
                     1,
                     now,
@@ -417,7 +426,9 @@ def _reactions(
     query = select(*_REACTION_COLUMNS).order_by(Reaction.key)
     if reaction_class is not None:
         query = query.where(Reaction.reaction_class == reaction_class)
-    return [_ReactionRow(*row) for row in session.execute(query)]
+        return [_ReactionRow(*row) for row in session.execute(query)]
+    # the whole store: plain rows through the driver
+    return [_ReactionRow(*row) for row in fetch_all(session, query)]
 
 
 def _expressions(session: Session, reaction_ids: list[int]) -> dict[int, list[_ExpressionRow]]:
@@ -438,8 +449,8 @@ def _expressions(session: Session, reaction_ids: list[int]) -> dict[int, list[_E
             chunk = reaction_ids[start : start + 500]
             for row in session.execute(query.where(Expression.reaction_id.in_(chunk))):
                 found[row[1]].append(_ExpressionRow(*row))
-    else:  # most of the store: one pass is cheaper than thousands of IN lists
-        for row in session.execute(query):
+    else:  # most of the store: one pass through the driver beats thousands of IN lists
+        for row in fetch_all(session, query):
             if row[1] in found:
                 found[row[1]].append(_ExpressionRow(*row))
     return found
@@ -469,6 +480,7 @@ def _estimate_one(
     *,
     z_ref: float | None = None,
     e_z: float | None = None,
+    partner_records: dict[int, dict[str, object]] | None = None,
 ) -> tuple[EstimateRow, dict[str, Any]]:
     ea = partial.Ea
     if z_ref is None:
@@ -526,7 +538,7 @@ def _estimate_one(
         "T_ref": row.T_ref,
         "collision_rate_at_T_ref_SI": z_ref,
         "self_reaction": pair.identical,
-        "partners": pair.as_record(),
+        "partners": pair.as_record(cache=partner_records),
         "estimated_diameters": row.estimated_diameters,
         "form": "n = 1/2 exactly" if model == "hard-sphere" else "modified-Arrhenius fit",
         "max_relative_deviation_of_fit": max_deviation,

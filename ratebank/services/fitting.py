@@ -10,7 +10,7 @@ covariance then scaled by the reduced chi-square.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
@@ -19,8 +19,14 @@ from ratebank.errors import FitError, RatebankError
 from ratebank.services.curate import find_reaction
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.store import audit
-from ratebank.store.bulk import EXPRESSION_COLUMNS, db_json, db_timestamp, insert_returning_ids
-from ratebank.store.models import Expression, MeasurementSet, Point, Reaction
+from ratebank.store.bulk import (
+    EXPRESSION_COLUMNS,
+    db_timestamp,
+    fetch_in,
+    insert_returning_ids,
+    json_adapter,
+)
+from ratebank.store.models import MeasurementSet, Point
 
 FORMS = ("arrhenius", "modified", "auto")
 
@@ -140,12 +146,7 @@ def fit_reactions(
     if keys:
         by_id = {r.id: r for r in reactions}
     else:
-        present = sorted(set(reaction_ids.tolist()))
-        by_id = (
-            {r.id: r for r in session.scalars(select(Reaction).where(Reaction.id.in_(present)))}
-            if present
-            else {}
-        )
+        by_id = _reaction_rows(session, np.unique(reaction_ids).tolist())
     rows: list[FitRow] = []
     if keys:
         for reaction in reactions:
@@ -224,37 +225,41 @@ def fit_reactions(
     author = session.info.get("author")
     inserts: list[dict[str, Any]] = []
     pending: list[FitRow] = []
+    listed: dict[int, dict[str, list[Any]]] = {}
+    partner_records: dict[int, dict[str, object]] = {}  # one record per species, shared
     for rid in sorted(results, key=lambda r: by_id[r].key):
         info = results[rid]
         reaction = by_id[rid]
         batch, i = info["batch"], info["row"]
+        # the batch's arrays as lists, once: numpy scalar indexing per row is slow
+        arrays = listed.get(id(batch))
+        if arrays is None:
+            arrays = listed[id(batch)] = _listed(batch)
         row = FitRow(reaction.key, reaction.equation, reaction.reaction_order, "failed", "")
-        row.n_points = int(batch.n_points[i])
+        row.n_points = arrays["n_points"][i]
         row.n_sets = len(info["sets"])
-        if not batch.ok[i]:
+        if not arrays["ok"][i]:
             row.message = str(batch.status[i])
             rows.append(row)
             continue
-        # read the batch's arrays directly: building a full fit object per row costs O(N)
         warnings = batch.fit_warnings(i)
         row.form = batch.form
-        row.A, row.n, row.Ea = float(batch.A[i]), float(batch.n[i]), float(batch.Ea[i])
-        row.T_min, row.T_max = float(batch.T_min[i]), float(batch.T_max[i])
-        row.reduced_chi_square = _finite(float(batch.reduced_chi_square[i]))
+        row.A, row.n, row.Ea = arrays["A"][i], arrays["n"][i], arrays["Ea"][i]
+        row.T_min, row.T_max = arrays["T_min"][i], arrays["T_max"][i]
+        row.reduced_chi_square = _finite(arrays["reduced_chi_square"][i])
         row.uncertainty_factor_min, row.uncertainty_factor_max = factors_of.get(rid, (None, None))
         row.warnings = [w.message for w in warnings]
-        warnings_codes = [w.code for w in warnings]
-        fit_covariance = batch.covariance[i]
         row.message = info["reason"]
         pair = pairs.get(rid)
         steric, t_mean = steric_of.get(rid, (None, None))
+        partners = None
         if isinstance(pair, str):
             row.steric_note = pair
         elif pair is not None:
             row.steric_factor = steric
             if pair.uses_estimated_diameter:
                 row.steric_note = "uses an estimated diameter"
-        covariance = np.where(np.isfinite(fit_covariance), fit_covariance, 0.0).tolist()
+            partners = pair.as_record(cache=partner_records)
         provenance = {
             "method": "weighted linear least squares in ln k"
             if info["weighted"]
@@ -262,21 +267,19 @@ def fit_reactions(
             "form": batch.form,
             "form_reason": info["reason"],
             "fixed_n": fixed_n,
-            "T_ref": float(batch.T_ref[i]),
-            "covariance": covariance,
+            "T_ref": arrays["T_ref"][i],
+            "covariance": arrays["covariance"][i],
             "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
             "absolute_sigma": bool(batch.absolute_sigma),
             "reduced_chi_square": row.reduced_chi_square,
             "n_points": row.n_points,
             "n_sets": row.n_sets,
             "set_ids": info["sets"],
-            "warnings": warnings_codes,
+            "warnings": [w.code for w in warnings],
             "steric_factor": steric,
             "steric_factor_T_K": t_mean if steric is not None else None,
             "steric_factor_model": "hard-sphere" if steric is not None else None,
-            "partners": pair.as_record()
-            if pair is not None and not isinstance(pair, str)
-            else None,
+            "partners": partners,
         }
         progress.advance()
         previous = newest_fit.get(rid)
@@ -306,6 +309,7 @@ def fit_reactions(
         rows.append(row)
     if inserts:
         now = db_timestamp(session)
+        encode = json_adapter(session)
         new_ids = insert_returning_ids(
             session,
             "expression",
@@ -321,7 +325,7 @@ def fit_reactions(
                     e["t_max"],
                     e["uncertainty_factor"],
                     e["reference"],
-                    db_json(session, e["provenance"]),
+                    encode(e["provenance"]),
                     False,
                     1,
                     now,
@@ -352,28 +356,68 @@ def fit_reactions(
     return FitReport(rows)
 
 
+def _listed(batch: Any) -> dict[str, list[Any]]:
+    """The per-group arrays of a batch fit as Python lists (covariance: non-finite as 0)."""
+    import numpy as np
+
+    covariance = np.where(np.isfinite(batch.covariance), batch.covariance, 0.0)
+    lists = {
+        name: getattr(batch, name).tolist()
+        for name in ("ok", "n_points", "A", "n", "Ea", "T_min", "T_max", "reduced_chi_square")
+    }
+    lists["T_ref"] = np.broadcast_to(batch.T_ref, batch.A.shape).tolist()
+    lists["covariance"] = covariance.tolist()
+    return lists
+
+
 def _finite(value: float) -> float | None:
     import math
 
     return float(value) if math.isfinite(value) else None
 
 
-def _newest_fits(session: Session, reaction_ids: list[int]) -> dict[int, Expression]:
-    newest: dict[int, Expression] = {}
-    for start in range(0, len(reaction_ids), 500):
-        for e in session.scalars(
-            select(Expression)
-            .where(
-                Expression.reaction_id.in_(reaction_ids[start : start + 500]),
-                Expression.origin == "measured-fit",
-            )
-            .order_by(Expression.id)
-        ):
-            newest[e.reaction_id] = e
+class ReactionRow(NamedTuple):
+    id: int
+    key: str
+    equation: str
+    reaction_order: int
+    third_body: bool
+
+
+def _reaction_rows(session: Session, reaction_ids: list[int]) -> dict[int, ReactionRow]:
+    """The reactions of ``reaction_ids`` as light rows, by id (no ORM objects)."""
+    query = (
+        "SELECT id, key, equation, reaction_order, third_body FROM reaction WHERE id IN ({marks})"
+    )
+    return {row[0]: ReactionRow(*row) for row in fetch_in(session, query, reaction_ids)}
+
+
+class StoredFit(NamedTuple):
+    id: int
+    reaction_id: int
+    A: float | None
+    Ea: float
+    provenance: dict[str, Any]
+
+
+def _newest_fits(session: Session, reaction_ids: list[int]) -> dict[int, StoredFit]:
+    """The newest measured fit of each reaction."""
+    from ratebank.store.json_codec import loads
+
+    query = (
+        "SELECT id, reaction_id, pre_exponential, activation_energy, provenance FROM expression "
+        "WHERE id IN (SELECT MAX(id) FROM expression WHERE origin = 'measured-fit' "
+        "AND reaction_id IN ({marks}) GROUP BY reaction_id)"
+    )
+    newest = {}
+    for eid, rid, A, Ea, provenance in fetch_in(session, query, reaction_ids):
+        # PostgreSQL's driver has decoded the JSON already; SQLite hands over text
+        record = loads(provenance) if isinstance(provenance, (str, bytes)) else provenance
+        newest[rid] = StoredFit(eid, rid, A, Ea, record or {})
     return newest
 
 
-def _same_fit(previous: Expression, row: FitRow, provenance: dict[str, Any]) -> bool:
+def _same_fit(previous: Any, row: FitRow, provenance: dict[str, Any]) -> bool:
     old = previous.provenance or {}
     return (
         old.get("set_ids") == provenance["set_ids"]
@@ -388,16 +432,11 @@ def _same_fit(previous: Expression, row: FitRow, provenance: dict[str, Any]) -> 
 
 def _references(session: Session, set_ids: list[int]) -> dict[int, str]:
     """'set name: reference' of each set, by id."""
-    found: dict[int, str] = {}
-    unique = sorted(set(set_ids))
-    for start in range(0, len(unique), 500):
-        for set_id, name, reference in session.execute(
-            select(MeasurementSet.id, MeasurementSet.name, MeasurementSet.reference).where(
-                MeasurementSet.id.in_(unique[start : start + 500])
-            )
-        ):
-            found[set_id] = f"{name}: {reference}" if reference else name
-    return found
+    query = "SELECT id, name, reference FROM measurement_set WHERE id IN ({marks})"
+    return {
+        set_id: f"{name}: {reference}" if reference else name
+        for set_id, name, reference in fetch_in(session, query, sorted(set(set_ids)))
+    }
 
 
 def _implied_steric_factors(results, pairs):  # type: ignore[no-untyped-def]
@@ -451,11 +490,11 @@ def _uncertainty_factor_ranges(results):  # type: ignore[no-untyped-def]
     variance = np.einsum("mti,mij,mtj->mt", g, cov, g)
     with np.errstate(invalid="ignore"):
         factor = np.exp(np.sqrt(np.maximum(variance, 0.0)))
-    ranges = {}
-    for rid, f in zip(rids, factor, strict=True):
-        if np.isfinite(f).all():
-            ranges[rid] = (float(f.min()), float(f.max()))
-    return ranges
+    finite = np.isfinite(factor).all(axis=1).tolist()
+    smallest, largest = factor.min(axis=1).tolist(), factor.max(axis=1).tolist()
+    return {
+        rid: (lo, hi) for rid, ok, lo, hi in zip(rids, finite, smallest, largest, strict=True) if ok
+    }
 
 
 def single_fit(session: Session, key: str, *, form: str = "auto", fixed_n: float | None = None):  # type: ignore[no-untyped-def]

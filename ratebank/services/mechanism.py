@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 from sqlalchemy.orm import Session
 
@@ -138,8 +138,9 @@ def export_units(
     return ExportUnits(label, k_map, e)
 
 
-@dataclass
-class MechanismRow:
+class MechanismRow(NamedTuple):
+    """One exported row; the first fields, in order, are the table's COLUMNS."""
+
     key: str
     equation: str
     order: int

@@ -8,14 +8,17 @@ estimating command stores it on the species with its method.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
+from typing import Any, NamedTuple
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ratebank.errors import DiameterError, RatebankError
 from ratebank.store import audit
-from ratebank.store.models import Participant, Reaction, Species
+from ratebank.store.bulk import fetch_in
+from ratebank.store.models import Species
 
 COLLISION_MODELS = ("hard-sphere", "lennard-jones")
 
@@ -104,15 +107,28 @@ class CollisionPair:
             )
         return collision.collision_rate_activation_energy(T, model="hard-sphere")
 
-    def as_record(self) -> dict[str, object]:
-        return {"identical": self.identical, "a": self.a.as_record(), "b": self.b.as_record()}
+    def as_record(self, cache: dict[int, dict[str, object]] | None = None) -> dict[str, object]:
+        """The pair for a provenance record; ``cache`` shares one record per partner.
+
+        Partners are shared objects across a whole mechanism's pairs, so a
+        record per partner (keyed by object identity) is built once.
+        """
+        if cache is None:
+            return {"identical": self.identical, "a": self.a.as_record(), "b": self.b.as_record()}
+        records = []
+        for partner in (self.a, self.b):
+            record = cache.get(id(partner))
+            if record is None:
+                record = cache[id(partner)] = partner.as_record()
+            records.append(record)
+        return {"identical": self.identical, "a": records[0], "b": records[1]}
 
 
 class PartnerProblem(RatebankError):
     """A reaction's collision partners lack the data collision theory needs."""
 
 
-def _partner(species: Species) -> PartnerData:
+def _partner(species: Any) -> PartnerData:
     return PartnerData(
         name=species.name,
         formula=species.formula,
@@ -124,7 +140,7 @@ def _partner(species: Species) -> PartnerData:
     )
 
 
-def _complete(partner: PartnerData, species: Species, model: str) -> tuple[PartnerData, str | None]:
+def _complete(partner: PartnerData, species: Any, model: str) -> tuple[PartnerData, str | None]:
     """Fill a missing diameter (and well depth for LJ) by estimate; or say why not."""
     from ratebank.science import diameters
 
@@ -164,46 +180,54 @@ def _complete(partner: PartnerData, species: Species, model: str) -> tuple[Partn
     return partner, None
 
 
+class SpeciesRow(NamedTuple):
+    """The species columns collision theory reads."""
+
+    id: int
+    name: str
+    formula: str
+    molar_mass: float
+    diameter: float | None
+    diameter_method: str | None
+    well_depth: float | None
+    well_depth_method: str | None
+    critical_temperature: float | None
+    critical_pressure: float | None
+    acentric_factor: float | None
+    boiling_volume: float | None
+
+
 def collision_pairs(
     session: Session,
-    reactions: list[Reaction],
+    reactions: Sequence[Any],
     *,
     model: str = "hard-sphere",
-    store_estimates: bool = False,
 ) -> dict[int, CollisionPair | str]:
     """The collision pair of each bimolecular reaction, or the reason there is none.
 
-    With ``store_estimates`` an estimated diameter or well depth is written on
-    the species (marked with its method) in the session's transaction.
+    ``reactions`` are stored reactions (ORM objects or rows with ``id``,
+    ``key``, ``reaction_order`` and ``third_body``). Missing diameters and
+    well depths are estimated here but not stored (see
+    :func:`store_estimated_partners`).
     """
     if model not in COLLISION_MODELS:
         raise RatebankError(
             f"unknown collision model {model!r}; expected one of {', '.join(COLLISION_MODELS)}"
         )
+    # light rows, not ORM objects: fitting or estimating a whole mechanism
+    # asks for tens of thousands of reactions
     ids = [r.id for r in reactions]
     reactants: dict[int, list[tuple[int, int]]] = {i: [] for i in ids}
-    query = select(Participant.reaction_id, Participant.species_id, Participant.coefficient).where(
-        Participant.role == "reactant"
-    )
-    if len(ids) > 5000:  # most of the store: one pass beats thousands of IN lists
-        for reaction_id, species_id, coefficient in session.execute(query):
-            if reaction_id in reactants:
-                reactants[reaction_id].append((species_id, coefficient))
-    else:
-        for start in range(0, len(ids), 500):
-            chunk = ids[start : start + 500]
-            for reaction_id, species_id, coefficient in session.execute(
-                query.where(Participant.reaction_id.in_(chunk))
-            ):
-                reactants[reaction_id].append((species_id, coefficient))
-    species_ids = {sid for rows in reactants.values() for sid, _ in rows}
-    species: dict[int, Species] = {}
-    ordered = sorted(species_ids)
-    for start in range(0, len(ordered), 500):
-        for s in session.scalars(
-            select(Species).where(Species.id.in_(ordered[start : start + 500]))
-        ):
-            species[s.id] = s
+    for reaction_id, species_id, coefficient in fetch_in(
+        session,
+        "SELECT reaction_id, species_id, coefficient FROM participant "
+        "WHERE role = 'reactant' AND reaction_id IN ({marks}) ORDER BY reaction_id, id",
+        ids,
+    ):
+        reactants[reaction_id].append((species_id, coefficient))
+    species_ids = sorted({sid for rows in reactants.values() for sid, _ in rows})
+    query = f"SELECT {', '.join(SpeciesRow._fields)} FROM species WHERE id IN ({{marks}})"
+    species = {row[0]: SpeciesRow(*row) for row in fetch_in(session, query, species_ids)}
     completed: dict[int, tuple[PartnerData, str | None]] = {}
     result: dict[int, CollisionPair | str] = {}
     for reaction in reactions:
@@ -237,24 +261,6 @@ def collision_pairs(
         result[reaction.id] = CollisionPair(
             reaction.id, reaction.key, partners[0], partners[1], identical
         )
-    if store_estimates:
-        for sid, (partner, _why) in completed.items():
-            row = species[sid]
-            changed = {}
-            if row.diameter is None and partner.diameter is not None:
-                row.diameter = partner.diameter
-                row.diameter_kind = "lennard-jones"
-                row.diameter_method = partner.diameter_method
-                changed["diameter_m"] = partner.diameter
-                changed["diameter_method"] = partner.diameter_method
-            if row.well_depth is None and partner.well_depth is not None:
-                row.well_depth = partner.well_depth
-                row.well_depth_method = partner.well_depth_method
-                changed["well_depth_K"] = partner.well_depth
-                changed["well_depth_method"] = partner.well_depth_method
-            if changed:
-                audit.record(session, "species.estimate", row.name, **changed)
-        session.flush()
     return result
 
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass
+from typing import NamedTuple
 
 from sqlalchemy import select, update
 from sqlalchemy.orm import Session
@@ -17,6 +18,7 @@ from sqlalchemy.orm import Session
 from ratebank.errors import ConflictError, NotFoundError
 from ratebank.services.curate import find_reaction
 from ratebank.store import audit
+from ratebank.store.bulk import fetch_all
 from ratebank.store.models import Expression, Reaction, utc_now
 
 #: Why an expression was chosen, in order of precedence.
@@ -151,8 +153,7 @@ def recommend(session: Session, key_or_equation: str, expression_id: int) -> Exp
     return expression
 
 
-@dataclass(frozen=True)
-class ChosenRow:
+class ChosenRow(NamedTuple):
     """The exported expression of one reaction, read without loading ORM objects."""
 
     reaction_key: str
@@ -177,11 +178,12 @@ def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
     Same precedence as :func:`choose`, in two column queries: this is what a
     100,000-reaction export uses.
     """
-    reactions = session.execute(
+    reactions = fetch_all(
+        session,
         select(Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order).order_by(
             Reaction.key
-        )
-    ).all()
+        ),
+    )
     best: dict[int, tuple[tuple[int, int], tuple]] = {}
     query = select(
         Expression.reaction_id,
@@ -197,13 +199,13 @@ def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
         Expression.recommended,
         Expression.provenance["steric_factor"].as_float(),
     ).where(Expression.A.is_not(None))
-    for row in session.execute(query.execution_options(yield_per=20_000)):
+    for row in fetch_all(session, query):
         reaction_id, expression_id, origin, recommended = row[0], row[1], row[2], row[10]
         # lower rank wins: recommended first, then by origin; newer (larger id) first
         rank = (0 if recommended else _ORIGIN_RANK[origin], -expression_id)
         current = best.get(reaction_id)
         if current is None or rank < current[0]:
-            best[reaction_id] = (rank, tuple(row))
+            best[reaction_id] = (rank, row)
     chosen: list[ChosenRow] = []
     gaps: list[str] = []
     for reaction_id, key, equation, order in reactions:

@@ -640,6 +640,8 @@ class MeasurementValidator:
                 return empty
             # strip each distinct text once: a million cells hold few distinct ones
             table = {text: text.strip() for text in dict.fromkeys(values)}
+            if all(text == clean for text, clean in table.items()):
+                return values  # no cell is padded
             return [table[text] for text in values]
 
         set_names = stripped("set")
@@ -687,19 +689,28 @@ class MeasurementValidator:
             what="a pressure in bar greater than zero",
         )
 
-        # sets: the first row of each new set defines it
+        # sets: the first row of each new set defines it. Rows of one set are
+        # usually consecutive, so look at the first row of each run only.
+        names_array = np.array(set_names, dtype=object)
+        run_starts = (
+            np.flatnonzero(np.concatenate(([True], names_array[1:] != names_array[:-1]))).tolist()
+            if n
+            else []
+        )
         first_rows: dict[str, int] = {}
-        for i, name in enumerate(set_names):
+        for i in run_starts:
+            name = set_names[i]
             if name not in first_rows:
                 first_rows[name] = i
         new_sets: list[MeasurementSetRecord] = []
         if "" in first_rows:
             for i in (j for j, name in enumerate(set_names) if name == ""):
                 problems.add(lines[i], "set", "is empty; expected the name of the measurement set")
-        for name in first_rows:
-            i = first_rows[name]
-            for column, value in (("set", name), ("bath_gas", baths[i]), ("k_units", units[i])):
-                too_long(problems, lines[i], column, value)
+        for column, values in (("set", set_names), ("bath_gas", baths), ("k_units", units)):
+            limit = TEXT_LIMITS[column]
+            if max(map(len, values), default=0) > limit:
+                for i in first_rows.values():
+                    too_long(problems, lines[i], column, values[i])
         fresh = [name for name in first_rows if name and name not in self.by_name]
         existing = self.set_exists(fresh) if fresh else set()
         self.resolver.prefetch({reactions[first_rows[name]] for name in fresh})
@@ -719,9 +730,12 @@ class MeasurementValidator:
             self.by_name[name] = len(self.sets)
             self.sets.append(record)
             new_sets.append(record)
-        set_index = np.fromiter(
-            (self.by_name.get(name, -1) for name in set_names), dtype=np.int64, count=n
-        )
+        by_name = self.by_name
+        run_index = np.array([by_name.get(set_names[i], -1) for i in run_starts], dtype=np.int64)
+        run_lengths = np.diff(np.append(run_starts, n))
+        set_index = np.repeat(run_index, run_lengths)
+        run_first_row = np.repeat(np.asarray(run_starts, dtype=np.int64), run_lengths)
+        run_starts = np.asarray(run_starts, dtype=np.int64)
         # work on the sets this chunk touches only, so that cost does not grow with the file
         local_sets, local_index = np.unique(set_index, return_inverse=True)
         local_index = local_index.reshape(-1)
@@ -737,7 +751,9 @@ class MeasurementValidator:
             ("method", methods),
             ("bath_gas", baths),
         ):
-            self._check_agreement(touched, local_index, set_names, values, column, lines)
+            self._check_agreement(
+                touched, local_index, run_starts, run_first_row, set_names, values, column, lines
+            )
 
         kind_array = np.array(kinds, dtype=object)
         absolute = kind_array == "absolute"
@@ -760,7 +776,9 @@ class MeasurementValidator:
             pressure=pressure * BAR_PA,
         )
 
-    def _check_agreement(self, touched, local_index, set_names, values, column, lines) -> None:  # type: ignore[no-untyped-def]
+    def _check_agreement(  # type: ignore[no-untyped-def]
+        self, touched, local_index, run_starts, run_first_row, set_names, values, column, lines
+    ) -> None:
         import numpy as np
 
         if column == "reaction":
@@ -769,10 +787,23 @@ class MeasurementValidator:
             ]
         else:
             expected = [(getattr(r, column) or "") if r is not None else None for r in touched]
-        reference = np.array(expected, dtype=object)[local_index]
+        expected_array = np.array(expected, dtype=object)
         given = np.array(values, dtype=object)
-        differs = (given != reference) & (given != "") & (reference != None)  # noqa: E711
-        for i in np.flatnonzero(differs):
+
+        def disagree(rows):  # type: ignore[no-untyped-def]
+            reference = expected_array[local_index[rows]]
+            cells = given[rows]
+            return (cells != reference) & (cells != "") & (reference != None)  # noqa: E711
+
+        # A row's verdict depends only on its cell and its set, so a row that
+        # repeats the first cell of its run shares that row's verdict: when
+        # every run starts clean, only the rows that differ need a look.
+        if disagree(run_starts).any():
+            suspects = np.flatnonzero(disagree(slice(None)))
+        else:
+            candidates = np.flatnonzero(given != given[run_first_row])
+            suspects = candidates[disagree(candidates)]
+        for i in suspects:
             record = touched[local_index[i]]
             if lines[i] == record.first_line:
                 continue

@@ -32,13 +32,15 @@ def record_many(
     """One audit entry per (target, detail), in one statement."""
     if not entries:
         return
-    at = utc_now()
+    from ratebank.store.bulk import db_timestamp, insert_rows, json_adapter
+
+    at = db_timestamp(session, utc_now())
     author = session.info.get("author") or "unknown"
-    # the table, not the mapped class: a plain executemany, no ORM bookkeeping per row
-    session.execute(
-        insert(AuditEntry.__table__),
-        [
-            {"at": at, "author": author, "action": action, "target": target, "detail": detail}
-            for target, detail in entries
-        ],
+    encode = json_adapter(session)
+    # the driver's executemany: a fit of a whole mechanism audits every reaction
+    insert_rows(
+        session,
+        AuditEntry.__tablename__,
+        ("at", "author", "action", "target", "detail"),
+        [(at, author, action, target, encode(detail)) for target, detail in entries],
     )

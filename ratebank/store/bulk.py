@@ -8,7 +8,8 @@ session's own connection, inside the session's transaction.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
+from typing import Any
 
 from sqlalchemy.orm import Session
 
@@ -84,12 +85,12 @@ def insert_returning_ids(
     if connection.dialect.name == "sqlite":
         before = connection.execute(text(f"SELECT COALESCE(MAX(id), 0) FROM {table}")).scalar()
         insert_rows(session, table, columns, rows)
-        ids = [
-            row[0]
-            for row in connection.execute(
-                text(f"SELECT id FROM {table} WHERE id > :before ORDER BY id"), {"before": before}
-            )
-        ]
+        raw_cursor = connection.connection.dbapi_connection.cursor()  # type: ignore[union-attr]
+        try:
+            raw_cursor.execute(f"SELECT id FROM {table} WHERE id > ? ORDER BY id", (before,))
+            ids = [row[0] for row in raw_cursor.fetchall()]
+        finally:
+            raw_cursor.close()
     else:
         raw = connection.connection.dbapi_connection
         assert raw is not None
@@ -109,10 +110,68 @@ def insert_returning_ids(
 
 def db_json(session: Session, value: object) -> object:
     """A JSON value as a raw insert into a JSON column needs it."""
-    import json
+    return json_adapter(session)(value)
+
+
+def json_adapter(session: Session) -> Callable[[object], object]:
+    """The function that turns a value into what a raw insert into a JSON column takes.
+
+    SQLite keeps JSON as text (the encoding the engine's JSON type reads
+    back); PostgreSQL's driver takes a wrapped value. Look it up once per
+    bulk insert, not per row.
+    """
+    from ratebank.store.json_codec import dumps
 
     if session.connection().dialect.name == "sqlite":
-        return json.dumps(value)
+        return dumps
     from psycopg.types.json import Json
 
-    return Json(value)
+    return lambda value: Json(value, dumps=dumps)
+
+
+def fetch_in(
+    session: Session, query: str, ids: Sequence[object], *, batch: int = 5000
+) -> list[tuple[Any, ...]]:
+    """The rows of ``query`` for every value of ``ids``, through the raw driver.
+
+    ``query`` holds one ``{marks}`` where the ``IN (...)`` list goes, e.g.
+    ``"SELECT id, key FROM reaction WHERE id IN ({marks})"``; it runs once per
+    ``batch`` values (well under SQLite's 32,766 bound parameters). Whole
+    mechanisms ask for tens of thousands of ids at once; compiling each
+    statement and building a result row object per row would cost more than
+    the query itself.
+    """
+    if not ids:
+        return []
+    connection = session.connection()
+    mark = "%s" if connection.dialect.name == "postgresql" else "?"
+    raw = connection.connection.dbapi_connection
+    assert raw is not None
+    rows: list[tuple[Any, ...]] = []
+    cursor = raw.cursor()
+    try:
+        for start in range(0, len(ids), batch):
+            chunk = list(ids[start : start + batch])
+            cursor.execute(query.format(marks=", ".join([mark] * len(chunk))), chunk)
+            rows.extend(cursor.fetchall())
+    finally:
+        cursor.close()
+    return rows
+
+
+def fetch_all(session: Session, query: Any) -> list[tuple[Any, ...]]:
+    """Every row of a Core ``query`` as plain tuples, through the raw driver.
+
+    The query is compiled with its values inline, so it must carry no values
+    from outside the program (keys, names): only ids and constants.
+    """
+    connection = session.connection()
+    compiled = query.compile(dialect=connection.dialect, compile_kwargs={"literal_binds": True})
+    raw = connection.connection.dbapi_connection
+    assert raw is not None
+    cursor = raw.cursor()
+    try:
+        cursor.execute(str(compiled))
+        return cursor.fetchall()
+    finally:
+        cursor.close()

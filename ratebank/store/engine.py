@@ -37,6 +37,7 @@ from sqlalchemy.orm import Session, sessionmaker
 from sqlalchemy.orm.exc import StaleDataError
 
 from ratebank.errors import ConflictError, StoreError
+from ratebank.store import json_codec
 
 DEFAULT_DB = "ratebank.db"
 #: How long a SQLite writer waits for another writer's lock by default [s].
@@ -296,11 +297,21 @@ def create_store_engine(url: str) -> Engine:
             folder = Path(database).parent
             if not folder.is_dir():
                 raise StoreError(f"folder {folder} does not exist for the store {database}")
-        engine = create_engine(parsed, connect_args={"timeout": timeout_s})
+        engine = create_engine(
+            parsed,
+            connect_args={"timeout": timeout_s},
+            json_serializer=json_codec.dumps,
+            json_deserializer=json_codec.loads,
+        )
         _configure_sqlite(engine, timeout_s)
         return engine
     try:
-        return create_engine(parsed, pool_pre_ping=True)
+        return create_engine(
+            parsed,
+            pool_pre_ping=True,
+            json_serializer=json_codec.dumps,
+            json_deserializer=json_codec.loads,
+        )
     except Exception as exc:  # missing driver and the like
         detail = redact(str(exc), url)
         raise StoreError(f"cannot open the store {mask_url(url)}: {detail}") from None

@@ -1,17 +1,22 @@
 """A fingerprint of the store's content: SHA-256 over every curated row.
 
 The audit trail is left out (reading or exporting does not change the
-content), and so are timestamps and lock versions. Rows are hashed as the
-text of their values in primary-key order; booleans are read as integers and
-JSON columns as their stored text, so that the same content gives the same
-fingerprint on SQLite and PostgreSQL. Floats enter with their exact repr.
+content), and so are timestamps and lock versions. Tables are read in
+primary-key order through the raw driver and hashed a column at a time:
+integers and booleans as 64-bit integers, floats as their exact IEEE-754
+bytes, texts and JSON (its stored text, which backup and restore copy
+verbatim) as UTF-8 bytes with their lengths, and every column with its NULL
+mask. The same content therefore gives the same fingerprint on SQLite and
+PostgreSQL, without a Python object per value.
 """
 
 from __future__ import annotations
 
 import hashlib
+from collections.abc import Sequence
+from typing import Any
 
-from sqlalchemy import JSON, Boolean, Integer, Text, cast, select
+from sqlalchemy import JSON, Boolean, Float, Integer
 from sqlalchemy.orm import Session
 
 from ratebank.store.models import (
@@ -26,29 +31,84 @@ from ratebank.store.models import (
 
 _SKIP = {"created_at", "updated_at", "updated_by", "created_by", "version"}
 TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
+#: Rows fetched and hashed at a time.
+_BATCH = 50_000
 
 
-def _selectable(column):  # type: ignore[no-untyped-def]
-    if isinstance(column.type, Boolean):
-        return cast(column, Integer)
-    if isinstance(column.type, JSON):
-        return cast(column, Text)
-    return column
+def _column_bytes(kind: str, values: Sequence[Any]) -> bytes:
+    """The bytes one column of a batch adds to the digest."""
+    import numpy as np
+
+    if kind == "text" and None not in values and all(type(v) is str for v in values):
+        return _text_bytes(np.packbits(np.zeros(len(values), dtype=bool)).tobytes(), list(values))
+    if kind in ("integer", "float") and None not in values:
+        # the common case, straight to an array: no object array, no mask to build
+        try:
+            numbers = np.array(values, dtype=np.int64 if kind == "integer" else np.float64)
+        except (TypeError, ValueError):
+            pass
+        else:
+            if numbers.ndim == 1:
+                mask = np.packbits(np.zeros(len(values), dtype=bool)).tobytes()
+                return kind[0].encode() + mask + numbers.tobytes()
+    objects = np.array(values, dtype=object)
+    missing = objects == None  # noqa: E711 (elementwise)
+    mask = np.packbits(missing).tobytes()
+    try:
+        if kind == "integer":
+            numbers = np.where(missing, 0, objects).astype(np.int64)
+            return b"i" + mask + numbers.tobytes()
+        if kind == "float":
+            numbers = np.where(missing, 0.0, objects).astype(np.float64)
+            return b"f" + mask + numbers.tobytes()
+    except (TypeError, ValueError):
+        pass  # a value of another type (a hand-edited SQLite file): hashed as text below
+    if missing.any() or kind != "text":
+        texts = ["" if v is None else (v if isinstance(v, str) else repr(v)) for v in values]
+    else:
+        texts = list(values)
+    return _text_bytes(mask, texts)
+
+
+def _text_bytes(mask: bytes, texts: list[str]) -> bytes:
+    import numpy as np
+
+    lengths = np.fromiter(map(len, texts), dtype=np.int64, count=len(texts))
+    return b"t" + mask + lengths.tobytes() + "".join(texts).encode("utf-8", "surrogatepass")
+
+
+def _kind(column: Any) -> str:
+    if isinstance(column.type, Boolean | Integer):
+        return "integer"
+    if isinstance(column.type, Float):
+        return "float"
+    return "text"  # JSON too: read as its stored text
 
 
 def store_fingerprint(session: Session) -> str:
-    """``sha256:<hex>`` of the curated content."""
+    """``sha256:<hex>`` of the curated content.
+
+    Same content, same fingerprint, on either dialect; any change to a
+    curated value changes it.
+    """
     digest = hashlib.sha256()
-    for model in TABLES:
-        table = model.__table__
-        columns = [c for c in table.columns if c.name not in _SKIP]
-        digest.update(f"\n#{table.name}:{','.join(c.name for c in columns)}\n".encode())
-        result = session.execute(
-            select(*[_selectable(c) for c in columns])
-            .order_by(*table.primary_key.columns)
-            .execution_options(yield_per=20_000)
-        )
-        for partition in result.partitions():
-            digest.update("\n".join(repr(tuple(row)) for row in partition).encode())
-            digest.update(b"\n")
+    raw = session.connection().connection.dbapi_connection
+    assert raw is not None
+    cursor = raw.cursor()
+    try:
+        for model in TABLES:
+            table = model.__table__
+            columns = [c for c in table.columns if c.name not in _SKIP]
+            kinds = [_kind(c) for c in columns]
+            digest.update(f"\n#{table.name}:{','.join(c.name for c in columns)}\n".encode())
+            order = ", ".join(c.name for c in table.primary_key.columns)
+            selected = ", ".join(
+                f"CAST({c.name} AS TEXT)" if isinstance(c.type, JSON) else c.name for c in columns
+            )
+            cursor.execute(f"SELECT {selected} FROM {table.name} ORDER BY {order}")
+            while rows := cursor.fetchmany(_BATCH):
+                for kind, values in zip(kinds, zip(*rows, strict=True), strict=True):
+                    digest.update(_column_bytes(kind, values))
+    finally:
+        cursor.close()
     return "sha256:" + digest.hexdigest()

@@ -2,10 +2,17 @@
 
 from __future__ import annotations
 
+import json
+from contextlib import nullcontext
+from unittest import mock
+
 import pytest
 from helpers.cli import run, snapshot, write
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
-from ratebank.errors import ImportValidationError
+from ratebank.errors import ImportValidationError, RatebankError
+from ratebank.io import csv_import
 from ratebank.io.csv_import import import_measurements_file
 from ratebank.services.store_access import open_store
 
@@ -102,8 +109,90 @@ def test_chunked_import_stores_every_point(store, tmp_path):
     finally:
         handle.close()
     assert (summary.added, summary.details["sets"]) == (40, 10)
-    import json
-
     sets = json.loads(run(store, "data", "list", "--json").stdout)
     assert sorted(s["points"] for s in sets) == [4] * 10
     assert {s["T_min_K"] for s in sets} == {300.0} and {s["T_max_K"] for s in sets} == {330.0}
+
+
+# ---------------------------------------------------------------- the two read paths agree
+
+CELLS = {
+    "set": ["a", "b", "c", " a", ""],
+    "reaction": ["ab", "ba", "nope", "", "A + B -> AB"],
+    "T_K": ["300", "310", "-5", "abc", "", " 320 "],
+    "k": ["1e-12", "2e-12", "0", "inf", ""],
+    "k_units": ["cm3/molecule/s", "cm3/mol/s", "", "s-1"],
+    "reference": ["", "lab", "lab2"],
+}
+
+
+@st.composite
+def measurement_files(draw):  # type: ignore[no-untyped-def]
+    """Small measurement files mixing clean rows, bad cells, blank and ragged rows."""
+    ending = draw(st.sampled_from(["\n", "\r\n"]))
+    lines = ["set,reaction,T_K,k,k_units,reference"]
+    for _ in range(draw(st.integers(1, 12))):
+        kind = draw(st.sampled_from(["row"] * 6 + ["blank", "commas", "ragged"]))
+        if kind == "blank":
+            lines.append("")
+        elif kind == "commas":
+            lines.append(",,,,,")
+        elif kind == "ragged":
+            lines.append("a,ab,300")
+        else:
+            lines.append(",".join(draw(st.sampled_from(values)) for values in CELLS.values()))
+    return ending.join(lines) + draw(st.sampled_from(["", ending]))
+
+
+def _outcome(db: str, path, chunk_rows: int, *, plain: bool):  # type: ignore[no-untyped-def]
+    handle = open_store(db)
+    try:
+        with (
+            mock.patch.object(csv_import, "_scan_bytes", return_value=False)
+            if not plain
+            else nullcontext(),
+            handle.session(write=True) as session,
+        ):
+            try:
+                summary = import_measurements_file(
+                    session, path, chunk_rows=chunk_rows, dry_run=True
+                )
+            except RatebankError as exc:
+                return ("error", str(exc), getattr(exc, "problems", None))
+            return ("ok", summary.added, summary.details["sets"])
+    finally:
+        handle.close()
+
+
+@settings(
+    max_examples=80, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(text=measurement_files())
+def test_plain_and_csv_reading_give_the_same_verdict(store, tmp_path, text):
+    # the row-by-row csv module path with one row per chunk is the reference
+    path = tmp_path / "random.csv"
+    path.write_bytes(text.encode())
+    reference = _outcome(store, path, 1, plain=False)
+    for chunk_rows, plain in ((100_000, True), (2, True), (3, False), (1, True)):
+        assert _outcome(store, path, chunk_rows, plain=plain) == reference, (chunk_rows, plain)
+
+
+def test_plain_and_quoted_files_store_the_same_points(store, tmp_path):
+    rows = [f"s{i // 3},ab,{300 + 10 * i},{1e-12 * (1 + i)},cm3/molecule/s,lab" for i in range(9)]
+    header = "set,reaction,T_K,k,k_units,reference"
+    plain = write(tmp_path / "plain.csv", "\r\n".join([header, *rows, ""]))
+    quoted = write(
+        tmp_path / "quoted.csv",
+        "\n".join([header, *(row.replace(",lab", ',"lab"') for row in rows)]),
+    )
+    stored = []
+    for path in (plain, quoted):
+        db = f"sqlite:///{tmp_path / (path.stem + '.db')}"
+        assert run(db, "init").exit_code == 0
+        for name, formula in (("A", "H"), ("B", "Cl"), ("AB", "HCl")):
+            assert run(db, "species", "add", name, formula).exit_code == 0
+        assert run(db, "reactions", "add", "ab", "A + B -> AB").exit_code == 0
+        assert run(db, "data", "import", str(path)).exit_code == 0
+        stored.append(json.loads(run(db, "data", "list", "--json").stdout))
+    assert stored[0] == stored[1]
+    assert sorted(s["points"] for s in stored[0]) == [3, 3, 3]

@@ -236,6 +236,41 @@ def test_restore_into_an_empty_store(db_url, cli, backup_file, initialised):
     assert _content(db_url)[0]["expressions"] == counts["expressions"] + 1
 
 
+def test_restore_keeps_json_text_byte_for_byte(db_url, cli, tmp_path):
+    # A store written by an earlier release spelled JSON the standard library's
+    # way (spaces after separators); a restore must not respell it, or the
+    # restored content would not match the backup's fingerprint.
+    source = str(tmp_path / "old.db")
+    _fill(source, cli, tmp_path)
+    assert cli(source, "fit").exit_code == 0
+    connection = sqlite3.connect(source)
+    with connection:
+        for table, column in (("expression", "provenance"), ("audit", "detail")):
+            rows = connection.execute(f"SELECT id, {column} FROM {table}").fetchall()
+            for row_id, stored in rows:
+                connection.execute(
+                    f"UPDATE {table} SET {column} = ? WHERE id = ?",
+                    (json.dumps(json.loads(stored)), row_id),
+                )
+    old_texts = connection.execute("SELECT provenance FROM expression ORDER BY id").fetchall()
+    connection.close()
+    assert any(", " in text for (text,) in old_texts)
+    backup = tmp_path / "old-backup.db"
+    assert cli(source, "backup", str(backup)).exit_code == 0
+    outcome = cli(db_url, "restore", str(backup))
+    assert outcome.exit_code == 0, outcome.stderr
+    assert _content(db_url) == _content(source)
+    engine = create_store_engine(database_url(db_url))
+    try:
+        with engine.connect() as connection:
+            restored = connection.execute(
+                text("SELECT CAST(provenance AS TEXT) FROM expression ORDER BY id")
+            ).all()
+    finally:
+        engine.dispose()
+    assert [tuple(row) for row in restored] == old_texts
+
+
 def test_restore_refuses_a_store_that_holds_data(db_url, cli, backup_file, tmp_path):
     path, _, _ = backup_file
     assert cli(db_url, "init").exit_code == 0

@@ -1,0 +1,113 @@
+"""The content fingerprint: what changes it and what does not."""
+
+from __future__ import annotations
+
+import json
+import sqlite3
+
+import numpy as np
+import pytest
+from helpers.cli import run, write
+from helpers.data import EXPRESSIONS_CSV, REACTIONS_CSV, SPECIES_CSV
+
+from ratebank.services.store_access import open_store
+from ratebank.store.fingerprint import _column_bytes, store_fingerprint
+
+
+@pytest.fixture
+def filled(sqlite_url, tmp_path):
+    assert run(sqlite_url, "init").exit_code == 0
+    for command, name, text in (
+        ("species", "species.csv", SPECIES_CSV),
+        ("reactions", "reactions.csv", REACTIONS_CSV),
+        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
+    ):
+        assert run(sqlite_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
+    assert run(sqlite_url, "estimate", "--keep-going", "--steric", "0.2").exit_code == 0
+    return sqlite_url
+
+
+def _fingerprint(db: str) -> str:
+    handle = open_store(db)
+    try:
+        with handle.session() as session:
+            return store_fingerprint(session)
+    finally:
+        handle.close()
+
+
+def _execute(db: str, sql: str, *params: object) -> None:
+    connection = sqlite3.connect(db)
+    with connection:
+        connection.execute(sql, params)
+    connection.close()
+
+
+def test_json_is_hashed_as_its_stored_text(filled):
+    # the stored text is the content (backup and restore copy it byte for byte)
+    before = _fingerprint(filled)
+    connection = sqlite3.connect(filled)
+    expression_id, stored = connection.execute(
+        "SELECT id, provenance FROM expression WHERE provenance IS NOT NULL LIMIT 1"
+    ).fetchone()
+    connection.close()
+    respelled = json.dumps(json.loads(stored), indent=1)
+    _execute(filled, "UPDATE expression SET provenance = ? WHERE id = ?", respelled, expression_id)
+    assert _fingerprint(filled) != before
+    _execute(filled, "UPDATE expression SET provenance = ? WHERE id = ?", stored, expression_id)
+    assert _fingerprint(filled) == before
+
+
+def test_one_ulp_in_a_float_changes_the_fingerprint(filled):
+    before = _fingerprint(filled)
+    connection = sqlite3.connect(filled)
+    species_id, diameter = connection.execute(
+        "SELECT id, diameter FROM species WHERE diameter IS NOT NULL LIMIT 1"
+    ).fetchone()
+    connection.close()
+    _execute(
+        filled,
+        "UPDATE species SET diameter = ? WHERE id = ?",
+        float(np.nextafter(diameter, 1.0)),
+        species_id,
+    )
+    assert _fingerprint(filled) != before
+    _execute(filled, "UPDATE species SET diameter = ? WHERE id = ?", diameter, species_id)
+    assert _fingerprint(filled) == before
+
+
+@pytest.mark.parametrize(
+    ("kind", "first", "second"),
+    [
+        ("text", ["ab", "c"], ["a", "bc"]),  # cell boundaries count
+        ("text", [None, "x"], ["", "x"]),  # NULL is not the empty text
+        ("float", [None, 1.0], [0.0, 1.0]),  # NULL is not zero
+        ("integer", [1, 2], [2, 1]),  # order counts
+        ("json", ['{"a": 1}'], ['{"a": 1.0}']),  # 1 and 1.0 are different JSON numbers
+    ],
+)
+def test_column_bytes_tell_apart(kind, first, second):
+    assert _column_bytes(kind, first) != _column_bytes(kind, second)
+
+
+def test_booleans_hash_as_integers_on_either_dialect():
+    # SQLite hands back 0/1, PostgreSQL True/False: the same content
+    assert _column_bytes("integer", [True, False, None]) == _column_bytes("integer", [1, 0, None])
+
+
+@pytest.mark.parametrize(
+    ("values", "expected"),
+    [
+        (['{"b": 1, "a": [1.5, 2]}', None, "[]"], '[{"a":[1.5,2],"b":1},null,[]]'),
+        # the standard library's NaN token (older stores): decoded one by one, NaN as null
+        (['{"x": NaN}', '{"y": 1}'], '[{"x":null},{"y":1}]'),
+        # two values in one cell must not pass for two cells
+        (['{"a":1},{"b":2}', '{"c":3}'], '[{"not JSON":"{\\"a\\":1},{\\"b\\":2}"},{"c":3}]'),
+        (["not json"], '[{"not JSON":"not json"}]'),
+        ([{"b": 2, "a": 1}], '[{"a":1,"b":2}]'),  # PostgreSQL's driver hands over values
+    ],
+)
+def test_canonical_json_of_a_batch(values, expected):
+    from ratebank.store.json_codec import canonical_many
+
+    assert canonical_many(values) == expected
