@@ -10,9 +10,7 @@ whole file is valid.
 from __future__ import annotations
 
 import csv
-import gc
-from collections.abc import Iterator, Sequence
-from contextlib import contextmanager
+from collections.abc import Sequence
 from dataclasses import dataclass
 from itertools import islice, repeat
 from pathlib import Path
@@ -22,30 +20,13 @@ from sqlalchemy.orm import Session
 from ratebank.errors import ImportValidationError, RatebankError
 from ratebank.services import curate
 from ratebank.services import validate as v
+from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.progress import Progress
 
 #: Longest accepted cell, in characters (a guard against runaway quoting).
 MAX_FIELD = 100_000
 #: Rows of a measurements file validated and written at a time.
 CHUNK_ROWS = 100_000
-
-
-@contextmanager
-def paused_garbage_collection() -> Iterator[None]:
-    """Hold off the cyclic garbage collector while a big import runs.
-
-    An import allocates millions of short-lived objects without reference
-    cycles; the collector would walk them again and again (about a sixth of
-    the import's time for a million points). Reference counting still frees
-    them; the collector resumes afterwards.
-    """
-    was_enabled = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        if was_enabled:
-            gc.enable()
 
 
 class CsvFileError(RatebankError):

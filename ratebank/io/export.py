@@ -27,6 +27,7 @@ from sqlalchemy.orm import Session
 from ratebank import __version__
 from ratebank.errors import RatebankError
 from ratebank.services import mechanism
+from ratebank.services.memory import paused_garbage_collection
 from ratebank.store import json_codec
 from ratebank.store.fingerprint import store_fingerprint
 
@@ -175,6 +176,7 @@ def _write_atomically(pairs: list[tuple[Path, str]]) -> None:
         raise
 
 
+@paused_garbage_collection()
 def export_mechanism(
     session: Session,
     out: Path,

@@ -18,7 +18,7 @@ from ratebank.errors import ImportValidationError, NotFoundError
 from ratebank.services import validate as v
 from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.store import audit
-from ratebank.store.bulk import db_timestamp, insert_returning_ids, insert_rows
+from ratebank.store.bulk import db_timestamp, fetch_in, insert_returning_ids, insert_rows
 from ratebank.store.models import (
     AuditEntry,
     Expression,
@@ -227,10 +227,6 @@ def import_reactions(
     return ImportSummary("reactions", source, len(rows), len(records), dry_run)
 
 
-#: Keys per ``IN (...)`` lookup: well under SQLite's 32,766 bound parameters.
-LOOKUP_BATCH = 5000
-
-
 class LazyReactionResolver(v.ReactionResolver):
     """Resolves reaction cells with queries for just the keys and equations asked for."""
 
@@ -249,22 +245,15 @@ class LazyReactionResolver(v.ReactionResolver):
                     equations[text] = parse_equation(text).canonical
                 except Exception:  # reported when resolved
                     continue
-        table = Reaction.__table__
-        columns = (table.c.id, table.c.key, table.c.equation, table.c.reaction_order)
-        # Core rows, not ORM rows: a big import asks for a hundred thousand keys
-        connection = self.session.connection()
+        # plain rows through the driver: a big import asks for a hundred thousand keys
         keys = [t for t in wanted_keys if t not in equations]
-        for start, stop in chunks(len(keys), LOOKUP_BATCH):
-            for rid, key, equation, order in connection.execute(
-                select(*columns).where(table.c.key.in_(keys[start:stop]))
-            ):
-                ref = v.ReactionRef(rid, key, order)
-                self.by_key[key] = ref
-                self.by_equation[equation] = ref
         canonical = list(set(equations.values()) - set(self.by_equation))
-        for start, stop in chunks(len(canonical), LOOKUP_BATCH):
-            for rid, key, equation, order in connection.execute(
-                select(*columns).where(table.c.equation.in_(canonical[start:stop]))
+        for column, values in (("key", keys), ("equation", canonical)):
+            for rid, key, equation, order in fetch_in(
+                self.session,
+                "SELECT id, key, equation, reaction_order FROM reaction "
+                f"WHERE {column} IN ({{marks}})",
+                values,
             ):
                 ref = v.ReactionRef(rid, key, order)
                 self.by_key[key] = ref

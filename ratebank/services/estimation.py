@@ -28,6 +28,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import RatebankError
 from ratebank.services.curate import find_reaction
+from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import (
     COLLISION_MODELS,
     CollisionPair,
@@ -174,6 +175,7 @@ def _steric_for(
     )
 
 
+@paused_garbage_collection()
 def estimate(
     session: Session,
     keys: list[str] | None = None,
@@ -505,7 +507,7 @@ def _estimate_one(
         A, n, stored_ea = float(fit.A), float(fit.n), float(fit.Ea)
         max_deviation = float(fit.max_relative_deviation)
         t_min, t_max = t_min or low, t_max or high
-    estimated = [p.name for p in (pair.a, pair.b) if p.diameter_estimated]
+    estimated = pair.estimated_diameters
     row = EstimateRow(
         key=reaction.key,
         equation=reaction.equation,
@@ -521,7 +523,7 @@ def _estimate_one(
         uncertainty_factor=float(choice.uncertainty_factor),
         collision_model=model,
         collision_rate_at_t_ref=z_ref,
-        estimated_diameters=sorted(set(estimated)),
+        estimated_diameters=estimated,
         max_fit_deviation=max_deviation,
     )
     detail = {

@@ -17,6 +17,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import FitError, RatebankError
 from ratebank.services.curate import find_reaction
+from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.store import audit
 from ratebank.store.bulk import (
@@ -111,6 +112,7 @@ def _points(session: Session, reaction_ids: list[int] | None):  # type: ignore[n
     )
 
 
+@paused_garbage_collection()
 def fit_reactions(
     session: Session,
     keys: list[str] | None = None,

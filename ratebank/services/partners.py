@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
+from functools import cached_property
 from typing import Any, NamedTuple
 
 from sqlalchemy import select
@@ -35,11 +36,11 @@ class PartnerData:
     well_depth: float | None  # K
     well_depth_method: str | None
 
-    @property
+    @cached_property  # asked for every reaction the partner takes part in
     def diameter_estimated(self) -> bool:
         return self.diameter is not None and self.diameter_method not in (None, "given")
 
-    @property
+    @cached_property
     def well_depth_estimated(self) -> bool:
         return self.well_depth is not None and self.well_depth_method not in (None, "given")
 
@@ -69,6 +70,13 @@ class CollisionPair:
     @property
     def uses_estimated_diameter(self) -> bool:
         return self.a.diameter_estimated or self.b.diameter_estimated
+
+    @property
+    def estimated_diameters(self) -> list[str]:
+        """Names of the partners whose diameter is an estimate, sorted."""
+        if not self.uses_estimated_diameter:
+            return []
+        return sorted({p.name for p in (self.a, self.b) if p.diameter_estimated})
 
     def collision_rate(self, T, model: str = "hard-sphere"):  # type: ignore[no-untyped-def]
         """z(T) [m3 mol-1 s-1] under ``model``."""

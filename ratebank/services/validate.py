@@ -475,7 +475,7 @@ class ReactionResolver:
 # --------------------------------------------------------------------------- measurements
 
 
-@dataclass
+@dataclass(slots=True)
 class MeasurementSetRecord:
     name: str
     reaction: ReactionRef
@@ -714,16 +714,39 @@ class MeasurementValidator:
         fresh = [name for name in first_rows if name and name not in self.by_name]
         existing = self.set_exists(fresh) if fresh else set()
         self.resolver.prefetch({reactions[first_rows[name]] for name in fresh})
+        resolve = self.resolver.resolve
+        unit_cache = self._unit_cache
+        default_units = self.default_k_units
         for name in fresh:
             i = first_rows[name]
-            row = {
-                "reaction": reactions[i],
-                "k_units": units[i],
-                "reference": references[i],
-                "method": methods[i],
-                "bath_gas": baths[i],
-            }
-            record = self._new_set(name, row, lines[i])
+            # the common case in a few steps: a known reaction, a known unit
+            reaction_text, unit_text = reactions[i], units[i] or default_units
+            resolved = resolve(reaction_text) if reaction_text and unit_text else None
+            factor = (
+                unit_cache.get((unit_text, resolved.order))
+                if isinstance(resolved, ReactionRef)
+                else None
+            )
+            if isinstance(factor, float):
+                record = MeasurementSetRecord(
+                    name,
+                    resolved,  # type: ignore[arg-type]
+                    unit_text,
+                    references[i] or None,
+                    methods[i] or None,
+                    baths[i] or None,
+                    lines[i],
+                    factor,
+                )
+            else:  # everything else, problems included, the long way
+                row = {
+                    "reaction": reaction_text,
+                    "k_units": units[i],
+                    "reference": references[i],
+                    "method": methods[i],
+                    "bath_gas": baths[i],
+                }
+                record = self._new_set(name, row, lines[i])
             if name in existing:
                 problems.add(lines[i], "set", f"measurement set {name!r} is already in the store")
                 record.valid = False
