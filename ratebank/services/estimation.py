@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 from sqlalchemy import delete, select
 from sqlalchemy.orm import Session
@@ -71,7 +71,7 @@ class EstimateIncomplete(RatebankError):
         )
 
 
-@dataclass
+@dataclass(slots=True)
 class EstimateRow:
     key: str
     equation: str
@@ -245,13 +245,26 @@ def estimate(
     ready: list[
         tuple[_ReactionRow, _ExpressionRow, CollisionPair, _StericChoice, float, Any, Any]
     ] = []
+    # a P given on the command line is the same choice for every reaction
+    given_choice = (
+        _steric_for(
+            candidates[0][0],
+            given=steric,
+            rules=rules,
+            derived=derived,
+            fallback=fallback_steric,
+            user_factor=uncertainty_factor,
+        )
+        if steric is not None and candidates
+        else None
+    )
     for reaction, partial in candidates:
         progress.advance()
         pair = pairs[reaction.id]
         if isinstance(pair, str):
             skipped.append(Skipped(reaction.key, pair))
             continue
-        choice = _steric_for(
+        choice = given_choice or _steric_for(
             reaction,
             given=steric,
             rules=rules,
@@ -377,8 +390,7 @@ def estimate(
     return EstimateReport(rows, skipped, written=bool(plans))
 
 
-@dataclass(frozen=True)
-class _ReactionRow:
+class _ReactionRow(NamedTuple):
     """The reaction columns estimation reads (a plain row, not an ORM object)."""
 
     id: int
@@ -391,8 +403,7 @@ class _ReactionRow:
     steric_source: str | None
 
 
-@dataclass(frozen=True)
-class _ExpressionRow:
+class _ExpressionRow(NamedTuple):
     id: int
     reaction_id: int
     origin: str

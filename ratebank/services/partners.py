@@ -57,8 +57,7 @@ class PartnerData:
         }
 
 
-@dataclass(frozen=True)
-class CollisionPair:
+class CollisionPair(NamedTuple):
     """The two reactants of a bimolecular reaction."""
 
     reaction_id: int
