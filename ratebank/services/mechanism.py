@@ -186,7 +186,6 @@ def mechanism_table(
     ``linearise_at`` gives the temperature at which to replace it by its local
     two-parameter form (A T^n e^n, Ea + nRT), which is then recorded.
     """
-    from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
     from ratebank.science.units import energy_from_si, rate_from_si
 
     if form not in FORMS:
@@ -217,6 +216,9 @@ def mechanism_table(
         linearised = None
         if form == "arrhenius" and n != 0:
             assert linearise_at is not None
+            # only a linearised export needs the Arrhenius module (and scipy.constants)
+            from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
+
             A = float(local_pre_exponential(linearise_at, A, n))
             Ea = float(local_activation_energy(linearise_at, n, Ea))
             n = 0.0

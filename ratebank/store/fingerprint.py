@@ -39,8 +39,11 @@ def _column_bytes(kind: str, values: Sequence[Any]) -> bytes:
     """The bytes one column of a batch adds to the digest."""
     import numpy as np
 
-    if kind == "text" and None not in values and all(type(v) is str for v in values):
-        return _text_bytes(np.packbits(np.zeros(len(values), dtype=bool)).tobytes(), list(values))
+    if kind == "text" and None not in values:
+        try:
+            return _text_bytes(np.packbits(np.zeros(len(values), dtype=bool)).tobytes(), values)
+        except TypeError:
+            pass  # not all texts (a hand-edited SQLite file): the general path below
     if kind in ("integer", "float") and None not in values:
         # the common case, straight to an array: no object array, no mask to build
         try:
@@ -63,14 +66,11 @@ def _column_bytes(kind: str, values: Sequence[Any]) -> bytes:
             return b"f" + mask + numbers.tobytes()
     except (TypeError, ValueError):
         pass  # a value of another type (a hand-edited SQLite file): hashed as text below
-    if missing.any() or kind != "text":
-        texts = ["" if v is None else (v if isinstance(v, str) else repr(v)) for v in values]
-    else:
-        texts = list(values)
+    texts = ["" if v is None else (v if isinstance(v, str) else repr(v)) for v in values]
     return _text_bytes(mask, texts)
 
 
-def _text_bytes(mask: bytes, texts: list[str]) -> bytes:
+def _text_bytes(mask: bytes, texts: Sequence[str]) -> bytes:
     import numpy as np
 
     lengths = np.fromiter(map(len, texts), dtype=np.int64, count=len(texts))

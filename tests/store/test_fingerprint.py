@@ -111,3 +111,10 @@ def test_canonical_json_of_a_batch(values, expected):
     from ratebank.store.json_codec import canonical_many
 
     assert canonical_many(values) == expected
+
+
+def test_values_of_an_unexpected_type_still_hash():
+    # SQLite keeps whatever a hand edit wrote: a number in a text column, text in a float one
+    assert _column_bytes("text", ["a", 5]).startswith(b"t")
+    assert _column_bytes("float", [1.0, "abc"]).startswith(b"t")
+    assert _column_bytes("integer", [1, b"\x00"]) != _column_bytes("integer", [1, 0])
