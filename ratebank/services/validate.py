@@ -14,7 +14,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, NamedTuple
 
 from ratebank.errors import EquationError, FormulaError, UnitError
 
@@ -429,8 +429,7 @@ def validate_reactions(
 # --------------------------------------------------------------------------- lookups
 
 
-@dataclass(frozen=True)
-class ReactionRef:
+class ReactionRef(NamedTuple):
     """What validation needs to know of a stored reaction."""
 
     id: int
@@ -520,6 +519,8 @@ def _column_numbers(
 
     n = len(texts)
     values = np.full(n, np.nan)
+    if not required and (n == 0 or (texts[0] == "" and texts.count("") == n)):
+        return values  # an absent or empty optional column: nothing to parse or report
     if "" in texts:
         present = np.fromiter((t != "" for t in texts), dtype=bool, count=n)
         candidates = [t for t in texts if t != ""]
@@ -715,13 +716,18 @@ class MeasurementValidator:
         existing = self.set_exists(fresh) if fresh else set()
         self.resolver.prefetch({reactions[first_rows[name]] for name in fresh})
         resolve = self.resolver.resolve
+        by_key = self.resolver.by_key
         unit_cache = self._unit_cache
         default_units = self.default_k_units
         for name in fresh:
             i = first_rows[name]
             # the common case in a few steps: a known reaction, a known unit
             reaction_text, unit_text = reactions[i], units[i] or default_units
-            resolved = resolve(reaction_text) if reaction_text and unit_text else None
+            resolved = (
+                (by_key.get(reaction_text) or resolve(reaction_text))
+                if reaction_text and unit_text
+                else None
+            )
             factor = (
                 unit_cache.get((unit_text, resolved.order))
                 if isinstance(resolved, ReactionRef)
@@ -811,21 +817,33 @@ class MeasurementValidator:
         else:
             expected = [(getattr(r, column) or "") if r is not None else None for r in touched]
         expected_array = np.array(expected, dtype=object)
-        given = np.array(values, dtype=object)
+        n = len(values)
+        # one text in the whole chunk (a unit, an absent column): every row
+        # repeats its run's first cell, so the run starts decide
+        uniform = n == 0 or values.count(values[0]) == n
+        given = (
+            np.array([values[i] for i in run_starts.tolist()], dtype=object)
+            if uniform
+            else np.array(values, dtype=object)
+        )
 
-        def disagree(rows):  # type: ignore[no-untyped-def]
+        def disagree(rows, cells):  # type: ignore[no-untyped-def]
             reference = expected_array[local_index[rows]]
-            cells = given[rows]
             return (cells != reference) & (cells != "") & (reference != None)  # noqa: E711
 
         # A row's verdict depends only on its cell and its set, so a row that
         # repeats the first cell of its run shares that row's verdict: when
         # every run starts clean, only the rows that differ need a look.
-        if disagree(run_starts).any():
-            suspects = np.flatnonzero(disagree(slice(None)))
-        else:
+        start_cells = given if uniform else given[run_starts]
+        if not disagree(run_starts, start_cells).any():
+            if uniform:
+                return
             candidates = np.flatnonzero(given != given[run_first_row])
-            suspects = candidates[disagree(candidates)]
+            suspects = candidates[disagree(candidates, given[candidates])]
+        else:
+            if uniform:
+                given = np.array(values, dtype=object)
+            suspects = np.flatnonzero(disagree(slice(None), given))
         for i in suspects:
             record = touched[local_index[i]]
             if lines[i] == record.first_line:
