@@ -195,15 +195,22 @@ def derived_records(groups: Sequence[ClassSteric]) -> list[dict[str, Any]]:
     ]
 
 
+#: Members of a class named in the derived-P table; ``--json`` gives all of them.
+MEMBERS_SHOWN = 12
+
+
 def derived_table(groups: Sequence[ClassSteric], model: str) -> Table:
     table = Table(title=f"Steric factors implied by measured fits ({model} collision rate)")
     for header in ("class", "reactions", "geometric mean P", "spread (×/÷)", "range", "members"):
         table.add_column(header, overflow="fold")
     for g in groups:
+        # a class of a large mechanism can hold thousands of reactions: name the first few
         members = ", ".join(
             f"{s.key} {sig(s.steric_factor, 3)}" + ("*" if s.uses_estimated_diameter else "")
-            for s in g.samples
+            for s in g.samples[:MEMBERS_SHOWN]
         )
+        if g.count > MEMBERS_SHOWN:
+            members += f", … and {g.count - MEMBERS_SHOWN} more (--json lists all)"
         table.add_row(
             g.reaction_class or "(no class)",
             str(g.count),

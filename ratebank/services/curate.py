@@ -247,7 +247,7 @@ class LazyReactionResolver(v.ReactionResolver):
                     continue
         # plain rows through the driver: a big import asks for a hundred thousand keys
         keys = [t for t in wanted_keys if t not in equations]
-        canonical = list(set(equations.values()) - set(self.by_equation))
+        canonical = [c for c in set(equations.values()) if c not in self.by_equation]
         for column, values in (("key", keys), ("equation", canonical)):
             for rid, key, equation, order in fetch_in(
                 self.session,

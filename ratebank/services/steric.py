@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from typing import NamedTuple
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
@@ -235,6 +236,85 @@ class ClassSteric:
         return max(s.steric_factor for s in self.samples)
 
 
+class _FitRow(NamedTuple):
+    id: int
+    A: float | None
+    n: float
+    Ea: float
+    t_min: float | None
+    t_max: float | None
+    recommended: bool
+    t_mean: float | None  # the T at which the fit's P was computed, from its provenance
+    reaction_id: int
+    key: str
+    reaction_order: int
+    third_body: bool
+    reaction_class: str | None
+
+
+class _PairReaction(NamedTuple):
+    """What :func:`collision_pairs` reads of a reaction."""
+
+    id: int
+    key: str
+    reaction_order: int
+    third_body: bool
+
+
+def _implied_steric_factors(usable, model: str) -> list[float]:  # type: ignore[no-untyped-def]
+    """P of each (fit, pair, T) at T, in one vectorized pass; NaN where it cannot be had.
+
+    Should one input be out of range for the science functions (they refuse
+    whole arrays), the fits are taken one at a time so that only that one is
+    left out.
+    """
+    import numpy as np
+
+    from ratebank.science import collision
+    from ratebank.science.arrhenius import local_activation_energy, modified_arrhenius
+
+    if not usable:
+        return []
+
+    def steric(fits, pairs, T):  # type: ignore[no-untyped-def]
+        A = np.array([f.A for f in fits], dtype=float)
+        n = np.array([f.n for f in fits], dtype=float)
+        Ea = np.array([f.Ea for f in fits], dtype=float)
+        diameters = [np.array([getattr(p, side).diameter for p in pairs]) for side in "ab"]
+        masses = [np.array([getattr(p, side).molar_mass for p in pairs]) for side in "ab"]
+        # A + A: mu = m/2 comes out of the same formula; the 1/2 is ratebank's rate law
+        halves = np.where([p.identical for p in pairs], 0.5, 1.0)
+        if model == "lennard-jones":
+            wells = [np.array([getattr(p, side).well_depth for p in pairs]) for side in "ab"]
+            z = (
+                collision.lennard_jones_collision_rate_constant(T, *diameters, *masses, *wells)
+                * halves
+            )
+            e_z = collision.collision_rate_activation_energy(
+                T, model="lennard-jones", well_depth_a=wells[0], well_depth_b=wells[1]
+            )
+        else:
+            z = collision.collision_rate_constant(T, *diameters, *masses) * halves
+            e_z = collision.collision_rate_activation_energy(T, model="hard-sphere")
+        k_mean = modified_arrhenius(T, A, n, Ea)
+        ea_local = local_activation_energy(T, n, Ea)
+        return np.atleast_1d(collision.derived_steric_factor(k_mean, ea_local, T, z, e_z))
+
+    fits = [f for f, _, _ in usable]
+    pairs = [p for _, p, _ in usable]
+    T = np.array([t for _, _, t in usable])
+    try:
+        return steric(fits, pairs, T).tolist()
+    except (ValueError, RatebankError):
+        found = []
+        for i in range(len(usable)):
+            try:
+                found.append(float(steric(fits[i : i + 1], pairs[i : i + 1], T[i : i + 1])[0]))
+            except (ValueError, RatebankError):
+                found.append(float("nan"))
+        return found
+
+
 def derived_steric_factors(
     session: Session, *, model: str = "hard-sphere", reaction_class: str | None = None
 ) -> list[ClassSteric]:
@@ -244,14 +324,25 @@ def derived_steric_factors(
     if any, else its newest measured fit. Reactions whose partners lack the
     data collision theory needs are left out.
     """
-    import numpy as np
-
-    from ratebank.science import collision
-    from ratebank.science.arrhenius import local_activation_energy, modified_arrhenius
     from ratebank.services.partners import collision_pairs
 
+    # plain rows, not ORM objects: a group's archive can hold a fit for every reaction
     query = (
-        select(Expression, Reaction)
+        select(
+            Expression.id,
+            Expression.A,
+            Expression.n,
+            Expression.Ea,
+            Expression.t_min,
+            Expression.t_max,
+            Expression.recommended,
+            Expression.provenance["steric_factor_T_K"].as_float(),
+            Reaction.id,
+            Reaction.key,
+            Reaction.reaction_order,
+            Reaction.third_body,
+            Reaction.reaction_class,
+        )
         .join(Reaction, Reaction.id == Expression.reaction_id)
         .where(
             Expression.origin == "measured-fit",
@@ -262,43 +353,33 @@ def derived_steric_factors(
     )
     if reaction_class is not None:
         query = query.where(Reaction.reaction_class == reaction_class)
-    fits: dict[int, tuple[Expression, Reaction]] = {}
-    for expression, reaction in session.execute(query).all():
-        current = fits.get(reaction.id)
-        if current is None or not current[0].recommended or expression.recommended:
-            fits[reaction.id] = (expression, reaction)
-    pairs = collision_pairs(session, [r for _, r in fits.values()], model=model)
-    classes: dict[str | None, ClassSteric] = {}
-    for reaction_id, (expression, reaction) in fits.items():
-        pair = pairs.get(reaction_id)
-        if pair is None or isinstance(pair, str) or expression.A is None:
+    fits: dict[int, _FitRow] = {}
+    for row in session.connection().execute(query):
+        fit = _FitRow(*row)
+        current = fits.get(fit.reaction_id)
+        if current is None or not current.recommended or fit.recommended:
+            fits[fit.reaction_id] = fit
+    pairs = collision_pairs(session, [_PairReaction(*f[8:12]) for f in fits.values()], model=model)
+    usable = []
+    for fit in fits.values():
+        pair = pairs.get(fit.reaction_id)
+        if pair is None or isinstance(pair, str) or fit.A is None:
             continue
-        provenance = expression.provenance or {}
-        t_mean = provenance.get("steric_factor_T_K")
+        t_mean = fit.t_mean
         if not t_mean:
-            if expression.t_min and expression.t_max:
-                t_mean = math.sqrt(expression.t_min * expression.t_max)
+            if fit.t_min and fit.t_max:
+                t_mean = math.sqrt(fit.t_min * fit.t_max)
             else:
                 continue
-        try:
-            k_mean = modified_arrhenius(t_mean, expression.A, expression.n, expression.Ea)
-            ea_local = local_activation_energy(t_mean, expression.n, expression.Ea)
-            z = pair.collision_rate(t_mean, model)
-            e_z = pair.collision_activation_energy(t_mean, model)
-            p = float(collision.derived_steric_factor(k_mean, ea_local, t_mean, z, e_z))
-        except (ValueError, RatebankError):
+        usable.append((fit, pair, float(t_mean)))
+    classes: dict[str | None, ClassSteric] = {}
+    for (fit, pair, t_mean), p in zip(usable, _implied_steric_factors(usable, model), strict=True):
+        if not math.isfinite(p) or p <= 0:
             continue
-        if not np.isfinite(p) or p <= 0:
-            continue
-        group = classes.setdefault(reaction.reaction_class, ClassSteric(reaction.reaction_class))
+        group = classes.setdefault(fit.reaction_class, ClassSteric(fit.reaction_class))
         group.samples.append(
             StericSample(
-                reaction.key,
-                reaction.reaction_class,
-                p,
-                float(t_mean),
-                expression.id,
-                pair.uses_estimated_diameter,
+                fit.key, fit.reaction_class, p, t_mean, fit.id, pair.uses_estimated_diameter
             )
         )
     for group in classes.values():

@@ -899,6 +899,9 @@ def validate_expressions(
 ) -> list[ExpressionRecord]:
     from ratebank.science.units import parse_energy_unit, parse_rate_unit
 
+    rows = list(rows)
+    # one batched lookup for the whole file, not a query per row
+    resolver.prefetch({text for _, row in rows if (text := cell(row, "reaction")) is not None})
     records: list[ExpressionRecord] = []
     for line, row in rows:
         reaction_text = cell(row, "reaction")

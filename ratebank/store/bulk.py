@@ -134,9 +134,10 @@ def fetch_in(
 ) -> list[tuple[Any, ...]]:
     """The rows of ``query`` for every value of ``ids``, through the raw driver.
 
-    ``query`` holds one ``{marks}`` where the ``IN (...)`` list goes, e.g.
-    ``"SELECT id, key FROM reaction WHERE id IN ({marks})"``; it runs once per
-    ``batch`` values (well under SQLite's 32,766 bound parameters). Whole
+    ``query`` holds one ``IN ({marks})`` where the list goes, e.g.
+    ``"SELECT id, key FROM reaction WHERE id IN ({marks})"``; on SQLite it runs
+    once per ``batch`` values (well under its 32,766 bound parameters), on
+    PostgreSQL as ``= ANY(array)``. Whole
     mechanisms ask for tens of thousands of ids at once; compiling each
     statement and building a result row object per row would cost more than
     the query itself.
@@ -144,7 +145,12 @@ def fetch_in(
     if not ids:
         return []
     connection = session.connection()
-    mark = "%s" if connection.dialect.name == "postgresql" else "?"
+    postgres = connection.dialect.name == "postgresql"
+    if postgres:
+        # one array parameter: psycopg would otherwise parse thousands of placeholders
+        if "IN ({marks})" not in query:
+            raise ValueError("fetch_in needs a query with 'IN ({marks})'")
+        query = query.replace("IN ({marks})", "= ANY(%s)")
     raw = connection.connection.dbapi_connection
     assert raw is not None
     rows: list[tuple[Any, ...]] = []
@@ -152,7 +158,10 @@ def fetch_in(
     try:
         for start in range(0, len(ids), batch):
             chunk = list(ids[start : start + batch])
-            cursor.execute(query.format(marks=", ".join([mark] * len(chunk))), chunk)
+            if postgres:
+                cursor.execute(query, (chunk,))
+            else:
+                cursor.execute(query.format(marks=", ".join(["?"] * len(chunk))), chunk)
             rows.extend(cursor.fetchall())
     finally:
         cursor.close()

@@ -310,3 +310,61 @@ def test_fingerprint_is_the_same_on_sqlite_and_postgresql(tmp_path):
                 prints.append(store_fingerprint(session))
             handle.close()
     assert prints[0] == prints[1]
+
+
+# --------------------------------------------------------------------------- derived P
+
+
+@pytest.mark.parametrize("model", ["hard-sphere", "lennard-jones"])
+def test_derived_steric_factors_equal_the_formula_reaction_by_reaction(tmp_path, model):
+    # the vectorized pass must give, for every measured reaction, what the
+    # one-reaction formula P = k / (z exp(-(Ea_local - E_z)/(R T))) gives
+    from ratebank.science import collision
+    from ratebank.science.arrhenius import local_activation_energy, modified_arrhenius
+    from ratebank.services.partners import collision_pairs
+    from ratebank.store.models import Expression, Reaction
+
+    db = tmp_path / "demo.db"
+    assert run(str(db), "demo", "--db", str(db), "--out", str(tmp_path / "m.csv")).exit_code == 0
+    # and a self-reaction A + A, whose collision rate carries the factor 1/2 (made up)
+    for command, name, text in (
+        (
+            "species",
+            "s.csv",
+            "name,formula,diameter_angstrom,well_depth_K\nXO2,XeO2,3.5,110\nX2O4,Xe2O4,,\n",
+        ),
+        ("reactions", "r.csv", "key,equation,class\nxo2-self,XO2 + XO2 -> X2O4,x-self\n"),
+        (
+            "data",
+            "p.csv",
+            "set,reaction,T_K,k,k_units\n"
+            + "".join(
+                f"x1,xo2-self,{T},{1e-12 * (T / 300) ** 0.7:.6e},cm3/molecule/s\n"
+                for T in (250, 300, 400, 550)
+            ),
+        ),
+    ):
+        outcome = run(str(db), command, "import", str(write(tmp_path / name, text)))
+        assert outcome.exit_code == 0, outcome.stderr
+    assert run(str(db), "fit", "xo2-self").exit_code == 0
+    handle = open_store(str(db))
+    try:
+        with handle.session() as session:
+            groups = steric.derived_steric_factors(session, model=model)
+            samples = [s for g in groups for s in g.samples]
+            assert len(samples) >= 5 and "xo2-self" in {s.key for s in samples}
+            for sample in samples:
+                expression = session.get(Expression, sample.expression_id)
+                reaction = session.get(Reaction, expression.reaction_id)
+                pair = collision_pairs(session, [reaction], model=model)[reaction.id]
+                T = sample.temperature
+                expected = collision.derived_steric_factor(
+                    modified_arrhenius(T, expression.A, expression.n, expression.Ea),
+                    local_activation_energy(T, expression.n, expression.Ea),
+                    T,
+                    pair.collision_rate(T, model),
+                    pair.collision_activation_energy(T, model),
+                )
+                assert sample.steric_factor == pytest.approx(float(expected), rel=1e-12)
+    finally:
+        handle.close()
