@@ -73,36 +73,32 @@ def insert_returning_ids(
 ) -> list[int]:
     """Insert ``rows`` and return their new ids, in order.
 
-    SQLite: the driver's executemany inside the session's write transaction
-    (``BEGIN IMMEDIATE``, so no other writer can interleave), then the ids
-    above the previous maximum. PostgreSQL: ``INSERT ... RETURNING`` per batch.
+    The rows go in with the driver's bulk path (executemany on SQLite, COPY
+    on PostgreSQL) while no other writer can add rows to ``table``; the new
+    ids are then those above the previous maximum, in order. On SQLite the
+    session's write transaction (``BEGIN IMMEDIATE``) already excludes other
+    writers. On PostgreSQL the table is locked against other writers (not
+    readers) until the transaction ends: ``SHARE ROW EXCLUSIVE`` waits for
+    inserts in progress and conflicts with itself, and the id sequence hands
+    out increasing values in the order COPY sends the rows.
     """
     from sqlalchemy import text
 
     if not rows:
         return []
     connection = session.connection()
-    if connection.dialect.name == "sqlite":
-        before = connection.execute(text(f"SELECT COALESCE(MAX(id), 0) FROM {table}")).scalar()
-        insert_rows(session, table, columns, rows)
-        raw_cursor = connection.connection.dbapi_connection.cursor()  # type: ignore[union-attr]
-        try:
-            raw_cursor.execute(f"SELECT id FROM {table} WHERE id > ? ORDER BY id", (before,))
-            ids = [row[0] for row in raw_cursor.fetchall()]
-        finally:
-            raw_cursor.close()
-    else:
-        raw = connection.connection.dbapi_connection
-        assert raw is not None
-        marks = ", ".join(["%s"] * len(columns))
-        statement = f"INSERT INTO {table} ({', '.join(columns)}) VALUES ({marks}) RETURNING id"
-        ids = []
-        with raw.cursor() as cursor:
-            cursor.executemany(statement, rows, returning=True)
-            while True:
-                ids.append(cursor.fetchone()[0])
-                if not cursor.nextset():
-                    break
+    postgres = connection.dialect.name == "postgresql"
+    if postgres:
+        connection.execute(text(f"LOCK TABLE {table} IN SHARE ROW EXCLUSIVE MODE"))
+    before = connection.execute(text(f"SELECT COALESCE(MAX(id), 0) FROM {table}")).scalar()
+    insert_rows(session, table, columns, rows)
+    raw_cursor = connection.connection.dbapi_connection.cursor()  # type: ignore[union-attr]
+    try:
+        mark = "%s" if postgres else "?"
+        raw_cursor.execute(f"SELECT id FROM {table} WHERE id > {mark} ORDER BY id", (before,))
+        ids = [row[0] for row in raw_cursor.fetchall()]
+    finally:
+        raw_cursor.close()
     if len(ids) != len(rows):
         raise RuntimeError(f"inserted {len(rows)} rows into {table} but found {len(ids)} ids")
     return ids
