@@ -95,24 +95,6 @@ def test_booleans_hash_as_integers_on_either_dialect():
     assert _column_bytes("integer", [True, False, None]) == _column_bytes("integer", [1, 0, None])
 
 
-@pytest.mark.parametrize(
-    ("values", "expected"),
-    [
-        (['{"b": 1, "a": [1.5, 2]}', None, "[]"], '[{"a":[1.5,2],"b":1},null,[]]'),
-        # the standard library's NaN token (older stores): decoded one by one, NaN as null
-        (['{"x": NaN}', '{"y": 1}'], '[{"x":null},{"y":1}]'),
-        # two values in one cell must not pass for two cells
-        (['{"a":1},{"b":2}', '{"c":3}'], '[{"not JSON":"{\\"a\\":1},{\\"b\\":2}"},{"c":3}]'),
-        (["not json"], '[{"not JSON":"not json"}]'),
-        ([{"b": 2, "a": 1}], '[{"a":1,"b":2}]'),  # PostgreSQL's driver hands over values
-    ],
-)
-def test_canonical_json_of_a_batch(values, expected):
-    from ratebank.store.json_codec import canonical_many
-
-    assert canonical_many(values) == expected
-
-
 def test_values_of_an_unexpected_type_still_hash():
     # SQLite keeps whatever a hand edit wrote: a number in a text column, text in a float one
     assert _column_bytes("text", ["a", 5]).startswith(b"t")
