@@ -23,6 +23,7 @@ from ratebank.store import audit
 from ratebank.store.bulk import (
     EXPRESSION_COLUMNS,
     db_timestamp,
+    fetch_all,
     fetch_in,
     insert_returning_ids,
     json_adapter,
@@ -87,17 +88,7 @@ def _points(session: Session, reaction_ids: list[int] | None):  # type: ignore[n
     )
     if reaction_ids is not None:
         query = query.where(MeasurementSet.reaction_id.in_(reaction_ids))
-    compiled = query.compile(
-        dialect=session.connection().dialect, compile_kwargs={"literal_binds": True}
-    )
-    raw = session.connection().connection.dbapi_connection
-    assert raw is not None
-    cursor = raw.cursor()
-    try:
-        cursor.execute(str(compiled))
-        rows = cursor.fetchall()
-    finally:
-        cursor.close()
+    rows = fetch_all(session, query)  # ids only: safe to inline
     if not rows:
         empty = np.zeros(0)
         return empty.astype(np.int64), empty.astype(np.int64), empty, empty, empty

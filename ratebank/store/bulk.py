@@ -104,11 +104,6 @@ def insert_returning_ids(
     return ids
 
 
-def db_json(session: Session, value: object) -> object:
-    """A JSON value as a raw insert into a JSON column needs it."""
-    return json_adapter(session)(value)
-
-
 def json_adapter(session: Session) -> Callable[[object], object]:
     """The function that turns a value into what a raw insert into a JSON column takes.
 
@@ -133,10 +128,9 @@ def fetch_in(
     ``query`` holds one ``IN ({marks})`` where the list goes, e.g.
     ``"SELECT id, key FROM reaction WHERE id IN ({marks})"``; on SQLite it runs
     once per ``batch`` values (well under its 32,766 bound parameters), on
-    PostgreSQL as ``= ANY(array)``. Whole
-    mechanisms ask for tens of thousands of ids at once; compiling each
-    statement and building a result row object per row would cost more than
-    the query itself.
+    PostgreSQL as ``= ANY(array)``. Whole mechanisms ask for tens of
+    thousands of ids at once; compiling each statement and building a result
+    row object per row would cost more than the query itself.
     """
     if not ids:
         return []
