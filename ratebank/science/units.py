@@ -32,9 +32,9 @@ Energy units (``ENERGY_UNITS``) are molar energies: ``J/mol``, ``kJ/mol``,
 (E/R, multiplied by R) and ``cm-1`` (a wavenumber per molecule). The calorie
 is the thermochemical calorie, exactly 4.184 J.
 
-Physical constants come from :mod:`ratebank.science.constants` (CODATA values
-via :mod:`scipy.constants`), imported only when a unit that needs one is
-first parsed; parsed units are cached.
+Physical constants come from :mod:`ratebank.science.constants` (the exact
+values of the 2019 SI, checked against :mod:`scipy.constants`); parsed units
+are cached.
 
 References
 ----------
@@ -223,7 +223,7 @@ _ENERGY_SIGNATURES: dict[frozenset[tuple[str, int]], str] = {
 
 @functools.cache
 def _constants() -> Any:
-    """Import the CODATA constants on first use (scipy.constants is slow to import)."""
+    """The constants module, imported on first use."""
     from ratebank.science import constants
 
     return constants
@@ -560,7 +560,7 @@ def parse_unit(text: str) -> ParsedUnit:
     Notes
     -----
     Scale factors are built from exact integers and powers of ten, then
-    multiplied by the Avogadro constant N_A (CODATA, via scipy.constants)
+    multiplied by the Avogadro constant N_A (exact in the 2019 SI)
     to the power of the net number of ``molecule`` factors.
 
     Examples
@@ -728,8 +728,8 @@ def rate_to_si(value: Any, unit: str | RateUnit, order: int | None = None) -> An
 
     Notes
     -----
-    value_SI = value * to_si, with molecule = 1/N_A mol (N_A from CODATA via
-    scipy.constants).
+    value_SI = value * to_si, with molecule = 1/N_A mol (N_A exact in the
+    2019 SI).
 
     Examples
     --------
@@ -882,7 +882,7 @@ def parse_energy_unit(text: str) -> EnergyUnit:
 
     Notes
     -----
-    Factors to J mol^-1 (constants CODATA via scipy.constants): cal is the
+    Factors to J mol^-1 (exact 2019 SI constants): cal is the
     thermochemical calorie, 4.184 J; ``K`` is E/R, times R; ``eV`` is per
     molecule, times e N_A; ``cm-1`` is per molecule, times h c (100 m^-1) N_A;
     ``J/molecule`` times N_A. A bare energy such as ``kcal`` is refused:

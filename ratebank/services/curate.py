@@ -18,7 +18,13 @@ from ratebank.errors import ImportValidationError, NotFoundError
 from ratebank.services import validate as v
 from ratebank.services.progress import NoProgress, Progress, chunks
 from ratebank.store import audit
-from ratebank.store.bulk import db_timestamp, fetch_in, insert_returning_ids, insert_rows
+from ratebank.store.bulk import (
+    SuspendedIndex,
+    db_timestamp,
+    fetch_in,
+    insert_returning_ids,
+    insert_rows,
+)
 from ratebank.store.models import (
     AuditEntry,
     Expression,
@@ -300,6 +306,8 @@ class MeasurementImporter:
             default_k_units=default_k_units,
         )
         self._set_ids: list[int] = []
+        self._expected_rows = expected_rows
+        self._point_index: SuspendedIndex | None = None
         # a savepoint makes the import all-or-nothing even inside a caller's larger transaction
         self._savepoint = session.begin_nested()
         self.progress.start("importing points", expected_rows)
@@ -365,12 +373,18 @@ class MeasurementImporter:
             listed = array.tolist()
             columns.append(name)
             values.append([None if x != x else x for x in listed] if missing.any() else listed)
+        if self._point_index is None:
+            self._point_index = SuspendedIndex(session, "point", "ix_point_set_id")
+            if SuspendedIndex.worth_it(session, "point", self._expected_rows):
+                self._point_index.drop()
         insert_rows(session, "point", columns, zip(*values, strict=True))
 
     def finish(self) -> ImportSummary:
         if self.problems:
-            self._savepoint.rollback()
+            self._savepoint.rollback()  # brings a suspended index back too
             _raise_problems(self.source, self.problems)
+        if self._point_index is not None:
+            self._point_index.restore()
         self._savepoint.commit()
         sets = len(self.validator.sets)
         if not self.dry_run and self.points:

@@ -216,7 +216,7 @@ def mechanism_table(
         linearised = None
         if form == "arrhenius" and n != 0:
             assert linearise_at is not None
-            # only a linearised export needs the Arrhenius module (and scipy.constants)
+            # only a linearised export needs the Arrhenius module
             from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
 
             A = float(local_pre_exponential(linearise_at, A, n))
