@@ -111,3 +111,16 @@ def test_small_import_into_a_larger_table_keeps_the_index(store, tmp_path, monke
             assert bulk.SuspendedIndex.worth_it(session, "point", 40)
     finally:
         handle.close()
+
+
+def test_only_sqlite_suspends_indexes(db_url):
+    assert run(db_url, "init").exit_code == 0
+    handle = open_store(db_url)
+    try:
+        with handle.session() as session:
+            # PostgreSQL loads with COPY and keeps its indexes up to date
+            expected = session.connection().dialect.name == "sqlite"
+            assert bulk.SuspendedIndex.worth_it(session, "point", 10**6) is expected
+            assert not bulk.SuspendedIndex.worth_it(session, "point", 10)  # too few to matter
+    finally:
+        handle.close()
