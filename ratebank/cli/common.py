@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING, Any
 import typer
 from typer.core import TyperGroup
 
-from ratebank.errors import RatebankError
+from ratebank.errors import BadInputError, ExportGapsError, RatebankError, RefusedEstimateError
 
 if TYPE_CHECKING:
     from rich.console import Console
@@ -127,6 +127,38 @@ def report_error(message: str) -> None:
 INTERRUPTED_EXIT = 130
 
 
+#: The option that lets a refused command go ahead, by error type.
+_WAY_AROUND = {ExportGapsError: "--leave-out-gaps", RefusedEstimateError: "--keep-going"}
+
+
+def _options_by_argument(command: Any) -> dict[str, str]:
+    """Every option of the command tree, by its parameter name in lower case."""
+    found: dict[str, str] = {}
+    for sub in getattr(command, "commands", {}).values():
+        for name, flag in _options_by_argument(sub).items():
+            found.setdefault(name, flag)
+    for param in getattr(command, "params", []):
+        opts = [o for o in getattr(param, "opts", []) if o.startswith("--")]
+        if opts and param.name:
+            found.setdefault(param.name.lower(), opts[0])
+    return found
+
+
+def with_option_names(exc: RatebankError, command: Any) -> str:
+    """The library's message, with the command-line option it concerns where that helps.
+
+    The library speaks of arguments (``argument="fixed_n"``); a user typed an
+    option (``--fixed-n``), so the option is named here, in one place.
+    """
+    message = str(exc)
+    for kind, option in _WAY_AROUND.items():
+        if isinstance(exc, kind):
+            return f"{message} ({option})"
+    argument = getattr(exc, "argument", None) if isinstance(exc, BadInputError) else None
+    option = _options_by_argument(command).get(argument.lower()) if argument else None
+    return f"{message} (option {option})" if option else message
+
+
 class RatebankGroup(TyperGroup):
     """A command group that turns every error into one line and an exit code."""
 
@@ -136,7 +168,7 @@ class RatebankGroup(TyperGroup):
         except RatebankError as exc:
             if STATE.traceback:
                 raise
-            report_error(str(exc))
+            report_error(with_option_names(exc, self))
             raise typer.Exit(exc.exit_code) from None
         except KeyboardInterrupt:
             if STATE.traceback:

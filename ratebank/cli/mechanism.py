@@ -112,7 +112,7 @@ def estimate(
     Example: ratebank estimate --class h-abstraction --collision hard-sphere
     """
     from ratebank.report.mechanism import estimate_records, estimate_tables
-    from ratebank.services.estimation import EstimateIncomplete
+    from ratebank.errors import RefusedEstimateError
     from ratebank.services.estimation import estimate as run_estimate
 
     try:
@@ -121,16 +121,16 @@ def estimate(
                 session,
                 keys or None,
                 steric=steric,
-                t_ref=t_ref,
+                T_ref=t_ref,
                 collision=collision,
                 reaction_class=reaction_class,
                 fallback_steric=fallback_steric,
                 uncertainty_factor=uncertainty_factor,
-                t_range=_t_range(t_range),
+                T_range=_t_range(t_range),
                 keep_going=keep_going,
                 progress=progress,
             )
-    except EstimateIncomplete as exc:
+    except RefusedEstimateError as exc:
         if as_json:
             print_json(estimate_records(exc.report, preset))
         raise
@@ -169,7 +169,7 @@ def check(
 
     with store_session() as session:
         report = check_store(
-            session, t_range=_t_range(t_range), ignore=ignore or None, keys=keys or None
+            session, T_range=_t_range(t_range), ignore=ignore or None, keys=keys or None
         )
     if as_json:
         print_json(check_records(report))

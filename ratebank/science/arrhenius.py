@@ -55,13 +55,16 @@ __all__ = [
     "BatchFormChoice",
     "FitWarning",
     "FormComparison",
+    "GroupFits",
     "ModifiedArrheniusApproximation",
     "approximate_with_modified_arrhenius",
     "arrhenius",
     "compare_forms",
     "compare_forms_batch",
+    "fit_groups",
     "fit_rate_constants",
     "fit_rate_constants_batch",
+    "fit_uncertainty_factor",
     "ln_k_uncertainty",
     "local_activation_energy",
     "local_pre_exponential",
@@ -327,6 +330,57 @@ def ln_k_uncertainty(k, uncertainty, kind: str = "relative"):
     raise ScienceInputError(
         f"Unknown uncertainty kind {kind!r}; expected 'relative' or 'absolute'."
     )
+
+
+def fit_uncertainty_factor(T, covariance):
+    """Uncertainty factor f(T) of a fitted expression from its covariance.
+
+    f(T) = exp(sqrt(g(T)' C g(T))),  g(T) = (1, ln T, -1/(R T)),
+
+    the first-order propagation of the covariance C of (ln A, n, Ea) to
+    ln k = ln A + n ln T - Ea/(RT): one standard deviation of ln k, as a
+    factor on k.
+
+    Parameters
+    ----------
+    T : array_like
+        Temperature [K]; positive. With a stack of covariances of shape
+        (m, 3, 3), ``T`` has shape (m,) (one temperature per fit) or (m, N)
+        (a grid per fit).
+    covariance : array_like, shape (3, 3) or (m, 3, 3)
+        Covariance of (ln A [-], n [-], Ea [J mol^-1]).
+
+    Returns
+    -------
+    numpy.ndarray or float
+        f(T) [-], at least 1 (NaN where the covariance is not finite).
+
+    References
+    ----------
+    Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed. (2003),
+    ch. 3 (propagation of errors).
+
+    Examples
+    --------
+    A variance of 0.01 in ln A alone gives f = exp(0.1) at every T:
+
+    >>> import numpy as np
+    >>> f"{fit_uncertainty_factor(500.0, np.diag([0.01, 0.0, 0.0])):.6f}"
+    '1.105171'
+    """
+    T = _temperature(T)
+    C = np.asarray(covariance, dtype=float)
+    g = np.stack([np.ones_like(T), np.log(T), -1.0 / (GAS_CONSTANT * T)], axis=-1)
+    if C.ndim == 2:
+        variance = np.einsum("...i,ij,...j->...", g, C, g)
+    elif T.ndim == 1:
+        variance = np.einsum("mi,mij,mj->m", g, C, g)
+    else:
+        variance = np.einsum("mti,mij,mtj->mt", g, C, g)
+    with np.errstate(invalid="ignore"):
+        factor = np.exp(np.sqrt(np.maximum(variance, 0.0)))
+    factor = np.where(np.isfinite(variance), factor, np.nan)
+    return float(factor) if factor.ndim == 0 else factor
 
 
 @dataclass(frozen=True)
@@ -1197,23 +1251,34 @@ def approximate_with_modified_arrhenius(T, k) -> ModifiedArrheniusApproximation:
     grid. Used to export curves that are not exactly of this form, such as
     the Lennard-Jones-corrected collision-theory estimate.
 
+    Many curves are approximated at once when ``T`` and ``k`` have a leading
+    axis (one row per curve, each with its own grid): the regressors of each
+    row are centred on their means, and the row's 3 x 3 normal equations are
+    solved as one stacked ``numpy.linalg.solve``.
+
     Parameters
     ----------
-    T : array_like, shape (N,)
-        Temperature grid [K]; at least 3 distinct positive values.
-    k : array_like, shape (N,)
+    T : array_like, shape (N,) or (m, N)
+        Temperature grid [K]; at least 3 distinct positive values per row.
+    k : array_like, shape (N,) or (m, N)
         Model rate constants on the grid [k-unit]; positive.
 
     Returns
     -------
     ModifiedArrheniusApproximation
         (A [k-unit K^-n], n [-], Ea [J mol^-1], largest relative deviation [-]);
-        it unpacks as a 4-tuple.
+        floats for one curve, arrays of shape (m,) for many. It unpacks as a
+        4-tuple.
 
     Raises
     ------
     FitError
         As :func:`fit_rate_constants` with ``form="modified"``.
+
+    References
+    ----------
+    Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed. (2003),
+    ch. 7 (linear least squares).
 
     Examples
     --------
@@ -1222,12 +1287,35 @@ def approximate_with_modified_arrhenius(T, k) -> ModifiedArrheniusApproximation:
     >>> A, n, Ea, worst = approximate_with_modified_arrhenius(T, 3.0 * T**0.5 * np.exp(-800 / T))
     >>> f"{A:.4f} {n:.4f} {worst < 1e-12}"
     '3.0000 0.5000 True'
+    >>> grids = np.stack([T, 2 * T])
+    >>> many = approximate_with_modified_arrhenius(grids, 5.0 * grids**1.5)
+    >>> [f"{a:.4f}" for a in many.A], [f"{x:.4f}" for x in many.n]
+    (['5.0000', '5.0000'], ['1.5000', '1.5000'])
     """
     T = np.asarray(T, dtype=float)
     k = np.asarray(k, dtype=float)
-    fit = fit_rate_constants(T, k, form="modified")
-    deviation = float(np.max(np.abs(fit.k(T) / k - 1.0)))
-    return ModifiedArrheniusApproximation(fit.A, fit.n, fit.Ea, deviation)
+    if k.ndim < 2:
+        fit = fit_rate_constants(T, k, form="modified")
+        deviation = float(np.max(np.abs(fit.k(T) / k - 1.0)))
+        return ModifiedArrheniusApproximation(fit.A, fit.n, fit.Ea, deviation)
+    T = np.broadcast_to(T, k.shape)
+    if not (np.all(np.isfinite(T) & (T > 0)) and np.all(np.isfinite(k) & (k > 0))):
+        raise FitError("T and k must be positive and finite to approximate a curve.")
+    ln_T, inverse_T, ln_k = np.log(T), 1.0 / T, np.log(k)
+    centred = [x - x.mean(axis=-1, keepdims=True) for x in (ln_T, inverse_T, ln_k)]
+    scale = np.abs(centred[1]).max(axis=-1, keepdims=True)
+    scale = np.where(scale > 0, scale, 1.0)
+    x = np.stack([centred[0], centred[1] / scale], axis=-1)  # (m, N, 2)
+    normal = np.einsum("mni,mnj->mij", x, x)
+    if np.any(np.abs(np.linalg.det(normal)) < 1e-300):
+        raise FitError("each curve needs at least 3 distinct temperatures.")
+    slope = np.linalg.solve(normal, np.einsum("mni,mn->mi", x, centred[2])[..., None])[..., 0]
+    n = slope[:, 0]
+    Ea = -slope[:, 1] / scale[:, 0] * GAS_CONSTANT
+    ln_A = (ln_k - n[:, None] * ln_T + Ea[:, None] / GAS_CONSTANT * inverse_T).mean(axis=-1)
+    k_fit = np.exp(ln_A[:, None] + n[:, None] * ln_T - Ea[:, None] / GAS_CONSTANT * inverse_T)
+    deviation = np.max(np.abs(k_fit / k - 1.0), axis=-1)
+    return ModifiedArrheniusApproximation(np.exp(ln_A), n, Ea, deviation)
 
 
 @dataclass(frozen=True, eq=False)
@@ -1352,3 +1440,163 @@ def compare_forms_batch(T, k, sigma_ln_k, group, *, significance: float = 0.05) 
                 f"p = {p_value[i]:.2g} >= {significance:g}); the two-parameter form suffices."
             )
     return BatchFormChoice(two, three, supported, reason.astype(str), p_value)
+
+
+@dataclass(frozen=True, eq=False)
+class GroupFits:
+    """The chosen fit of each group of points (one row per sorted group label).
+
+    Groups whose every point states sigma(ln k) are fitted with those weights
+    (absolute covariance); the others with unit weights, the covariance then
+    scaled by the reduced chi-square. Rows that could not be fitted have
+    ``ok`` False and their reason in ``status``.
+
+    Attributes
+    ----------
+    groups : numpy.ndarray, shape (m,)
+    ok : numpy.ndarray of bool
+    status : numpy.ndarray of str
+        ``"ok"`` or why the group was not fitted.
+    form : numpy.ndarray of str
+        The form kept for the group.
+    reason : numpy.ndarray of str
+        Why that form was kept.
+    weighted : numpy.ndarray of bool
+    A, n, Ea, T_ref, reduced_chi_square, T_min, T_max, mean_T : numpy.ndarray
+        As in :class:`BatchFit`; ``mean_T`` is the geometric-mean temperature
+        of the group's points [K].
+    n_points : numpy.ndarray of int
+    covariance : numpy.ndarray, shape (m, 3, 3)
+    warnings : numpy.ndarray of tuple
+        The :class:`FitWarning` objects of each group.
+    """
+
+    groups: np.ndarray
+    ok: np.ndarray
+    status: np.ndarray
+    form: np.ndarray
+    reason: np.ndarray
+    weighted: np.ndarray
+    A: np.ndarray
+    n: np.ndarray
+    Ea: np.ndarray
+    T_ref: np.ndarray
+    covariance: np.ndarray
+    reduced_chi_square: np.ndarray
+    n_points: np.ndarray
+    T_min: np.ndarray
+    T_max: np.ndarray
+    mean_T: np.ndarray
+    warnings: np.ndarray
+
+    def __len__(self) -> int:
+        return int(self.groups.size)
+
+
+_GROUP_COLUMNS = ("A", "n", "Ea", "T_ref", "reduced_chi_square", "T_min", "T_max")
+
+
+def _chosen_batches(T, k, sigma, group, form, fixed_n, significance):
+    """(two, three, keep_three, reasons) for one weighting of the groups."""
+    if fixed_n is not None:
+        fits = fit_rate_constants_batch(T, k, sigma, group, form="fixed-n", fixed_n=fixed_n)
+        reason = f"n fixed at {fixed_n:g} by the user"
+        return fits, fits, np.zeros(len(fits), bool), np.full(len(fits), reason, object)
+    if form == "auto":
+        choice = compare_forms_batch(T, k, sigma, group, significance=significance)
+        return choice.two, choice.three, choice.supported, choice.reason
+    fits = fit_rate_constants_batch(T, k, sigma, group, form=form)
+    reason = f"the {form} form was asked for"
+    return fits, fits, np.zeros(len(fits), bool), np.full(len(fits), reason, object)
+
+
+def fit_groups(
+    T,
+    k,
+    sigma_ln_k,
+    group,
+    *,
+    form: str = "auto",
+    fixed_n: float | None = None,
+    significance: float = 0.05,
+) -> GroupFits:
+    """Fit every group of points (a reaction's pooled sets) and keep the form each supports.
+
+    ``form`` is ``"arrhenius"`` (n = 0), ``"modified"`` (A, n, Ea) or
+    ``"auto"`` (the three-parameter form only where :func:`compare_forms_batch`
+    justifies it); ``fixed_n`` fits A and Ea with n held. ``sigma_ln_k`` may
+    hold NaN: a group with any such point is fitted unweighted.
+
+    Parameters
+    ----------
+    T : array_like, shape (N,)
+        Temperatures [K].
+    k : array_like, shape (N,)
+        Rate constants [k-unit]; positive.
+    sigma_ln_k : array_like, shape (N,)
+        sigma of ln k per point [-], NaN where not stated.
+    group : array_like, shape (N,)
+        Group label of each point.
+
+    Returns
+    -------
+    GroupFits
+
+    Raises
+    ------
+    FitError
+        For an unknown form or a non-finite ``fixed_n``.
+
+    References
+    ----------
+    Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed. (2003),
+    chs. 6-7 and 11.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> T = np.array([300.0, 400.0, 500.0, 300.0, 600.0])
+    >>> k = 2.0e8 * np.exp(-1000.0 / T)
+    >>> fits = fit_groups(T, k, np.full(5, np.nan), np.array([1, 1, 1, 2, 2]), form="arrhenius")
+    >>> [f"{a:.3e}" for a in fits.A], fits.form.tolist()
+    (['2.000e+08', '2.000e+08'], ['arrhenius', 'arrhenius'])
+    """
+    if form not in ("arrhenius", "modified", "auto"):
+        raise FitError(
+            f"unknown form {form!r}; expected arrhenius, modified or auto", argument="form"
+        )
+    if fixed_n is not None and not np.isfinite(fixed_n):
+        raise FitError("a fixed n must be a finite number", argument="fixed_n")
+    T, k = np.asarray(T, float), np.asarray(k, float)
+    sigma, group = np.asarray(sigma_ln_k, float), np.asarray(group)
+    labels, inverse = np.unique(group, return_inverse=True)
+    m = labels.size
+    weighted_group = np.bincount(inverse, weights=np.isnan(sigma), minlength=m) == 0
+    out = {name: np.full(m, np.nan) for name in _GROUP_COLUMNS}
+    out["covariance"] = np.full((m, 3, 3), np.nan)
+    out.update(
+        ok=np.zeros(m, bool),
+        status=np.full(m, "no points", object),
+        form=np.full(m, None, object),
+        reason=np.full(m, "", object),
+        n_points=np.bincount(inverse, minlength=m),
+        warnings=np.empty(m, object),
+        mean_T=np.exp(np.bincount(inverse, weights=np.log(T), minlength=m) / np.bincount(inverse)),
+    )
+    for weighted in (True, False):
+        mask = weighted_group[inverse] == weighted
+        if not mask.any():
+            continue
+        two, three, keep_three, reasons = _chosen_batches(
+            T[mask], k[mask], sigma[mask] if weighted else None, group[mask],
+            form, fixed_n, significance,
+        )  # fmt: skip
+        rows = np.searchsorted(labels, two.groups)
+        for i, row in enumerate(rows.tolist()):
+            batch = three if keep_three[i] else two
+            for name in (*_GROUP_COLUMNS, "covariance"):
+                out[name][row] = getattr(batch, name)[i]
+            out["ok"][row], out["status"][row] = bool(batch.ok[i]), str(batch.status[i])
+            out["form"][row], out["reason"][row] = batch.form, str(reasons[i])
+            out["warnings"][row] = batch.fit_warnings(i) if batch.ok[i] else ()
+    return GroupFits(groups=labels, weighted=weighted_group, **out)

@@ -53,6 +53,7 @@ __all__ = [
     "Equation",
     "canonical_equation",
     "check_element_balance",
+    "looks_like_equation",
     "parse_equation",
 ]
 
@@ -419,6 +420,15 @@ class _Reader:
             raise self.fail(
                 f"'(' is never closed in species '{name}'", at + opened[-1], "expected ')'"
             )
+
+
+def looks_like_equation(text: str) -> bool:
+    """True when ``text`` holds an arrow, so that it is meant as an equation, not a key.
+
+    >>> looks_like_equation("OH + CH4 -> CH3 + H2O"), looks_like_equation("oh-ch4")
+    (True, False)
+    """
+    return ARROW in text or "\u2192" in text
 
 
 def parse_equation(text: str) -> Equation:

@@ -15,16 +15,18 @@ Flags (each with a stable code):
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 
-from sqlalchemy import select
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import RatebankError
-from ratebank.services.partners import collision_pairs
-from ratebank.services.selection import chosen_expressions
-from ratebank.store.models import Expression, Reaction
+from ratebank.errors import BadInputError
+from ratebank.science.arrhenius import modified_arrhenius
+from ratebank.science.collision import collision_limit_ratio, collision_rate
+from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
+from ratebank.services.selection import Chosen, chosen_expressions
+from ratebank.store import queries
+from ratebank.store.queries import ExpressionRow, ReactionRow
 
 CHECK_CODES = (
     "above-collision-limit",
@@ -64,83 +66,90 @@ class CheckReport:
 def check_store(
     session: Session,
     *,
-    t_range: tuple[float, float] | None = None,
+    T_range: tuple[float, float] | None = None,
     ignore: list[str] | None = None,
     keys: list[str] | None = None,
 ) -> CheckReport:
     """Run every check; ``ignore`` names codes not to report."""
-    import numpy as np
-
-    from ratebank.science import collision
-    from ratebank.science.arrhenius import modified_arrhenius
-
     ignore = list(ignore or [])
     unknown = [c for c in ignore if c not in CHECK_CODES]
     if unknown:
-        raise RatebankError(
-            f"unknown check {', '.join(unknown)}; the checks are {', '.join(CHECK_CODES)}"
+        raise BadInputError(
+            f"unknown check {', '.join(unknown)}; the checks are {', '.join(CHECK_CODES)}",
+            argument="ignore",
         )
-    if t_range is not None and not (0 < t_range[0] < t_range[1]):
-        raise RatebankError("--t-range needs two temperatures, the lower first, both above 0 K")
-    if keys:
-        from ratebank.services.curate import find_reaction
-
-        reactions = [find_reaction(session, key) for key in keys]
-    else:
-        reactions = list(session.scalars(select(Reaction).order_by(Reaction.key)))
+    if T_range is not None and not (0 < T_range[0] < T_range[1]):
+        raise BadInputError(
+            "T_range needs two temperatures, the lower first, both above 0 K", argument="T_range"
+        )
+    reactions = queries.find_reactions(session, keys) if keys else queries.reactions(session)
     by_id = {r.id: r for r in reactions}
-    expressions: list[Expression] = []
-    ids = list(by_id)
-    for start in range(0, len(ids), 500):
-        expressions.extend(
-            session.scalars(
-                select(Expression)
-                .where(Expression.reaction_id.in_(ids[start : start + 500]))
-                .order_by(Expression.id)
-            )
-        )
-    flags: list[Flag] = []
+    by_reaction = queries.expressions_of(session, list(by_id))
+    expressions = sorted((e for own in by_reaction.values() for e in own), key=lambda e: e.id)
+    pairs = collision_pairs(session, [r for r in reactions if r.bimolecular])
+    chosen, gaps = chosen_expressions(session, reactions)
+    flags = [
+        *_collision_limit_flags(expressions, pairs, by_id),
+        *_expression_flags(expressions, by_id),
+        *_gap_flags(gaps),
+        *_chosen_flags(chosen, T_range),
+    ]
+    flags = [f for f in flags if f.code not in ignore]
+    flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
+    return CheckReport(flags, len(reactions), len(expressions), T_range, ignore)
 
-    # collision limit, vectorized over all complete bimolecular expressions
-    bimolecular = [r for r in reactions if r.reaction_order == 2 and not r.third_body]
-    pairs = collision_pairs(session, bimolecular)
+
+def _collision_limit_flags(
+    expressions: list[ExpressionRow],
+    pairs: dict[int, CollisionPair | str],
+    by_id: dict[int, ReactionRow],
+) -> list[Flag]:
+    """k(T) above the hard-sphere collision rate, all complete bimolecular expressions at once."""
+    rows = [
+        (e, pair)
+        for e in expressions
+        if e.complete and isinstance(pair := pairs.get(e.reaction_id), CollisionPair)
+    ]
+    if not rows:
+        return []
     grid_unit = np.geomspace(1.0, 2.0, 40) - 1.0  # 0..1, denser at the low end
-    rows = []
-    for e in expressions:
-        pair = pairs.get(e.reaction_id)
-        if e.A is None or pair is None or isinstance(pair, str):
-            continue
-        low = e.t_min or DEFAULT_LIMIT_RANGE[0]
-        high = e.t_max or DEFAULT_LIMIT_RANGE[1]
-        rows.append((e, pair, low + (high - low) * grid_unit))
-    if rows:
-        T = np.stack([grid for _, _, grid in rows])
-        A = np.array([[e.A] for e, _, _ in rows])
-        n = np.array([[e.n] for e, _, _ in rows])
-        Ea = np.array([[e.Ea] for e, _, _ in rows])
-        k = modified_arrhenius(T, A, n, Ea)
-        z = np.stack([pair.collision_rate(grid) for _, pair, grid in rows])
-        ratio, where = collision.collision_limit_ratio(T, k, z)
-        for (e, _pair, _grid), r, t in zip(
-            rows, np.atleast_1d(ratio), np.atleast_1d(where), strict=True
-        ):
-            if r > 1.0:
-                flags.append(
-                    Flag(
-                        by_id[e.reaction_id].key,
-                        "above-collision-limit",
-                        f"expression {e.id} ({e.origin}) is {r:.3g} times the hard-sphere "
-                        f"collision rate at {t:.4g} K",
-                        e.id,
-                        float(r),
-                        float(t),
-                    )
+    low = np.array([[e.T_min or DEFAULT_LIMIT_RANGE[0]] for e, _ in rows])
+    high = np.array([[e.T_max or DEFAULT_LIMIT_RANGE[1]] for e, _ in rows])
+    T = low + (high - low) * grid_unit
+    A, n, Ea = (np.array([[getattr(e, name)] for e, _ in rows]) for name in ("A", "n", "Ea"))
+    k = modified_arrhenius(T, A, n, Ea)
+    arguments = PairColumns.of([pair for _, pair in rows]).rate_arguments("hard-sphere")
+    z = collision_rate(T, **{name: _column(v) for name, v in arguments.items()})
+    ratio, where = collision_limit_ratio(T, k, z)
+    flags = []
+    for (e, _pair), r, t in zip(rows, np.atleast_1d(ratio), np.atleast_1d(where), strict=True):
+        if r > 1.0:
+            flags.append(
+                Flag(
+                    by_id[e.reaction_id].key,
+                    "above-collision-limit",
+                    f"expression {e.id} ({e.origin}) is {r:.3g} times the hard-sphere "
+                    f"collision rate at {t:.4g} K",
+                    e.id,
+                    float(r),
+                    float(t),
                 )
+            )
+    return flags
 
+
+def _column(value: object) -> object:
+    """A per-reaction array as a column that broadcasts against a (reactions, grid) array."""
+    return value[:, None] if isinstance(value, np.ndarray) else value
+
+
+def _expression_flags(
+    expressions: list[ExpressionRow], by_id: dict[int, ReactionRow]
+) -> list[Flag]:
+    flags = []
     for e in expressions:
         key = by_id[e.reaction_id].key
-        provenance = e.provenance or {}
-        steric = provenance.get("steric_factor")
+        steric = e.provenance.get("steric_factor")
         if steric is not None and steric > 1.0:
             what = "is estimated with" if e.origin == "collision-estimate" else "implies"
             flags.append(
@@ -152,68 +161,69 @@ def check_store(
                     float(steric),
                 )
             )
-        if e.origin == "measured-fit" and "collinear-n-ea" in (provenance.get("warnings") or []):
+        if e.origin == "measured-fit" and "collinear-n-ea" in (e.provenance.get("warnings") or []):
             flags.append(
                 Flag(
                     key,
                     "collinear-fit",
-                    f"fit {e.id}: n and Ea are nearly collinear over {e.t_min:.4g}-{e.t_max:.4g} K;"
-                    " refit with --form arrhenius",
+                    f"fit {e.id}: n and Ea are nearly collinear over {e.T_min:.4g}-{e.T_max:.4g} K;"
+                    " refit with the two-parameter arrhenius form",
                     e.id,
                 )
             )
+    return flags
 
-    chosen, gaps = chosen_expressions(session, reactions)
-    for reaction in gaps:
-        flags.append(
-            Flag(
-                reaction.key,
-                "nothing-usable",
-                "no complete expression (no fit, no literature A, no estimate)",
-            )
+
+def _gap_flags(gaps: list[ReactionRow]) -> list[Flag]:
+    return [
+        Flag(
+            reaction.key,
+            "nothing-usable",
+            "no complete expression (no fit, no literature A, no estimate)",
         )
+        for reaction in gaps
+    ]
+
+
+def _chosen_flags(chosen: list[Chosen], T_range: tuple[float, float] | None) -> list[Flag]:
+    flags = []
     for choice in chosen:
         e = choice.expression
         key = choice.reaction.key
-        if e.origin == "collision-estimate":
-            estimated = (e.provenance or {}).get("estimated_diameters") or []
-            if estimated:
-                flags.append(
-                    Flag(
-                        key,
-                        "estimated-diameter",
-                        f"the exported estimate {e.id} uses estimated diameters of "
-                        f"{', '.join(estimated)}",
-                        e.id,
-                    )
+        estimated = e.provenance.get("estimated_diameters") or []
+        if e.origin == "collision-estimate" and estimated:
+            flags.append(
+                Flag(
+                    key,
+                    "estimated-diameter",
+                    f"the exported estimate {e.id} uses estimated diameters of "
+                    f"{', '.join(estimated)}",
+                    e.id,
                 )
-        if t_range is not None:
-            low, high = t_range
-            if e.t_min is None or e.t_max is None:
-                flags.append(
-                    Flag(
-                        key,
-                        "extrapolation",
-                        f"the exported expression {e.id} ({e.origin}) states no valid range; "
-                        f"it would be used over {low:g}-{high:g} K",
-                        e.id,
-                    )
-                )
-            elif e.t_min > low * (1 + 1e-9) or e.t_max < high * (1 - 1e-9):
-                flags.append(
-                    Flag(
-                        key,
-                        "extrapolation",
-                        f"the exported expression {e.id} ({e.origin}) holds over "
-                        f"{e.t_min:.4g}-{e.t_max:.4g} K, but would be used over "
-                        f"{low:g}-{high:g} K",
-                        e.id,
-                    )
-                )
-    flags = [f for f in flags if f.code not in ignore]
-    flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
-    return CheckReport(flags, len(reactions), len(expressions), t_range, ignore)
+            )
+        if T_range is not None:
+            flag = _extrapolation_flag(key, e, T_range)
+            if flag is not None:
+                flags.append(flag)
+    return flags
 
 
-def _finite(value: float | None) -> bool:
-    return value is not None and math.isfinite(value)
+def _extrapolation_flag(key: str, e: ExpressionRow, T_range: tuple[float, float]) -> Flag | None:
+    low, high = T_range
+    if e.T_min is None or e.T_max is None:
+        return Flag(
+            key,
+            "extrapolation",
+            f"the exported expression {e.id} ({e.origin}) states no valid range; "
+            f"it would be used over {low:g}-{high:g} K",
+            e.id,
+        )
+    if e.T_min > low * (1 + 1e-9) or e.T_max < high * (1 - 1e-9):
+        return Flag(
+            key,
+            "extrapolation",
+            f"the exported expression {e.id} ({e.origin}) holds over "
+            f"{e.T_min:.4g}-{e.T_max:.4g} K, but would be used over {low:g}-{high:g} K",
+            e.id,
+        )
+    return None

@@ -15,16 +15,26 @@ import math
 from dataclasses import dataclass, field
 from typing import Any, NamedTuple
 
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import RatebankError, UnitError
-from ratebank.services.curate import find_reaction
+from ratebank.errors import BadInputError, ExportGapsError, NotFoundError, UnitError
+from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
+from ratebank.science.unit_presets import ENERGY_PRESETS, PRESETS, rate_unit_for
+from ratebank.science.units import (
+    canonical_energy_unit,
+    energy_from_si,
+    parse_energy_unit,
+    parse_rate_unit,
+    rate_from_si,
+)
 from ratebank.services.selection import (
     chosen_expressions,
     chosen_rows,
     evaluate,
     uncertainty_factor,
 )
+from ratebank.store.queries import find_reaction
 
 COLUMNS = (
     "key",
@@ -59,18 +69,6 @@ _VOLUMES = {"cm3": ("cm6", 1e-6), "dm3": ("dm6", 1e-3), "L": ("L2", 1e-3), "m3":
 _AMOUNTS = ("molecule", "mol")
 
 
-class ExportGapsError(RatebankError):
-    """Some reactions have no usable expression; the export was stopped."""
-
-    def __init__(self, gaps: list[str]):
-        self.gaps = gaps
-        shown = ", ".join(gaps[:30]) + (f", ... ({len(gaps) - 30} more)" if len(gaps) > 30 else "")
-        super().__init__(
-            f"{len(gaps)} reaction(s) have no usable expression, so nothing was written: "
-            f"{shown}. Fit, estimate or import them, or pass --leave-out-gaps"
-        )
-
-
 @dataclass(frozen=True)
 class ExportUnits:
     """The k unit of each reaction order and the energy unit of a table."""
@@ -88,13 +86,11 @@ class ExportUnits:
 
 def _derive_orders(unit: str) -> dict[int, str]:
     """k units for orders 1-3 with the same volume and amount as ``unit``."""
-    from ratebank.science.units import parse_rate_unit
-
     given = parse_rate_unit(unit)
     if given.order == 1:
         raise UnitError(
             f"{unit!r} is a first-order unit and says nothing about volume or amount; give a "
-            "bimolecular unit such as cm3/molecule/s with --k-units"
+            "bimolecular unit such as cm3/molecule/s"
         )
     # dm3 and L are the same volume: try first the symbol the user wrote
     for volume in sorted(_VOLUMES, key=lambda v: v.rstrip("3") not in unit):
@@ -121,9 +117,6 @@ def export_units(
     preset: str | None = "combustion", k_units: str | None = None, e_units: str | None = None
 ) -> ExportUnits:
     """Units from a preset, overridden by explicit ``k_units`` and ``e_units``."""
-    from ratebank.science.unit_presets import ENERGY_PRESETS, PRESETS
-    from ratebank.science.units import canonical_energy_unit, parse_energy_unit
-
     if preset is not None and preset not in PRESETS:
         raise UnitError(f"unknown unit preset {preset!r}; expected one of {', '.join(PRESETS)}")
     base = preset or "si"
@@ -186,24 +179,30 @@ def mechanism_table(
     ``linearise_at`` gives the temperature at which to replace it by its local
     two-parameter form (A T^n e^n, Ea + nRT), which is then recorded.
     """
-    from ratebank.science.units import energy_from_si, rate_from_si
-
     if form not in FORMS:
-        raise RatebankError(f"unknown form {form!r}; expected one of {', '.join(FORMS)}")
+        raise BadInputError(
+            f"unknown form {form!r}; expected one of {', '.join(FORMS)}", argument="form"
+        )
     if linearise_at is not None and (not math.isfinite(linearise_at) or linearise_at <= 0):
-        raise RatebankError("--linearise-at must be a temperature above 0 K")
+        raise BadInputError(
+            "the linearisation temperature must be above 0 K", argument="linearise_at"
+        )
     if linearise_at is not None and form != "arrhenius":
-        raise RatebankError("--linearise-at applies only to --form arrhenius")
+        raise BadInputError(
+            "a linearisation temperature applies only to the arrhenius form",
+            argument="linearise_at",
+        )
     chosen, gaps = chosen_rows(session)
     if gaps and not leave_out_gaps:
         raise ExportGapsError(gaps)
     if form == "arrhenius" and linearise_at is None:
         curved = [c.reaction_key for c in chosen if c.n != 0]
         if curved:
-            raise RatebankError(
+            raise BadInputError(
                 f"{len(curved)} expression(s) have n != 0 and cannot be written as two-parameter "
-                f"Arrhenius rows: {', '.join(curved[:20])}; pass --linearise-at T to use their "
-                "local form at T, or export --form modified"
+                f"Arrhenius rows: {', '.join(curved[:20])}; give a linearisation temperature to "
+                "use their local form there, or export the modified form",
+                argument="linearise_at",
             )
     rows: list[MechanismRow] = []
     factors: dict[int, float] = {}
@@ -216,9 +215,6 @@ def mechanism_table(
         linearised = None
         if form == "arrhenius" and n != 0:
             assert linearise_at is not None
-            # only a linearised export needs the Arrhenius module
-            from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
-
             A = float(local_pre_exponential(linearise_at, A, n))
             Ea = float(local_activation_energy(linearise_at, n, Ea))
             n = 0.0
@@ -234,8 +230,8 @@ def mechanism_table(
                 Ea=Ea * energy_factor,
                 k_units=units.k_unit(c.order),
                 Ea_units=units.e_units,
-                T_min_K=c.t_min,
-                T_max_K=c.t_max,
+                T_min_K=c.T_min,
+                T_max_K=c.T_max,
                 origin=c.origin,
                 steric_factor=c.steric_factor,
                 uncertainty_factor=c.uncertainty_factor,
@@ -268,8 +264,8 @@ class RateReport:
     expression_id: int
     chosen_by: str
     k_units: str
-    t_min: float | None
-    t_max: float | None
+    T_min: float | None
+    T_max: float | None
     rows: list[RateRow]
 
 
@@ -282,24 +278,19 @@ def rate(
     preset: str = "combustion",
 ) -> RateReport:
     """k(T) of one reaction from the expression that would be exported."""
-    import numpy as np
-
-    from ratebank.science.unit_presets import rate_unit_for
-    from ratebank.science.units import parse_rate_unit, rate_from_si
-
     if not temperatures:
-        raise RatebankError("give at least one temperature with -T")
+        raise BadInputError("give at least one temperature", argument="temperatures")
     bad = [t for t in temperatures if not (math.isfinite(t) and t > 0)]
     if bad:
-        raise RatebankError(f"temperature {bad[0]!r} must be above 0 K")
+        raise BadInputError(f"temperature {bad[0]!r} must be above 0 K", argument="temperatures")
     reaction = find_reaction(session, key)
     chosen, _ = chosen_expressions(session, [reaction])
     if not chosen:
-        raise RatebankError(
+        raise NotFoundError(
             f"reaction {reaction.key!r} has no usable expression yet (fit, estimate or import one)"
         )
     c = chosen[0]
-    order = reaction.reaction_order
+    order = reaction.order
     unit = k_units or rate_unit_for(preset, order)
     parse_rate_unit(unit, order=order)
     T = np.asarray(temperatures, dtype=float)
@@ -310,8 +301,8 @@ def rate(
     rows = []
     for t, k, factor in zip(T.tolist(), k_out.tolist(), f.tolist(), strict=True):
         in_range = None
-        if e.t_min is not None and e.t_max is not None:
-            in_range = e.t_min * (1 - 1e-12) <= t <= e.t_max * (1 + 1e-12)
+        if e.T_min is not None and e.T_max is not None:
+            in_range = e.T_min * (1 - 1e-12) <= t <= e.T_max * (1 + 1e-12)
         rows.append(RateRow(t, k, None if math.isnan(factor) else factor, in_range))
     return RateReport(
         reaction.key,
@@ -321,7 +312,7 @@ def rate(
         e.id,
         c.rule,
         unit,
-        e.t_min,
-        e.t_max,
+        e.T_min,
+        e.T_max,
         rows,
     )

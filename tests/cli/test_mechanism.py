@@ -204,12 +204,12 @@ def expected_rows() -> dict[str, dict]:
         "oh-oh": dict(
             order=2, law=oh_oh, T=(300.0, 1200.0), origin="collision-estimate",
             steric=OH_OH_STERIC, factor=10.0,  # default factor of 10: common practice
-            references="collision theory (hard-sphere) x steric factor 0.2 (given on the command line)",
+            references="collision theory (hard-sphere) x steric factor 0.2 (given by the user)",
         ),
         "oh-h2": dict(
             order=2, law=oh_h2, T=(250.0, 1000.0), origin="collision-estimate",
             steric=OH_H2_STERIC, factor=10.0,
-            references="collision theory (hard-sphere) x steric factor 0.05 (given on the command line)",
+            references="collision theory (hard-sphere) x steric factor 0.05 (given by the user)",
         ),
         "h2o2-dec": dict(
             order=1, law=(2.0e13, 0.0, 200e3), T=(800.0, 1500.0), origin="literature",
@@ -663,7 +663,7 @@ def test_export_with_gaps_writes_nothing(gappy, out):
     assert outcome.exit_code == 1
     assert outcome.stderr.strip() == (
         "Error: 2 reaction(s) have no usable expression, so nothing was written: ch4-o2, "
-        "oh-h2. Fit, estimate or import them, or pass --leave-out-gaps"
+        "oh-h2. Fit, estimate or import them, or leave the gaps out (--leave-out-gaps)"
     )
     assert listing(out) == []
     assert snapshot(gappy) == before
@@ -745,8 +745,8 @@ def test_two_parameter_export_refuses_curved_rows_unless_linearised(mechanism, o
     assert refused.exit_code == 1
     assert refused.stderr.strip() == (
         "Error: 4 expression(s) have n != 0 and cannot be written as two-parameter Arrhenius "
-        "rows: h-o2-m, oh-ch4, oh-h2, oh-oh; pass --linearise-at T to use their local form at "
-        "T, or export --form modified"
+        "rows: h-o2-m, oh-ch4, oh-h2, oh-oh; give a linearisation temperature to use their "
+        "local form there, or export the modified form (option --linearise-at)"
     )
     assert listing(out) == []
     assert snapshot(mechanism) == before
