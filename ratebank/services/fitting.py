@@ -23,7 +23,9 @@ from ratebank.services.partners import CollisionPair, PairColumns, collision_pai
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.store import queries
 from ratebank.store.expressions import ExpressionRecord, write_expressions
-from ratebank.store.queries import ExpressionRow, PointColumns, ReactionRow
+from ratebank.store.points import PointColumns
+from ratebank.store.points import points as points_of
+from ratebank.store.queries import ExpressionRow, ReactionRow
 
 FORMS = ("arrhenius", "modified", "auto")
 #: Temperatures per fit at which f(T) is evaluated for its smallest and largest value.
@@ -87,7 +89,7 @@ def fit_reactions(
     reaction's newest stored fit is not stored again.
     """
     asked = queries.find_reactions(session, keys) if keys else None
-    points = queries.points(session, [r.id for r in asked] if asked else None)
+    points = points_of(session, [r.id for r in asked] if asked else None)
     fits = fit_groups(
         points.T,
         points.k,

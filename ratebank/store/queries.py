@@ -5,7 +5,8 @@ of :mod:`ratebank.store.listings`), so no SQL lives above ``store/``. Rows are
 plain named tuples in SI units, not ORM objects: fitting, estimating or
 exporting a whole mechanism reads tens of thousands of them, and building an
 ORM object per row would cost more than the query. Measured points come back
-as numpy columns.
+as numpy columns (:mod:`ratebank.store.points`, apart so that listings need no
+numpy).
 
 The vocabulary is the rate law's own: ``A`` [SI k unit times K^-n], ``n``
 [-], ``Ea`` [J mol^-1], ``T_min`` and ``T_max`` [K].
@@ -14,10 +15,8 @@ The vocabulary is the rate law's own: ``A`` [SI k unit times K^-n], ``n``
 from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass
 from typing import Any, NamedTuple
 
-import numpy as np
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
@@ -27,8 +26,6 @@ from ratebank.store.bulk import fetch_all, fetch_in
 from ratebank.store.json_codec import loads
 from ratebank.store.models import (
     Expression,
-    MeasurementSet,
-    Point,
     Reaction,
     Species,
     StericRule,
@@ -148,25 +145,6 @@ def _expression_row(row: Sequence[Any]) -> ExpressionRow:
     # PostgreSQL's driver decodes JSON already; SQLite hands over text
     values[10] = (loads(provenance) if isinstance(provenance, str | bytes) else provenance) or {}
     return ExpressionRow(*values)
-
-
-@dataclass(frozen=True)
-class PointColumns:
-    """Measured points as columns (SI units), ordered by reaction, set and point.
-
-    ``relative_uncertainty`` and ``pressure`` hold NaN where none was given.
-    """
-
-    reaction_id: np.ndarray
-    set_id: np.ndarray
-    T: np.ndarray
-    k: np.ndarray
-    relative_uncertainty: np.ndarray
-    pressure: np.ndarray
-
-    @property
-    def size(self) -> int:
-        return int(self.T.size)
 
 
 # --------------------------------------------------------------------------- lookups
@@ -306,38 +284,6 @@ def measured_fits(session: Session, *, reaction_class: str | None = None) -> lis
     if reaction_class is not None:
         query = query.where(Reaction.reaction_class == reaction_class)
     return [_expression_row(row) for row in session.execute(query)]
-
-
-def points(session: Session, reaction_ids: Sequence[int] | None = None) -> PointColumns:
-    """The measured points of the reactions (all when ``reaction_ids`` is None) as columns."""
-    query = (
-        select(
-            MeasurementSet.reaction_id,
-            Point.set_id,
-            Point.temperature,
-            Point.rate_constant,
-            Point.relative_uncertainty,
-            Point.pressure,
-        )
-        .join(MeasurementSet, MeasurementSet.id == Point.set_id)
-        .order_by(MeasurementSet.reaction_id, Point.set_id, Point.id)
-    )
-    if reaction_ids is not None:
-        query = query.where(MeasurementSet.reaction_id.in_(list(reaction_ids)))
-    rows = fetch_all(session, query)  # ids only: safe to inline
-    if not rows:
-        empty = np.zeros(0)
-        ids = empty.astype(np.int64)
-        return PointColumns(ids, ids, empty, empty, empty, empty)
-    reaction_id, set_id, T, k, u, p = zip(*rows, strict=True)
-    return PointColumns(
-        np.asarray(reaction_id, dtype=np.int64),
-        np.asarray(set_id, dtype=np.int64),
-        np.asarray(T, dtype=float),
-        np.asarray(k, dtype=float),
-        np.array(u, dtype=float),  # None becomes NaN
-        np.array(p, dtype=float),
-    )
 
 
 def set_labels(session: Session, set_ids: Iterable[int]) -> dict[int, str]:
