@@ -44,6 +44,7 @@ from typing import NamedTuple
 import numpy as np
 
 from ratebank.errors import FitError, ScienceInputError
+from ratebank.science import uncertainty
 from ratebank.science.constants import GAS_CONSTANT
 
 __all__ = [
@@ -64,7 +65,6 @@ __all__ = [
     "fit_groups",
     "fit_rate_constants",
     "fit_rate_constants_batch",
-    "fit_uncertainty_factor",
     "ln_k_uncertainty",
     "local_activation_energy",
     "local_pre_exponential",
@@ -332,57 +332,6 @@ def ln_k_uncertainty(k, uncertainty, kind: str = "relative"):
     )
 
 
-def fit_uncertainty_factor(T, covariance):
-    """Uncertainty factor f(T) of a fitted expression from its covariance.
-
-    f(T) = exp(sqrt(g(T)' C g(T))),  g(T) = (1, ln T, -1/(R T)),
-
-    the first-order propagation of the covariance C of (ln A, n, Ea) to
-    ln k = ln A + n ln T - Ea/(RT): one standard deviation of ln k, as a
-    factor on k.
-
-    Parameters
-    ----------
-    T : array_like
-        Temperature [K]; positive. With a stack of covariances of shape
-        (m, 3, 3), ``T`` has shape (m,) (one temperature per fit) or (m, N)
-        (a grid per fit).
-    covariance : array_like, shape (3, 3) or (m, 3, 3)
-        Covariance of (ln A [-], n [-], Ea [J mol^-1]).
-
-    Returns
-    -------
-    numpy.ndarray or float
-        f(T) [-], at least 1 (NaN where the covariance is not finite).
-
-    References
-    ----------
-    Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed. (2003),
-    ch. 3 (propagation of errors).
-
-    Examples
-    --------
-    A variance of 0.01 in ln A alone gives f = exp(0.1) at every T:
-
-    >>> import numpy as np
-    >>> f"{fit_uncertainty_factor(500.0, np.diag([0.01, 0.0, 0.0])):.6f}"
-    '1.105171'
-    """
-    T = _temperature(T)
-    C = np.asarray(covariance, dtype=float)
-    g = np.stack([np.ones_like(T), np.log(T), -1.0 / (GAS_CONSTANT * T)], axis=-1)
-    if C.ndim == 2:
-        variance = np.einsum("...i,ij,...j->...", g, C, g)
-    elif T.ndim == 1:
-        variance = np.einsum("mi,mij,mj->m", g, C, g)
-    else:
-        variance = np.einsum("mti,mij,mtj->mt", g, C, g)
-    with np.errstate(invalid="ignore"):
-        factor = np.exp(np.sqrt(np.maximum(variance, 0.0)))
-    factor = np.where(np.isfinite(variance), factor, np.nan)
-    return float(factor) if factor.ndim == 0 else factor
-
-
 @dataclass(frozen=True)
 class FitWarning:
     """Something the user should know about a fit.
@@ -490,16 +439,11 @@ class ArrheniusFit:
         sigma^2 = g C g^T with g = (1, ln T, -1/(R T)), the gradient of ln k
         with respect to (ln A, n, Ea).
         """
-        T = _temperature(T)
-        gradient = np.stack(
-            np.broadcast_arrays(np.ones_like(T), np.log(T), -1.0 / (GAS_CONSTANT * T)), axis=-1
-        )
-        variance = np.einsum("...i,ij,...j->...", gradient, self.covariance, gradient)
-        return np.sqrt(np.maximum(variance, 0.0))
+        return uncertainty.sigma_ln_k_from_covariance(T, self.covariance)
 
     def uncertainty_factor(self, T):
         """Uncertainty factor f(T) = exp(sigma_ln_k(T)) [-], T [K]."""
-        return np.exp(self.sigma_ln_k(T))
+        return uncertainty.uncertainty_factor_from_covariance(T, self.covariance)
 
     def local_activation_energy(self, T):
         """Local Arrhenius activation energy Ea + n R T [J mol^-1], T [K]."""

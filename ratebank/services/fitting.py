@@ -16,8 +16,9 @@ from typing import Any
 import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.science.arrhenius import GroupFits, fit_groups, fit_uncertainty_factor
+from ratebank.science.arrhenius import GroupFits, fit_groups
 from ratebank.science.collision import collision_rate, steric_factor_of_expression
+from ratebank.science.uncertainty import uncertainty_factor_from_covariance
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
 from ratebank.services.progress import NoProgress, Progress
@@ -182,7 +183,7 @@ class _Derived:
         fraction = np.linspace(0.0, 1.0, _FACTOR_GRID)
         low, high = fits.T_min[ok], fits.T_max[ok]
         grid = np.exp(np.log(low)[:, None] + np.log(high / low)[:, None] * fraction)
-        factor = fit_uncertainty_factor(grid, fits.covariance[ok])
+        factor = uncertainty_factor_from_covariance(grid, fits.covariance[ok])
         finite = np.isfinite(factor).all(axis=1)
         for row, good, lo, hi in zip(
             np.flatnonzero(ok).tolist(),

@@ -16,7 +16,8 @@ import numpy as np
 from sqlalchemy.orm import Session
 
 from ratebank.errors import ConflictError
-from ratebank.science.arrhenius import fit_uncertainty_factor, modified_arrhenius
+from ratebank.science.arrhenius import modified_arrhenius
+from ratebank.science.uncertainty import uncertainty_factor_from_covariance
 from ratebank.store import audit, queries
 from ratebank.store.expressions import set_recommended
 from ratebank.store.queries import ExpressionRow, ReactionRow
@@ -82,7 +83,7 @@ def uncertainty_factor(expression: ExpressionRow, T):  # type: ignore[no-untyped
     T = np.asarray(T, dtype=float)
     covariance = expression.provenance.get("covariance")
     if expression.origin == "measured-fit" and covariance is not None:
-        return fit_uncertainty_factor(T, covariance)
+        return uncertainty_factor_from_covariance(T, covariance)
     factor = expression.uncertainty_factor
     return np.full(T.shape, np.nan if factor is None else factor)
 
