@@ -340,7 +340,10 @@ class FitWarning:
     ----------
     code : str
         Stable identifier: ``"collinear-n-ea"`` (n and Ea nearly collinear),
-        ``"no-degrees-of-freedom"`` (as many points as parameters).
+        ``"no-degrees-of-freedom"`` (as many points as parameters),
+        ``"scatter-above-stated"`` / ``"scatter-below-stated"`` (the reduced
+        chi-square of a weighted fit is improbably far above or below 1:
+        inconsistent sets or a wrong form, or overstated uncertainties).
     message : str
         One sentence for the user.
     """
@@ -1413,6 +1416,15 @@ class GroupFits:
     covariance : numpy.ndarray, shape (m, 3, 3)
     warnings : numpy.ndarray of tuple
         The :class:`FitWarning` objects of each group.
+    n_sets : numpy.ndarray of int
+        Measurement sets pooled in the group (1 when no sets were given).
+    between_set_variance : numpy.ndarray
+        tau^2 of ln k between the group's sets (DerSimonian-Laird; 0 for one
+        set or an unweighted group), added as random set offsets before the fit.
+    covariance_scale : numpy.ndarray
+        The factor the covariance was scaled by: max(1, reduced chi-square)
+        for a weighted group, and the reduced chi-square itself for an
+        unweighted one (the usual estimate of the unknown variance).
     """
 
     groups: np.ndarray
@@ -1432,6 +1444,9 @@ class GroupFits:
     T_max: np.ndarray
     mean_T: np.ndarray
     warnings: np.ndarray
+    n_sets: np.ndarray
+    between_set_variance: np.ndarray
+    covariance_scale: np.ndarray
 
     def __len__(self) -> int:
         return int(self.groups.size)
@@ -1454,12 +1469,82 @@ def _chosen_batches(T, k, sigma, group, form, fixed_n, significance):
     return fits, fits, np.zeros(len(fits), bool), np.full(len(fits), reason, object)
 
 
+#: Tail probability beyond which a weighted fit's chi-square is reported as improbable.
+SCATTER_SIGNIFICANCE = 1e-3
+
+
+def _add_scatter_warnings(out: dict, weighted: np.ndarray) -> None:
+    """Warn where a weighted fit's chi-square says the stated uncertainties are not the scatter.
+
+    Under the stated uncertainties chi^2 = dof * reduced chi-square follows the
+    chi-square distribution with dof degrees of freedom; a tail probability
+    below :data:`SCATTER_SIGNIFICANCE` on either side is reported (common
+    practice; Bevington & Robinson 2003, ch. 11).
+    """
+    from scipy.special import chdtr, chdtrc
+
+    for row in np.flatnonzero(weighted & out["ok"]).tolist():
+        chi, dof = out["reduced_chi_square"][row], out["n_points"][row] - _free(out["form"][row])
+        if not (np.isfinite(chi) and dof > 0):
+            continue
+        if chdtrc(dof, chi * dof) < SCATTER_SIGNIFICANCE:
+            warning = FitWarning(
+                "scatter-above-stated",
+                f"the points scatter more than their stated uncertainties allow (reduced "
+                f"chi-square {chi:.3g}): inconsistent sets or a wrong form; the covariance is "
+                "scaled by it",
+            )
+        elif chdtr(dof, chi * dof) < SCATTER_SIGNIFICANCE:
+            warning = FitWarning(
+                "scatter-below-stated",
+                f"the points scatter less than their stated uncertainties suggest (reduced "
+                f"chi-square {chi:.3g}): the uncertainties may be overstated",
+            )
+        else:
+            continue
+        out["warnings"][row] = (*out["warnings"][row], warning)
+
+
+def _free(form: str | None) -> int:
+    """Free parameters of a fitted form."""
+    return 3 if form == "modified" else 2
+
+
+def _set_counts(inverse: np.ndarray, sets: np.ndarray, m: int) -> np.ndarray:
+    """How many distinct sets each group's points come from."""
+    pairs = np.unique(np.stack([inverse, np.unique(sets, return_inverse=True)[1].ravel()]), axis=1)
+    return np.bincount(pairs[0], minlength=m)
+
+
+def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n):
+    """sigma(ln k) widened by each pooled group's between-set variance, and tau^2 per group."""
+    tau2 = np.zeros(pooled.size)
+    widened = sigma.copy()
+    for row in np.flatnonzero(pooled).tolist():
+        mask = inverse == row
+        fit_form = (
+            "fixed-n" if fixed_n is not None else "modified" if form == "modified" else "arrhenius"
+        )
+        try:
+            result = uncertainty.between_set_variance(
+                T[mask], np.log(k[mask]), sigma[mask], sets[mask], form=fit_form, fixed_n=fixed_n
+            )
+        except (FitError, ScienceInputError):
+            continue  # the group's own fit reports why it cannot be fitted
+        tau2[row] = result.tau_squared
+        widened[mask] = uncertainty.random_effects_sigma_ln_k(
+            sigma[mask], sets[mask], result.tau_squared
+        )
+    return widened, tau2
+
+
 def fit_groups(
     T,
     k,
     sigma_ln_k,
     group,
     *,
+    sets=None,
     form: str = "auto",
     fixed_n: float | None = None,
     significance: float = 0.05,
@@ -1469,7 +1554,18 @@ def fit_groups(
     ``form`` is ``"arrhenius"`` (n = 0), ``"modified"`` (A, n, Ea) or
     ``"auto"`` (the three-parameter form only where :func:`compare_forms_batch`
     justifies it); ``fixed_n`` fits A and Ea with n held. ``sigma_ln_k`` may
-    hold NaN: a group with any such point is fitted unweighted.
+    hold NaN: a group with any such point is fitted unweighted, its
+    covariance scaled by the reduced chi-square.
+
+    Uncertainties that admit disagreement (DESIGN section 13):
+
+    - where a weighted group pools several measurement sets (``sets``), the
+      between-set variance tau^2 of ln k (DerSimonian & Laird 1986) enters as
+      a random offset of each set (:func:`ratebank.science.uncertainty.
+      random_effects_sigma_ln_k`), so that f reflects how far the sets
+      disagree and does not shrink as points are added;
+    - a weighted group's covariance is then scaled by max(1, reduced
+      chi-square) (:func:`ratebank.science.uncertainty.scale_covariance_by_chi_square`).
 
     Parameters
     ----------
@@ -1481,6 +1577,8 @@ def fit_groups(
         sigma of ln k per point [-], NaN where not stated.
     group : array_like, shape (N,)
         Group label of each point.
+    sets : array_like, shape (N,), optional
+        Measurement-set label of each point.
 
     Returns
     -------
@@ -1494,7 +1592,8 @@ def fit_groups(
     References
     ----------
     Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed. (2003),
-    chs. 6-7 and 11.
+    chs. 6-7 and 11; DerSimonian & Laird, *Control. Clin. Trials* 1986, 7, 177,
+    doi:10.1016/0197-2456(86)90046-2.
 
     Examples
     --------
@@ -1514,8 +1613,14 @@ def fit_groups(
     T, k = np.asarray(T, float), np.asarray(k, float)
     sigma, group = np.asarray(sigma_ln_k, float), np.asarray(group)
     labels, inverse = np.unique(group, return_inverse=True)
+    inverse = inverse.ravel()
     m = labels.size
+    sets = np.zeros(T.size, dtype=np.int64) if sets is None else np.asarray(sets)
+    n_sets = _set_counts(inverse, sets, m) if T.size else np.zeros(m, dtype=np.int64)
     weighted_group = np.bincount(inverse, weights=np.isnan(sigma), minlength=m) == 0
+    sigma, tau2 = _with_set_offsets(
+        T, k, sigma, inverse, sets, weighted_group & (n_sets > 1), form, fixed_n
+    )
     out = {name: np.full(m, np.nan) for name in _GROUP_COLUMNS}
     out["covariance"] = np.full((m, 3, 3), np.nan)
     out.update(
@@ -1543,4 +1648,19 @@ def fit_groups(
             out["ok"][row], out["status"][row] = bool(batch.ok[i]), str(batch.status[i])
             out["form"][row], out["reason"][row] = batch.form, str(reasons[i])
             out["warnings"][row] = batch.fit_warnings(i) if batch.ok[i] else ()
-    return GroupFits(groups=labels, weighted=weighted_group, **out)
+    _add_scatter_warnings(out, weighted_group)
+    scale = np.where(weighted_group, 1.0, out["reduced_chi_square"])
+    if weighted_group.any():
+        scaled = uncertainty.scale_covariance_by_chi_square(
+            out["covariance"][weighted_group], out["reduced_chi_square"][weighted_group]
+        )
+        out["covariance"][weighted_group] = scaled.covariance
+        scale[weighted_group] = scaled.scale
+    return GroupFits(
+        groups=labels,
+        weighted=weighted_group,
+        n_sets=n_sets,
+        between_set_variance=tau2,
+        covariance_scale=scale,
+        **out,
+    )

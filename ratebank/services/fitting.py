@@ -96,6 +96,7 @@ def fit_reactions(
         points.k,
         points.relative_uncertainty,
         points.reaction_id,
+        sets=points.set_id,
         form=form,
         fixed_n=fixed_n,
         significance=significance,
@@ -255,7 +256,9 @@ def _provenance(
     weighted = bool(fits.weighted[i])
     covariance = np.where(np.isfinite(fits.covariance[i]), fits.covariance[i], 0.0)
     return {
-        "method": "weighted linear least squares in ln k"
+        "method": "weighted linear least squares in ln k; sets pooled with a random offset "
+        "each (DerSimonian-Laird between-set variance); covariance scaled by max(1, reduced "
+        "chi-square)"
         if weighted
         else "unweighted least squares in ln k (covariance scaled by reduced chi-square)",
         "form": row.form,
@@ -266,6 +269,8 @@ def _provenance(
         "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
         "absolute_sigma": weighted,
         "reduced_chi_square": row.reduced_chi_square,
+        "covariance_scale": float(fits.covariance_scale[i]),
+        "between_set_variance_ln_k": float(fits.between_set_variance[i]),
         "n_points": row.n_points,
         "n_sets": row.n_sets,
         "set_ids": set_ids,
