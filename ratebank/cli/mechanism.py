@@ -111,8 +111,8 @@ def estimate(
 
     Example: ratebank estimate --class h-abstraction --collision hard-sphere
     """
-    from ratebank.report.mechanism import estimate_records, estimate_tables
     from ratebank.errors import RefusedEstimateError
+    from ratebank.report.mechanism import estimate_records, estimate_tables
     from ratebank.services.estimation import estimate as run_estimate
 
     try:
@@ -146,6 +146,19 @@ def estimate(
         raise typer.Exit(1)
 
 
+def _check_summary(report) -> str:  # type: ignore[no-untyped-def]
+    if report.clean:
+        return "Clean: nothing flagged, everything checked."
+    unchecked = f"{len(report.unchecked)} expression(s) could not be checked"
+    if not report.flags:
+        return f"Nothing flagged, but {unchecked} (listed above)."
+    return (
+        f"{len(report.flags)} flag(s); {unchecked}."
+        if report.unchecked
+        else (f"{len(report.flags)} flag(s).")
+    )
+
+
 def check(
     t_range: tuple[float, float] = typer.Option(
         None,
@@ -155,6 +168,12 @@ def check(
     ),
     ignore: list[str] = typer.Option(None, "--ignore", help="A check not to report (repeatable)."),
     keys: list[str] = typer.Argument(None, help="Reaction keys (default: all)."),
+    collision: str = typer.Option(
+        None,
+        "--collision",
+        help="Collision model of the limit: hard-sphere or lennard-jones (default: each "
+        "estimate's own model, else hard-sphere).",
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """Check every expression against physical limits; exit 1 when anything is flagged.
@@ -169,14 +188,18 @@ def check(
 
     with store_session() as session:
         report = check_store(
-            session, T_range=_t_range(t_range), ignore=ignore or None, keys=keys or None
+            session,
+            T_range=_t_range(t_range),
+            ignore=ignore or None,
+            keys=keys or None,
+            collision=collision,
         )
     if as_json:
         print_json(check_records(report))
     else:
         show(check_table(report))
-        say("Clean: nothing flagged." if report.clean else f"{len(report.flags)} flag(s).")
-    if not report.clean:
+        say(_check_summary(report))
+    if report.flags:
         raise typer.Exit(1)
 
 

@@ -249,6 +249,8 @@ def estimate_records(report: EstimateReport, preset: str) -> dict[str, Any]:
                 "collision_model": r.collision_model,
                 "collision_rate_at_T_ref": _k(r.collision_rate_at_T_ref, 2, k_unit),
                 "estimated_diameters": r.estimated_diameters,
+                "threshold_energy_held_at_zero": r.threshold_shortfall > 0,
+                "activation_energy_below_collision_rate": _e(r.threshold_shortfall, e_unit),
                 "max_fit_deviation": r.max_fit_deviation,
                 "expression_id": r.expression_id,
                 "replaced": r.replaced,
@@ -279,8 +281,15 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
     ):
         done.add_column(header, overflow="fold")
     estimated, more = shown(data["estimated"])
-    if more:
-        done.caption = more
+    held = [r["key"] for r in data["estimated"] if r["threshold_energy_held_at_zero"]]
+    notes = [more] if more else []
+    if held:
+        notes.append(
+            f"E0 held at 0 for {', '.join(held[:10])}{' ...' if len(held) > 10 else ''}: "
+            "the given Ea is below the collision rate's own, so the estimate is P z(T)"
+        )
+    if notes:
+        done.caption = "\n".join(notes)
     for r in estimated:
         done.add_row(
             r["key"],
@@ -318,6 +327,11 @@ def check_records(report: CheckReport) -> dict[str, Any]:
         "expressions": report.expressions,
         "t_range_K": list(report.t_range) if report.t_range else None,
         "ignored": report.ignored,
+        "collision_model": report.collision,
+        "unchecked": [
+            {"key": u.key, "expression_id": u.expression_id, "reason": u.reason}
+            for u in report.unchecked
+        ],
         "flags": [
             {
                 "key": f.key,
@@ -341,6 +355,8 @@ def check_table(report: CheckReport) -> Table:
         table.caption = more
     for f in flags:
         table.add_row(f.key, f.code, f.message)
+    for u in report.unchecked:
+        table.add_row(u.key, "unchecked", u.reason)
     return table
 
 

@@ -1112,6 +1112,13 @@ class CollisionEstimate:
     collision_activation_energy: np.ndarray
     #: Largest |k_expr/k_model - 1| over the range (0 for hard spheres) [-].
     max_relative_deviation: np.ndarray
+    #: How far the given Ea was below E_z(T_ref), where E0 was held at 0 [J mol^-1].
+    threshold_shortfall: np.ndarray
+
+    @property
+    def threshold_clamped(self) -> np.ndarray:
+        """True where the given Ea was below the collision rate's own, so E0 = 0."""
+        return self.threshold_shortfall > 0
 
 
 #: Points of the grid a Lennard-Jones estimate is fitted on.
@@ -1136,9 +1143,12 @@ def collision_theory_estimate(
 ) -> CollisionEstimate:
     """Collision-theory estimates k(T) = P z(T) exp(-E0/RT) from activation energies.
 
-    E0 = Ea - E_z(T_ref), with E_z the collision model's own activation energy
-    (:func:`collision_rate_activation_energy`), so that the estimate has the
-    given Ea at T_ref.
+    E0 = max(0, Ea - E_z(T_ref)), with E_z the collision model's own activation
+    energy (:func:`collision_rate_activation_energy`), so that the estimate has
+    the given Ea at T_ref. The threshold energy never goes below zero: a
+    barrierless or negative-Ea reaction (common in atmospheric chemistry) would
+    otherwise be estimated above P z(T). Where E0 is held at zero, the
+    shortfall E_z(T_ref) - Ea is returned so that it can be reported.
 
     - ``"hard-sphere"``: z is proportional to T^(1/2), so the estimate is
       exactly A T^n exp(-Ea'/RT) with n = 1/2, A = P z(T_ref)/T_ref^(1/2),
@@ -1194,6 +1204,13 @@ def collision_theory_estimate(
     ...                               28.0134e-3, 31.9988e-3)
     >>> float(e.n[0]), f"{e.A[0] * 500.0**0.5 / (0.1 * e.collision_rate_at_T_ref[0]):.6f}"
     (0.5, '1.000000')
+
+    An activation energy below the collision rate's own holds E0 at zero:
+
+    >>> low = collision_theory_estimate(-4000.0, 300.0, 1.0, 3.798e-10, 3.467e-10,
+    ...                                 28.0134e-3, 31.9988e-3)
+    >>> float(low.threshold_energy[0]), bool(low.threshold_clamped[0])
+    (0.0, True)
     """
     shape = np.broadcast_shapes(
         np.shape(activation_energy),
@@ -1212,10 +1229,12 @@ def collision_theory_estimate(
         collision_rate(T_ref, *pair, model=model, identical=identical, **wells), shape
     )
     e_z = np.broadcast_to(collision_rate_activation_energy(T_ref, model=model, **wells), shape)
-    E0 = Ea - e_z
+    shortfall = np.maximum(e_z - Ea, 0.0)
+    E0 = np.maximum(Ea - e_z, 0.0)
     if model == "hard-sphere":
+        A = P * z_ref / np.sqrt(T_ref)
         return CollisionEstimate(
-            P * z_ref / np.sqrt(T_ref), np.full(shape, 0.5), E0, E0, z_ref, e_z, np.zeros(shape)
+            A, np.full(shape, 0.5), E0, E0, z_ref, e_z, np.zeros(shape), shortfall
         )
     if T_min is None or T_max is None:
         raise ScienceInputError("A lennard-jones estimate needs T_min and T_max [K] to fit over.")
@@ -1236,7 +1255,9 @@ def collision_theory_estimate(
     )
     k_grid = P[:, None] * z_grid * np.exp(-E0[:, None] / (GAS_CONSTANT * grid))
     fit = approximate_with_modified_arrhenius(grid, k_grid)
-    return CollisionEstimate(fit.A, fit.n, fit.Ea, E0, z_ref, e_z, fit.max_relative_deviation)
+    return CollisionEstimate(
+        fit.A, fit.n, fit.Ea, E0, z_ref, e_z, fit.max_relative_deviation, shortfall
+    )
 
 
 def steric_factor_of_expression(T, A, n, Ea, collision_rate, collision_activation_energy=None):

@@ -2,8 +2,10 @@
 
 Flags (each with a stable code):
 
-- ``above-collision-limit``: a bimolecular k(T) above the hard-sphere
-  collision rate z(T) somewhere in its temperature range (ratio and T given).
+- ``above-collision-limit``: a bimolecular k(T) above the collision rate z(T)
+  somewhere in its temperature range (ratio and T given). z follows the
+  collision model the caller chooses, else the one the expression's own
+  estimate used, else hard spheres.
 - ``steric-above-one``: a steric factor above 1, used by an estimate or
   implied by a measured fit (it happens; it needs a reason).
 - ``collinear-fit``: a three-parameter fit whose n and Ea are nearly collinear.
@@ -11,6 +13,10 @@ Flags (each with a stable code):
   temperature range the mechanism will be used over (``t_range``).
 - ``estimated-diameter``: the exported estimate rests on an estimated diameter.
 - ``nothing-usable``: a reaction with no complete expression.
+
+A bimolecular expression whose partners lack what the collision model needs
+is listed as unchecked, with the reason; a report is clean only when nothing
+is flagged and nothing was left unchecked.
 """
 
 from __future__ import annotations
@@ -23,7 +29,7 @@ from sqlalchemy.orm import Session
 from ratebank.errors import BadInputError
 from ratebank.science.arrhenius import modified_arrhenius
 from ratebank.science.collision import collision_limit_ratio, collision_rate
-from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
+from ratebank.services.partners import CollisionPair, PairColumns, check_model, collision_pairs
 from ratebank.services.selection import Chosen, chosen_expressions
 from ratebank.store import queries
 from ratebank.store.queries import ExpressionRow, ReactionRow
@@ -50,6 +56,15 @@ class Flag:
     temperature: float | None = None
 
 
+@dataclass(frozen=True)
+class Unchecked:
+    """An expression the collision limit could not be checked for, and why."""
+
+    key: str
+    expression_id: int
+    reason: str
+
+
 @dataclass
 class CheckReport:
     flags: list[Flag]
@@ -57,10 +72,13 @@ class CheckReport:
     expressions: int
     t_range: tuple[float, float] | None
     ignored: list[str] = field(default_factory=list)
+    unchecked: list[Unchecked] = field(default_factory=list)
+    collision: str | None = None
 
     @property
     def clean(self) -> bool:
-        return not self.flags
+        """Nothing flagged, and everything checked."""
+        return not self.flags and not self.unchecked
 
 
 def check_store(
@@ -69,8 +87,14 @@ def check_store(
     T_range: tuple[float, float] | None = None,
     ignore: list[str] | None = None,
     keys: list[str] | None = None,
+    collision: str | None = None,
 ) -> CheckReport:
-    """Run every check; ``ignore`` names codes not to report."""
+    """Run every check; ``ignore`` names codes not to report.
+
+    ``collision`` chooses the collision model of the limit for every
+    expression; by default each collision estimate is held to its own model
+    and everything else to hard spheres.
+    """
     ignore = list(ignore or [])
     unknown = [c for c in ignore if c not in CHECK_CODES]
     if unknown:
@@ -86,49 +110,84 @@ def check_store(
     by_id = {r.id: r for r in reactions}
     by_reaction = queries.expressions_of(session, list(by_id))
     expressions = sorted((e for own in by_reaction.values() for e in own), key=lambda e: e.id)
-    pairs = collision_pairs(session, [r for r in reactions if r.bimolecular])
+    if collision is not None:
+        check_model(collision)
+    bimolecular = [r for r in reactions if r.bimolecular]
+    pairs = {
+        model: collision_pairs(session, bimolecular, model=model)
+        for model in ("hard-sphere", "lennard-jones")
+    }
     chosen, gaps = chosen_expressions(session, reactions)
+    limit_flags, unchecked = _collision_limit_flags(expressions, pairs, by_id, collision)
     flags = [
-        *_collision_limit_flags(expressions, pairs, by_id),
+        *limit_flags,
         *_expression_flags(expressions, by_id),
         *_gap_flags(gaps),
         *_chosen_flags(chosen, T_range),
     ]
     flags = [f for f in flags if f.code not in ignore]
     flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
-    return CheckReport(flags, len(reactions), len(expressions), T_range, ignore)
+    return CheckReport(
+        flags, len(reactions), len(expressions), T_range, ignore, unchecked, collision
+    )
+
+
+def _model_of(expression: ExpressionRow, chosen: str | None) -> str:
+    """The collision model an expression is held to."""
+    if chosen is not None:
+        return chosen
+    own = expression.provenance.get("collision_model")
+    return own if expression.origin == "collision-estimate" and own else "hard-sphere"
 
 
 def _collision_limit_flags(
     expressions: list[ExpressionRow],
-    pairs: dict[int, CollisionPair | str],
+    pairs: dict[str, dict[int, CollisionPair | str]],
     by_id: dict[int, ReactionRow],
+    collision: str | None,
+) -> tuple[list[Flag], list[Unchecked]]:
+    """k(T) above the collision rate, every complete bimolecular expression at once per model."""
+    flags: list[Flag] = []
+    unchecked: list[Unchecked] = []
+    by_model: dict[str, list[tuple[ExpressionRow, CollisionPair]]] = {}
+    for e in expressions:
+        model = _model_of(e, collision)
+        pair = pairs[model].get(e.reaction_id)
+        if not e.complete or pair is None:
+            continue
+        if isinstance(pair, str):
+            key = by_id[e.reaction_id].key
+            unchecked.append(Unchecked(key, e.id, f"{model} collision limit: {pair}"))
+            continue
+        by_model.setdefault(model, []).append((e, pair))
+    for model, rows in by_model.items():
+        flags.extend(_limit_flags(rows, by_id, model))
+    return flags, unchecked
+
+
+def _limit_flags(
+    rows: list[tuple[ExpressionRow, CollisionPair]], by_id: dict[int, ReactionRow], model: str
 ) -> list[Flag]:
-    """k(T) above the hard-sphere collision rate, all complete bimolecular expressions at once."""
-    rows = [
-        (e, pair)
-        for e in expressions
-        if e.complete and isinstance(pair := pairs.get(e.reaction_id), CollisionPair)
-    ]
-    if not rows:
-        return []
     grid_unit = np.geomspace(1.0, 2.0, 40) - 1.0  # 0..1, denser at the low end
     low = np.array([[e.T_min or DEFAULT_LIMIT_RANGE[0]] for e, _ in rows])
     high = np.array([[e.T_max or DEFAULT_LIMIT_RANGE[1]] for e, _ in rows])
     T = low + (high - low) * grid_unit
     A, n, Ea = (np.array([[getattr(e, name)] for e, _ in rows]) for name in ("A", "n", "Ea"))
     k = modified_arrhenius(T, A, n, Ea)
-    arguments = PairColumns.of([pair for _, pair in rows]).rate_arguments("hard-sphere")
+    arguments = PairColumns.of([pair for _, pair in rows]).rate_arguments(model)
     z = collision_rate(T, **{name: _column(v) for name, v in arguments.items()})
     ratio, where = collision_limit_ratio(T, k, z)
     flags = []
     for (e, _pair), r, t in zip(rows, np.atleast_1d(ratio), np.atleast_1d(where), strict=True):
-        if r > 1.0:
+        # an estimate made with P = 1 is the limit itself: within rounding, and within the
+        # deviation its modified-Arrhenius fit recorded, it is not a violation
+        allowed = 1.0 + 1e-9 + (e.provenance.get("max_relative_deviation_of_fit") or 0.0)
+        if r > allowed:
             flags.append(
                 Flag(
                     by_id[e.reaction_id].key,
                     "above-collision-limit",
-                    f"expression {e.id} ({e.origin}) is {r:.3g} times the hard-sphere "
+                    f"expression {e.id} ({e.origin}) is {r:.3g} times the {model} "
                     f"collision rate at {t:.4g} K",
                     e.id,
                     float(r),

@@ -70,6 +70,7 @@ class EstimateRow:
     threshold_energy: float
     collision_activation_energy: float
     estimated_diameters: list[str]
+    threshold_shortfall: float = 0.0
     max_fit_deviation: float | None = None
     expression_id: int | None = None
     replaced: list[int] = field(default_factory=list)
@@ -344,7 +345,10 @@ def _estimate_rows_of(
     candidates: list[_Candidate], estimates: CollisionEstimate, model: str
 ) -> list[EstimateRow]:
     rows = []
-    lists = {name: getattr(estimates, name).tolist() for name in estimates.__dataclass_fields__}
+    lists = {
+        name: np.asarray(getattr(estimates, name)).tolist()
+        for name in estimates.__dataclass_fields__
+    }
     for i, c in enumerate(candidates):
         T_min, T_max, deviation = c.T_min, c.T_max, None
         if model != "hard-sphere":
@@ -370,6 +374,7 @@ def _estimate_rows_of(
                 threshold_energy=lists["threshold_energy"][i],
                 collision_activation_energy=lists["collision_activation_energy"][i],
                 estimated_diameters=c.pair.estimated_diameters,
+                threshold_shortfall=lists["threshold_shortfall"][i],
                 max_fit_deviation=deviation,
             )
         )
@@ -387,6 +392,8 @@ def _provenance(c: _Candidate, row: EstimateRow, partners: dict) -> dict[str, An
         "activation_energy_J_per_mol": row.activation_energy,
         "activation_energy_expression_id": c.partial.id,
         "threshold_energy_J_per_mol": row.threshold_energy,
+        "threshold_energy_held_at_zero": row.threshold_shortfall > 0,
+        "activation_energy_below_collision_rate_J_per_mol": row.threshold_shortfall,
         "collision_activation_energy_J_per_mol": row.collision_activation_energy,
         "T_ref": row.T_ref,
         "collision_rate_at_T_ref_SI": row.collision_rate_at_T_ref,

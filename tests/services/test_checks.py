@@ -6,6 +6,7 @@ import pytest
 
 from ratebank.errors import BadInputError
 from ratebank.services import checks, estimation
+from ratebank.services.store_access import open_store
 
 
 def test_clean_store_but_for_gaps(store):
@@ -48,3 +49,35 @@ def test_bad_options_name_the_argument(store, options, argument):
     with store.session() as session, pytest.raises(BadInputError) as caught:
         checks.check_store(session, **options)
     assert caught.value.argument == argument
+
+
+def test_a_lennard_jones_estimate_at_p_one_passes_its_own_limit(store):
+    """An estimate with P = 1 is the collision rate itself: held to its own (Lennard-Jones)
+    model it is not above the limit (issue: check always used the hard-sphere rate)."""
+    with store.session(write=True) as session:
+        estimation.estimate(
+            session, ["ho2-ho2"], steric=1.0, collision="lennard-jones", T_range=(300.0, 1500.0)
+        )
+    with store.session() as session:
+        own = checks.check_store(session, keys=["ho2-ho2"])
+    assert "above-collision-limit" not in {f.code for f in own.flags}
+
+
+def test_a_pair_without_a_diameter_is_listed_as_unchecked(filled, tmp_path):
+    """CH3 has no diameter and nothing to estimate one from: its reaction is unchecked, and
+    the report is not clean although nothing is flagged."""
+    from helpers.cli import run, write
+
+    assert run(filled, "reactions", "add", "ch3-ho2", "CH3 + HO2 -> CH4 + O2").exit_code == 0
+    expressions = "reaction,A,n,Ea,Ea_units,k_units\nch3-ho2,1e-11,0,0,K,cm3/molecule/s\n"
+    path = write(tmp_path / "e.csv", expressions)
+    assert run(filled, "expressions", "import", str(path)).exit_code == 0
+    store = open_store(filled)
+    try:
+        with store.session() as session:
+            report = checks.check_store(session, keys=["ch3-ho2"])
+    finally:
+        store.close()
+    assert report.flags == [] and not report.clean
+    (unchecked,) = report.unchecked
+    assert unchecked.key == "ch3-ho2" and "CH3 has no collision diameter" in unchecked.reason

@@ -50,7 +50,8 @@ def test_estimate_never_touches_measured_or_literature(store):
 
 def test_hard_sphere_estimate_of_a_self_reaction_by_hand(store):
     """HO2 + HO2 with P = 0.05: A = P z(T_ref)/sqrt(T_ref), z halved for A + A, n = 1/2,
-    Ea = E0 = Ea_given - R T_ref/2 (DESIGN section 4; Laidler 1987 ch. 3)."""
+    Ea = E0 = max(0, Ea_given - R T_ref/2) (DESIGN section 4; Laidler 1987 ch. 3); the given
+    Ea (-4.9 kJ/mol) is below R T_ref/2, so E0 = 0 and the shortfall is recorded."""
     with store.session(write=True) as session:
         report = estimation.estimate(session, ["ho2-ho2"], steric=0.05, T_ref=500.0)
         reaction = queries.find_reaction(session, "ho2-ho2")
@@ -61,7 +62,10 @@ def test_hard_sphere_estimate_of_a_self_reaction_by_hand(store):
                                       ho2.molar_mass)  # fmt: skip
     assert row.A == pytest.approx(0.05 * z / math.sqrt(500.0), rel=1e-12)
     assert row.n == 0.5
-    assert row.Ea == pytest.approx(row.activation_energy - constants.R * 500.0 / 2, rel=1e-12)
+    assert row.Ea == 0.0
+    assert row.threshold_shortfall == pytest.approx(
+        constants.R * 500.0 / 2 - row.activation_energy, rel=1e-12
+    )
     estimate = next(e for e in stored if e.origin == "collision-estimate")
     assert estimate.id == row.expression_id and estimate.provenance["self_reaction"] is True
 
@@ -114,3 +118,24 @@ def test_estimated_diameter_is_stored_and_flagged(db_url, tmp_path):
     flags = json.loads(run(db_url, "check", "hx-o3", "--json").stdout)["flags"]
     assert [f["code"] for f in flags] == ["estimated-diameter"]
     assert "O3" in flags[0]["message"]
+
+
+def test_an_estimate_never_exceeds_p_z(store):
+    """Ea = -500 K (E/R) for HO2 + HO2: E0 is held at 0, so k <= P z over 50-5000 K everywhere
+    (collision theory's bound, Laidler 1987 ch. 3); the shortfall is recorded."""
+    import numpy as np
+
+    from ratebank.science.arrhenius import modified_arrhenius
+
+    with store.session(write=True) as session:
+        reaction = queries.find_reaction(session, "ho2-ho2")
+        report = estimation.estimate(session, ["ho2-ho2"], steric=0.3, T_ref=300.0)
+        ho2 = queries.find_species(session, "HO2")
+        stored = queries.expression(session, report.rows[0].expression_id)
+    row = report.rows[0]
+    assert row.threshold_shortfall > 0 and stored.provenance["threshold_energy_held_at_zero"]
+    T = np.geomspace(50.0, 5000.0, 200)
+    z = 0.5 * collision_rate_constant(T, ho2.diameter, ho2.diameter, ho2.molar_mass, ho2.molar_mass)
+    k = modified_arrhenius(T, row.A, row.n, row.Ea)
+    assert np.all(k <= 0.3 * z * (1 + 1e-12))
+    assert reaction.key == "ho2-ho2"
