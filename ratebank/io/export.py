@@ -106,12 +106,36 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
         {
             "name": "uncertainty_factor",
             "type": "number",
-            "description": "k is uncertain by this factor (one standard deviation in ln k)",
+            "description": "the largest uncertainty factor f(T) over the row's range (one "
+            "standard deviation of ln k; see uncertainty_f298 and uncertainty_g_K)",
         },
         {
             "name": "references",
             "type": "string",
             "description": "measurement sets or sources behind the numbers",
+        },
+        {
+            "name": "uncertainty_f298",
+            "type": "number",
+            "description": "f(298 K) of the uncertainty factor f(T) = f(298 K) exp|g (1/T - "
+            "1/298 K)|, one standard deviation of ln k (the evaluation panels' form)",
+        },
+        {
+            "name": "uncertainty_g_K",
+            "type": "number",
+            "description": "g of that form [K]; 0 means the same factor at every temperature",
+        },
+        {
+            "name": "linearised_at_K",
+            "type": "number",
+            "description": "for a two-parameter export of a curved expression: the temperature "
+            "inside the row's range where its local Arrhenius form was taken",
+        },
+        {
+            "name": "linearisation_max_ln_deviation",
+            "type": "number",
+            "description": "the largest |ln(k_row / k_expression)| over the row's range; it is "
+            "included in uncertainty_f298",
         },
     ]
 

@@ -437,6 +437,7 @@ def _write(
                 T_min=row.T_min,
                 T_max=row.T_max,
                 uncertainty_factor=row.uncertainty_factor,
+                uncertainty_g=0.0,
                 reference=f"collision theory ({row.collision_model}) x steric factor "
                 f"{row.steric_factor:.3g} ({row.steric_rule})",
                 provenance=provenance,

@@ -18,7 +18,10 @@ from sqlalchemy.orm import Session
 
 from ratebank.science.arrhenius import GroupFits, fit_groups
 from ratebank.science.collision import collision_rate, steric_factor_of_expression
-from ratebank.science.uncertainty import uncertainty_factor_from_covariance
+from ratebank.science.uncertainty import (
+    panel_factor_from_covariance,
+    uncertainty_factor_from_covariance,
+)
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
 from ratebank.services.progress import NoProgress, Progress
@@ -53,6 +56,9 @@ class FitRow:
     reduced_chi_square: float | None = None
     uncertainty_factor_min: float | None = None
     uncertainty_factor_max: float | None = None
+    #: f(298 K) and g [K] of the panels' form covering the fit's band over its range
+    uncertainty_f298: float | None = None
+    uncertainty_g: float | None = None
     steric_factor: float | None = None
     steric_note: str | None = None
     warnings: list[str] = field(default_factory=list)
@@ -172,6 +178,7 @@ class _Derived:
     def __init__(self, fits: GroupFits, pairs: dict[int, CollisionPair | str]):
         self.pairs = pairs
         self.factor_range = self._factor_ranges(fits)
+        self.panel = self._panel_factors(fits)
         self.steric = self._steric_factors(fits)
 
     @staticmethod
@@ -196,6 +203,20 @@ class _Derived:
             if good:
                 ranges[row] = (lo, hi)
         return ranges
+
+    @staticmethod
+    def _panel_factors(fits: GroupFits) -> list[tuple[float | None, float | None]]:
+        """(f(298), g) of each fit: the panels' form covering its band over its range."""
+        panel: list[tuple[float | None, float | None]] = [(None, None)] * len(fits)
+        ok = np.flatnonzero(fits.ok & np.isfinite(fits.covariance).all(axis=(1, 2)))
+        if not ok.size:
+            return panel
+        found = panel_factor_from_covariance(fits.covariance[ok], fits.T_min[ok], fits.T_max[ok])
+        f298 = np.atleast_1d(found.f298).tolist()
+        g = np.atleast_1d(found.g).tolist()
+        for row, factor, slope in zip(ok.tolist(), f298, g, strict=True):
+            panel[row] = (factor, slope)
+        return panel
 
     def _steric_factors(self, fits: GroupFits) -> list[float | None]:
         """P implied by each fit at the geometric-mean T of its data (hard spheres)."""
@@ -231,6 +252,7 @@ def _fit_row(reaction: ReactionRow, fits: GroupFits, i: int, derived: _Derived, 
     row.T_min, row.T_max = float(fits.T_min[i]), float(fits.T_max[i])
     row.reduced_chi_square = _finite(float(fits.reduced_chi_square[i]))
     row.uncertainty_factor_min, row.uncertainty_factor_max = derived.factor_range[i]
+    row.uncertainty_f298, row.uncertainty_g = derived.panel[i]
     row.warnings = [w.message for w in fits.warnings[i]]
     pair = derived.pairs.get(int(fits.groups[i]))
     if isinstance(pair, str):
@@ -308,7 +330,8 @@ def _record(
         Ea=row.Ea or 0.0,
         T_min=row.T_min,
         T_max=row.T_max,
-        uncertainty_factor=row.uncertainty_factor_max,
+        uncertainty_factor=row.uncertainty_f298,
+        uncertainty_g=row.uncertainty_g,
         reference="; ".join(references),
         provenance=provenance,
     )

@@ -17,7 +17,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import ConflictError
 from ratebank.science.arrhenius import modified_arrhenius
-from ratebank.science.uncertainty import uncertainty_factor_from_covariance
+from ratebank.science.uncertainty import panel_uncertainty_factor
 from ratebank.store import audit, queries
 from ratebank.store.expressions import set_recommended
 from ratebank.store.queries import ExpressionRow, ReactionRow
@@ -79,13 +79,13 @@ def evaluate(expression: ExpressionRow, T):  # type: ignore[no-untyped-def]
 
 
 def uncertainty_factor(expression: ExpressionRow, T):  # type: ignore[no-untyped-def]
-    """f(T): from the fit covariance for a measured fit, else the stored factor."""
+    """f(T) = f(298 K) exp|g (1/T - 1/298 K)| of an expression (NaN where none is stated)."""
     T = np.asarray(T, dtype=float)
-    covariance = expression.provenance.get("covariance")
-    if expression.origin == "measured-fit" and covariance is not None:
-        return uncertainty_factor_from_covariance(T, covariance)
-    factor = expression.uncertainty_factor
-    return np.full(T.shape, np.nan if factor is None else factor)
+    if expression.uncertainty_factor is None:
+        return np.full(T.shape, np.nan)
+    return panel_uncertainty_factor(
+        T, expression.uncertainty_factor, expression.uncertainty_g or 0.0
+    )
 
 
 # --------------------------------------------------------------------------- recommend
@@ -134,6 +134,7 @@ class ChosenRow(NamedTuple):
     T_min: float | None
     T_max: float | None
     uncertainty_factor: float | None
+    uncertainty_g: float | None
     reference: str | None
     steric_factor: float | None
     rule: str
@@ -155,6 +156,7 @@ def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
             c.expression.T_min,
             c.expression.T_max,
             c.expression.uncertainty_factor,
+            c.expression.uncertainty_g,
             c.expression.reference,
             c.expression.provenance.get("steric_factor"),
             c.rule,

@@ -41,6 +41,7 @@ _COLUMNS = (
     "t_min",
     "t_max",
     "uncertainty_factor",
+    "uncertainty_g",
     "reference",
     "provenance",
     "recommended",
@@ -65,6 +66,10 @@ class ArrheniusTerm:
 class ExpressionRecord:
     """A rate expression to be stored (SI units; ``A`` in the SI k unit times K^-n).
 
+    Its uncertainty is f(T) = f(298 K) exp|g (1/T - 1/298 K)|, one standard
+    deviation of ln k: ``uncertainty_factor`` is f(298 K), ``uncertainty_g`` is
+    g [K] (0 when a factor is given without one).
+
     ``A`` may be None: an activation energy whose pre-exponential factor is
     still to be estimated. ``terms`` holds the further terms of a ``sum``,
     ``low_pressure`` the low-pressure limit k0 of a ``falloff`` or
@@ -81,6 +86,7 @@ class ExpressionRecord:
     T_min: float | None = None
     T_max: float | None = None
     uncertainty_factor: float | None = None
+    uncertainty_g: float | None = None
     reference: str | None = None
     provenance: dict[str, Any] = field(default_factory=dict)
     form: str = "arrhenius"
@@ -102,6 +108,12 @@ def _refuse_unstorable(record: ExpressionRecord) -> None:
             "expression cannot be stored in it",
             argument="form",
         )
+
+
+def _g_or_default(record: ExpressionRecord) -> float | None:
+    if record.uncertainty_g is None and record.uncertainty_factor is not None:
+        return 0.0
+    return record.uncertainty_g
 
 
 def write_expressions(
@@ -139,6 +151,7 @@ def write_expressions(
                 r.T_min,
                 r.T_max,
                 r.uncertainty_factor,
+                _g_or_default(r),
                 r.reference,
                 encode(r.provenance),
                 False,
@@ -169,7 +182,17 @@ def remove_expressions(session: Session, expression_ids: Sequence[int]) -> None:
 
 
 #: Fields :func:`update_expression` may change, by record name.
-UPDATABLE = ("A", "n", "Ea", "T_min", "T_max", "uncertainty_factor", "reference", "provenance")
+UPDATABLE = (
+    "A",
+    "n",
+    "Ea",
+    "T_min",
+    "T_max",
+    "uncertainty_factor",
+    "uncertainty_g",
+    "reference",
+    "provenance",
+)
 _ATTRIBUTE = {"T_min": "t_min", "T_max": "t_max"}
 
 

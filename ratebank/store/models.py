@@ -233,6 +233,9 @@ class Expression(Base):
             "uncertainty_factor IS NULL OR uncertainty_factor >= 1",
             name="uncertainty_factor_range",
         ),
+        CheckConstraint(
+            "uncertainty_g IS NULL OR uncertainty_g >= 0", name="uncertainty_g_non_negative"
+        ),
     )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
@@ -246,7 +249,10 @@ class Expression(Base):
     #: [K]
     t_min: Mapped[float | None] = mapped_column(Float)
     t_max: Mapped[float | None] = mapped_column(Float)
+    #: f(298 K) of f(T) = f(298) exp|g (1/T - 1/298 K)|, one standard deviation of ln k
     uncertainty_factor: Mapped[float | None] = mapped_column(Float)
+    #: g [K] of that form (0: the same factor at every temperature)
+    uncertainty_g: Mapped[float | None] = mapped_column(Float)
     reference: Mapped[str | None] = mapped_column(Text)
     #: every input behind the numbers (fit covariance, set ids, P rule, ...)
     provenance: Mapped[dict[str, Any]] = mapped_column(JSON, default=dict)
@@ -260,10 +266,6 @@ class Expression(Base):
     reaction: Mapped[Reaction] = relationship(back_populates="expressions")
 
     __mapper_args__ = {"version_id_col": version}  # noqa: RUF012
-
-    @property
-    def is_complete(self) -> bool:
-        return self.A is not None
 
 
 class StericRule(Base):

@@ -103,6 +103,7 @@ class ExpressionRow(NamedTuple):
     T_min: float | None
     T_max: float | None
     uncertainty_factor: float | None
+    uncertainty_g: float | None
     reference: str | None
     provenance: dict[str, Any]
     recommended: bool
@@ -128,6 +129,7 @@ _EXPRESSION_COLUMNS = (
     Expression.t_min,
     Expression.t_max,
     Expression.uncertainty_factor,
+    Expression.uncertainty_g,
     Expression.reference,
     Expression.provenance,
     Expression.recommended,
@@ -141,9 +143,10 @@ _EXPRESSION_COLUMNS = (
 
 def _expression_row(row: Sequence[Any]) -> ExpressionRow:
     values = list(row)
-    provenance = values[10]
+    where = ExpressionRow._fields.index("provenance")
+    provenance = values[where]
     # PostgreSQL's driver decodes JSON already; SQLite hands over text
-    values[10] = (loads(provenance) if isinstance(provenance, str | bytes) else provenance) or {}
+    values[where] = (loads(provenance) if isinstance(provenance, str | bytes) else provenance) or {}
     return ExpressionRow(*values)
 
 

@@ -21,8 +21,10 @@ def test_refit_of_unchanged_data_is_not_stored_twice(store):
 
 
 def test_store_fit_equals_a_one_at_a_time_fit(store):
-    """The batch path of `fit` gives the parameters of a direct fit of the same points."""
+    """The batch path of `fit` gives the parameters of a direct fit of the same points, with
+    the same weights: the stated ones widened by the two sets' between-set variance."""
     from ratebank.science.arrhenius import fit_rate_constants
+    from ratebank.science.uncertainty import between_set_variance, random_effects_sigma_ln_k
 
     with store.session(write=True) as session:
         report = fitting.fit_reactions(session, form="arrhenius")
@@ -39,7 +41,10 @@ def test_store_fit_equals_a_one_at_a_time_fit(store):
         ]
     )
     sigma = np.array([0.1, 0.1, 0.1, 1e11 / 1.1e12, 2e11 / 2.2e12])
-    direct = fit_rate_constants(T, k, sigma, form="arrhenius")
+    sets = np.array([1, 1, 1, 2, 2])
+    tau2 = between_set_variance(T, np.log(k), sigma, sets).tau_squared
+    widened = random_effects_sigma_ln_k(sigma, sets, tau2)
+    direct = fit_rate_constants(T, k, widened, form="arrhenius")
     assert row.A == pytest.approx(direct.A, rel=1e-10)
     assert row.Ea == pytest.approx(direct.Ea, rel=1e-10)
     assert row.n_sets == 2 and row.n_points == 5
@@ -59,7 +64,8 @@ def test_stored_fit_carries_its_provenance_and_history(store):
     assert fit.origin == "measured-fit"
     assert fit.provenance["n_sets"] == 2 and len(fit.provenance["set_ids"]) == 2
     assert np.array(fit.provenance["covariance"]).shape == (3, 3)
-    assert fit.uncertainty_factor == pytest.approx(report.rows[0].uncertainty_factor_max)
+    assert fit.uncertainty_factor == pytest.approx(report.rows[0].uncertainty_f298)
+    assert fit.uncertainty_g == pytest.approx(report.rows[0].uncertainty_g)
 
 
 @pytest.mark.parametrize(

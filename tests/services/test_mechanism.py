@@ -57,3 +57,36 @@ def test_rate_uses_the_exported_expression(store):
         refit = rate(session, "oh-ch4", [300.0], k_units="cm3/molecule/s")
     assert report.origin == "literature" and refit.origin == "measured-fit"
     assert all(row.k > 0 for row in report.rows)
+
+
+def test_two_parameter_rows_stay_within_their_recorded_deviation(store):
+    """Each curved row is linearised inside its own range (default: the geometric middle);
+    at 20 temperatures across the range its k stays within the recorded deviation of the
+    modified form (A T^n exp(-Ea/RT), evaluated here by hand)."""
+    import numpy as np
+
+    with store.session() as session:
+        table = mechanism_table(session, units=export_units("si"), form="arrhenius",
+                                leave_out_gaps=True)  # fmt: skip
+    row = next(r for r in table.rows if r.key == "oh-ch4")
+    # tests/helpers/data.py: A = 1.85e-20 cm3/molecule/s K^-2.82, n = 2.82, E/R = 987 K
+    A_si, n, E_R = 1.85e-20 * 6.02214076e23 * 1e-6, 2.82, 987.0
+    assert row.n == 0.0 and row.linearised_at_K == pytest.approx(np.sqrt(200.0 * 2000.0))
+    T = np.geomspace(row.T_min_K, row.T_max_K, 20)
+    k_modified = A_si * T**n * np.exp(-E_R / T)
+    k_row = row.A * np.exp(-row.Ea / (8.31446261815324 * T))
+    assert np.max(np.abs(np.log(k_row / k_modified))) <= row.linearisation_max_ln_deviation * (
+        1 + 1e-9
+    )
+    # the uncertainty factor includes the deviation: ln f298 grows by it (uncertainty module)
+    assert np.log(row.uncertainty_f298) == pytest.approx(
+        np.log(1.2) + row.linearisation_max_ln_deviation
+    )
+
+
+def test_a_linearisation_temperature_outside_a_rows_range_is_refused(store):
+    with store.session() as session, pytest.raises(BadInputError, match="outside 200-2000 K"):
+        mechanism_table(
+            session, units=export_units(), form="arrhenius", linearise_at=3000.0,
+            leave_out_gaps=True,
+        )  # fmt: skip

@@ -47,17 +47,22 @@ def test_recommend_changes_the_choice_not_the_numbers(store):
     assert (marked.A, marked.n, marked.Ea) == (literature.A, literature.n, literature.Ea)
 
 
-def test_uncertainty_factor_of_a_fit_follows_its_covariance(store):
-    """f(T) = exp(sqrt(g' C g)) with g = (1, ln T, -1/RT) (first-order propagation,
-    Bevington & Robinson 2003 ch. 3), computed here by hand from the stored covariance."""
+def test_uncertainty_factor_of_a_fit_covers_its_covariance_band(store):
+    """A fit's f(T) is the panels' f(298) exp|g (1/T - 1/298)|, and inside the fitted range it
+    covers exp(sqrt(g' C g)), g = (1, ln T, -1/RT) (first-order propagation, Bevington &
+    Robinson 2003 ch. 3), computed here by hand from the stored covariance."""
     with store.session(write=True) as session:
         fitting.fit_reactions(session, ["oh-ch4"], form="arrhenius")
         fit = next(e for e in _expressions(session, "oh-ch4") if e.origin == "measured-fit")
-    T = np.array([300.0, 1000.0])
+    T = np.geomspace(fit.T_min, fit.T_max, 30)
     covariance = np.array(fit.provenance["covariance"])
     R = 8.31446261815324
-    expected = [
-        np.exp(np.sqrt(g @ covariance @ g))
-        for g in (np.array([1.0, np.log(t), -1.0 / (R * t)]) for t in T)
-    ]
-    assert selection.uncertainty_factor(fit, T) == pytest.approx(expected, rel=1e-12)
+    band = np.array(
+        [
+            np.exp(np.sqrt(g @ covariance @ g))
+            for g in (np.array([1, np.log(t), -1 / (R * t)]) for t in T)
+        ]
+    )
+    panel = fit.uncertainty_factor * np.exp(np.abs(fit.uncertainty_g * (1 / T - 1 / 298.0)))
+    assert selection.uncertainty_factor(fit, T) == pytest.approx(panel, rel=1e-12)
+    assert np.all(panel >= band * (1 - 1e-9))
