@@ -343,7 +343,9 @@ class FitWarning:
         ``"no-degrees-of-freedom"`` (as many points as parameters),
         ``"scatter-above-stated"`` / ``"scatter-below-stated"`` (the reduced
         chi-square of a weighted fit is improbably far above or below 1:
-        inconsistent sets or a wrong form, or overstated uncertainties).
+        inconsistent sets or a wrong form, or overstated uncertainties),
+        ``"sets-disagree"`` (pooled sets differ beyond their stated
+        uncertainties, Cochran's Q test).
     message : str
         One sentence for the user.
     """
@@ -1473,7 +1475,7 @@ def _chosen_batches(T, k, sigma, group, form, fixed_n, significance):
 SCATTER_SIGNIFICANCE = 1e-3
 
 
-def _add_scatter_warnings(out: dict, weighted: np.ndarray) -> None:
+def _add_scatter_warnings(out: dict, weighted: np.ndarray, tau2: np.ndarray) -> None:
     """Warn where a weighted fit's chi-square says the stated uncertainties are not the scatter.
 
     Under the stated uncertainties chi^2 = dof * reduced chi-square follows the
@@ -1494,7 +1496,8 @@ def _add_scatter_warnings(out: dict, weighted: np.ndarray) -> None:
                 f"chi-square {chi:.3g}): inconsistent sets or a wrong form; the covariance is "
                 "scaled by it",
             )
-        elif chdtr(dof, chi * dof) < SCATTER_SIGNIFICANCE:
+        elif tau2[row] == 0 and chdtr(dof, chi * dof) < SCATTER_SIGNIFICANCE:
+            # (with set offsets added the scatter is small by construction)
             warning = FitWarning(
                 "scatter-below-stated",
                 f"the points scatter less than their stated uncertainties suggest (reduced "
@@ -1502,6 +1505,17 @@ def _add_scatter_warnings(out: dict, weighted: np.ndarray) -> None:
             )
         else:
             continue
+        out["warnings"][row] = (*out["warnings"][row], warning)
+
+
+def _add_disagreement_warnings(out: dict, p_value: np.ndarray, tau2: np.ndarray) -> None:
+    """Warn where pooled sets disagree beyond their stated uncertainties (Cochran's Q test)."""
+    for row in np.flatnonzero(out["ok"] & (p_value < SCATTER_SIGNIFICANCE)).tolist():
+        warning = FitWarning(
+            "sets-disagree",
+            f"the pooled sets disagree beyond their stated uncertainties (between-set "
+            f"factor {np.exp(np.sqrt(tau2[row])):.3g}); the fit's uncertainty includes it",
+        )
         out["warnings"][row] = (*out["warnings"][row], warning)
 
 
@@ -1517,8 +1531,13 @@ def _set_counts(inverse: np.ndarray, sets: np.ndarray, m: int) -> np.ndarray:
 
 
 def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n):
-    """sigma(ln k) widened by each pooled group's between-set variance, and tau^2 per group."""
+    """sigma(ln k) widened by each pooled group's between-set variance; tau^2 and the
+    heterogeneity p-value (Cochran's Q against chi-square with sets - 1 degrees of freedom)
+    per group."""
+    from scipy.special import chdtrc
+
     tau2 = np.zeros(pooled.size)
+    p_value = np.full(pooled.size, np.nan)
     widened = sigma.copy()
     for row in np.flatnonzero(pooled).tolist():
         mask = inverse == row
@@ -1532,10 +1551,11 @@ def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n):
         except (FitError, ScienceInputError):
             continue  # the group's own fit reports why it cannot be fitted
         tau2[row] = result.tau_squared
+        p_value[row] = chdtrc(result.sets.size - 1, result.q_statistic)
         widened[mask] = uncertainty.random_effects_sigma_ln_k(
             sigma[mask], sets[mask], result.tau_squared
         )
-    return widened, tau2
+    return widened, tau2, p_value
 
 
 def fit_groups(
@@ -1618,7 +1638,7 @@ def fit_groups(
     sets = np.zeros(T.size, dtype=np.int64) if sets is None else np.asarray(sets)
     n_sets = _set_counts(inverse, sets, m) if T.size else np.zeros(m, dtype=np.int64)
     weighted_group = np.bincount(inverse, weights=np.isnan(sigma), minlength=m) == 0
-    sigma, tau2 = _with_set_offsets(
+    sigma, tau2, heterogeneity = _with_set_offsets(
         T, k, sigma, inverse, sets, weighted_group & (n_sets > 1), form, fixed_n
     )
     out = {name: np.full(m, np.nan) for name in _GROUP_COLUMNS}
@@ -1648,7 +1668,8 @@ def fit_groups(
             out["ok"][row], out["status"][row] = bool(batch.ok[i]), str(batch.status[i])
             out["form"][row], out["reason"][row] = batch.form, str(reasons[i])
             out["warnings"][row] = batch.fit_warnings(i) if batch.ok[i] else ()
-    _add_scatter_warnings(out, weighted_group)
+    _add_scatter_warnings(out, weighted_group, tau2)
+    _add_disagreement_warnings(out, heterogeneity, tau2)
     scale = np.where(weighted_group, 1.0, out["reduced_chi_square"])
     if weighted_group.any():
         scaled = uncertainty.scale_covariance_by_chi_square(

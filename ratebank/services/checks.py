@@ -9,6 +9,9 @@ Flags (each with a stable code):
 - ``steric-above-one``: a steric factor above 1, used by an estimate or
   implied by a measured fit (it happens; it needs a reason).
 - ``collinear-fit``: a three-parameter fit whose n and Ea are nearly collinear.
+- ``fit-scatter``: a weighted fit whose reduced chi-square is improbably far
+  above 1 (inconsistent sets or a wrong form) or below it (uncertainties
+  overstated).
 - ``extrapolation``: the expression that would be exported does not cover the
   temperature range the mechanism will be used over (``t_range``).
 - ``estimated-diameter``: the exported estimate rests on an estimated diameter.
@@ -21,6 +24,7 @@ is flagged and nothing was left unchecked.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -38,6 +42,7 @@ CHECK_CODES = (
     "above-collision-limit",
     "steric-above-one",
     "collinear-fit",
+    "fit-scatter",
     "extrapolation",
     "estimated-diameter",
     "nothing-usable",
@@ -220,7 +225,9 @@ def _expression_flags(
                     float(steric),
                 )
             )
-        if e.origin == "measured-fit" and "collinear-n-ea" in (e.provenance.get("warnings") or []):
+        warnings = e.provenance.get("warnings") or [] if e.origin == "measured-fit" else []
+        flags.extend(_scatter_flags(key, e, warnings))
+        if "collinear-n-ea" in warnings:
             flags.append(
                 Flag(
                     key,
@@ -231,6 +238,32 @@ def _expression_flags(
                 )
             )
     return flags
+
+
+_SCATTER_FINDINGS = {
+    "sets-disagree": "its pooled sets disagree beyond their stated uncertainties "
+    "(between-set factor {between:.3g}, included in its uncertainty)",
+    "scatter-above-stated": "reduced chi-square {chi:.3g} is improbably far above 1: the sets "
+    "disagree or the form is wrong",
+    "scatter-below-stated": "reduced chi-square {chi:.3g} is improbably far below 1: the "
+    "stated uncertainties look overstated",
+}
+
+
+def _scatter_flags(key: str, e: ExpressionRow, warnings: list[str]) -> list[Flag]:
+    chi = e.provenance.get("reduced_chi_square") or float("nan")
+    between = math.exp(math.sqrt(e.provenance.get("between_set_variance_ln_k") or 0.0))
+    return [
+        Flag(
+            key,
+            "fit-scatter",
+            f"fit {e.id}: " + finding.format(chi=chi, between=between),
+            e.id,
+            between if code == "sets-disagree" else chi,
+        )
+        for code, finding in _SCATTER_FINDINGS.items()
+        if code in warnings
+    ]
 
 
 def _gap_flags(gaps: list[ReactionRow]) -> list[Flag]:

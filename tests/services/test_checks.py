@@ -81,3 +81,43 @@ def test_a_pair_without_a_diameter_is_listed_as_unchecked(filled, tmp_path):
     assert report.flags == [] and not report.clean
     (unchecked,) = report.unchecked
     assert unchecked.key == "ch3-ho2" and "CH3 has no collision diameter" in unchecked.reason
+
+
+def test_two_sets_a_factor_two_apart_are_flagged_and_honest(db_url, tmp_path):
+    """Two synthetic sets a factor 2 apart, each stated at 5 %: the pooled fit exports
+    f(298) >= 1.4 and check flags it (DerSimonian-Laird between-set variance)."""
+    from helpers.cli import run, write
+    from helpers.data import REACTIONS_CSV, SPECIES_CSV
+
+    assert run(db_url, "init").exit_code == 0
+    run(db_url, "species", "import", str(write(tmp_path / "s.csv", SPECIES_CSV)))
+    run(db_url, "reactions", "import", str(write(tmp_path / "r.csv", REACTIONS_CSV)))
+    lines = ["set,reaction,T_K,k,k_units,k_uncertainty"]
+    for name, factor in (("lab-a", 1.0), ("lab-b", 2.0)):
+        for T in (250, 280, 298, 320, 350, 400):
+            k = factor * 3.0e-11 * 2.718281828 ** (-1100.0 / T)
+            lines.append(f"{name},oh-ch4,{T},{k:.6e},cm3/molecule/s,0.05")
+    path = write(tmp_path / "p.csv", "\n".join(lines) + "\n")
+    assert run(db_url, "data", "import", str(path)).exit_code == 0
+    assert run(db_url, "fit", "oh-ch4", "--form", "arrhenius").exit_code == 0
+    store = open_store(db_url)
+    try:
+        with store.session() as session:
+            report = checks.check_store(session, keys=["oh-ch4"])
+            from ratebank.store import queries
+
+            reaction = queries.find_reaction(session, "oh-ch4")
+            fit = next(
+                e
+                for e in queries.expressions_of(session, [reaction.id])[reaction.id]
+                if e.origin == "measured-fit"
+            )
+    finally:
+        store.close()
+    assert fit.uncertainty_factor >= 1.4
+    (flag,) = [f for f in report.flags if f.code == "fit-scatter"]
+    assert "pooled sets disagree" in flag.message
+    # between-set factor exp(tau), tau^2 = (ln 2)^2/2 - v (DerSimonian & Laird 1986, by hand)
+    assert flag.value == pytest.approx(
+        2.718281828 ** ((0.6931471805599453**2 / 2) ** 0.5), rel=1e-3
+    )
