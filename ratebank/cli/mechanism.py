@@ -323,8 +323,14 @@ def steric_set_class(
     expect_version: int = typer.Option(
         None, "--expect-version", help="Refuse if the rule changed since you read this version."
     ),
+    definition: str = typer.Option(
+        "local",
+        "--definition",
+        help="How P is defined: local (ratebank's, k / (z exp(-E0/RT))) or textbook (A / z, "
+        "converted to the local P = e^(-1/2) A / z).",
+    ),
 ) -> None:
-    """Set the steric factor of a reaction class.
+    """Set the (local) steric factor of a reaction class.
 
     Example: ratebank steric set-class h-abstraction 0.05 --source "analogy with OH + C2H6"
     """
@@ -339,8 +345,9 @@ def steric_set_class(
             source=source,
             note=note,
             expected_version=expect_version,
+            definition=definition,
         )
-    say(f"Class {rule.reaction_class}: P = {rule.steric_factor:g} (version {rule.version}).")
+    say(f"Class {rule.reaction_class}: local P = {rule.steric_factor:g} (version {rule.version}).")
 
 
 @steric_app.command("clear-class")
@@ -361,16 +368,22 @@ def steric_set_reaction(
     key: str = typer.Argument(..., help="Reaction key or equation."),
     value: float = typer.Argument(..., help="Steric factor P."),
     source: str = typer.Option(None, "--source", help="Where the value comes from."),
+    definition: str = typer.Option(
+        "local",
+        "--definition",
+        help="How P is defined: local (ratebank's, k / (z exp(-E0/RT))) or textbook (A / z, "
+        "converted to the local P = e^(-1/2) A / z).",
+    ),
 ) -> None:
-    """Store a steric factor on one reaction (it takes precedence over its class).
+    """Store a (local) steric factor on one reaction (it takes precedence over its class).
 
     Example: ratebank steric set-reaction ho2-ho2 0.02 --source "analogy"
     """
     from ratebank.services.steric import set_reaction_steric
 
     with store_session(write=True) as session:
-        set_reaction_steric(session, key, value, source=source)
-    say(f"Reaction {key}: P = {value:g}.")
+        stored = set_reaction_steric(session, key, value, source=source, definition=definition)
+    say(f"Reaction {key}: local P = {stored.steric_factor:g}.")
 
 
 @steric_app.command("clear-reaction")

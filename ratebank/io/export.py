@@ -101,7 +101,9 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
         {
             "name": "steric_factor",
             "type": "number",
-            "description": "steric factor used by an estimate or implied by a fit",
+            "description": "the local steric factor P = k / (z exp(-E0/RT)) behind an estimate, "
+            "or implied by a fit; for hard spheres P = A_local / (e^(1/2) z), so a textbook "
+            "A / z is e^(1/2) times larger",
         },
         {
             "name": "uncertainty_factor",

@@ -48,6 +48,7 @@ from ratebank.science.constants import AVOGADRO, BOLTZMANN, GAS_CONSTANT
 __all__ = [
     "COLLISION_MODELS",
     "NEUFELD_T_STAR_RANGE",
+    "STERIC_DEFINITIONS",
     "CollisionEstimate",
     "activation_energy_from_threshold_energy",
     "arrhenius_to_half_order",
@@ -62,6 +63,7 @@ __all__ = [
     "half_order_to_arrhenius",
     "hard_sphere_cross_section",
     "lennard_jones_collision_rate_constant",
+    "local_steric_factor",
     "mean_relative_speed",
     "mean_speed",
     "omega22_neufeld",
@@ -1300,3 +1302,50 @@ def steric_factor_of_expression(T, A, n, Ea, collision_rate, collision_activatio
     k = modified_arrhenius(T, A, n, Ea)
     Ea_local = local_activation_energy(T, n, Ea)
     return derived_steric_factor(k, Ea_local, T, collision_rate, collision_activation_energy)
+
+
+#: The two definitions of a steric factor a curator may quote.
+STERIC_DEFINITIONS: tuple[str, ...] = ("local", "textbook")
+
+
+def local_steric_factor(steric_factor, definition: str = "local"):
+    """The local steric factor P from one quoted under either definition.
+
+    ratebank's P is the local one, P = k(T) / (z(T) exp(-E0/RT)), so that an
+    estimate k = P z exp(-E0/RT) reproduces it. Its local Arrhenius
+    pre-exponential factor is A_loc = P z e^(1/2) (hard spheres, Ea = E0 + RT/2),
+    so the textbook ratio P_tb = A / z is e^(1/2) times larger:
+
+        P_local = P_tb e^(-1/2).
+
+    Parameters
+    ----------
+    steric_factor : array_like
+        P [-]; positive.
+    definition : {"local", "textbook"}
+        How ``steric_factor`` is defined.
+
+    Returns
+    -------
+    numpy.ndarray or float
+        The local P [-].
+
+    References
+    ----------
+    Laidler, *Chemical Kinetics*, 3rd ed. (1987), ch. 3 (P as the ratio of
+    observed to collision-theory pre-exponential factors).
+
+    Examples
+    --------
+    >>> f"{local_steric_factor(0.1, 'textbook'):.6f}"
+    '0.060653'
+    """
+    P = _positive("steric_factor", steric_factor, "-")
+    if definition == "local":
+        return P
+    if definition == "textbook":
+        return P * np.exp(-0.5)
+    raise ScienceInputError(
+        f"Unknown steric-factor definition {definition!r}; expected one of "
+        f"{', '.join(STERIC_DEFINITIONS)}."
+    )

@@ -20,6 +20,7 @@ from ratebank.errors import BadInputError
 from ratebank.science.collision import (
     collision_rate,
     collision_rate_activation_energy,
+    local_steric_factor,
     steric_factor_of_expression,
 )
 from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
@@ -66,13 +67,18 @@ def set_class_rule(
     source: str | None = None,
     note: str | None = None,
     expected_version: int | None = None,
+    definition: str = "local",
 ) -> RuleView:
     """Create or change the steric factor of a reaction class.
 
     ``expected_version`` is the rule's version as the curator last read it; a
     rule changed by someone else since is refused, naming who and when.
+    ``definition`` says how ``steric_factor`` is defined: ``local`` (ratebank's
+    P, stored as given) or ``textbook`` (A / z, converted to the local P by
+    :func:`ratebank.science.collision.local_steric_factor` and noted).
     """
     _check_steric(steric_factor)
+    steric_factor, note = _as_local(steric_factor, definition, note)
     _check_factor(uncertainty_factor)
     if not reaction_class.strip():
         raise BadInputError("reaction class must not be empty", argument="reaction_class")
@@ -102,13 +108,33 @@ def remove_class_rule(session: Session, reaction_class: str) -> None:
     audit.record(session, "steric.rule.remove", reaction_class, steric_factor=value)
 
 
+def _as_local(value: float, definition: str, note: str | None) -> tuple[float, str | None]:
+    """The local P of a value quoted under ``definition``, and a note of the conversion."""
+    if definition not in ("local", "textbook"):
+        raise BadInputError(
+            f"unknown steric-factor definition {definition!r}; expected local or textbook",
+            argument="definition",
+        )
+    if definition == "local":
+        return value, note
+    local = float(local_steric_factor(value, definition))
+    converted = f"converted from a textbook P (A / z) of {value:g}"
+    return local, f"{note}; {converted}" if note else converted
+
+
 def set_reaction_steric(
-    session: Session, key: str, steric_factor: float | None, *, source: str | None = None
+    session: Session,
+    key: str,
+    steric_factor: float | None,
+    *,
+    source: str | None = None,
+    definition: str = "local",
 ) -> ReactionStericView | None:
-    """Store (or with None, clear) the steric factor of one reaction."""
+    """Store (or with None, clear) the (local) steric factor of one reaction."""
     reaction = queries.find_reaction(session, key)
     if steric_factor is not None:
         _check_steric(steric_factor)
+        steric_factor, source = _as_local(steric_factor, definition, source)
     source = source if steric_factor is not None else None
     steric_store.set_reaction_steric(session, reaction.id, steric_factor, source)
     audit.record(

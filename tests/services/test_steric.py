@@ -125,3 +125,17 @@ def test_derived_steric_factors_equal_the_formula_reaction_by_reaction(tmp_path,
                 assert sample.steric_factor == pytest.approx(float(expected), rel=1e-12)
     finally:
         handle.close()
+
+
+def test_a_textbook_steric_factor_is_converted_to_the_local_one(store):
+    """P_local = e^(-1/2) A / z for hard spheres (Ea = E0 + RT/2; Laidler 1987 ch. 3): a
+    textbook 0.1 is stored as 0.0607, and the conversion is noted."""
+    with store.session(write=True) as session:
+        rule = steric.set_class_rule(session, "ho2-self", 0.1, definition="textbook")
+        view = steric.set_reaction_steric(session, "oh-ch4", 0.2, definition="textbook")
+        with pytest.raises(BadInputError) as caught:
+            steric.set_class_rule(session, "x", 0.1, definition="global")
+    assert rule.steric_factor == pytest.approx(0.1 * math.exp(-0.5), rel=1e-12)
+    assert "textbook" in rule.note
+    assert view.steric_factor == pytest.approx(0.2 * math.exp(-0.5), rel=1e-12)
+    assert caught.value.argument == "definition"
