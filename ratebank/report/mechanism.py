@@ -282,7 +282,13 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
         done.add_column(header, overflow="fold")
     estimated, more = shown(data["estimated"])
     held = [r["key"] for r in data["estimated"] if r["threshold_energy_held_at_zero"]]
+    unranged = [r["key"] for r in data["estimated"] if r["T_min_K"] is None]
     notes = [more] if more else []
+    if unranged:
+        notes.append(
+            f"No valid range stated for {', '.join(unranged[:10])}"
+            f"{' ...' if len(unranged) > 10 else ''}: give the activation energy a range"
+        )
     if held:
         notes.append(
             f"E0 held at 0 for {', '.join(held[:10])}{' ...' if len(held) > 10 else ''}: "

@@ -45,10 +45,6 @@ from ratebank.store.queries import ExpressionRow, ReactionRow, StericRuleRow
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
 DEFAULT_UNCERTAINTY_FACTOR = 10.0
-#: Reference temperature when neither the caller nor the activation energy gives one [K].
-DEFAULT_T_REF = 298.15
-#: Temperature range of the Lennard-Jones fit when no range is known [K].
-DEFAULT_LJ_RANGE = (200.0, 2500.0)
 
 
 @dataclass(slots=True)
@@ -188,6 +184,7 @@ class _Candidate:
     T_ref: float
     T_min: float | None
     T_max: float | None
+    T_ref_given: bool
 
 
 @paused_garbage_collection()
@@ -295,9 +292,33 @@ def _candidates(
         assert isinstance(pair, CollisionPair) and isinstance(choice, StericChoice)
         low = partial.T_min if partial.T_min is not None else (T_range[0] if T_range else None)
         high = partial.T_max if partial.T_max is not None else (T_range[1] if T_range else None)
-        reference = T_ref or (math.sqrt(low * high) if low and high else DEFAULT_T_REF)
-        candidates.append(_Candidate(reaction, partial, pair, choice, reference, low, high))
+        # no silent defaults: T_ref comes from the caller or the activation energy's range
+        reference = T_ref or (math.sqrt(low * high) if low and high else None)
+        reason = _missing_temperatures(reference, low, high, model)
+        if reason:
+            skipped.append(Skipped(reaction.key, reason))
+            continue
+        assert reference is not None
+        candidates.append(
+            _Candidate(reaction, partial, pair, choice, reference, low, high, T_ref is not None)
+        )
     return candidates, skipped
+
+
+def _missing_temperatures(
+    T_ref: float | None, low: float | None, high: float | None, model: str
+) -> str | None:
+    if T_ref is None:
+        return (
+            "no reference temperature: the activation energy states no valid range; give the "
+            "temperature at which it holds, or a range"
+        )
+    if model == "lennard-jones" and not (low and high):
+        return (
+            "a lennard-jones estimate is a fit over a temperature range, and the activation "
+            "energy states none; give a range"
+        )
+    return None
 
 
 def _estimate_rows(
@@ -323,22 +344,16 @@ def _estimate_rows(
 
 def _science(candidates: list[_Candidate], model: str) -> CollisionEstimate:
     columns = PairColumns.of([c.pair for c in candidates])
-    ranges = [_lj_range(c) for c in candidates]
     arguments = columns.rate_arguments(model)
+    ranged = model == "lennard-jones"
     return collision_theory_estimate(
         np.array([c.partial.Ea for c in candidates]),
         np.array([c.T_ref for c in candidates]),
         np.array([c.choice.value for c in candidates]),
-        T_min=np.array([r[0] for r in ranges]),
-        T_max=np.array([r[1] for r in ranges]),
+        T_min=np.array([c.T_min for c in candidates], dtype=float) if ranged else None,
+        T_max=np.array([c.T_max for c in candidates], dtype=float) if ranged else None,
         **arguments,
     )
-
-
-def _lj_range(candidate: _Candidate) -> tuple[float, float]:
-    if candidate.T_min and candidate.T_max:
-        return candidate.T_min, candidate.T_max
-    return DEFAULT_LJ_RANGE
 
 
 def _estimate_rows_of(
@@ -352,8 +367,8 @@ def _estimate_rows_of(
     for i, c in enumerate(candidates):
         T_min, T_max, deviation = c.T_min, c.T_max, None
         if model != "hard-sphere":
-            low, high = _lj_range(c)
-            T_min, T_max = T_min or min(low, c.T_ref), T_max or max(high, c.T_ref)
+            assert T_min is not None and T_max is not None
+            T_min, T_max = min(T_min, c.T_ref), max(T_max, c.T_ref)
             deviation = lists["max_relative_deviation"][i]
         rows.append(
             EstimateRow(
@@ -396,6 +411,8 @@ def _provenance(c: _Candidate, row: EstimateRow, partners: dict) -> dict[str, An
         "activation_energy_below_collision_rate_J_per_mol": row.threshold_shortfall,
         "collision_activation_energy_J_per_mol": row.collision_activation_energy,
         "T_ref": row.T_ref,
+        "T_ref_from": "given by the user" if c.T_ref_given else "middle of the valid range",
+        "valid_range_stated": row.T_min is not None and row.T_max is not None,
         "collision_rate_at_T_ref_SI": row.collision_rate_at_T_ref,
         "self_reaction": c.pair.identical,
         "partners": c.pair.as_record(cache=partners),

@@ -19,7 +19,7 @@ def test_clean_store_but_for_gaps(store):
 
 def test_a_steric_factor_above_one_is_flagged(store):
     with store.session(write=True) as session:
-        estimation.estimate(session, ["ho2-ho2"], steric=3.0)
+        estimation.estimate(session, ["ho2-ho2"], steric=3.0, T_ref=300.0)
         report = checks.check_store(session, keys=["ho2-ho2"], ignore=["above-collision-limit"])
     assert {f.code for f in report.flags} == {"steric-above-one"}
     assert report.flags[0].value == pytest.approx(3.0)
@@ -28,7 +28,7 @@ def test_a_steric_factor_above_one_is_flagged(store):
 def test_a_rate_above_the_collision_limit_is_flagged(store):
     """P = 50 with Ea = -4.9 kJ/mol gives k far above z(T) (Laidler 1987 ch. 3: z is the bound)."""
     with store.session(write=True) as session:
-        estimation.estimate(session, ["ho2-ho2"], steric=50.0)
+        estimation.estimate(session, ["ho2-ho2"], steric=50.0, T_ref=300.0)
         report = checks.check_store(session, keys=["ho2-ho2"], ignore=["steric-above-one"])
     (flag,) = report.flags
     assert flag.code == "above-collision-limit" and flag.value > 1.0

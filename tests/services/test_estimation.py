@@ -21,7 +21,7 @@ def test_steric_precedence_in_estimates(store):
 
     def estimate_p(**kwargs):
         with store.session(write=True) as session:
-            report = estimation.estimate(session, ["ho2-ho2"], **kwargs)
+            report = estimation.estimate(session, ["ho2-ho2"], T_ref=300.0, **kwargs)
             session.rollback()
         return report.rows[0].steric_factor, report.rows[0].steric_rule
 
@@ -29,7 +29,7 @@ def test_steric_precedence_in_estimates(store):
         store.session(write=True) as session,
         pytest.raises(RefusedEstimateError, match="no applicable steric factor"),
     ):
-        estimation.estimate(session, ["ho2-ho2"])
+        estimation.estimate(session, ["ho2-ho2"], T_ref=300.0)
     assert estimate_p(fallback_steric=0.3) == (0.3, "fallback given by the user")
     with store.session(write=True) as session:
         steric.set_class_rule(session, "ho2-self", 0.2, source="test rule")
@@ -107,7 +107,7 @@ def test_estimated_diameter_is_stored_and_flagged(db_url, tmp_path):
     run(db_url, "reactions", "add", "hx-o3", "Hx + O3 -> OH + O2")
     expressions = "reaction,Ea,Ea_units\nhx-o3,4.0,kJ/mol\n"
     run(db_url, "expressions", "import", str(write(tmp_path / "e.csv", expressions)))
-    outcome = run(db_url, "estimate", "hx-o3", "--steric", "0.1")
+    outcome = run(db_url, "estimate", "hx-o3", "--steric", "0.1", "--t-ref", "298")
     assert outcome.exit_code == 0, outcome.stderr
     o3 = json.loads(run(db_url, "species", "show", "O3", "--json").stdout)
     assert o3["diameter_estimated"] is True
@@ -139,3 +139,20 @@ def test_an_estimate_never_exceeds_p_z(store):
     k = modified_arrhenius(T, row.A, row.n, row.Ea)
     assert np.all(k <= 0.3 * z * (1 + 1e-12))
     assert reaction.key == "ho2-ho2"
+
+
+def test_no_silent_reference_temperature_or_range(store):
+    """An Ea with no range and no T_ref is not estimated at 298.15 K by default; a
+    Lennard-Jones estimate is not fitted over an invented range."""
+    with store.session(write=True) as session:
+        with pytest.raises(RefusedEstimateError, match="no reference temperature"):
+            estimation.estimate(session, ["ho2-ho2"], steric=0.1)
+        with pytest.raises(RefusedEstimateError, match="give a range"):
+            estimation.estimate(
+                session, ["ho2-ho2"], steric=0.1, T_ref=300.0, collision="lennard-jones"
+            )
+        report = estimation.estimate(session, ["ho2-ho2"], steric=0.1, T_ref=300.0)
+        stored = queries.expression(session, report.rows[0].expression_id)
+    assert stored.provenance["T_ref_from"] == "given by the user"
+    assert stored.provenance["valid_range_stated"] is False
+    assert (report.rows[0].T_min, report.rows[0].T_max) == (None, None)

@@ -25,7 +25,10 @@ def filled(sqlite_url, tmp_path):
         ("expressions", "expressions.csv", EXPRESSIONS_CSV),
     ):
         assert run(sqlite_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
-    assert run(sqlite_url, "estimate", "--keep-going", "--steric", "0.2").exit_code == 0
+    assert (
+        run(sqlite_url, "estimate", "--keep-going", "--steric", "0.2", "--t-ref", "300").exit_code
+        == 0
+    )
     return sqlite_url
 
 
