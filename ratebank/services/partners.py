@@ -35,13 +35,20 @@ class PartnerData:
     diameter_method: str | None
     well_depth: float | None  # K
     well_depth_method: str | None
+    #: True when a given diameter is paired with an estimated well depth (or the
+    #: reverse): the two do not come from one source, so both count as estimated
+    mixed_sources: bool = False
 
     @cached_property  # asked for every reaction the partner takes part in
     def diameter_estimated(self) -> bool:
+        if self.mixed_sources:
+            return True
         return self.diameter is not None and self.diameter_method not in (None, "given")
 
     @cached_property
     def well_depth_estimated(self) -> bool:
+        if self.mixed_sources:
+            return True
         return self.well_depth is not None and self.well_depth_method not in (None, "given")
 
     def as_record(self) -> dict[str, object]:
@@ -54,6 +61,7 @@ class PartnerData:
             "well_depth_K": self.well_depth,
             "well_depth_method": self.well_depth_method,
             "well_depth_estimated": self.well_depth_estimated,
+            "diameter_and_well_depth_from_different_sources": self.mixed_sources,
         }
 
 
@@ -152,7 +160,7 @@ def _partner(species: SpeciesRow) -> PartnerData:
 def _with_diameter(partner: PartnerData, species: SpeciesRow) -> PartnerData | str:
     if partner.diameter is not None:
         return partner
-    reason = diameters.outside_correlations(species.formula)
+    reason = diameters.outside_correlations(species.formula, species.dipole_moment)
     if reason:
         return f"{species.name} has no diameter, and {reason}"
     try:
@@ -162,6 +170,7 @@ def _with_diameter(partner: PartnerData, species: SpeciesRow) -> PartnerData | s
             omega=species.acentric_factor,
             boiling_volume=species.boiling_volume,
             formula=species.formula,
+            dipole_moment=species.dipole_moment,
         )
     except DiameterError:
         return (
@@ -176,12 +185,18 @@ def _with_well_depth(partner: PartnerData, species: SpeciesRow) -> PartnerData |
         return partner
     try:
         estimate = diameters.estimate_well_depth(
-            Tc=species.critical_temperature, omega=species.acentric_factor, formula=species.formula
+            Tc=species.critical_temperature,
+            omega=species.acentric_factor,
+            Tb=species.boiling_temperature,
+            formula=species.formula,
+            dipole_moment=species.dipole_moment,
         )
-    except DiameterError:
+    except DiameterError as exc:
+        if "do not apply" in str(exc):
+            return f"{species.name} has no Lennard-Jones well depth, and {exc}"
         return (
-            f"{species.name} has no Lennard-Jones well depth and no critical temperature "
-            "to estimate one"
+            f"{species.name} has no Lennard-Jones well depth and no critical or boiling "
+            "temperature to estimate one"
         )
     return replace(partner, well_depth=estimate.well_depth, well_depth_method=estimate.method)
 
@@ -191,7 +206,13 @@ def _completed(species: SpeciesRow, model: str) -> PartnerData | str:
     partner = _with_diameter(_partner(species), species)
     if isinstance(partner, str) or model != "lennard-jones":
         return partner
-    return _with_well_depth(partner, species)
+    partner = _with_well_depth(partner, species)
+    if isinstance(partner, str):
+        return partner
+    estimated = [
+        m not in (None, "given") for m in (partner.diameter_method, partner.well_depth_method)
+    ]
+    return replace(partner, mixed_sources=estimated[0] != estimated[1])
 
 
 def check_model(model: str) -> None:

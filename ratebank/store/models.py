@@ -74,6 +74,20 @@ class Species(Base):
         CheckConstraint(
             "boiling_volume IS NULL OR boiling_volume > 0", name="boiling_volume_positive"
         ),
+        CheckConstraint(
+            "dipole_moment IS NULL OR dipole_moment >= 0", name="dipole_moment_non_negative"
+        ),
+        CheckConstraint(
+            "boiling_temperature IS NULL OR boiling_temperature > 0",
+            name="boiling_temperature_positive",
+        ),
+        CheckConstraint(
+            "polarizability IS NULL OR polarizability > 0", name="polarizability_positive"
+        ),
+        CheckConstraint(
+            "ionization_energy IS NULL OR ionization_energy > 0",
+            name="ionization_energy_positive",
+        ),
     )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
@@ -98,6 +112,14 @@ class Species(Base):
     acentric_factor: Mapped[float | None] = mapped_column(Float)
     #: molar volume at the normal boiling point [m3 mol-1]
     boiling_volume: Mapped[float | None] = mapped_column(Float)
+    #: permanent dipole moment [C m]
+    dipole_moment: Mapped[float | None] = mapped_column(Float)
+    #: normal boiling temperature [K]
+    boiling_temperature: Mapped[float | None] = mapped_column(Float)
+    #: polarizability volume [m3]
+    polarizability: Mapped[float | None] = mapped_column(Float)
+    #: first ionization energy [J mol-1]
+    ionization_energy: Mapped[float | None] = mapped_column(Float)
     source: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
 

@@ -82,6 +82,10 @@ class SpeciesRow(NamedTuple):
     acentric_factor: float | None
     boiling_volume: float | None
     source: str | None
+    dipole_moment: float | None
+    boiling_temperature: float | None
+    polarizability: float | None
+    ionization_energy: float | None
 
     @property
     def diameter_is_estimated(self) -> bool:

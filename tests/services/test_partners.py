@@ -35,3 +35,18 @@ def test_unknown_collision_model_names_the_argument(store):
     with store.session() as session, pytest.raises(BadInputError) as caught:
         collision_pairs(session, [], model="soft-sphere")
     assert caught.value.argument == "collision"
+
+
+def test_polarity_comes_from_the_dipole_moment(store):
+    """A species with no diameter and a dipole moment of 1.85 D (H2O, CRC from memory) is
+    outside the correlations whatever its name."""
+    from ratebank.science.diameters import DEBYE
+    from ratebank.services.partners import _completed
+
+    with store.session() as session:
+        o3 = queries.find_species(session, "O3")
+    polar = o3._replace(dipole_moment=1.85 * DEBYE)
+    assert "strongly polar (1.85 D)" in _completed(polar, "hard-sphere")
+    assert _completed(o3, "hard-sphere").diameter_method == "tee-gotoh-stewart"
+    mixed = _completed(o3._replace(diameter=4.1e-10, diameter_method="given"), "lennard-jones")
+    assert mixed.mixed_sources and mixed.diameter_estimated and mixed.well_depth_estimated
