@@ -51,7 +51,7 @@ import math
 import numpy as np
 
 from ratebank.errors import ScienceInputError
-from ratebank.science.collision import reduced_mass
+from ratebank.science.collision import check_identical_partners, reduced_mass, self_reaction_factor
 from ratebank.science.constants import AVOGADRO, BOLTZMANN
 
 __all__ = [
@@ -73,17 +73,6 @@ def _positive(name: str, value, unit: str) -> np.ndarray:
         example = float(array[bad].flat[0]) if array.ndim else float(array)
         raise ScienceInputError(f"{name} must be positive and finite [{unit}]; got {example!r}.")
     return array
-
-
-def _check_identical(identical: bool, pairs) -> None:
-    if not identical:
-        return
-    for name, a, b in pairs:
-        if not np.allclose(a, b, rtol=1e-9, atol=0.0):
-            raise ScienceInputError(
-                f"identical=True describes a self-reaction A + A, so {name}_b must equal "
-                f"{name}_a; they differ."
-            )
 
 
 def london_dispersion_coefficient(
@@ -182,7 +171,7 @@ def dispersion_capture_cross_section(collision_energy, c6):
 
 
 def dispersion_capture_rate_constant(
-    T, c6, molar_mass_a, molar_mass_b, *, identical: bool = False, per_molecule: bool = False
+    T, c6, molar_mass_a, molar_mass_b, *, identical=False, per_molecule: bool = False
 ):
     """Thermal capture rate constant of two neutrals on V(r) = -C6/r^6.
 
@@ -245,11 +234,10 @@ def dispersion_capture_rate_constant(
     c6 = _positive("c6", c6, "J m6")
     ma = _positive("molar_mass_a", molar_mass_a, "kg mol-1")
     mb = _positive("molar_mass_b", molar_mass_b, "kg mol-1")
-    _check_identical(identical, [("molar_mass", ma, mb)])
+    flags = check_identical_partners(identical, [("molar_mass", ma, mb)])
     mu = reduced_mass(ma, mb)
     k = DISPERSION_CAPTURE_PREFACTOR * np.cbrt(c6) * (BOLTZMANN * T) ** (1.0 / 6.0) / np.sqrt(mu)
-    if identical:
-        k = 0.5 * k
+    k = k * self_reaction_factor(flags)
     if not per_molecule:
         k = k * AVOGADRO
     return k
@@ -264,7 +252,7 @@ def london_capture_rate_constant(
     molar_mass_a,
     molar_mass_b,
     *,
-    identical: bool = False,
+    identical=False,
     per_molecule: bool = False,
 ):
     """Dispersion capture rate constant with C6 from London's formula.
@@ -316,7 +304,7 @@ def london_capture_rate_constant(
     alpha_b = _positive("polarizability_b", polarizability_b, "m3")
     I_a = _positive("ionization_energy_a", ionization_energy_a, "J mol-1")
     I_b = _positive("ionization_energy_b", ionization_energy_b, "J mol-1")
-    _check_identical(
+    check_identical_partners(
         identical, [("polarizability", alpha_a, alpha_b), ("ionization_energy", I_a, I_b)]
     )
     c6 = london_dispersion_coefficient(alpha_a, alpha_b, I_a, I_b)

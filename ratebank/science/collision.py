@@ -52,6 +52,7 @@ __all__ = [
     "CollisionEstimate",
     "activation_energy_from_threshold_energy",
     "arrhenius_to_half_order",
+    "check_identical_partners",
     "collision_limit_ratio",
     "collision_rate",
     "collision_rate_activation_energy",
@@ -260,7 +261,9 @@ def hard_sphere_cross_section(diameter_a, diameter_b):
     return np.pi * (0.5 * (da + db)) ** 2
 
 
-def _check_identical(identical, pairs: list[tuple[str, np.ndarray, np.ndarray]]) -> np.ndarray:
+def check_identical_partners(
+    identical, pairs: list[tuple[str, np.ndarray, np.ndarray]]
+) -> np.ndarray:
     """``identical`` as a boolean array; refuses a self-reaction whose partners differ."""
     flags = np.asarray(identical, dtype=bool)
     if not flags.any():
@@ -383,7 +386,7 @@ def collision_rate_constant(
     db = _positive("diameter_b", diameter_b, "m")
     ma = _positive("molar_mass_a", molar_mass_a, "kg mol-1")
     mb = _positive("molar_mass_b", molar_mass_b, "kg mol-1")
-    flags = _check_identical(identical, [("diameter", da, db), ("molar_mass", ma, mb)])
+    flags = check_identical_partners(identical, [("diameter", da, db), ("molar_mass", ma, mb)])
     z = hard_sphere_cross_section(da, db) * mean_relative_speed(T, ma, mb)
     z = z * self_reaction_factor(flags)
     if not per_molecule:
@@ -619,7 +622,7 @@ def lennard_jones_collision_rate_constant(
     T = _positive("T", T, "K")
     ea = _positive("well_depth_a", well_depth_a, "K")
     eb = _positive("well_depth_b", well_depth_b, "K")
-    _check_identical(identical, [("well_depth", ea, eb)])
+    check_identical_partners(identical, [("well_depth", ea, eb)])
     T_star = _lennard_jones_reduced_temperature(T, ea, eb)
     z = collision_rate_constant(
         T,

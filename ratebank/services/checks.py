@@ -2,10 +2,13 @@
 
 Flags (each with a stable code):
 
-- ``above-collision-limit``: a bimolecular k(T) above the collision rate z(T)
-  somewhere in its temperature range (ratio and T given). z follows the
-  collision model the caller chooses, else the one the expression's own
-  estimate used, else hard spheres.
+- ``above-collision-limit``: a bimolecular k(T) above the collision limit
+  somewhere in its temperature range (ratio and T given). The limit is the
+  collision rate z(T) of the model the caller chooses (else the one the
+  expression's own estimate used, else hard spheres) or, where both partners
+  carry a polarizability and an ionization energy, the dispersion-limited
+  capture rate if that is larger (long-range attraction lets radicals react
+  faster than hard spheres collide).
 - ``steric-above-one``: a steric factor above 1, used by an estimate or
   implied by a measured fit (it happens; it needs a reason).
 - ``collinear-fit``: a three-parameter fit whose n and Ea are nearly collinear.
@@ -32,6 +35,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError
 from ratebank.science.arrhenius import modified_arrhenius
+from ratebank.science.capture import london_capture_rate_constant
 from ratebank.science.collision import collision_limit_ratio, collision_rate
 from ratebank.services.partners import CollisionPair, PairColumns, check_model, collision_pairs
 from ratebank.services.selection import Chosen, chosen_expressions
@@ -179,8 +183,10 @@ def _limit_flags(
     T = low + (high - low) * grid_unit
     A, n, Ea = (np.array([[getattr(e, name)] for e, _ in rows]) for name in ("A", "n", "Ea"))
     k = modified_arrhenius(T, A, n, Ea)
-    arguments = PairColumns.of([pair for _, pair in rows]).rate_arguments(model)
+    columns = PairColumns.of([pair for _, pair in rows])
+    arguments = columns.rate_arguments(model)
     z = collision_rate(T, **{name: _column(v) for name, v in arguments.items()})
+    z = np.maximum(z, _capture_rate(T, columns))
     ratio, where = collision_limit_ratio(T, k, z)
     flags = []
     for (e, _pair), r, t in zip(rows, np.atleast_1d(ratio), np.atleast_1d(where), strict=True):
@@ -192,14 +198,32 @@ def _limit_flags(
                 Flag(
                     by_id[e.reaction_id].key,
                     "above-collision-limit",
-                    f"expression {e.id} ({e.origin}) is {r:.3g} times the {model} "
-                    f"collision rate at {t:.4g} K",
+                    f"expression {e.id} ({e.origin}) is {r:.3g} times the collision limit "
+                    f"({model}, or dispersion capture where larger) at {t:.4g} K",
                     e.id,
                     float(r),
                     float(t),
                 )
             )
     return flags
+
+
+def _capture_rate(T: np.ndarray, columns: PairColumns) -> np.ndarray:
+    """The dispersion-limited capture rate on each row's grid (0 where data are missing)."""
+    capture = np.zeros_like(T)
+    rows = columns.has_capture_data
+    if rows.any():
+        capture[rows] = london_capture_rate_constant(
+            T[rows],
+            columns.polarizability_a[rows, None],
+            columns.polarizability_b[rows, None],
+            columns.ionization_energy_a[rows, None],
+            columns.ionization_energy_b[rows, None],
+            columns.molar_mass_a[rows, None],
+            columns.molar_mass_b[rows, None],
+            identical=columns.identical[rows, None],
+        )
+    return capture
 
 
 def _column(value: object) -> object:

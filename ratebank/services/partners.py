@@ -38,6 +38,8 @@ class PartnerData:
     #: True when a given diameter is paired with an estimated well depth (or the
     #: reverse): the two do not come from one source, so both count as estimated
     mixed_sources: bool = False
+    polarizability: float | None = None  # m3
+    ionization_energy: float | None = None  # J/mol
 
     @cached_property  # asked for every reaction the partner takes part in
     def diameter_estimated(self) -> bool:
@@ -113,6 +115,10 @@ class PairColumns:
     well_depth_a: np.ndarray
     well_depth_b: np.ndarray
     identical: np.ndarray
+    polarizability_a: np.ndarray
+    polarizability_b: np.ndarray
+    ionization_energy_a: np.ndarray
+    ionization_energy_b: np.ndarray
 
     @classmethod
     def of(cls, pairs: Sequence[CollisionPair]) -> PairColumns:
@@ -128,6 +134,20 @@ class PairColumns:
             column("a", "well_depth"),
             column("b", "well_depth"),
             np.array([p.identical for p in pairs], dtype=bool),
+            column("a", "polarizability"),
+            column("b", "polarizability"),
+            column("a", "ionization_energy"),
+            column("b", "ionization_energy"),
+        )
+
+    @property
+    def has_capture_data(self) -> np.ndarray:
+        """Pairs whose partners both carry a polarizability and an ionization energy."""
+        return np.isfinite(
+            self.polarizability_a
+            + self.polarizability_b
+            + self.ionization_energy_a
+            + self.ionization_energy_b
         )
 
     def rate_arguments(self, model: str) -> dict[str, object]:
@@ -154,6 +174,8 @@ def _partner(species: SpeciesRow) -> PartnerData:
         diameter_method=species.diameter_method if species.diameter is not None else None,
         well_depth=species.well_depth,
         well_depth_method=species.well_depth_method if species.well_depth is not None else None,
+        polarizability=species.polarizability,
+        ionization_energy=species.ionization_energy,
     )
 
 

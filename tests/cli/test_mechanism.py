@@ -561,7 +561,8 @@ def test_check_flags_impossible_rate_and_steric_factor(store, tmp_path):
     ratio = 1e-8 * K_TO_SI["cm3/molecule/s"] / float(hard_sphere_z(300.0, "OH", "C2H6"))
     assert above["value"] == pytest.approx(ratio, rel=1e-9)
     assert above["T_K"] == pytest.approx(300.0, rel=1e-12)
-    assert f"is {ratio:.3g} times the hard-sphere collision rate at 300 K" in above["message"]
+    assert f"is {ratio:.3g} times the collision limit (hard-sphere" in above["message"]
+    assert "at 300 K" in above["message"]
     steric = flags[("oh-h2", "steric-above-one")]
     assert steric["value"] == 5.0
     assert "is estimated with a steric factor of 5 > 1" in steric["message"]

@@ -121,3 +121,38 @@ def test_two_sets_a_factor_two_apart_are_flagged_and_honest(db_url, tmp_path):
     assert flag.value == pytest.approx(
         2.718281828 ** ((0.6931471805599453**2 / 2) ** 0.5), rel=1e-3
     )
+
+
+def test_the_dispersion_capture_rate_raises_the_limit_where_it_is_larger(store):
+    """HO2 + HO2 estimated at P = 3 sits above the hard-sphere rate; with polarizabilities and
+    ionization energies stored (invented, synthetic values large enough for the London
+    capture rate to exceed it, Georgievskii & Klippenstein 2005 form) it is within the limit."""
+    from sqlalchemy import update
+
+    from ratebank.science.capture import london_capture_rate_constant
+    from ratebank.store.models import Species
+
+    with store.session(write=True) as session:
+        estimation.estimate(session, ["ho2-ho2"], steric=3.0, T_ref=300.0)
+    with store.session() as session:
+        before = checks.check_store(session, keys=["ho2-ho2"], ignore=["steric-above-one"])
+    assert [f.code for f in before.flags] == ["above-collision-limit"]
+    with store.session(write=True) as session:
+        session.execute(
+            update(Species)
+            .where(Species.name == "HO2")
+            .values(polarizability=4.0e-29, ionization_energy=1.1e6)
+        )
+    with store.session() as session:
+        after = checks.check_store(session, keys=["ho2-ho2"], ignore=["steric-above-one"])
+        ho2 = queries_species(session)
+    capture = london_capture_rate_constant(
+        300.0, 4.0e-29, 4.0e-29, 1.1e6, 1.1e6, ho2.molar_mass, ho2.molar_mass, identical=True
+    )
+    assert capture > 0 and after.flags == []
+
+
+def queries_species(session):
+    from ratebank.store import queries
+
+    return queries.find_species(session, "HO2")
