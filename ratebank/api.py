@@ -257,7 +257,7 @@ class Store:
         )
 
 
-def open(db: str | Path | None = None, *, author: str | None = None) -> Store:  # noqa: A001
+def open(db: str | Path | None = None, *, author: str | None = None) -> Store:
     """Open the store at ``db`` (a SQLite path or a database URL).
 
     Without ``db``, the store named by ``RATEBANK_DB`` is used, or else

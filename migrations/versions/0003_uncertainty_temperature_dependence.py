@@ -2,9 +2,10 @@
 
 Every expression's uncertainty is f(T) = f(298 K) exp|g (1/T - 1/298 K)|, the
 evaluation panels' form: ``uncertainty_factor`` holds f(298 K) and the new
-``uncertainty_g`` holds g [K]. Existing expressions had one factor for every
-temperature, which is g = 0; a measured fit's covering (f(298), g) pair is
-computed from its covariance when it is next fitted.
+``uncertainty_g`` holds g [K]; an empty g means 0. Existing expressions had one
+factor for every temperature, which is g = 0, so they are left as they are; a
+measured fit's covering (f(298), g) pair is computed from its covariance when
+it is next fitted.
 
 Revision ID: 0003
 Revises: 0002
@@ -31,7 +32,6 @@ def upgrade() -> None:
             op.f("ck_expression_uncertainty_g_non_negative"),
             "uncertainty_g IS NULL OR uncertainty_g >= 0",
         )
-    op.execute("UPDATE expression SET uncertainty_g = 0 WHERE uncertainty_factor IS NOT NULL")
 
 
 def downgrade() -> None:

@@ -28,17 +28,22 @@ POSITIVE = ("boiling_temperature", "polarizability", "ionization_energy")
 
 
 def upgrade() -> None:
-    with op.batch_alter_table("species") as batch:
-        for name in COLUMNS:
-            batch.add_column(sa.Column(name, sa.Float(), nullable=True))
-        batch.create_check_constraint(
-            op.f("ck_species_dipole_moment_non_negative"),
-            "dipole_moment IS NULL OR dipole_moment >= 0",
+    # ADD COLUMN with the check inline: no table copy, which on SQLite would drop and
+    # recreate ``species`` under the foreign keys of the tables that refer to it
+    for name in COLUMNS:
+        rule = f"{name} >= 0" if name == "dipole_moment" else f"{name} > 0"
+        check = "non_negative" if name == "dipole_moment" else "positive"
+        op.add_column(
+            "species",
+            sa.Column(
+                name,
+                sa.Float(),
+                sa.CheckConstraint(
+                    f"{name} IS NULL OR {rule}", name=op.f(f"ck_species_{name}_{check}")
+                ),
+                nullable=True,
+            ),
         )
-        for name in POSITIVE:
-            batch.create_check_constraint(
-                op.f(f"ck_species_{name}_positive"), f"{name} IS NULL OR {name} > 0"
-            )
 
 
 def downgrade() -> None:

@@ -56,7 +56,7 @@ def expressions_edit(
     Example: ratebank expressions edit 12 --Ea 41.5 --Ea-units kJ/mol --expect-version 1
     """
     from ratebank.cli.common import store_session
-    from ratebank.services.editing import edit_expression
+    from ratebank.services.expressions import edit_expression
 
     with store_session(write=True) as session:
         result = edit_expression(

@@ -143,10 +143,10 @@ def history(
     Example: ratebank history --limit 20
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.history import list_history
 
     with store_session() as session:
-        rows = curate.history(session, limit=limit, target=target, author=author)
+        rows = list_history(session, limit=limit, target=target, author=author)
     if as_json:
         print_json(tables.history_records(rows))
     else:
@@ -199,7 +199,7 @@ def species_add(
 
     Example: ratebank species add CH3OH CH3OH --tc 512.6 --pc 80.97
     """
-    from ratebank.services import curate
+    from ratebank.services.species import add_species
 
     def text(value: float | None) -> str | None:
         return None if value is None else repr(value)
@@ -218,7 +218,7 @@ def species_add(
         "source": source,
     }
     with store_session(write=True) as session:
-        curate.add_species(session, **fields)
+        add_species(session, **fields)
     say(f"Added species {name}.")
 
 
@@ -258,10 +258,10 @@ def species_list(
     Example: ratebank species list --missing-diameter
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.species import list_species
 
     with store_session() as session:
-        rows = curate.list_species(session, missing_diameter=missing_diameter, name_contains=name)
+        rows = list_species(session, missing_diameter=missing_diameter, name_contains=name)
     if as_json:
         print_json(tables.species_records(rows))
     else:
@@ -278,10 +278,10 @@ def species_show(
     Example: ratebank species show OH
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.species import show_species
 
     with store_session() as session:
-        detail = curate.show_species(session, name)
+        detail = show_species(session, name)
     if as_json:
         print_json(tables.species_detail_record(detail))
     else:
@@ -302,11 +302,11 @@ def reactions_add(
 
     Example: ratebank reactions add oh-ch4 'OH + CH4 -> CH3 + H2O' --class h-abstraction
     """
-    from ratebank.services import curate
+    from ratebank.services.reactions import add_reaction, show_reaction
 
     with store_session(write=True) as session:
-        curate.add_reaction(session, key, equation, reaction_class=reaction_class, notes=notes)
-        detail = curate.show_reaction(session, key)
+        add_reaction(session, key, equation, reaction_class=reaction_class, notes=notes)
+        detail = show_reaction(session, key)
     say(f"Added reaction {key}: {detail.equation}")
 
 
@@ -347,10 +347,10 @@ def reactions_list(
     Example: ratebank reactions list --species OH --status ea-only
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.reactions import list_reactions
 
     with store_session() as session:
-        rows = curate.list_reactions(
+        rows = list_reactions(
             session, species=species, reaction_class=reaction_class, status=status
         )
     if as_json:
@@ -423,10 +423,10 @@ def data_list(
     Example: ratebank data list --reaction oh-ch4
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.measurements import list_sets
 
     with store_session() as session:
-        rows = curate.list_sets(session, reaction=reaction)
+        rows = list_sets(session, reaction=reaction)
     if as_json:
         print_json(tables.set_records(rows))
     else:
@@ -475,10 +475,10 @@ def expressions_list(
     Example: ratebank expressions list --units atmospheric
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.expressions import list_expressions
 
     with store_session() as session:
-        rows = curate.list_expressions(session, reaction=reaction, origin=origin)
+        rows = list_expressions(session, reaction=reaction, origin=origin)
     if as_json:
         print_json(tables.expression_records(rows, preset))
     else:

@@ -16,10 +16,10 @@ if TYPE_CHECKING:  # the overview pulls in the checks; a listing should not pay 
     from ratebank.services.overview import ReactionOverview
 
 from ratebank.report.format import sig, trange
-from ratebank.services.curate import (
+from ratebank.services.validate import ImportSummary
+from ratebank.store.listings import (
     ExpressionSummary,
     HistoryEntry,
-    ImportSummary,
     ReactionDetail,
     ReactionSummary,
     SetSummary,
@@ -238,6 +238,7 @@ def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[d
                 "T_min_K": e.t_min,
                 "T_max_K": e.t_max,
                 "uncertainty_factor": e.uncertainty_factor,
+                "uncertainty_g_K": e.uncertainty_g,
                 "reference": e.reference,
                 "recommended": e.recommended,
                 "version": e.version,

@@ -1,9 +1,9 @@
-"""Opening a store: the entry point for Python users and for the command line.
+"""Opening a store: the handle whose sessions every service works in.
 
->>> from ratebank.services.store_access import open_store   # doctest: +SKIP
+>>> from ratebank.services.species import list_species      # doctest: +SKIP
 >>> store = open_store("group.db", author="ada")             # doctest: +SKIP
 >>> with store.session() as session:                         # doctest: +SKIP
-...     curate.list_species(session)
+...     list_species(session)
 """
 
 from __future__ import annotations
@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from sqlalchemy import Engine
 from sqlalchemy.orm import Session
 
+from ratebank.store import audit
 from ratebank.store.engine import (
     create_store_engine,
     database_url,
@@ -22,6 +23,7 @@ from ratebank.store.engine import (
     mask_url,
     session_scope,
 )
+from ratebank.store.listings import store_counts as _store_counts
 from ratebank.store.schema import InitResult, check_revision, upgrade_store
 
 
@@ -77,8 +79,6 @@ def init_store(
         store.close()
         raise
     if result.changed:
-        from ratebank.store import audit
-
         with store.session(write=True) as session:
             audit.record(
                 session,
@@ -88,3 +88,8 @@ def init_store(
                 after=result.after,
             )
     return store, result
+
+
+def store_counts(session: Session) -> dict[str, int]:
+    """How many species, reactions, measurement sets, points and expressions the store holds."""
+    return _store_counts(session)

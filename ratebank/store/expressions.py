@@ -68,7 +68,7 @@ class ExpressionRecord:
 
     Its uncertainty is f(T) = f(298 K) exp|g (1/T - 1/298 K)|, one standard
     deviation of ln k: ``uncertainty_factor`` is f(298 K), ``uncertainty_g`` is
-    g [K] (0 when a factor is given without one).
+    g [K] (empty means 0: the same factor at every temperature).
 
     ``A`` may be None: an activation energy whose pre-exponential factor is
     still to be estimated. ``terms`` holds the further terms of a ``sum``,
@@ -110,12 +110,6 @@ def _refuse_unstorable(record: ExpressionRecord) -> None:
         )
 
 
-def _g_or_default(record: ExpressionRecord) -> float | None:
-    if record.uncertainty_g is None and record.uncertainty_factor is not None:
-        return 0.0
-    return record.uncertainty_g
-
-
 def write_expressions(
     session: Session,
     records: Sequence[ExpressionRecord],
@@ -151,7 +145,7 @@ def write_expressions(
                 r.T_min,
                 r.T_max,
                 r.uncertainty_factor,
-                _g_or_default(r),
+                r.uncertainty_g,
                 r.reference,
                 encode(r.provenance),
                 False,

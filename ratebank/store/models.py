@@ -273,7 +273,7 @@ class Expression(Base):
     t_max: Mapped[float | None] = mapped_column(Float)
     #: f(298 K) of f(T) = f(298) exp|g (1/T - 1/298 K)|, one standard deviation of ln k
     uncertainty_factor: Mapped[float | None] = mapped_column(Float)
-    #: g [K] of that form (0: the same factor at every temperature)
+    #: g [K] of that form (empty or 0: the same factor at every temperature)
     uncertainty_g: Mapped[float | None] = mapped_column(Float)
     reference: Mapped[str | None] = mapped_column(Text)
     #: every input behind the numbers (fit covariance, set ids, P rule, ...)

@@ -224,7 +224,7 @@ def test_steric_plot_svg(db, out_dir):
         (
             ["plot", "nope"],
             "out.png",
-            "Error: no reaction with key 'nope' in the store (see `ratebank reactions list`)",
+            "Error: no reaction with key 'nope' in the store",
         ),
         (
             ["plot", "oh-ch4"],
@@ -257,7 +257,8 @@ def test_steric_plot_svg(db, out_dir):
         (
             ["plot", "oh-ch4", "--t-range", "900", "300"],
             "out.png",
-            "Error: --t-range 900 300 must be two temperatures above 0 K, the lower first",
+            "Error: t_range 900 300 must be two temperatures above 0 K, the lower first "
+            "(option --t-range)",
         ),
         (
             ["plot", "oh-ch4", "--dpi", "0"],
@@ -279,8 +280,8 @@ def test_steric_plot_svg(db, out_dir):
             ["steric", "plot", "--class", "ho2-self"],
             "out.png",
             "Error: no steric factors to plot: no bimolecular reaction of class 'ho2-self' has "
-            "a measured fit and collision data (import measurements and diameters, then run "
-            "`ratebank fit`)",
+            "a measured fit and collision data (import measurements and diameters, then fit "
+            "them)",
         ),
     ],
 )

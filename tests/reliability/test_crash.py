@@ -23,8 +23,7 @@ from helpers.cli import snapshot, write
 from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
 from sqlalchemy import create_engine, text
 
-from ratebank.services import curate
-from ratebank.services.store_access import open_store
+from ratebank.services.store_access import open_store, store_counts
 from ratebank.store.fingerprint import store_fingerprint
 
 WORKERS = Path(__file__).with_name("workers.py")
@@ -65,7 +64,7 @@ def _state(db):
     try:
         with store.session() as session:
             fingerprint = store_fingerprint(session)
-            counts = curate.store_counts(session)
+            counts = store_counts(session)
     finally:
         store.close()
     return fingerprint, counts, snapshot(db)

@@ -8,7 +8,7 @@ import json
 
 import pytest
 from helpers.cli import snapshot, write
-from sqlalchemy import select, text
+from sqlalchemy import inspect, select, text
 
 from ratebank.services.store_access import open_store
 from ratebank.store.engine import create_store_engine, database_url
@@ -242,14 +242,22 @@ def _insert_first_revision_rows(engine) -> None:
 
 
 def _read_all(engine) -> dict[str, list[dict[str, object]]]:
+    """Every row of every table, in the columns of the first revision (later revisions add
+    columns, which are checked apart)."""
+    first = {table: {column for row in rows for column in row} for table, rows in ROWS.items()}
     with engine.connect() as connection:
-        return {
-            table.name: [
-                dict(row._mapping)
-                for row in connection.execute(select(table).order_by(*table.primary_key.columns))
+        stored = inspect(connection)
+        found = {}
+        for table in Base.metadata.sorted_tables:
+            names = {c["name"] for c in stored.get_columns(table.name)}
+            columns = [
+                c
+                for c in table.columns
+                if c.name in names and c.name in first.get(table.name, names)
             ]
-            for table in Base.metadata.sorted_tables
-        }
+            query = select(*columns).order_by(*table.primary_key.columns)
+            found[table.name] = [dict(row._mapping) for row in connection.execute(query)]
+        return found
 
 
 def _normalised(value: object) -> object:

@@ -53,9 +53,9 @@ def curate_worker(
     from sqlalchemy import select
 
     from ratebank.errors import ConflictError
-    from ratebank.services import curate
-    from ratebank.services.editing import edit_expression
+    from ratebank.services.expressions import edit_expression
     from ratebank.services.fitting import fit_reactions
+    from ratebank.services.measurement_import import import_measurements
     from ratebank.services.steric import set_class_rule
     from ratebank.services.store_access import open_store
     from ratebank.store.models import Expression, StericRule
@@ -77,7 +77,7 @@ def curate_worker(
             name = f"w{worker}-set{i}"
             columns, lines = _points(name, "oh-ch4", SET_POINTS, seed=worker * 100_000 + i)
             with store.session(write=True) as session:
-                summary = curate.import_measurements(session, columns, lines, source=name)
+                summary = import_measurements(session, columns, lines, source=name)
             report["sets"].append(name)
             report["points"] += summary.added
 
@@ -124,7 +124,7 @@ def curate_worker(
 
 
 def writer(db: str, seconds: float, out: Path) -> None:
-    from ratebank.services import curate
+    from ratebank.services.measurement_import import import_measurements
     from ratebank.services.store_access import open_store
 
     store = open_store(db, author="writer")
@@ -136,7 +136,7 @@ def writer(db: str, seconds: float, out: Path) -> None:
             name = f"live-{committed}"
             columns, lines = _points(name, "oh-ch4", 50, seed=committed)
             with store.session(write=True) as session:
-                curate.import_measurements(session, columns, lines, source=name)
+                import_measurements(session, columns, lines, source=name)
             committed += 1
             # replaced whole, so that the test never reads a half-written number
             Path(f"{out}.progress.tmp").write_text(str(committed), encoding="utf-8")
