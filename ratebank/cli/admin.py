@@ -15,8 +15,8 @@ _FIELD_WORDS = {
     "A": "A",
     "n": "n",
     "Ea": "Ea",
-    "t_min": "T_min",
-    "t_max": "T_max",
+    "T_min": "T_min",
+    "T_max": "T_max",
     "uncertainty_factor": "uncertainty factor",
     "reference": "reference",
 }
@@ -68,8 +68,8 @@ def expressions_edit(
             Ea=Ea,
             Ea_units=Ea_units,
             k_units=k_units,
-            t_min=t_min,
-            t_max=t_max,
+            T_min=t_min,
+            T_max=t_max,
             uncertainty_factor=uncertainty_factor,
             reference=reference,
         )

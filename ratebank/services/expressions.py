@@ -54,11 +54,7 @@ from ratebank.store.records import (
 #: Origins a curator may edit by hand.
 EDITABLE_ORIGINS = ("literature", "manual")
 #: The fields an edit may change, in the order messages list them.
-EDITABLE_FIELDS = ("A", "n", "Ea", "t_min", "t_max", "uncertainty_factor", "reference")
-#: The record name (:class:`~ratebank.store.expressions.ExpressionRecord`) of each field.
-_RECORD_NAMES = {"t_min": "T_min", "t_max": "T_max"}
-#: The edit's argument name of each number :func:`check_expression_values` checks.
-_ARGUMENT_NAMES = {"T_min": "t_min", "T_max": "t_max"}
+EDITABLE_FIELDS = ("A", "n", "Ea", "T_min", "T_max", "uncertainty_factor", "reference")
 
 
 # --------------------------------------------------------------------------- import
@@ -152,8 +148,8 @@ def edit_expression(
     Ea: float | None = None,
     Ea_units: str | None = None,
     k_units: str | None = None,
-    t_min: float | None = None,
-    t_max: float | None = None,
+    T_min: float | None = None,
+    T_max: float | None = None,
     uncertainty_factor: float | None = None,
     reference: str | None = None,
 ) -> ExpressionEdit:
@@ -175,7 +171,7 @@ def edit_expression(
         Activation energy in ``Ea_units``; needs ``Ea_units``.
     Ea_units, k_units : str, optional
         Units of the new ``Ea`` and ``A``, e.g. ``kJ/mol`` and ``cm3/molecule/s``.
-    t_min, t_max : float, optional
+    T_min, T_max : float, optional
         Valid temperature range [K].
     uncertainty_factor : float, optional
         Factor (at least 1) by which k is uncertain.
@@ -204,8 +200,8 @@ def edit_expression(
         "Ea": Ea,
         "Ea_units": Ea_units,
         "k_units": k_units,
-        "t_min": t_min,
-        "t_max": t_max,
+        "T_min": T_min,
+        "T_max": T_max,
         "uncertainty_factor": uncertainty_factor,
         "reference": reference,
     }
@@ -237,7 +233,7 @@ def _write_edit(
     changed: dict[str, tuple[Any, Any]],
 ) -> int:
     """Write the changes and the edit's provenance, record the edit; the new version."""
-    record = {_RECORD_NAMES.get(name, name): after for name, (_, after) in changed.items()}
+    record = {name: after for name, (_, after) in changed.items()}
     if "uncertainty_factor" in changed and expression.uncertainty_g is None:
         record["uncertainty_g"] = 0.0  # a factor without a g, as the write path stores it
     record["provenance"] = _edited_provenance(session, expression, given, changed)
@@ -254,7 +250,7 @@ def _write_edit(
 
 
 def _stored(expression: EditableExpression, name: str) -> Any:
-    return getattr(expression, _RECORD_NAMES.get(name, name))
+    return getattr(expression, name)
 
 
 def _refuse_regenerated(expression: EditableExpression) -> None:
@@ -286,8 +282,8 @@ def _checked_changes(expression: EditableExpression, given: dict[str, Any]) -> d
         n=given["n"],
         Ea=given["Ea"],
         Ea_units=given["Ea_units"],
-        T_min=given["t_min"],
-        T_max=given["t_max"],
+        T_min=given["T_min"],
+        T_max=given["T_max"],
         uncertainty_factor=given["uncertainty_factor"],
         stored={
             "A": expression.A,
@@ -295,7 +291,6 @@ def _checked_changes(expression: EditableExpression, given: dict[str, Any]) -> d
             "T_min": expression.T_min,
             "T_max": expression.T_max,
         },
-        names=_ARGUMENT_NAMES,
     )
     if checked.problems:
         raise BadInputError(
@@ -304,7 +299,7 @@ def _checked_changes(expression: EditableExpression, given: dict[str, Any]) -> d
             + "; nothing was written",
             argument=checked.problems[0][0],
         )
-    values = {_ARGUMENT_NAMES.get(name, name): value for name, value in checked.values.items()}
+    values = dict(checked.values)
     if given["reference"] is not None:
         values["reference"] = given["reference"].strip() or None
     return {name: values[name] for name in EDITABLE_FIELDS if name in values}

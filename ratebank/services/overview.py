@@ -33,10 +33,10 @@ class ReactionOverview:
 
 def _grid(detail: ReactionDetail) -> list[float]:
     """Five temperatures spread evenly in log T over every range the reaction's data state."""
-    lows = [e.t_min for e in detail.expressions if e.t_min]
-    highs = [e.t_max for e in detail.expressions if e.t_max]
-    lows += [s.t_min for s in detail.sets if s.t_min]
-    highs += [s.t_max for s in detail.sets if s.t_max]
+    lows = [e.T_min for e in detail.expressions if e.T_min]
+    highs = [e.T_max for e in detail.expressions if e.T_max]
+    lows += [s.T_min for s in detail.sets if s.T_min]
+    highs += [s.T_max for s in detail.sets if s.T_max]
     if not lows or not highs:
         return list(DEFAULT_GRID)
     low, high = min(lows), max(highs)

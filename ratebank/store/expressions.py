@@ -35,11 +35,11 @@ FORMS = ("arrhenius",)
 _COLUMNS = (
     "reaction_id",
     "origin",
-    "pre_exponential",
-    "temperature_exponent",
-    "activation_energy",
-    "t_min",
-    "t_max",
+    "A",
+    "n",
+    "Ea",
+    "T_min",
+    "T_max",
     "uncertainty_factor",
     "uncertainty_g",
     "reference",
@@ -187,7 +187,6 @@ UPDATABLE = (
     "reference",
     "provenance",
 )
-_ATTRIBUTE = {"T_min": "t_min", "T_max": "t_max"}
 
 
 def update_expression(session: Session, expression: Expression, changes: Mapping[str, Any]) -> None:
@@ -201,7 +200,7 @@ def update_expression(session: Session, expression: Expression, changes: Mapping
     if unknown:
         raise BadInputError(f"expression fields {', '.join(unknown)} cannot be changed")
     for name, value in changes.items():
-        setattr(expression, _ATTRIBUTE.get(name, name), value)
+        setattr(expression, name, value)
     expression.updated_at = utc_now()
     expression.updated_by = session.info.get("author")
     session.flush()

@@ -33,6 +33,9 @@ from ratebank.store.models import (
 )
 
 _SKIP = {"created_at", "updated_at", "updated_by", "created_by", "version"}
+#: Columns that earlier revisions named differently (revision 0005), by today's name: a store
+#: not yet upgraded hashes the same content under today's names.
+_FORMER_NAMES = {"a": "pre_exponential", "n": "temperature_exponent", "ea": "activation_energy"}
 TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
 #: Rows fetched and hashed at a time.
 _BATCH = 50_000
@@ -88,9 +91,11 @@ def _kind(column: Any) -> str:
     return "text"  # JSON too: read as its stored text
 
 
-def _columns_with_values(cursor: Any, table: str, columns: list[Any]) -> list[Any]:
+def _columns_with_values(
+    cursor: Any, table: str, columns: list[Any], names: dict[str, str]
+) -> list[Any]:
     """The columns of ``table`` that hold a value in at least one row."""
-    counts = ", ".join(f"COUNT({c.name})" for c in columns)
+    counts = ", ".join(f"COUNT({names[c.name]})" for c in columns)
     cursor.execute(f"SELECT COUNT(*), {counts} FROM {table}")
     total, *filled = cursor.fetchone()
     if not total:
@@ -114,14 +119,20 @@ def store_fingerprint(session: Session) -> str:
         for model in TABLES:
             table = model.__table__
             stored = {c["name"] for c in inspector.get_columns(table.name)}
+            names = {
+                c.name: c.name if c.name in stored else _FORMER_NAMES.get(c.name, c.name)
+                for c in table.columns
+                if c.name not in _SKIP
+            }
             columns = _columns_with_values(
-                cursor, table.name, [c for c in table.columns if c.name in stored - _SKIP]
+                cursor, table.name, [c for c in table.columns if names.get(c.name) in stored], names
             )
             kinds = [_kind(c) for c in columns]
             digest.update(f"\n#{table.name}:{','.join(c.name for c in columns)}\n".encode())
             order = ", ".join(c.name for c in table.primary_key.columns)
             selected = ", ".join(
-                f"CAST({c.name} AS TEXT)" if isinstance(c.type, JSON) else c.name for c in columns
+                f"CAST({names[c.name]} AS TEXT)" if isinstance(c.type, JSON) else names[c.name]
+                for c in columns
             )
             cursor.execute(f"SELECT {selected} FROM {table.name} ORDER BY {order}")
             while rows := cursor.fetchmany(_BATCH):

@@ -93,8 +93,8 @@ class SetSummary:
     bath_gas: str | None
     k_units: str
     points: int
-    t_min: float | None
-    t_max: float | None
+    T_min: float | None
+    T_max: float | None
 
 
 @dataclass(frozen=True)
@@ -106,8 +106,8 @@ class ExpressionSummary:
     A: float | None
     n: float
     Ea: float
-    t_min: float | None
-    t_max: float | None
+    T_min: float | None
+    T_max: float | None
     uncertainty_factor: float | None
     uncertainty_g: float | None
     reference: str | None
@@ -291,8 +291,8 @@ def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary
         select(
             Point.set_id,
             func.count(Point.id).label("n"),
-            func.min(Point.temperature).label("t_min"),
-            func.max(Point.temperature).label("t_max"),
+            func.min(Point.temperature).label("T_min"),
+            func.max(Point.temperature).label("T_max"),
         )
         .group_by(Point.set_id)
         .subquery()
@@ -307,8 +307,8 @@ def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary
             MeasurementSet.bath_gas,
             MeasurementSet.original_k_units,
             func.coalesce(stats.c.n, 0),
-            stats.c.t_min,
-            stats.c.t_max,
+            stats.c.T_min,
+            stats.c.T_max,
         )
         .join(Reaction, Reaction.id == MeasurementSet.reaction_id)
         .outerjoin(stats, stats.c.set_id == MeasurementSet.id)
@@ -339,8 +339,8 @@ _EXPRESSION_COLUMNS = (
     Expression.A,
     Expression.n,
     Expression.Ea,
-    Expression.t_min,
-    Expression.t_max,
+    Expression.T_min,
+    Expression.T_max,
     Expression.uncertainty_factor,
     Expression.uncertainty_g,
     Expression.reference,

@@ -242,9 +242,8 @@ class Expression(Base):
 
     __tablename__ = "expression"
     __table_args__ = (
-        CheckConstraint(
-            "pre_exponential IS NULL OR pre_exponential > 0", name="pre_exponential_positive"
-        ),
+        # (constraint names are those of the first revision; the columns were renamed since)
+        CheckConstraint("a IS NULL OR a > 0", name="pre_exponential_positive"),
         CheckConstraint(
             "origin IN ('measured-fit', 'literature', 'collision-estimate', 'manual')",
             name="origin_known",
@@ -264,13 +263,13 @@ class Expression(Base):
     reaction_id: Mapped[int] = mapped_column(ForeignKey("reaction.id"))
     origin: Mapped[str] = mapped_column(String(30))
     #: [SI k unit times K^-n]
-    A: Mapped[float | None] = mapped_column("pre_exponential", Float)
-    n: Mapped[float] = mapped_column("temperature_exponent", Float, default=0.0)
+    A: Mapped[float | None] = mapped_column("a", Float)
+    n: Mapped[float] = mapped_column("n", Float, default=0.0)
     #: [J mol-1]
-    Ea: Mapped[float] = mapped_column("activation_energy", Float)
+    Ea: Mapped[float] = mapped_column("ea", Float)
     #: [K]
-    t_min: Mapped[float | None] = mapped_column(Float)
-    t_max: Mapped[float | None] = mapped_column(Float)
+    T_min: Mapped[float | None] = mapped_column("t_min", Float)
+    T_max: Mapped[float | None] = mapped_column("t_max", Float)
     #: f(298 K) of f(T) = f(298) exp|g (1/T - 1/298 K)|, one standard deviation of ln k
     uncertainty_factor: Mapped[float | None] = mapped_column(Float)
     #: g [K] of that form (empty or 0: the same factor at every temperature)

@@ -130,8 +130,8 @@ _EXPRESSION_COLUMNS = (
     Expression.A,
     Expression.n,
     Expression.Ea,
-    Expression.t_min,
-    Expression.t_max,
+    Expression.T_min,
+    Expression.T_max,
     Expression.uncertainty_factor,
     Expression.uncertainty_g,
     Expression.reference,
@@ -273,7 +273,7 @@ def newest_fits(session: Session, reaction_ids: Sequence[int]) -> dict[int, Expr
 
 
 def _sql_column(column: Any) -> str:
-    return str(column.expression.name)
+    return str(column.key)  # the rate law's names: SQL reads A, n, Ea, T_min unquoted
 
 
 def measured_fits(session: Session, *, reaction_class: str | None = None) -> list[ExpressionRow]:

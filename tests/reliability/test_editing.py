@@ -109,7 +109,7 @@ def test_edit_converts_to_si_and_bumps_the_version(filled, cli):
     assert row.version == 2
     assert row.A == pytest.approx(3.5e13, rel=1e-12)  # s-1 is already SI
     assert row.Ea == pytest.approx(48 * 4184.0, rel=1e-12)  # thermochemical calorie
-    assert (row.t_min, row.t_max, row.uncertainty_factor) == (700.0, 1600.0, 2.0)
+    assert (row.T_min, row.T_max, row.uncertainty_factor) == (700.0, 1600.0, 2.0)
     assert row.reference == "second review"
     assert row.updated_by == "ada"
     assert row.provenance["edited"]["by"] == "ada"
@@ -234,8 +234,8 @@ def test_fits_and_estimates_are_regenerated_not_edited(filled, cli):
         (["--Ea", "12", "--Ea-units", "kJ"], "Ea_units: "),
         (["--Ea", "inf", "--Ea-units", "kJ/mol"], "Ea: inf is not a finite number"),
         (["--Ea-units", "K"], "Ea_units: is given without Ea"),
-        (["--t-max", "500"], "t_max: 500 K is below t_min 800 K"),
-        (["--t-min", "0"], "t_min: 0 must be greater than zero; expected a temperature in K"),
+        (["--t-max", "500"], "T_max: 500 K is below T_min 800 K"),
+        (["--t-min", "0"], "T_min: 0 must be greater than zero; expected a temperature in K"),
         (["--uncertainty-factor", "0.5"], "uncertainty_factor: 0.5 is below 1"),
         ([], "nothing to change in expression"),
     ],

@@ -182,7 +182,7 @@ def test_an_edit_converts_to_si_bumps_the_version_and_is_recorded(store):
             k_units="s-1",
             Ea=48,
             Ea_units="kcal/mol",
-            t_max=1600,
+            T_max=1600,
             reference="  second review ",
         )
     assert (result.id, result.reaction_key, result.origin, result.version) == (
@@ -191,7 +191,7 @@ def test_an_edit_converts_to_si_bumps_the_version_and_is_recorded(store):
         "literature",
         2,
     )
-    assert list(result.changed) == ["A", "Ea", "t_max", "reference"]
+    assert list(result.changed) == ["A", "Ea", "T_max", "reference"]
     assert result.changed["Ea"] == (200_000.0, pytest.approx(48 * 4184.0, rel=1e-12))
     with store.session() as session:
         row = expression(session, expression_id)
@@ -199,7 +199,7 @@ def test_an_edit_converts_to_si_bumps_the_version_and_is_recorded(store):
     assert (row.A, row.T_max, row.reference, row.version) == (3.5e13, 1600.0, "second review", 2)
     assert row.provenance["given_units"] == {"Ea_units": "kcal/mol", "k_units": "s-1"}
     assert row.provenance["edited"]["by"] == "tester"
-    assert row.provenance["edited"]["fields"] == ["A", "Ea", "reference", "t_max"]
+    assert row.provenance["edited"]["fields"] == ["A", "Ea", "T_max", "reference"]
     assert (entry.action, entry.target, entry.detail["version"]) == (
         "expression.edit",
         "h2o2-dec",
@@ -210,7 +210,7 @@ def test_an_edit_converts_to_si_bumps_the_version_and_is_recorded(store):
 def test_the_same_values_change_nothing(store):
     with store.session(write=True) as session:
         expression_id = _literature_id(session, "h2o2-dec")
-        result = edit_expression(session, expression_id, expected_version=1, t_min=800.0)
+        result = edit_expression(session, expression_id, expected_version=1, T_min=800.0)
         assert (result.version, result.changed) == (1, {})
         assert expression(session, expression_id).version == 1
 
@@ -243,12 +243,12 @@ def test_every_problem_of_an_edit_is_named_at_once(store):
         literature = _literature_id(session, "h2o2-dec")
         with pytest.raises(BadInputError) as raised:
             edit_expression(
-                session, literature, expected_version=1, A=1e13, Ea_units="K", t_max=500
+                session, literature, expected_version=1, A=1e13, Ea_units="K", T_max=500
             )
         assert expression(session, literature).version == 1
     assert str(raised.value) == (
         f"expression {literature}: k_units: is empty; A needs its unit (e.g. cm3/molecule/s); "
-        "Ea_units: is given without Ea; give the Ea it is the unit of; t_max: 500 K is below "
-        "t_min 800 K; nothing was written"
+        "Ea_units: is given without Ea; give the Ea it is the unit of; T_max: 500 K is below "
+        "T_min 800 K; nothing was written"
     )
     assert raised.value.argument == "k_units"

@@ -14,7 +14,7 @@ def test_sets_with_their_counts_and_ranges(store):
         of_one = list_sets(session, reaction="CH4 + OH -> H2O + CH3")
     assert every == of_one  # tests/helpers/data.py measures oh-ch4 only
     s1, s2 = every
-    assert (s1.name, s1.reaction_key, s1.points, s1.t_min, s1.t_max) == (
+    assert (s1.name, s1.reaction_key, s1.points, s1.T_min, s1.T_max) == (
         "s1",
         "oh-ch4",
         3,

@@ -94,7 +94,7 @@ def test_reaction_detail_gathers_everything(session):
 
 def test_sets_and_their_sources(session):
     s1, s2 = set_summaries(session)
-    assert (s1.name, s1.points, s1.t_min, s1.t_max, s1.k_units) == (
+    assert (s1.name, s1.points, s1.T_min, s1.T_max, s1.k_units) == (
         "s1",
         3,
         300.0,
@@ -117,7 +117,7 @@ def test_expression_rows(session):
         ("oh-ch4", "literature"),
     ]
     dec = every[0]
-    assert (dec.A, dec.n, dec.Ea, dec.t_min, dec.t_max, dec.version) == (
+    assert (dec.A, dec.n, dec.Ea, dec.T_min, dec.T_max, dec.version) == (
         2.0e13,
         0.0,
         200_000.0,
