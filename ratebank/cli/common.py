@@ -102,6 +102,16 @@ def open_store_handle(check: bool = True) -> StoreHandle:
     return open_store(STATE.db, author=STATE.author, check=check)
 
 
+def store_file() -> str | None:
+    """The SQLite file of the store in use, which no output may replace; None for a server."""
+    from sqlalchemy.engine import make_url
+
+    from ratebank.store.engine import database_url
+
+    url = make_url(database_url(STATE.db))
+    return url.database if url.get_backend_name() == "sqlite" else None
+
+
 def _one_line(text: str) -> str:
     return text.strip()
 

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import say, store_session
+from ratebank.cli.common import say, store_file, store_session
 
 OUT_OPTION = typer.Option(
     ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
@@ -65,11 +65,13 @@ def plot(
     from ratebank.report.plots import check_plot_target, render_arrhenius
     from ratebank.services.plot_data import arrhenius_plot_data
 
-    check_plot_target(out, width, height, dpi)
+    check_plot_target(out, width, height, dpi, store_file())
     span = None if not t_range or t_range[0] is None else (t_range[0], t_range[1])
     with store_session() as session:
         data = arrhenius_plot_data(session, keys, preset=preset, k_units=k_units, t_range=span)
-    result = render_arrhenius(data, out, panels=panels, width=width, height=height, dpi=dpi)
+    result = render_arrhenius(
+        data, out, panels=panels, width=width, height=height, dpi=dpi, store_path=store_file()
+    )
     shown = ", ".join(d.key for d in data)
     say(_written(f"the Arrhenius plot of {len(data)} reaction(s) ({shown})", result))
 
@@ -94,10 +96,10 @@ def steric_plot(
     from ratebank.report.plots import check_plot_target, render_steric
     from ratebank.services.plot_data import steric_plot_data
 
-    check_plot_target(out, width, height, dpi)
+    check_plot_target(out, width, height, dpi, store_file())
     with store_session() as session:
         data = steric_plot_data(session, collision, reaction_class=reaction_class)
-    result = render_steric(data, out, width=width, height=height, dpi=dpi)
+    result = render_steric(data, out, width=width, height=height, dpi=dpi, store_path=store_file())
     say(
         _written(
             f"the steric factors of {data.count} reaction(s) in {len(data.classes)} class(es)",

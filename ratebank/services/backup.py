@@ -3,9 +3,9 @@
 A backup is made with SQLite's online backup API (Python's
 ``sqlite3.Connection.backup``) in a single step, so it is one consistent
 snapshot even while other processes keep writing (WAL readers do not block
-writers). It is written to a temporary file in the target folder, checked,
-synced and then moved into place, so the target is never half-written; an
-existing file is replaced only when asked (``force``).
+writers). It is written through :mod:`ratebank.safe_output` (staged beside
+the target, checked, synced and then moved into place), so the target is never
+half-written; an existing file is replaced only when asked (``force``).
 
 PostgreSQL stores are backed up with the server's own tools (``pg_dump`` and
 ``pg_restore``); :func:`backup_store` says so rather than half-doing it.
@@ -31,7 +31,8 @@ from typing import Any
 from sqlalchemy import JSON, DateTime, Engine, Text, cast, func, select, text
 from sqlalchemy.orm import Session
 
-from ratebank.errors import ConflictError, RatebankError, StoreRevisionError
+from ratebank import safe_output
+from ratebank.errors import ConflictError, OutputExistsError, RatebankError, StoreRevisionError
 from ratebank.services.store_access import StoreHandle, open_store
 from ratebank.store.engine import create_store_engine, is_sqlite, session_scope
 from ratebank.store.models import (
@@ -98,25 +99,6 @@ class RestoreResult:
     fingerprint: str
     audit_entries: int
     replaced_audit: list[dict[str, Any]] = field(default_factory=list)
-
-
-def _fsync_folder(folder: Path) -> None:
-    # Make the rename itself durable; not every platform lets a folder be opened.
-    try:
-        descriptor = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(descriptor)
-    except OSError:
-        pass
-    finally:
-        os.close(descriptor)
-
-
-def _remove_sqlite_file(path: Path) -> None:
-    for suffix in ("", "-journal", "-wal", "-shm"):
-        Path(f"{path}{suffix}").unlink(missing_ok=True)
 
 
 def _content(session: Session) -> tuple[dict[str, int], str]:
@@ -191,42 +173,38 @@ def _backup(store: StoreHandle, target: Path, *, force: bool) -> BackupResult:
     if not os.access(folder, os.W_OK | os.X_OK):
         raise BackupError(f"folder {folder} is not writable; nothing was written")
 
-    descriptor, temp_name = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=".tmp")
-    os.close(descriptor)
-    temp = Path(temp_name)
+    # The backup is for the same readers as the store, never more (and the umask applies).
+    mode_limit = stat.S_IMODE(source.stat().st_mode) if source.exists() else 0o777
     try:
-        # The backup is for the same readers as the store (mkstemp makes it private).
-        if source.exists():
-            os.chmod(temp, stat.S_IMODE(source.stat().st_mode))
-        copy = sqlite3.connect(temp)
-        try:
-            with store.engine.connect() as connection:
-                raw = connection.connection.dbapi_connection
-                assert raw is not None
-                # pages=-1: the whole store in one step, i.e. one read snapshot. Stepping
-                # in pieces would restart whenever another process writes in between.
-                raw.backup(copy, pages=-1)
-            # The copy carries the store's WAL flag; a backup should be one
-            # self-contained file.
-            copy.execute("PRAGMA journal_mode = DELETE")
-            check = copy.execute("PRAGMA quick_check").fetchone()
-            if not check or check[0] != "ok":
-                raise BackupError(f"the copy failed its integrity check ({check}); nothing written")
-            row = copy.execute("SELECT version_num FROM alembic_version").fetchone()
-            copied_revision = row[0] if row else None
-        finally:
-            copy.close()
-        counts, fingerprint = _read_content(temp)
-        with open(temp, "rb") as handle:
-            os.fsync(handle.fileno())
-        if force:
-            os.replace(temp, target)
-        else:
-            _link_without_replacing(temp, target)
-        _fsync_folder(folder)
-    except BaseException:
-        _remove_sqlite_file(temp)
-        raise
+        with safe_output.staged_files(
+            [target], store_path=source, replace=force, mode_limit=mode_limit
+        ) as stage:
+            temp = stage.path(target)
+            copy = sqlite3.connect(temp)
+            try:
+                with store.engine.connect() as connection:
+                    raw = connection.connection.dbapi_connection
+                    assert raw is not None
+                    # pages=-1: the whole store in one step, i.e. one read snapshot. Stepping
+                    # in pieces would restart whenever another process writes in between.
+                    raw.backup(copy, pages=-1)
+                # The copy carries the store's WAL flag; a backup should be one
+                # self-contained file.
+                copy.execute("PRAGMA journal_mode = DELETE")
+                check = copy.execute("PRAGMA quick_check").fetchone()
+                if not check or check[0] != "ok":
+                    raise BackupError(
+                        f"the copy failed its integrity check ({check}); nothing written"
+                    )
+                row = copy.execute("SELECT version_num FROM alembic_version").fetchone()
+                copied_revision = row[0] if row else None
+            finally:
+                copy.close()
+            counts, fingerprint = _read_content(temp)
+    except OutputExistsError:
+        raise BackupExistsError(
+            f"{target} already exists; choose another name, or give --force to replace it"
+        ) from None
     assert copied_revision is not None
     return BackupResult(
         path=target,
@@ -236,25 +214,6 @@ def _backup(store: StoreHandle, target: Path, *, force: bool) -> BackupResult:
         counts=counts,
         fingerprint=fingerprint,
     )
-
-
-def _link_without_replacing(temp: Path, target: Path) -> None:
-    """Move ``temp`` to ``target`` unless ``target`` appeared meanwhile."""
-    try:
-        os.link(temp, target)  # atomic, and fails if the target exists
-    except FileExistsError:
-        raise BackupExistsError(
-            f"{target} already exists; choose another name, or give --force to replace it"
-        ) from None
-    except OSError:
-        # A file system without hard links: the existence check above must do.
-        if target.exists():
-            raise BackupExistsError(
-                f"{target} already exists; choose another name, or give --force to replace it"
-            ) from None
-        os.replace(temp, target)
-        return
-    temp.unlink()
 
 
 def _read_content(path: Path) -> tuple[dict[str, int], str]:
