@@ -126,7 +126,7 @@ def set_class_rule(
         rule.updated_at = utc_now()
         rule.updated_by = author
         action = "steric.rule.change"
-    session.flush()
+    _flush_rule(session, reaction_class)
     audit.record(
         session,
         action,
@@ -137,6 +137,22 @@ def set_class_rule(
         source=source,
     )
     return _rule_view(rule)
+
+
+def _flush_rule(session: Session, reaction_class: str) -> None:
+    """Write the rule; a rule for the same class added meanwhile by someone else is a conflict."""
+    from sqlalchemy.exc import IntegrityError
+
+    try:
+        session.flush()
+    except IntegrityError as exc:
+        if "reaction_class" not in str(exc.orig):
+            raise
+        raise ConflictError(
+            f"a steric rule for class {reaction_class!r} was added by someone else at the same "
+            "moment; nothing was written; look at it (ratebank steric list) and repeat the "
+            "command with --expect-version if you still want to change it"
+        ) from None
 
 
 def remove_class_rule(session: Session, reaction_class: str) -> None:
