@@ -112,6 +112,22 @@ def store_file() -> str | None:
     return url.database if url.get_backend_name() == "sqlite" else None
 
 
+def number(text: str | float) -> float:
+    """A number given on the command line, in the one syntax the importers accept too.
+
+    Used as the ``parser`` of every number option, so that ``1_000``, digits of
+    other scripts, ``inf`` and ``nan`` are refused with the reason.
+    """
+    if isinstance(text, int | float):  # a default value, not typed by anyone
+        return float(text)
+    from ratebank.services.input_rules import NUMBER_PADDING, number_text_problem
+
+    problem = number_text_problem(text)
+    if problem is not None:
+        raise typer.BadParameter(problem)
+    return float(text.strip(NUMBER_PADDING))
+
+
 def _one_line(text: str) -> str:
     return text.strip()
 

@@ -10,15 +10,15 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import say, store_file, store_session
+from ratebank.cli.common import number, say, store_file, store_session
 
 OUT_OPTION = typer.Option(
     ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
 )
-WIDTH_OPTION = typer.Option(7.0, "--width", help="Figure width in inches.")
-HEIGHT_OPTION = typer.Option(5.0, "--height", help="Figure height in inches.")
+WIDTH_OPTION = typer.Option(7.0, "--width", help="Figure width in inches.", parser=number)
+HEIGHT_OPTION = typer.Option(5.0, "--height", help="Figure height in inches.", parser=number)
 DPI_OPTION = typer.Option(
-    150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels."
+    150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels.", parser=number
 )
 
 
@@ -47,6 +47,7 @@ def plot(
         help="Temperature span TMIN TMAX [K] (default: the data and expression ranges "
         "with a margin).",
         show_default=False,
+        parser=number,
     ),
     panels: bool = typer.Option(False, "--panels", help="One panel per reaction."),
     width: float = WIDTH_OPTION,

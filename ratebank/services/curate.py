@@ -77,7 +77,7 @@ def find_reaction(session: Session, key_or_equation: str) -> Reaction:
     reaction = session.scalar(select(Reaction).where(Reaction.key == key_or_equation))
     if reaction is not None:
         return reaction
-    if "->" in key_or_equation or "→" in key_or_equation:
+    if "->" in key_or_equation:
         from ratebank.science.equation import parse_equation
 
         canonical = parse_equation(key_or_equation).canonical
@@ -244,7 +244,7 @@ class LazyReactionResolver(v.ReactionResolver):
         wanted_keys = [t for t in texts if t and t not in self.by_key and t not in self._cache]
         equations: dict[str, str] = {}
         for text in wanted_keys:
-            if "->" in text or "→" in text:
+            if "->" in text:
                 from ratebank.science.equation import parse_equation
 
                 try:

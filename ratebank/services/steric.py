@@ -91,6 +91,10 @@ def set_class_rule(
     _check_factor(uncertainty_factor)
     if not reaction_class.strip():
         raise RatebankError("reaction class must not be empty")
+    from ratebank.services.input_rules import name_problem
+
+    if (problem := name_problem(reaction_class, "reaction class")) is not None:
+        raise RatebankError(problem)
     author = session.info.get("author")
     rule = session.scalar(select(StericRule).where(StericRule.reaction_class == reaction_class))
     if rule is None:

@@ -11,12 +11,12 @@ name their lines.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any, NamedTuple
 
 from ratebank.errors import EquationError, FormulaError, UnitError
+from ratebank.services import input_rules
 
 SPECIES_COLUMNS = (
     "name",
@@ -154,19 +154,21 @@ def parse_number(
     *,
     positive: bool = False,
     minimum: float | None = None,
+    temperature: bool = False,
     what: str = "a number",
 ) -> float:
-    """Parse a finite float; raises ValueError with the expected form."""
-    try:
-        value = float(text)
-    except ValueError:
-        raise ValueError(f"{text!r} is not a number; expected {what}") from None
-    if not math.isfinite(value):
-        raise ValueError(f"{text!r} is not a finite number; expected {what}")
+    """Parse a number in the accepted syntax (:mod:`.input_rules`); ValueError otherwise.
+
+    ``temperature`` also requires the range of
+    :data:`~ratebank.services.input_rules.TEMPERATURE_RANGE_K`.
+    """
+    value = input_rules.parse_number(text, what)
     if positive and value <= 0:
         raise ValueError(f"{text} must be greater than zero; expected {what}")
     if minimum is not None and value < minimum:
         raise ValueError(f"{text} is below {minimum:g}; expected {what}")
+    if temperature and (problem := input_rules.temperature_problem(value)) is not None:
+        raise ValueError(f"{problem}; expected {what}")
     return value
 
 
@@ -222,6 +224,9 @@ def validate_species(
         if name is None:
             problems.add(line, "name", "is empty; expected the species name")
         elif too_long(problems, line, "name", name):
+            name = None
+        elif (problem := input_rules.species_name_problem(name)) is not None:
+            problems.add(line, "name", problem)
             name = None
         elif name in seen:
             where = f" (first on line {seen[name]})" if seen[name] is not None else ""
@@ -354,6 +359,9 @@ def validate_reactions(
         elif any(ch.isspace() for ch in key):
             problems.add(line, "key", f"{key!r} contains spaces; expected a key without spaces")
             key = None
+        elif (problem := input_rules.name_problem(key, "reaction key")) is not None:
+            problems.add(line, "key", problem)
+            key = None
         elif key in seen_keys:
             problems.add(line, "key", f"reaction key {key!r} appears twice in the input")
         elif key in existing_keys:
@@ -386,6 +394,20 @@ def validate_reactions(
         if too_long(problems, line, "equation", canonical) or too_long(
             problems, line, "class", cell(row, "class")
         ):
+            continue
+        if equation.reactants == equation.products:
+            problems.add(
+                line,
+                "equation",
+                f"both sides of {canonical!r} are the same; a reaction turns its reactants "
+                "into something else",
+            )
+            continue
+        reaction_class = cell(row, "class")
+        if reaction_class is not None and (
+            problem := input_rules.name_problem(reaction_class, "reaction class")
+        ):
+            problems.add(line, "class", problem)
             continue
         if equation.order > 3 or equation.order < 1:
             problems.add(
@@ -456,7 +478,7 @@ class ReactionResolver:
         result: ReactionRef | str
         if text in self.by_key:
             result = self.by_key[text]
-        elif "->" in text or "→" in text:
+        elif "->" in text:
             from ratebank.science.equation import parse_equation
 
             try:
@@ -513,8 +535,13 @@ def _column_numbers(
     required: bool,
     positive: bool,
     what: str,
+    temperature: bool = False,
 ):
-    """Parse a column of number texts with numpy; report the bad cells by line."""
+    """Parse a column of number texts with numpy; report the bad cells by line.
+
+    The syntax is :mod:`.input_rules`' (the same as :func:`parse_number`'s);
+    numpy reads the column in one pass and only suspect cells are looked at.
+    """
     import numpy as np
 
     n = len(texts)
@@ -536,20 +563,26 @@ def _column_numbers(
             try:
                 values[i] = float(text)
             except ValueError:
-                problems.add(lines[i], column, f"{text.strip()!r} is not a number; expected {what}")
-                present[i] = False
-    finite = np.isfinite(values)
-    for i in np.flatnonzero(present & ~finite):
-        problems.add(
-            lines[i], column, f"{texts[i].strip()!r} is not a finite number; expected {what}"
-        )
+                values[i] = np.nan
+    given = present.copy()
+    for i, message in input_rules.number_problems(texts, values, present):
+        problems.add(lines[i], column, f"{message}; expected {what}")
+        present[i] = False
+        values[i] = np.nan
     if positive:
-        for i in np.flatnonzero(present & finite & (values <= 0)):
+        for i in np.flatnonzero(present & (values <= 0)):
             problems.add(
                 lines[i], column, f"{texts[i].strip()} must be greater than zero; expected {what}"
             )
+    if temperature:
+        low, high = input_rules.TEMPERATURE_RANGE_K
+        with np.errstate(invalid="ignore"):
+            outside = present & (values > 0) & ((values < low) | (values > high))
+        for i in np.flatnonzero(outside):
+            problem = input_rules.temperature_problem(float(values[i]))
+            problems.add(lines[i], column, f"{problem}; expected {what}")
     if required:
-        for i in np.flatnonzero(~present):
+        for i in np.flatnonzero(~given):
             problems.add(lines[i], column, f"is empty; expected {what}")
     return values
 
@@ -661,6 +694,7 @@ class MeasurementValidator:
             required=True,
             positive=True,
             what="a temperature in K greater than zero",
+            temperature=True,
         )
         rate_constant = _column_numbers(
             columns["k"],
@@ -755,6 +789,9 @@ class MeasurementValidator:
                 record = self._new_set(name, row, lines[i])
             if name in existing:
                 problems.add(lines[i], "set", f"measurement set {name!r} is already in the store")
+                record.valid = False
+            elif (problem := input_rules.name_problem(name, "set name")) is not None:
+                problems.add(lines[i], "set", problem)
                 record.valid = False
             self.by_name[name] = len(self.sets)
             self.sets.append(record)
@@ -948,8 +985,24 @@ def validate_expressions(
                 problems.add(line, "k_units", str(exc))
         if a_value is None and n_value not in (None, 0.0):
             problems.add(line, "n", "is given without A; leave n empty when A is to be estimated")
-        t_min = _number(problems, line, row, "T_min_K", positive=True, what="a temperature in K")
-        t_max = _number(problems, line, row, "T_max_K", positive=True, what="a temperature in K")
+        t_min = _number(
+            problems,
+            line,
+            row,
+            "T_min_K",
+            positive=True,
+            temperature=True,
+            what="a temperature in K",
+        )
+        t_max = _number(
+            problems,
+            line,
+            row,
+            "T_max_K",
+            positive=True,
+            temperature=True,
+            what="a temperature in K",
+        )
         if t_min is not None and t_max is not None and t_max < t_min:
             problems.add(line, "T_max_K", f"{t_max:g} K is below T_min_K {t_min:g} K")
         factor = _number(
