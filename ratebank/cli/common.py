@@ -116,16 +116,25 @@ def number(text: str | float) -> float:
     """A number given on the command line, in the one syntax the importers accept too.
 
     Used as the ``parser`` of every number option, so that ``1_000``, digits of
-    other scripts, ``inf`` and ``nan`` are refused with the reason.
+    other scripts and values too close to zero are refused with the reason;
+    ``inf`` and ``nan`` are left to the command, which refuses them in one line
+    naming the field.
     """
     if isinstance(text, int | float):  # a default value, not typed by anyone
         return float(text)
     from ratebank.services.input_rules import NUMBER_PADDING, number_text_problem
 
     problem = number_text_problem(text)
-    if problem is not None:
-        raise typer.BadParameter(problem)
-    return float(text.strip(NUMBER_PADDING))
+    if problem is None:
+        return float(text.strip(NUMBER_PADDING))
+    try:
+        value = float(text)
+    except ValueError:
+        value = 0.0
+    if value != value or value in (float("inf"), float("-inf")):
+        # inf and nan reach the command, whose check names the field in one line
+        return value
+    raise typer.BadParameter(problem)
 
 
 def _one_line(text: str) -> str:

@@ -250,6 +250,7 @@ def _validated_changes(
     """The new field values in SI units; every problem is reported at once."""
     from ratebank.errors import UnitError
     from ratebank.science.units import parse_energy_unit, parse_rate_unit
+    from ratebank.services.input_rules import temperature_problem
 
     problems: list[str] = []
     new: dict[str, Any] = {}
@@ -294,6 +295,8 @@ def _validated_changes(
         if value is not None:
             if not _finite(value) or value <= 0:
                 problems.append(f"{name}: {value:g} K must be a finite temperature above zero")
+            elif (outside := temperature_problem(value)) is not None:
+                problems.append(f"{name}: {outside}")
             else:
                 new[name] = float(value)
     if uncertainty_factor is not None:
