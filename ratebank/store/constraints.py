@@ -83,7 +83,7 @@ def explain_integrity_error(exc: BaseException) -> str:
     if match := _SQLITE_UNIQUE.search(message):
         return _duplicate(match["table"], match["column"])
     if match := _SQLITE_CHECK.search(message):
-        return _check(None, match["name"])
+        return explain_constraint(match["name"], None)
     if match := _SQLITE_NOT_NULL.search(message):
         return _missing(match["table"], match["column"])
     if "FOREIGN KEY constraint failed" in message:
@@ -98,6 +98,8 @@ def explain_constraint(name: str, table: str | None) -> str:
             return explain(name[len(prefix) :], table)
     if name.startswith("pk_"):
         return _duplicate(name[3:], "id")
+    if name in CHECKS:  # a check named without the convention's prefix
+        return _check(table, name)
     return _unknown(table)
 
 
