@@ -291,3 +291,63 @@ def test_a_folder_target_that_is_a_file_or_would_replace_the_store_is_refused(tm
     with pytest.raises(OutputError, match="is the store itself"):
         safe_output.write_folder(package, {"store.db": "x"}, store_path=store)
     assert store.read_bytes().startswith(b"SQLite format 3")
+
+
+# --------------------------------------------------------------------------- killed folder writes
+
+_FOLDER_WRITER = """
+import sys
+from ratebank import safe_output
+safe_output.EXCHANGE_AVAILABLE = safe_output.EXCHANGE_AVAILABLE and sys.argv[2] == "exchange"
+safe_output.write_folder(sys.argv[1], {"a.csv": "new a", "b.json": "new b"})
+"""
+FOLDER_STEPS = {
+    "exchange": ["stage-created", "written:a.csv", "written:b.json", "swapped", "cleaned"],
+    "move-aside": [
+        "stage-created",
+        "written:a.csv",
+        "written:b.json",
+        "committed",
+        "moved:old",
+        "moved:package",
+        "cleaned",
+    ],
+}
+OLD_SET = {"a.csv": "old a", "b.json": "old b"}
+NEW_SET = {"a.csv": "new a", "b.json": "new b"}
+
+
+def _folder_set(folder: Path) -> dict[str, str] | None:
+    if not folder.exists():
+        return None
+    return {p.name: p.read_text() for p in folder.iterdir()}
+
+
+@pytest.mark.parametrize(
+    ("mode", "step"), [(mode, step) for mode, steps in FOLDER_STEPS.items() for step in steps]
+)
+def test_a_folder_write_killed_after_any_step_leaves_the_old_or_the_new_set(tmp_path, mode, step):
+    if mode == "exchange" and not safe_output.EXCHANGE_AVAILABLE:
+        pytest.skip("no atomic exchange of names on this system")
+    target = tmp_path / "package"
+    target.mkdir()
+    for name, content in OLD_SET.items():
+        (target / name).write_text(content)
+    killed = subprocess.run(
+        [sys.executable, "-c", _FOLDER_WRITER, str(target), mode],
+        env={**os.environ, safe_output.KILL_AFTER_VARIABLE: step},
+        capture_output=True,
+        text=True,
+        timeout=60,
+    )
+    assert killed.returncode == -9, killed.stderr
+    steps = FOLDER_STEPS[mode]
+    done = steps.index(step) >= steps.index("swapped" if mode == "exchange" else "committed")
+    seen = _folder_set(target)
+    if step == "moved:old":
+        assert seen is None  # moved aside, not mixed; the next run puts the new set in
+    else:
+        assert seen == (NEW_SET if done and step != "committed" else OLD_SET)
+    safe_output.finish_interrupted(target)
+    assert _folder_set(target) == (NEW_SET if done else OLD_SET)
+    assert [p.name for p in tmp_path.iterdir()] == ["package"]
