@@ -131,3 +131,11 @@ class ImportValidationError(BadInputError):
         if self.total > len(problems):
             more = f"\n... and {self.total - len(problems)} more problems"
         super().__init__(f"{path}: {self.total} problem(s), nothing was imported\n{shown}{more}")
+
+
+class OutputError(RatebankError):
+    """A file cannot be written where it was asked to; the message names the path."""
+
+
+class OutputExistsError(OutputError):
+    """The file to be written appeared meanwhile and may not be replaced."""

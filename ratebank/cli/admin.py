@@ -9,7 +9,7 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import STATE, say
+from ratebank.cli.common import STATE, number, say
 
 _FIELD_WORDS = {
     "A": "A",
@@ -36,15 +36,24 @@ def expressions_edit(
         "--expect-version",
         help="The version you read; the edit is refused if someone changed it since.",
     ),
-    A: float = typer.Option(None, "--A", help="Pre-exponential factor, in --k-units times K^-n."),
+    A: float = typer.Option(
+        None, "--A", help="Pre-exponential factor, in --k-units times K^-n.", parser=number
+    ),
     k_units: str = typer.Option(None, "--k-units", help="Unit of --A, e.g. cm3/molecule/s."),
-    n: float = typer.Option(None, "--n", help="Temperature exponent."),
-    Ea: float = typer.Option(None, "--Ea", help="Activation energy, in --Ea-units."),
+    n: float = typer.Option(None, "--n", help="Temperature exponent.", parser=number),
+    Ea: float = typer.Option(None, "--Ea", help="Activation energy, in --Ea-units.", parser=number),
     Ea_units: str = typer.Option(None, "--Ea-units", help="Unit of --Ea, e.g. kJ/mol or K."),
-    t_min: float = typer.Option(None, "--t-min", help="Lower end of the valid range [K]."),
-    t_max: float = typer.Option(None, "--t-max", help="Upper end of the valid range [K]."),
+    t_min: float = typer.Option(
+        None, "--t-min", help="Lower end of the valid range [K].", parser=number
+    ),
+    t_max: float = typer.Option(
+        None, "--t-max", help="Upper end of the valid range [K].", parser=number
+    ),
     uncertainty_factor: float = typer.Option(
-        None, "--uncertainty-factor", help="Factor (at least 1) by which k is uncertain."
+        None,
+        "--uncertainty-factor",
+        help="Factor (at least 1) by which k is uncertain.",
+        parser=number,
     ),
     reference: str = typer.Option(None, "--reference", help="Where the numbers come from."),
 ) -> None:

@@ -16,7 +16,7 @@ from ratebank.cli import admin as admin_commands
 from ratebank.cli import common
 from ratebank.cli import mechanism as mechanism_commands
 from ratebank.cli import plot as plot_commands
-from ratebank.cli.common import STATE, RatebankGroup, print_json, say, show, store_session
+from ratebank.cli.common import STATE, RatebankGroup, number, print_json, say, show, store_session
 from ratebank.cli.progress import progress_bar
 
 HELP = """Curate gas-phase rate parameters: store species, reactions and measured k(T);
@@ -181,17 +181,32 @@ def demo(
 def species_add(
     name: str = typer.Argument(..., help="Species name as used in equations, e.g. OH."),
     formula: str = typer.Argument(..., help="Formula, e.g. HO or CH3OH."),
-    molar_mass: float = typer.Option(None, "--molar-mass", help="g/mol (default: from formula)."),
-    diameter: float = typer.Option(None, "--diameter", help="Collision diameter in Å."),
+    molar_mass: float = typer.Option(
+        None, "--molar-mass", help="g/mol (default: from formula).", parser=number
+    ),
+    diameter: float = typer.Option(
+        None, "--diameter", help="Collision diameter in Å.", parser=number
+    ),
     diameter_kind: str = typer.Option(
         None, "--diameter-kind", help="hard-sphere or lennard-jones."
     ),
-    well_depth: float = typer.Option(None, "--well-depth", help="Well depth ε/k_B in K."),
-    critical_temperature: float = typer.Option(None, "--tc", help="Critical temperature in K."),
-    critical_pressure: float = typer.Option(None, "--pc", help="Critical pressure in bar."),
-    acentric_factor: float = typer.Option(None, "--acentric", help="Acentric factor."),
+    well_depth: float = typer.Option(
+        None, "--well-depth", help="Well depth ε/k_B in K.", parser=number
+    ),
+    critical_temperature: float = typer.Option(
+        None, "--tc", help="Critical temperature in K.", parser=number
+    ),
+    critical_pressure: float = typer.Option(
+        None, "--pc", help="Critical pressure in bar.", parser=number
+    ),
+    acentric_factor: float = typer.Option(
+        None, "--acentric", help="Acentric factor.", parser=number
+    ),
     boiling_volume: float = typer.Option(
-        None, "--boiling-volume", help="Molar volume at the normal boiling point, cm3/mol."
+        None,
+        "--boiling-volume",
+        help="Molar volume at the normal boiling point, cm3/mol.",
+        parser=number,
     ),
     source: str = typer.Option(None, "--source", help="Where the numbers come from."),
 ) -> None:
@@ -363,7 +378,11 @@ def reactions_list(
 def reactions_show(
     reaction: str = typer.Argument(..., help="Reaction key or equation."),
     temperatures: list[float] = typer.Option(
-        None, "-T", "--temperature", help="Temperatures [K] for the k table (repeatable)."
+        None,
+        "-T",
+        "--temperature",
+        help="Temperatures [K] for the k table (repeatable).",
+        parser=number,
     ),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,

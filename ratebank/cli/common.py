@@ -102,6 +102,41 @@ def open_store_handle(check: bool = True) -> StoreHandle:
     return open_store(STATE.db, author=STATE.author, check=check)
 
 
+def store_file() -> str | None:
+    """The SQLite file of the store in use, which no output may replace; None for a server."""
+    from sqlalchemy.engine import make_url
+
+    from ratebank.store.engine import database_url
+
+    url = make_url(database_url(STATE.db))
+    return url.database if url.get_backend_name() == "sqlite" else None
+
+
+def number(text: str | float) -> float:
+    """A number given on the command line, in the one syntax the importers accept too.
+
+    Used as the ``parser`` of every number option, so that ``1_000``, digits of
+    other scripts and values too close to zero are refused with the reason;
+    ``inf`` and ``nan`` are left to the command, which refuses them in one line
+    naming the field.
+    """
+    if isinstance(text, int | float):  # a default value, not typed by anyone
+        return float(text)
+    from ratebank.services.input_rules import NUMBER_PADDING, number_text_problem
+
+    problem = number_text_problem(text)
+    if problem is None:
+        return float(text.strip(NUMBER_PADDING))
+    try:
+        value = float(text)
+    except ValueError:
+        value = 0.0
+    if value != value or value in (float("inf"), float("-inf")):
+        # inf and nan reach the command, whose check names the field in one line
+        return value
+    raise typer.BadParameter(problem)
+
+
 def _one_line(text: str) -> str:
     return text.strip()
 
@@ -194,6 +229,25 @@ def _is_command_line_signal(exc: Exception) -> bool:
     return hasattr(exc, "show") and hasattr(exc, "exit_code")
 
 
+def _as_library_error(exc: Exception) -> Exception:
+    """A driver's own error (bulk inserts use the driver directly) as SQLAlchemy's wrapper."""
+    import sqlite3
+
+    from sqlalchemy.exc import DBAPIError
+
+    bases: list[type[Exception]] = [sqlite3.Error]
+    try:
+        import psycopg
+
+        bases.append(psycopg.Error)
+    except ImportError:  # pragma: no cover - psycopg is a dependency
+        pass
+    for base in bases:
+        if isinstance(exc, base):
+            return DBAPIError.instance(None, None, exc, base)
+    return exc
+
+
 def translate_exception(exc: Exception) -> str:
     """A one-line message for a library error, naming what to do next."""
     from ratebank.store.engine import database_url, explain_sqlite_error, mask_url
@@ -216,6 +270,7 @@ def translate_exception(exc: Exception) -> str:
             "someone else changed a record you were editing at the same time; nothing was "
             "written; read it again before changing it"
         )
+    exc = _as_library_error(exc)
     if isinstance(exc, SQLAlchemyError):
         orig = getattr(exc, "orig", None)
         detail = str(orig) if orig is not None else str(exc)
@@ -229,10 +284,17 @@ def translate_exception(exc: Exception) -> str:
             if explained is not None:
                 return str(explained)
         if isinstance(exc, IntegrityError):
-            return f"the store refused the change: {detail}; nothing was written"
+            from ratebank.store.constraints import explain_integrity_error
+
+            return explain_integrity_error(exc)
         if isinstance(exc, DataError):
             # A value validation let through but the database cannot hold (too long, NUL).
             return f"the store refused a value: {detail}; nothing was written"
+        if getattr(orig, "sqlstate", None) == "53100":  # PostgreSQL: disk full
+            return (
+                "the database server has no space left on its disk; nothing was written; ask "
+                "its administrator to free some, then run the command again"
+            )
         if isinstance(exc, DBAPIError) and exc.connection_invalidated:
             return (
                 f"lost the connection to the database server ({detail}); nothing was "

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import STATE, print_json, say, show, store_session
+from ratebank.cli.common import STATE, number, print_json, say, show, store_session
 from ratebank.cli.progress import progress_bar
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
@@ -48,7 +48,7 @@ def fit(
         help="arrhenius (A, Ea), modified (A, n, Ea) or auto (n only when the data support it).",
     ),
     fixed_n: float = typer.Option(
-        None, "--fixed-n", help="Fit A and Ea with n held at this value."
+        None, "--fixed-n", help="Fit A and Ea with n held at this value.", parser=number
     ),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
@@ -77,25 +77,29 @@ def estimate(
     keys: list[str] = typer.Argument(
         None, help="Reaction keys (default: every bimolecular reaction with only an Ea)."
     ),
-    steric: float = typer.Option(None, "--steric", help="Steric factor P for these reactions."),
+    steric: float = typer.Option(
+        None, "--steric", help="Steric factor P for these reactions.", parser=number
+    ),
     t_ref: float = typer.Option(
-        None, "--t-ref", help="Temperature [K] at which the activation energy holds."
+        None, "--t-ref", help="Temperature [K] at which the activation energy holds.", parser=number
     ),
     collision: str = COLLISION_OPTION,
     reaction_class: str = typer.Option(None, "--class", help="Only reactions of this class."),
     fallback_steric: float = typer.Option(
-        None, "--fallback-steric", help="P for reactions no other rule covers."
+        None, "--fallback-steric", help="P for reactions no other rule covers.", parser=number
     ),
     uncertainty_factor: float = typer.Option(
         None,
         "--uncertainty-factor",
         help="Uncertainty factor when no class spread is known (default 10).",
+        parser=number,
     ),
     t_range: tuple[float, float] = typer.Option(
         None,
         "--t-range",
         help="Valid range TMIN TMAX [K] for estimates that state none.",
         show_default=False,
+        parser=number,
     ),
     keep_going: bool = typer.Option(
         False, "--keep-going", help="Store what can be estimated even if some cannot."
@@ -165,6 +169,7 @@ def check(
         "--t-range",
         help="Range TMIN TMAX [K] the mechanism will be used over (flags extrapolation).",
         show_default=False,
+        parser=number,
     ),
     ignore: list[str] = typer.Option(None, "--ignore", help="A check not to report (repeatable)."),
     keys: list[str] = typer.Argument(None, help="Reaction keys (default: all)."),
@@ -205,7 +210,9 @@ def check(
 
 def rate(
     key: str = typer.Argument(..., help="Reaction key or equation."),
-    temperatures: list[float] = typer.Option(..., "-T", "--temperature", help="Temperature [K]."),
+    temperatures: list[float] = typer.Option(
+        ..., "-T", "--temperature", help="Temperature [K].", parser=number
+    ),
     k_units: str = typer.Option(None, "--k-units", help="Unit of k (default: from --units)."),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
@@ -258,6 +265,7 @@ def export(
         "--linearise-at",
         help="With --form arrhenius: T [K] at which n != 0 rows are "
         "replaced by their local two-parameter form.",
+        parser=number,
     ),
     leave_out_gaps: bool = typer.Option(
         False, "--leave-out-gaps", help="Export even if some reactions have no expression."
@@ -314,9 +322,12 @@ def steric_list(as_json: bool = JSON_OPTION) -> None:
 @steric_app.command("set-class")
 def steric_set_class(
     reaction_class: str = typer.Argument(..., help="Reaction class."),
-    value: float = typer.Argument(..., help="Steric factor P."),
+    value: float = typer.Argument(..., help="Steric factor P.", parser=number),
     uncertainty_factor: float = typer.Option(
-        None, "--uncertainty-factor", help="Uncertainty factor of estimates using this rule."
+        None,
+        "--uncertainty-factor",
+        help="Uncertainty factor of estimates using this rule.",
+        parser=number,
     ),
     source: str = typer.Option(None, "--source", help="Where the value comes from."),
     note: str = typer.Option(None, "--note", help="Free text."),
@@ -366,7 +377,7 @@ def steric_clear_class(reaction_class: str = typer.Argument(..., help="Reaction 
 @steric_app.command("set-reaction")
 def steric_set_reaction(
     key: str = typer.Argument(..., help="Reaction key or equation."),
-    value: float = typer.Argument(..., help="Steric factor P."),
+    value: float = typer.Argument(..., help="Steric factor P.", parser=number),
     source: str = typer.Option(None, "--source", help="Where the value comes from."),
     definition: str = typer.Option(
         "local",

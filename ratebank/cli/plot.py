@@ -10,15 +10,15 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import say, store_session
+from ratebank.cli.common import number, say, store_file, store_session
 
 OUT_OPTION = typer.Option(
     ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
 )
-WIDTH_OPTION = typer.Option(7.0, "--width", help="Figure width in inches.")
-HEIGHT_OPTION = typer.Option(5.0, "--height", help="Figure height in inches.")
+WIDTH_OPTION = typer.Option(7.0, "--width", help="Figure width in inches.", parser=number)
+HEIGHT_OPTION = typer.Option(5.0, "--height", help="Figure height in inches.", parser=number)
 DPI_OPTION = typer.Option(
-    150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels."
+    150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels.", parser=number
 )
 
 
@@ -47,6 +47,7 @@ def plot(
         help="Temperature span TMIN TMAX [K] (default: the data and expression ranges "
         "with a margin).",
         show_default=False,
+        parser=number,
     ),
     panels: bool = typer.Option(False, "--panels", help="One panel per reaction."),
     width: float = WIDTH_OPTION,
@@ -65,11 +66,13 @@ def plot(
     from ratebank.report.plots import check_plot_target, render_arrhenius
     from ratebank.services.plot_data import arrhenius_plot_data
 
-    check_plot_target(out, width, height, dpi)
+    check_plot_target(out, width, height, dpi, store_file())
     span = None if not t_range or t_range[0] is None else (t_range[0], t_range[1])
     with store_session() as session:
         data = arrhenius_plot_data(session, keys, preset=preset, k_units=k_units, t_range=span)
-    result = render_arrhenius(data, out, panels=panels, width=width, height=height, dpi=dpi)
+    result = render_arrhenius(
+        data, out, panels=panels, width=width, height=height, dpi=dpi, store_path=store_file()
+    )
     shown = ", ".join(d.key for d in data)
     say(_written(f"the Arrhenius plot of {len(data)} reaction(s) ({shown})", result))
 
@@ -94,10 +97,10 @@ def steric_plot(
     from ratebank.report.plots import check_plot_target, render_steric
     from ratebank.services.plot_data import steric_plot_data
 
-    check_plot_target(out, width, height, dpi)
+    check_plot_target(out, width, height, dpi, store_file())
     with store_session() as session:
         data = steric_plot_data(session, collision, reaction_class=reaction_class)
-    result = render_steric(data, out, width=width, height=height, dpi=dpi)
+    result = render_steric(data, out, width=width, height=height, dpi=dpi, store_path=store_file())
     say(
         _written(
             f"the steric factors of {data.count} reaction(s) in {len(data.classes)} class(es)",

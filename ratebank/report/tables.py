@@ -16,6 +16,7 @@ if TYPE_CHECKING:  # the overview pulls in the checks; a listing should not pay 
     from ratebank.services.overview import ReactionOverview
 
 from ratebank.report.format import sig, trange
+from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
 from ratebank.services.validate import ImportSummary
 from ratebank.store.listings import (
     ExpressionSummary,
@@ -56,6 +57,10 @@ def species_records(rows: Sequence[SpeciesSummary]) -> list[dict[str, Any]]:
             "critical_pressure_bar": _opt(s.critical_pressure, BAR_PER_PA),
             "acentric_factor": s.acentric_factor,
             "boiling_volume_cm3_per_mol": _opt(s.boiling_volume, CM3_PER_M3),
+            "boiling_temperature_K": s.boiling_temperature,
+            "dipole_moment_debye": _opt(s.dipole_moment, 1.0 / DEBYE),
+            "polarizability_angstrom3": _opt(s.polarizability, ANGSTROM_PER_M**3),
+            "ionization_energy_eV": _opt(s.ionization_energy, 1.0 / ELECTRONVOLT_MOLAR),
             "source": s.source,
         }
         for s in rows

@@ -34,7 +34,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ratebank.errors import DiameterError
-from ratebank.science.constants import ANGSTROM, ATMOSPHERE, SPEED_OF_LIGHT
+from ratebank.science.constants import ANGSTROM, ATMOSPHERE, DEBYE
 
 __all__ = [
     "DEBYE",
@@ -104,9 +104,6 @@ _SOURCES: dict[str, str] = {
 #: Formulas of quantum gases, whose de Broglie wavelength at low temperature
 #: is not small against the diameter, so corresponding states fail for them.
 QUANTUM_GASES: frozenset[str] = frozenset({"H2", "D2", "HD", "He"})
-
-#: One debye [C m]: 1e-21 / c (exact, from the speed of light).
-DEBYE: float = 1.0e-21 / SPEED_OF_LIGHT
 
 #: Dipole moment [C m] from which a molecule counts as strongly polar, so that
 #: the nonpolar correlations are not used (common practice: a Stockmayer or

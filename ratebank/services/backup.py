@@ -3,9 +3,9 @@
 A backup is made with SQLite's online backup API (Python's
 ``sqlite3.Connection.backup``) in a single step, so it is one consistent
 snapshot even while other processes keep writing (WAL readers do not block
-writers). It is written to a temporary file in the target folder, checked,
-synced and then moved into place, so the target is never half-written; an
-existing file is replaced only when asked (``force``).
+writers). It is written through :mod:`ratebank.safe_output` (staged beside
+the target, checked, synced and then moved into place), so the target is never
+half-written; an existing file is replaced only when asked (``force``).
 
 PostgreSQL stores are backed up with the server's own tools (``pg_dump`` and
 ``pg_restore``); :func:`backup_store` says so rather than half-doing it.
@@ -29,8 +29,8 @@ from typing import Any
 
 from sqlalchemy import Engine
 
-from ratebank import __version__
-from ratebank.errors import ConflictError, RefusedError, StoreRevisionError
+from ratebank import __version__, safe_output
+from ratebank.errors import ConflictError, OutputExistsError, RefusedError, StoreRevisionError
 from ratebank.services.store_access import StoreHandle, open_store
 from ratebank.store import audit
 from ratebank.store.engine import create_store_engine, is_sqlite, session_scope
@@ -99,25 +99,6 @@ class RestoreResult:
     fingerprint: str
     audit_entries: int
     replaced_audit: list[dict[str, Any]] = field(default_factory=list)
-
-
-def _fsync_folder(folder: Path) -> None:
-    # Make the rename itself durable; not every platform lets a folder be opened.
-    try:
-        descriptor = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(descriptor)
-    except OSError:
-        pass
-    finally:
-        os.close(descriptor)
-
-
-def _remove_sqlite_file(path: Path) -> None:
-    for suffix in ("", "-journal", "-wal", "-shm"):
-        Path(f"{path}{suffix}").unlink(missing_ok=True)
 
 
 # --------------------------------------------------------------------------- backup
@@ -205,52 +186,25 @@ def _check_backup_target(source: Path, target: Path, *, force: bool) -> None:
 def _write_backup(
     engine: Engine, source: Path, target: Path, *, force: bool
 ) -> tuple[str, dict[str, int], str]:
-    """Snapshot the store into a temporary file beside ``target``, check it, sync it and move
-    it into place; (revision, counts, fingerprint) of the copy."""
-    folder = target.parent
-    descriptor, temp_name = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=".tmp")
-    os.close(descriptor)
-    temp = Path(temp_name)
+    """Snapshot the store into a file staged beside ``target``, check it and move it into
+    place (:mod:`ratebank.safe_output`); (revision, counts, fingerprint) of the copy."""
+    # The backup is for the same readers as the store, never more (and the umask applies).
+    mode_limit = stat.S_IMODE(source.stat().st_mode) if source.exists() else 0o777
     try:
-        # The backup is for the same readers as the store (mkstemp makes it private).
-        if source.exists():
-            os.chmod(temp, stat.S_IMODE(source.stat().st_mode))
-        facts = write_sqlite_snapshot(engine, temp)
-        if facts.integrity != "ok":
-            raise BackupError(
-                f"the copy failed its integrity check ({facts.integrity}); nothing written"
-            )
-        counts, fingerprint = read_only_content(temp)
-        with open(temp, "rb") as handle:
-            os.fsync(handle.fileno())
-        if force:
-            os.replace(temp, target)
-        else:
-            _link_without_replacing(temp, target)
-        _fsync_folder(folder)
-    except BaseException:
-        _remove_sqlite_file(temp)
-        raise
+        with safe_output.staged_files(
+            [target], store_path=source, replace=force, mode_limit=mode_limit
+        ) as stage:
+            temp = stage.path(target)
+            facts = write_sqlite_snapshot(engine, temp)
+            if facts.integrity != "ok":
+                raise BackupError(
+                    f"the copy failed its integrity check ({facts.integrity}); nothing written"
+                )
+            counts, fingerprint = read_only_content(temp)
+    except OutputExistsError:
+        raise BackupExistsError(_EXISTS.format(target=target)) from None
     assert facts.revision is not None
     return facts.revision, counts, fingerprint
-
-
-def _link_without_replacing(temp: Path, target: Path) -> None:
-    """Move ``temp`` to ``target`` unless ``target`` appeared meanwhile."""
-    try:
-        os.link(temp, target)  # atomic, and fails if the target exists
-    except FileExistsError:
-        raise BackupExistsError(_EXISTS.format(target=target)) from None
-    except OSError:
-        # A file system without hard links: the existence check above must do.
-        if target.exists():
-            raise BackupExistsError(_EXISTS.format(target=target)) from None
-        os.replace(temp, target)
-        return
-    temp.unlink()
-
-
-# --------------------------------------------------------------------------- restore
 
 
 def restore_store(

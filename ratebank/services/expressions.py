@@ -99,6 +99,7 @@ def _record(expression: ValidExpression, source: str) -> ExpressionRecord:
         T_min=expression.T_min,
         T_max=expression.T_max,
         uncertainty_factor=expression.uncertainty_factor,
+        uncertainty_g=expression.uncertainty_g,
         reference=expression.reference,
         provenance={
             "source_file": source,

@@ -16,6 +16,7 @@ import numpy as np
 
 from ratebank.errors import UnitError
 from ratebank.science.units import parse_rate_unit
+from ratebank.services import input_rules
 from ratebank.services.validate import (
     BAR_PA,
     TEXT_LIMITS,
@@ -42,6 +43,10 @@ class MeasurementSetRecord:
     factor: float = float("nan")
     valid: bool = True
     id: int | None = None
+    #: points seen so far with and without a stated uncertainty
+    with_uncertainty: int = 0
+    without_uncertainty: int = 0
+    mixed: bool = False
 
 
 @dataclass
@@ -111,7 +116,12 @@ def _column_numbers(
     positive: bool,
     what: str,
 ) -> np.ndarray:
-    """Parse a column of number texts with numpy; report the bad cells by line."""
+    """Parse a column of number texts with numpy; report the bad cells by line.
+
+    The syntax is :mod:`.input_rules`' (the same as a single cell's); numpy
+    reads the column in one pass and only suspect cells are looked at. A
+    temperature column (``T_K``) must also lie in the accepted range.
+    """
     n = len(texts)
     values = np.full(n, np.nan)
     if not required and (n == 0 or (texts[0] == "" and texts.count("") == n)):
@@ -131,22 +141,32 @@ def _column_numbers(
             try:
                 values[i] = float(text)
             except ValueError:
-                problems.add(lines[i], column, f"{text.strip()!r} is not a number; expected {what}")
-                present[i] = False
-    finite = np.isfinite(values)
-    for i in np.flatnonzero(present & ~finite):
-        problems.add(
-            lines[i], column, f"{texts[i].strip()!r} is not a finite number; expected {what}"
-        )
+                values[i] = np.nan
+    given = present.copy()
+    for i, message in input_rules.number_problems(texts, values, present):
+        problems.add(lines[i], column, f"{message}; expected {what}")
+        present[i] = False
+        values[i] = np.nan
     if positive:
-        for i in np.flatnonzero(present & finite & (values <= 0)):
+        for i in np.flatnonzero(present & (values <= 0)):
             problems.add(
                 lines[i], column, f"{texts[i].strip()} must be greater than zero; expected {what}"
             )
+    if column == "T_K":
+        _temperature_range(values, present, lines, column, problems, what)
     if required:
-        for i in np.flatnonzero(~present):
+        for i in np.flatnonzero(~given):
             problems.add(lines[i], column, f"is empty; expected {what}")
     return values
+
+
+def _temperature_range(values, present, lines, column, problems, what) -> None:  # type: ignore[no-untyped-def]
+    low, high = input_rules.TEMPERATURE_RANGE_K
+    with np.errstate(invalid="ignore"):
+        outside = present & (values > 0) & ((values < low) | (values > high))
+    for i in np.flatnonzero(outside):
+        problem = input_rules.temperature_problem(float(values[i]))
+        problems.add(lines[i], column, f"{problem}; expected {what}")
 
 
 #: The number columns of a measurements file: (column, required, what it must be).
@@ -241,13 +261,19 @@ class MeasurementValidator:
         new_sets = self._add_new_sets(texts, runs, lines)
         rows = self._sets_of_rows(texts.set_names, runs)
         self._check_agreement_with_first_rows(texts, rows, lines)
-        absolute = self._absolute_uncertainties(texts.kinds, lines)
+        absolute, percent = self._uncertainty_kinds(texts.kinds, lines)
         factor = np.array([r.factor if r is not None else np.nan for r in rows.touched])[
             rows.local_index
         ]
-        rate_si = rate_constant * factor
-        with np.errstate(invalid="ignore", divide="ignore"):
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            rate_si = rate_constant * factor
             relative = np.where(absolute, uncertainty * factor / rate_si, uncertainty)
+        relative = np.where(percent, uncertainty / 100.0, relative)
+        units = [u or (self.default_k_units or "") for u in texts.units]
+        self._check_plausible(
+            rate_constant, units, rate_si, relative, percent | absolute, rows, lines
+        )
+        self._check_stated_uncertainties(np.isfinite(uncertainty), rows, lines)
         return MeasurementChunk(
             new_sets=new_sets,
             set_index=rows.set_index,
@@ -293,6 +319,9 @@ class MeasurementValidator:
                 self.problems.add(
                     lines[i], "set", f"measurement set {name!r} is already in the store"
                 )
+                record.valid = False
+            elif (problem := input_rules.name_problem(name, "set name")) is not None:
+                self.problems.add(lines[i], "set", problem)
                 record.valid = False
             self.by_name[name] = len(self.sets)
             self.sets.append(record)
@@ -488,15 +517,80 @@ class MeasurementValidator:
                 f"{set_name!r} on line {first}",
             )
 
-    def _absolute_uncertainties(self, kinds: Sequence[str], lines: Sequence[int]) -> np.ndarray:
-        """True where a row's uncertainty is absolute; an unknown kind is reported."""
+    def _uncertainty_kinds(
+        self, kinds: Sequence[str], lines: Sequence[int]
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """(absolute, percent) per row; an unknown kind is reported."""
         kind_array = np.array(kinds, dtype=object)
         absolute = kind_array == "absolute"
-        unknown = ~(absolute | (kind_array == "relative") | (kind_array == ""))
+        percent = kind_array == "percent"
+        unknown = ~(absolute | percent | (kind_array == "relative") | (kind_array == ""))
         for i in np.flatnonzero(unknown):
             self.problems.add(
                 lines[i],
                 "uncertainty_kind",
                 f"{kinds[i]!r} is not one of {', '.join(UNCERTAINTY_KINDS)}",
             )
-        return absolute
+        return absolute, percent
+
+    def _check_plausible(
+        self,
+        given: np.ndarray,
+        units: Sequence[str],
+        rate_si: np.ndarray,
+        relative: np.ndarray,
+        converted: np.ndarray,
+        rows: _SetsOfRows,
+        lines: Sequence[int],
+    ) -> None:
+        """A k outside what its order can be, and a relative uncertainty of 1 or more."""
+        orders = np.array(
+            [r.reaction.order if r is not None and r.valid else 0 for r in rows.touched]
+        )[rows.local_index]
+        for order in np.unique(orders[orders > 0]).tolist():
+            low, high, said = input_rules.rate_constant_bounds_si(order)
+            with np.errstate(invalid="ignore"):
+                outside = (orders == order) & ~((rate_si >= low) & (rate_si <= high))
+            for i in np.flatnonzero(outside & ~np.isnan(rate_si)):
+                self.problems.add(
+                    lines[i],
+                    "k",
+                    f"{given[i]:g} {units[i]} is outside what a rate constant of order {order} "
+                    f"can be ({said}); check the value and its unit",
+                )
+        with np.errstate(invalid="ignore"):
+            large = (relative >= 1.0) & ~converted
+        for i in np.flatnonzero(large):
+            self.problems.add(
+                lines[i],
+                "k_uncertainty",
+                f"{relative[i]:g} as a relative uncertainty is {relative[i] * 100:g} % of k; "
+                "give it as a fraction (0.2 for 20 %), or say uncertainty_kind percent",
+            )
+
+    def _check_stated_uncertainties(
+        self, stated: np.ndarray, rows: _SetsOfRows, lines: Sequence[int]
+    ) -> None:
+        """A set whose points state an uncertainty for some points but not all is refused.
+
+        A fit then would silently weight none of them; the set's points are
+        counted across chunks, and the set is reported once.
+        """
+        size = len(rows.touched)
+        total = np.bincount(rows.local_index, minlength=size)
+        with_counts = np.bincount(rows.local_index, weights=stated, minlength=size).astype(int)
+        for local, record in enumerate(rows.touched):
+            if record is None:
+                continue
+            record.with_uncertainty += int(with_counts[local])
+            record.without_uncertainty += int(total[local] - with_counts[local])
+            if record.with_uncertainty and record.without_uncertainty and not record.mixed:
+                record.mixed = True
+                missing = np.flatnonzero(~stated & (rows.local_index == local))
+                first = lines[int(missing[0])] if missing.size else record.first_line
+                self.problems.add(
+                    first,
+                    "k_uncertainty",
+                    f"set {record.name!r} states an uncertainty for some points but not for "
+                    f"this one; give every point of a set an uncertainty, or none",
+                )

@@ -23,6 +23,7 @@ from ratebank.science.collision import (
     local_steric_factor,
     steric_factor_of_expression,
 )
+from ratebank.services.input_rules import name_problem
 from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
 from ratebank.store import audit, queries
 from ratebank.store import steric as steric_store
@@ -82,6 +83,8 @@ def set_class_rule(
     _check_factor(uncertainty_factor)
     if not reaction_class.strip():
         raise BadInputError("reaction class must not be empty", argument="reaction_class")
+    if (problem := name_problem(reaction_class, "reaction class")) is not None:
+        raise BadInputError(problem, argument="reaction_class")
     rule, before = steric_store.save_rule(
         session,
         reaction_class,

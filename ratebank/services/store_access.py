@@ -15,7 +15,6 @@ from dataclasses import dataclass, field
 from sqlalchemy import Engine
 from sqlalchemy.orm import Session
 
-from ratebank.store import audit
 from ratebank.store.engine import (
     create_store_engine,
     database_url,
@@ -24,7 +23,7 @@ from ratebank.store.engine import (
     session_scope,
 )
 from ratebank.store.listings import store_counts as _store_counts
-from ratebank.store.schema import InitResult, check_revision, upgrade_store
+from ratebank.store.schema import InitResult, check_revision, initialise_store
 
 
 @dataclass
@@ -71,22 +70,18 @@ def open_store(
 def init_store(
     db: str | None = None, *, author: str | None = None
 ) -> tuple[StoreHandle, InitResult]:
-    """Create the store, or upgrade it to this ratebank's schema; a no-op at head."""
+    """Create the store, or upgrade it to this ratebank's schema; a no-op at head.
+
+    The change and its history entry are one transaction, and concurrent runs
+    queue, so exactly one of them creates the store (see
+    :func:`ratebank.store.schema.initialise_store`).
+    """
     store = open_store(db, author=author, check=False)
     try:
-        result = upgrade_store(store.engine)
+        result = initialise_store(store.engine, author=store.author)
     except BaseException:
         store.close()
         raise
-    if result.changed:
-        with store.session(write=True) as session:
-            audit.record(
-                session,
-                "store.init" if result.before is None else "store.upgrade",
-                None,
-                before=result.before,
-                after=result.after,
-            )
     return store, result
 
 

@@ -23,9 +23,11 @@ from typing import NamedTuple
 from sqlalchemy.orm import Session
 
 from ratebank.errors import EquationError, FormulaError, ImportValidationError, UnitError
+from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
 from ratebank.science.equation import check_element_balance, looks_like_equation, parse_equation
 from ratebank.science.formula import molar_mass, parse_formula
 from ratebank.science.units import parse_energy_unit, parse_rate_unit
+from ratebank.services import input_rules
 from ratebank.store.records import NewReaction, NewSpecies, reactions_by_key_or_equation
 
 SPECIES_COLUMNS = (
@@ -39,6 +41,10 @@ SPECIES_COLUMNS = (
     "critical_pressure_bar",
     "acentric_factor",
     "boiling_volume_cm3_per_mol",
+    "boiling_temperature_K",
+    "dipole_moment_debye",
+    "polarizability_angstrom3",
+    "ionization_energy_eV",
     "source",
 )
 SPECIES_REQUIRED = ("name", "formula")
@@ -71,6 +77,10 @@ EXPRESSION_COLUMNS = (
     "T_min_K",
     "T_max_K",
     "uncertainty_factor",
+    "f298",
+    "g_K",
+    "dlogk298",
+    "dE_R_K",
     "reference",
     "origin",
 )
@@ -78,7 +88,7 @@ EXPRESSION_REQUIRED = ("reaction", "Ea")
 EXPRESSION_ORIGINS = ("literature", "manual")
 
 DIAMETER_KINDS = ("hard-sphere", "lennard-jones")
-UNCERTAINTY_KINDS = ("relative", "absolute")
+UNCERTAINTY_KINDS = ("relative", "absolute", "percent")
 
 #: A given molar mass further than this from the formula's is refused as a typo.
 MOLAR_MASS_TOLERANCE = 0.01
@@ -188,19 +198,21 @@ def parse_number(
     *,
     positive: bool = False,
     minimum: float | None = None,
+    temperature: bool = False,
     what: str = "a number",
 ) -> float:
-    """Parse a finite float; raises ValueError with the expected form."""
-    try:
-        value = float(text)
-    except ValueError:
-        raise ValueError(f"{text!r} is not a number; expected {what}") from None
-    if not math.isfinite(value):
-        raise ValueError(f"{text!r} is not a finite number; expected {what}")
+    """Parse a number in the accepted syntax (:mod:`.input_rules`); ValueError otherwise.
+
+    ``temperature`` also requires the range of
+    :data:`~ratebank.services.input_rules.TEMPERATURE_RANGE_K`.
+    """
+    value = input_rules.parse_number(text, what)
     if positive and value <= 0:
         raise ValueError(f"{text} must be greater than zero; expected {what}")
     if minimum is not None and value < minimum:
         raise ValueError(f"{text} is below {minimum:g}; expected {what}")
+    if temperature and (problem := input_rules.temperature_problem(value)) is not None:
+        raise ValueError(f"{problem}; expected {what}")
     return value
 
 
@@ -212,13 +224,16 @@ def _number(
     *,
     positive: bool = False,
     minimum: float | None = None,
+    temperature: bool = False,
     what: str = "a number",
 ) -> float | None:
     text = cell(row, column)
     if text is None:
         return None
     try:
-        return parse_number(text, positive=positive, minimum=minimum, what=what)
+        return parse_number(
+            text, positive=positive, minimum=minimum, temperature=temperature, what=what
+        )
     except ValueError as exc:
         problems.add(line, column, str(exc))
         return None
@@ -266,6 +281,9 @@ def _species_name(
     if name is None:
         problems.add(line, "name", "is empty; expected the species name")
     elif too_long(problems, line, "name", name):
+        name = None
+    elif (problem := input_rules.species_name_problem(name)) is not None:
+        problems.add(line, "name", problem)
         name = None
     elif name in seen:
         where = f" (first on line {seen[name]})" if seen[name] is not None else ""
@@ -325,9 +343,15 @@ def _species_properties(
     diameter = _number(
         problems, line, row, "diameter_angstrom", positive=True, what="a diameter in Å"
     )
+    diameter = _within(
+        problems, line, "diameter_angstrom", diameter, input_rules.PLAUSIBLE_DIAMETER_ANGSTROM, "Å"
+    )
     kind = _diameter_kind(problems, line, row)
     well_depth = _number(
         problems, line, row, "well_depth_K", positive=True, what="a well depth ε/k_B in K"
+    )
+    well_depth = _within(
+        problems, line, "well_depth_K", well_depth, input_rules.PLAUSIBLE_WELL_DEPTH_K, "K"
     )
     if diameter is not None and kind is None:
         kind = "lennard-jones" if well_depth is not None else "hard-sphere"
@@ -354,6 +378,7 @@ def _species_properties(
         what="a molar volume in cm3/mol",
     )
     return {
+        **_polarity_and_capture(problems, line, row),
         "diameter": diameter * ANGSTROM_M if diameter is not None else None,
         "diameter_kind": kind if diameter is not None else None,
         "well_depth": well_depth,
@@ -361,6 +386,59 @@ def _species_properties(
         "critical_pressure": pc * BAR_PA if pc is not None else None,
         "acentric_factor": omega,
         "boiling_volume": vb * CM3_M3 if vb is not None else None,
+    }
+
+
+def _within(
+    problems: Problems,
+    line: int | None,
+    column: str,
+    value: float | None,
+    bounds: tuple[float, float],
+    unit: str,
+) -> float | None:
+    """``value`` if it lies in the plausible ``bounds``; else None, and the problem."""
+    if value is None:
+        return None
+    problem = input_rules.range_problem(value, bounds, unit)
+    if problem is not None:
+        problems.add(line, column, f"{problem}; check the value and its unit")
+        return None
+    return value
+
+
+def _polarity_and_capture(
+    problems: Problems, line: int | None, row: Mapping[str, str | None]
+) -> dict[str, float | None]:
+    """Dipole moment, boiling temperature, polarizability and ionization energy, in SI."""
+    dipole = _number(
+        problems, line, row, "dipole_moment_debye", minimum=0.0, what="a dipole moment in D"
+    )
+    boiling = _number(
+        problems,
+        line,
+        row,
+        "boiling_temperature_K",
+        positive=True,
+        temperature=True,
+        what="a temperature in K",
+    )
+    alpha = _number(
+        problems,
+        line,
+        row,
+        "polarizability_angstrom3",
+        positive=True,
+        what="a polarizability volume in Å3",
+    )
+    ionization = _number(
+        problems, line, row, "ionization_energy_eV", positive=True, what="an energy in eV"
+    )
+    return {
+        "dipole_moment": dipole * DEBYE if dipole is not None else None,
+        "boiling_temperature": boiling,
+        "polarizability": alpha * ANGSTROM_M**3 if alpha is not None else None,
+        "ionization_energy": ionization * ELECTRONVOLT_MOLAR if ionization is not None else None,
     }
 
 
@@ -450,6 +528,9 @@ def _reaction_key(
     elif any(ch.isspace() for ch in key):
         problems.add(line, "key", f"{key!r} contains spaces; expected a key without spaces")
         key = None
+    elif (problem := input_rules.name_problem(key, "reaction key")) is not None:
+        problems.add(line, "key", problem)
+        key = None
     elif key in seen_keys:
         problems.add(line, "key", f"reaction key {key!r} appears twice in the input")
     elif key in existing_keys:
@@ -489,6 +570,20 @@ def _reaction_equation(  # type: ignore[no-untyped-def]
     if too_long(problems, line, "equation", equation.canonical) or too_long(
         problems, line, "class", cell(row, "class")
     ):
+        return None
+    if equation.reactants == equation.products:
+        problems.add(
+            line,
+            "equation",
+            f"both sides of {equation.canonical!r} are the same; a reaction turns its "
+            "reactants into something else",
+        )
+        return None
+    reaction_class = cell(row, "class")
+    if reaction_class is not None and (
+        problem := input_rules.name_problem(reaction_class, "reaction class")
+    ):
+        problems.add(line, "class", problem)
         return None
     if equation.order > 3 or equation.order < 1:
         problems.add(line, "equation", f"has order {equation.order}; ratebank stores orders 1 to 3")
@@ -711,6 +806,10 @@ class _ExpressionCheck:
             self.problem(field_name, f"{value:g} must be greater than zero; expected {what}")
         elif bound == "at least 1" and value < 1:
             self.problem(field_name, f"{value:g} is below 1; expected {what}")
+        elif field_name in ("T_min", "T_max") and (
+            outside := input_rules.temperature_problem(value)
+        ):
+            self.problem(field_name, f"{outside}; expected {what}")
         elif field_name not in ("A", "Ea"):  # those two are converted with their unit
             self.values[field_name] = float(value)
 
@@ -793,6 +892,8 @@ class ValidExpression:
     uncertainty_factor: float | None
     reference: str | None
     given_units: dict[str, str]
+    #: g [K] of f(T) = f(298) exp|g (1/T - 1/298 K)|, None for 0
+    uncertainty_g: float | None = None
 
 
 #: The expression file's column of each number of :func:`check_expression_values`.
@@ -848,6 +949,9 @@ def _valid_expression(
     if k_units:
         units["k_units"] = k_units
     values = checked.values
+    f298, g = _panel_uncertainty(problems, line, row, values.get("uncertainty_factor"))
+    if problems.total > before:
+        return None
     return ValidExpression(
         line=line,
         reaction=reaction,
@@ -857,7 +961,44 @@ def _valid_expression(
         Ea=values["Ea"],
         T_min=values.get("T_min"),
         T_max=values.get("T_max"),
-        uncertainty_factor=values.get("uncertainty_factor"),
+        uncertainty_factor=f298,
         reference=cell(row, "reference"),
         given_units=units,
+        uncertainty_g=g,
     )
+
+
+def _panel_uncertainty(
+    problems: Problems, line: int | None, row: Mapping[str, str | None], factor: float | None
+) -> tuple[float | None, float | None]:
+    """f(298) and g of a row: ``f298`` and ``g_K``, or the panels' ``dlogk298`` and
+    ``dE_R_K`` (f298 = 10^dlogk298, g = dE/R), or a plain ``uncertainty_factor`` (g = 0).
+    One of the three ways only."""
+    f298 = _number(problems, line, row, "f298", minimum=1.0, what="a factor of at least 1")
+    g = _number(problems, line, row, "g_K", minimum=0.0, what="g in K, not negative")
+    dlogk = _number(problems, line, row, "dlogk298", minimum=0.0, what="a log10 k uncertainty")
+    de_r = _number(problems, line, row, "dE_R_K", minimum=0.0, what="Δ(E/R) in K, not negative")
+    ways = [
+        name
+        for name, given in (
+            ("uncertainty_factor", factor is not None),
+            ("f298 and g_K", f298 is not None or g is not None),
+            ("dlogk298 and dE_R_K", dlogk is not None or de_r is not None),
+        )
+        if given
+    ]
+    if len(ways) > 1:
+        problems.add(line, "f298", f"give the uncertainty one way, not as {' and '.join(ways)}")
+        return None, None
+    if dlogk is not None or de_r is not None:
+        if dlogk is None:
+            problems.add(line, "dlogk298", "is empty; dE_R_K needs the Δlog10 k at 298 K")
+            return None, None
+        # the columns' own definition (a change of unit, as the evaluation panels tabulate
+        # it): f(298) = 10^dlogk298 and g = Δ(E/R); science.uncertainty's
+        # panel_factor_from_log10_form is the same relation, and a test checks they agree
+        return 10.0**dlogk, de_r or 0.0
+    if g is not None and f298 is None:
+        problems.add(line, "f298", "is empty; g_K needs the factor f(298) it widens")
+        return None, None
+    return (f298, g) if f298 is not None else (factor, None)

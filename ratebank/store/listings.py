@@ -46,6 +46,10 @@ class SpeciesSummary:
     acentric_factor: float | None
     boiling_volume: float | None  # m3/mol
     source: str | None
+    dipole_moment: float | None  # C m
+    boiling_temperature: float | None  # K
+    polarizability: float | None  # m3
+    ionization_energy: float | None  # J/mol
 
     @property
     def diameter_is_estimated(self) -> bool:

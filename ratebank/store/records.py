@@ -62,6 +62,10 @@ class NewSpecies:
     acentric_factor: float | None = None
     boiling_volume: float | None = None
     source: str | None = None
+    dipole_moment: float | None = None
+    boiling_temperature: float | None = None
+    polarizability: float | None = None
+    ionization_energy: float | None = None
 
 
 def existing_species_names(session: Session, names: Iterable[str] | None = None) -> set[str]:
@@ -102,6 +106,10 @@ def insert_species(session: Session, species: Sequence[NewSpecies]) -> None:
                 "acentric_factor": s.acentric_factor,
                 "boiling_volume": s.boiling_volume,
                 "source": s.source,
+                "dipole_moment": s.dipole_moment,
+                "boiling_temperature": s.boiling_temperature,
+                "polarizability": s.polarizability,
+                "ionization_energy": s.ionization_energy,
             }
             for s in species
         ],

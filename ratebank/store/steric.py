@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import NamedTuple
 
 from sqlalchemy import select, update
+from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session
 
 from ratebank.errors import ConflictError, NotFoundError
@@ -63,7 +64,14 @@ def save_rule(
     rule.note = note
     rule.updated_at = utc_now()
     rule.updated_by = author
-    session.flush()
+    try:
+        session.flush()
+    except IntegrityError:
+        raise ConflictError(
+            f"a steric rule for class {reaction_class!r} was added by someone else at the same "
+            "moment; nothing was written; read the rules again and repeat the change with the "
+            "version you read if you still want it"
+        ) from None
     return _row(rule), before
 
 

@@ -248,7 +248,7 @@ RHEADER = "key,equation\n"
     [
         ("a,OH + XY -> CH4\n", ":2: equation: unknown species 'XY'"),
         ("a,OH + CH4 -> CH3 + H2O2\n", ":2: equation: equation"),
-        ("a,OH + CH4 = CH3 + H2O\n", ":2: equation: "),
+        ("a,OH + CH4 CH3 + H2O\n", ":2: equation: "),
         (
             "a,CH3 + H2O -> CH4 + OH\na,OH + CH3 -> CH4 + O\n",
             ":3: key: reaction key 'a' appears twice",
@@ -306,7 +306,8 @@ def test_reaction_listing_filters(filled):
 
 
 def test_names_with_sql_are_literal(store):
-    name = "X'; DROP TABLE species; --"
+    # a species name is one an equation can hold, quotes and dashes included
+    name = "X'OR'1'--DROP"
     assert run(store, "species", "add", name, "CH4").exit_code == 0
     records = json.loads(run(store, "species", "list", "--json", "--name", "DROP").stdout)
     assert [r["name"] for r in records] == [name]
