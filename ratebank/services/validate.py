@@ -64,6 +64,7 @@ MEASUREMENT_COLUMNS = (
     "method",
     "pressure_bar",
     "bath_gas",
+    "systematic_uncertainty",
 )
 MEASUREMENT_REQUIRED = ("set", "reaction", "T_K", "k")
 

@@ -187,6 +187,12 @@ class MeasurementSet(Base):
     """One measured k(T) data set of one reaction, from one source."""
 
     __tablename__ = "measurement_set"
+    __table_args__ = (
+        CheckConstraint(
+            "systematic_uncertainty IS NULL OR systematic_uncertainty >= 0",
+            name="systematic_uncertainty_non_negative",
+        ),
+    )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     name: Mapped[str] = mapped_column(String(200), unique=True)
@@ -196,6 +202,8 @@ class MeasurementSet(Base):
     bath_gas: Mapped[str | None] = mapped_column(String(200))
     #: the k unit the data were given in (values are stored in SI)
     original_k_units: Mapped[str] = mapped_column(String(100))
+    #: one standard deviation of the whole set's scale, as a fraction of k
+    systematic_uncertainty: Mapped[float | None] = mapped_column(Float)
     source_file: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
 

@@ -232,6 +232,8 @@ class NewSet(NamedTuple):
     bath_gas: str | None
     #: the unit the points were given in, kept for the record
     k_units: str
+    #: one standard deviation of the set's scale, a fraction of k
+    systematic_uncertainty: float | None = None
 
 
 #: The point columns :func:`insert_points` writes; ``set_id``, ``temperature`` and
@@ -259,6 +261,7 @@ def insert_sets(session: Session, sets: Sequence[NewSet], *, source: str) -> lis
             "method",
             "bath_gas",
             "original_k_units",
+            "systematic_uncertainty",
             "source_file",
             "created_at",
         ),
