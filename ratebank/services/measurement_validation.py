@@ -580,7 +580,8 @@ class MeasurementValidator:
             low, high, said = input_rules.rate_constant_bounds_si(order)
             with np.errstate(invalid="ignore"):
                 outside = (orders == order) & ~((rate_si >= low) & (rate_si <= high))
-            for i in np.flatnonzero(outside & ~np.isnan(rate_si)):
+            # a k of zero or less is already reported as such
+            for i in np.flatnonzero(outside & ~np.isnan(rate_si) & (given > 0)):
                 self.problems.add(
                     lines[i],
                     "k",
