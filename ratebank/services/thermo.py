@@ -37,12 +37,14 @@ from ratebank.services.thermo_validation import (
     validate_coefficients,
     validate_table,
 )
-from ratebank.services.validate import Problems, Row, cell
+from ratebank.services.validate import REVERSE_RULES, Problems, Row, cell
 from ratebank.store import audit, queries
 from ratebank.store.queries import ReactionRow
 from ratebank.store.thermo import (
     NewThermo,
     ThermoRow,
+    reverse_rules,
+    set_reverse_rule,
     species_formula,
     species_ids_by_name,
     stoichiometry,
@@ -509,6 +511,20 @@ def reaction_thermo(
         inputs.T_high,
         [ReactionThermoRow(t, *values) for t, *values in zip(T, *columns, strict=True)],
     )
+
+
+def set_reverse(session: Session, key: str, rule: str) -> ReactionRow:
+    """Declare how a stored reaction's reverse is obtained (:data:`REVERSE_RULES`)."""
+    if rule not in REVERSE_RULES:
+        raise BadInputError(
+            f"unknown reverse rule {rule!r}; expected one of {', '.join(REVERSE_RULES)}",
+            argument="rule",
+        )
+    reaction = queries.find_reaction(session, key)
+    before = reverse_rules(session, [reaction.id]).get(reaction.id, "none")
+    set_reverse_rule(session, reaction.id, None if rule == "none" else rule)
+    audit.record(session, "reaction.reverse", reaction.key, reverse=rule, before=before)
+    return reaction
 
 
 def kc_unit(preset: str, delta_n: int) -> tuple[str, float]:
