@@ -193,9 +193,14 @@ def set_class_relation(
     E0_si = float(energy_to_si(E0, E0_units))
     spread_si = None if spread is None else float(energy_to_si(spread, E0_units))
     rule, before = save_evans_polanyi_rule(
-        session, reaction_class, E0=E0_si, alpha=alpha, spread=spread_si, source=source,
+        session,
+        reaction_class,
+        E0=E0_si,
+        alpha=alpha,
+        spread=spread_si,
+        source=source,
         expected_version=expected_version,
-    )  # fmt: skip
+    )
     audit.record(
         session,
         "evans-polanyi.rule.add" if before is None else "evans-polanyi.rule.change",
@@ -242,15 +247,20 @@ def _relations(session: Session) -> dict[str, ChosenRelation]:
         spread = fit.residual_sd if math.isfinite(fit.residual_sd) else None
         members = [{"key": m.key, "expression_id": m.expression_id} for m in relation.members]
         found[relation.reaction_class] = ChosenRelation(
-            fit.E0, fit.alpha, spread,
+            fit.E0,
+            fit.alpha,
+            spread,
             f"derived from {fit.count} reaction(s) of class {relation.reaction_class}",
             {"members": members, "weighted": fit.absolute_sigma},
-        )  # fmt: skip
+        )
     for rule in evans_polanyi_rules(session).values():
         found[rule.reaction_class] = ChosenRelation(
-            rule.E0, rule.alpha, rule.spread, f"relation set for class {rule.reaction_class}",
+            rule.E0,
+            rule.alpha,
+            rule.spread,
+            f"relation set for class {rule.reaction_class}",
             {"source": rule.source, "rule_version": rule.version},
-        )  # fmt: skip
+        )
     return found
 
 
@@ -310,10 +320,25 @@ def _relation_Ea(
         **relation.detail,
     }
     return ExpressionRow(
-        None, reaction.id, RELATION_ORIGIN, None, 0.0, float(found.Ea), None, None,  # type: ignore[arg-type]
-        None, None, f"Evans-Polanyi: {relation.rule}", {"evans_polanyi": record}, False, 0,
-        None, None, None, None,
-    )  # fmt: skip
+        None,
+        reaction.id,
+        RELATION_ORIGIN,
+        None,
+        0.0,
+        float(found.Ea),
+        None,
+        None,  # type: ignore[arg-type]
+        None,
+        None,
+        f"Evans-Polanyi: {relation.rule}",
+        {"evans_polanyi": record},
+        False,
+        0,
+        None,
+        None,
+        None,
+        None,
+    )
 
 
 def combined_uncertainty_factor(

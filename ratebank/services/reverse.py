@@ -157,19 +157,35 @@ def reverse_rate(
     shown = np.atleast_1d(rate_from_si(k_reverse, unit, order))
     rows = []
     for t, kf, kc, kr, k_shown in zip(
-        T.tolist(), k_forward.tolist(), Kc.tolist(), k_reverse.tolist(), shown.tolist(),
+        T.tolist(),
+        k_forward.tolist(),
+        Kc.tolist(),
+        k_reverse.tolist(),
+        shown.tolist(),
         strict=True,
-    ):  # fmt: skip
+    ):
         in_range = None
         if expression.T_min is not None and expression.T_max is not None:
             in_range = expression.T_min * (1 - 1e-12) <= t <= expression.T_max * (1 + 1e-12)
         rows.append(ReverseRateRow(t, kf, kc, kr, kc / kc_factor, k_shown, in_range))
     declared = reverse_rules(session, [reaction.id]).get(reaction.id, REVERSE_NONE)
     return ReverseRateReport(
-        reaction.key, reaction.equation, reverse_equation(reaction.equation), declared,
-        reaction.order, order, inputs.delta_n, expression.origin, expression.id,
-        chosen[0].rule, unit, kc_text, expression.T_min, expression.T_max, rows,
-    )  # fmt: skip
+        reaction.key,
+        reaction.equation,
+        reverse_equation(reaction.equation),
+        declared,
+        reaction.order,
+        order,
+        inputs.delta_n,
+        expression.origin,
+        expression.id,
+        chosen[0].rule,
+        unit,
+        kc_text,
+        expression.T_min,
+        expression.T_max,
+        rows,
+    )
 
 
 # --------------------------------------------------------------------------- export

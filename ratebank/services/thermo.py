@@ -203,12 +203,20 @@ def _fitted_thermo(problems: Problems, table: TabulatedCp) -> NewThermo | None:
 def _stored(found: Sequence[NewThermo], had_thermo: set[str]) -> list[ThermoStored]:
     return [
         ThermoStored(
-            item.species, item.method, item.source, item.T_low, item.T_mid, item.T_high,
-            item.max_cp_deviation, item.max_H_deviation, item.max_S_deviation, item.fit_points,
+            item.species,
+            item.method,
+            item.source,
+            item.T_low,
+            item.T_mid,
+            item.T_high,
+            item.max_cp_deviation,
+            item.max_H_deviation,
+            item.max_S_deviation,
+            item.fit_points,
             item.species in had_thermo,
         )
         for item in found
-    ]  # fmt: skip
+    ]
 
 
 def _write(session: Session, found: Sequence[NewThermo], source: str) -> None:
@@ -310,9 +318,14 @@ def _janaf_thermo(
     assert ref is not None
     try:
         inputs = fit_inputs_from_table(
-            table.T, table.Cp, table.S, table.H_minus_H298, table.delta_f_H,
-            T_min=T_range[0], T_max=T_range[1],
-        )  # fmt: skip
+            table.T,
+            table.Cp,
+            table.S,
+            table.H_minus_H298,
+            table.delta_f_H,
+            T_min=T_range[0],
+            T_max=T_range[1],
+        )
         if np.any(inputs.Cp < IDEAL_GAS_MINIMUM_CP * (1 - 1e-3)):
             return (
                 f"table {table.index} ({table.title}) has Cp° below 5R/2 in "
@@ -371,10 +384,14 @@ def species_thermo(
     rows = [
         PropertyRow(t, cp, h, s, True) if ok else PropertyRow(t, None, None, None, False)
         for t, cp, h, s, ok in zip(
-            values, found.Cp.tolist(), found.H.tolist(), found.S.tolist(), inside.tolist(),
+            values,
+            found.Cp.tolist(),
+            found.H.tolist(),
+            found.S.tolist(),
+            inside.tolist(),
             strict=True,
         )
-    ]  # fmt: skip
+    ]
     return SpeciesThermoView(stored, rows)
 
 

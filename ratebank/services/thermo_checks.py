@@ -90,8 +90,9 @@ def endothermic_findings(
         T = np.array([_T_ref(e, thermo) for e in own])
         delta_H = np.atleast_1d(reaction_thermochemistry(thermo.nu, thermo.polynomials, T).delta_H)
         Ea = local_activation_energy(T, np.array([e.n for e in own]), np.array([e.Ea for e in own]))
-        for e, t, dH, ea in zip(own, T.tolist(), delta_H.tolist(), np.atleast_1d(Ea).tolist(),
-                                strict=True):  # fmt: skip
+        for e, t, dH, ea in zip(
+            own, T.tolist(), delta_H.tolist(), np.atleast_1d(Ea).tolist(), strict=True
+        ):
             if dH > 0 and ea < dH - 1e-9 * dH:
                 found.append(
                     Finding(
@@ -167,10 +168,15 @@ def _capture(T: np.ndarray, columns: PairColumns) -> np.ndarray:
     if not bool(columns.has_capture_data[0]):
         return np.zeros_like(T)
     return london_capture_rate_constant(
-        T, columns.polarizability_a[0], columns.polarizability_b[0],
-        columns.ionization_energy_a[0], columns.ionization_energy_b[0],
-        columns.molar_mass_a[0], columns.molar_mass_b[0], identical=bool(columns.identical[0]),
-    )  # fmt: skip
+        T,
+        columns.polarizability_a[0],
+        columns.polarizability_b[0],
+        columns.ionization_energy_a[0],
+        columns.ionization_energy_b[0],
+        columns.molar_mass_a[0],
+        columns.molar_mass_b[0],
+        identical=bool(columns.identical[0]),
+    )
 
 
 def reverse_limit_findings(
@@ -192,8 +198,9 @@ def reverse_limit_findings(
             continue
         names = [n for n, i in two[c.reaction.id] for _ in range(int(i))]
         e, thermo = c.expression, inputs[c.reaction.id]
-        pair = species_pair(c.reaction.id, c.reaction.key, species[names[0]], species[names[1]],
-                            model=model)  # fmt: skip
+        pair = species_pair(
+            c.reaction.id, c.reaction.key, species[names[0]], species[names[1]], model=model
+        )
         T = _grid(e.T_min, e.T_max, thermo)
         if isinstance(pair, str):
             unchecked.append((c.reaction.key, e.id, f"reverse {model} collision limit: {pair}"))
@@ -201,8 +208,10 @@ def reverse_limit_findings(
         if T.size == 0:
             continue
         columns = PairColumns.of([pair])
-        arguments = {k: v[0] if isinstance(v, np.ndarray) else v
-                     for k, v in columns.rate_arguments(model).items()}  # fmt: skip
+        arguments = {
+            k: v[0] if isinstance(v, np.ndarray) else v
+            for k, v in columns.rate_arguments(model).items()
+        }
         z = np.maximum(collision_rate(T, **arguments), _capture(T, columns))
         ln_Kc = reaction_thermochemistry(thermo.nu, thermo.polynomials, T).ln_Kc
         ratio = np.exp(np.log(modified_arrhenius(T, e.A, e.n, e.Ea)) - ln_Kc - np.log(z))
@@ -277,8 +286,11 @@ def _disagreement(
         return None
     ln_f = [np.nan_to_num(np.log(uncertainty_factor(e, T))) for e in (f, b)]
     allowed = np.sqrt(ln_f[0] ** 2 + ln_f[1] ** 2) + 1e-9
-    miss = np.abs(np.log(modified_arrhenius(T, f.A, f.n, f.Ea))
-                  - np.log(modified_arrhenius(T, b.A, b.n, b.Ea)) - ln_Kc)  # fmt: skip
+    miss = np.abs(
+        np.log(modified_arrhenius(T, f.A, f.n, f.Ea))
+        - np.log(modified_arrhenius(T, b.A, b.n, b.Ea))
+        - ln_Kc
+    )
     excess = miss - allowed
     worst = int(np.argmax(excess))
     if excess[worst] <= 0:

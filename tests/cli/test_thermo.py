@@ -162,8 +162,12 @@ def test_species_show_gives_cp_h_and_s(filled):
     assert "Thermochemistry of OH" in table.stdout and "NIST-JANAF table H-038" in table.stdout
     shown = json.loads(ok(filled, "species", "show", "OH", "--json").stdout)
     assert [v["T_K"] for v in shown["thermochemistry"]["values"]] == [
-        298.15, 500.0, 1000.0, 1500.0, 2000.0,
-    ]  # fmt: skip
+        298.15,
+        500.0,
+        1000.0,
+        1500.0,
+        2000.0,
+    ]
     chosen = json.loads(ok(filled, "species", "show", "OH", "-T", "1000", "--json").stdout)
     (value,) = chosen["thermochemistry"]["values"]
     assert value["Cp_J_per_mol_K"] == pytest.approx(janaf_row("OH", 1000.0)["Cp"], rel=5e-3)
@@ -179,9 +183,10 @@ def test_thermo_reaction_in_a_preset(filled):
     """Kc of H + O2 + M -> HO2 + M (Δn = -1) in cm3/molecule for the atmospheric preset is the
     SI value in m3/mol times 1e6 / N_A (worked by hand)."""
     data = json.loads(
-        ok(filled, "thermo", "reaction", "h-o2-m", "-T", "1000", "--units", "atmospheric",
-           "--json").stdout
-    )  # fmt: skip
+        ok(
+            filled, "thermo", "reaction", "h-o2-m", "-T", "1000", "--units", "atmospheric", "--json"
+        ).stdout
+    )
     assert (data["delta_n"], data["Kc_units"]) == (-1, "cm3/molecule")
     (row,) = data["values"]
     assert row["Kc"] == pytest.approx(math.exp(row["ln_Kc_SI"]) * 1e6 / constants.N_A, rel=1e-12)
@@ -232,13 +237,24 @@ def test_check_lists_the_thermochemistry_checks(filled):
 
 
 def test_evans_polanyi_commands(filled):
-    ok(filled, "evans-polanyi", "set-class", "abstraction", "45", "0.5", "--E0-units",
-       "kcal/mol", "--source", "test")  # fmt: skip
+    ok(
+        filled,
+        "evans-polanyi",
+        "set-class",
+        "abstraction",
+        "45",
+        "0.5",
+        "--E0-units",
+        "kcal/mol",
+        "--source",
+        "test",
+    )
     rules = json.loads(ok(filled, "evans-polanyi", "list", "--units", "si", "--json").stdout)
     assert rules[0]["E0"] == pytest.approx(45 * 4184.0, rel=1e-12)
     assert (rules[0]["alpha"], rules[0]["source"], rules[0]["version"]) == (0.5, "test", 1)
-    stale = run(filled, "evans-polanyi", "set-class", "abstraction", "40", "0.5",
-                "--expect-version", "3")  # fmt: skip
+    stale = run(
+        filled, "evans-polanyi", "set-class", "abstraction", "40", "0.5", "--expect-version", "3"
+    )
     assert stale.exit_code == 1 and "you read version 3" in stale.stderr
     derived = json.loads(ok(filled, "evans-polanyi", "derived", "--json").stdout)
     assert {d["class"]: d["count"] for d in derived} == {"abstraction": 1, "branching": 1}

@@ -101,8 +101,9 @@ def test_the_class_fit_is_numpy_polyfit_weighted_on_the_same_points(store):
     by_id = {e.id: e for own in fits.values() for e in own}
     for member in relation.members:
         key = member.key
-        assert member.delta_H == pytest.approx(janaf_reaction_enthalpy(STOICHIOMETRY[key]),
-                                               abs=1e-3)  # fmt: skip
+        assert member.delta_H == pytest.approx(
+            janaf_reaction_enthalpy(STOICHIOMETRY[key]), abs=1e-3
+        )
         expression = by_id[member.expression_id]
         assert member.Ea == pytest.approx(expression.Ea, rel=1e-12)
         assert member.sigma_Ea == pytest.approx(

@@ -56,8 +56,9 @@ def test_janaf_filled_thermochemistry_matches_the_tables(store, species):
         table = janaf_row(species, row.T)
         assert row.in_range
         assert row.Cp == pytest.approx(table["Cp"], rel=5e-3)
-        assert row.H == pytest.approx(janaf_row(species, 298.15)["dfH"] + table["H_minus_H298"],
-                                      abs=500.0)  # fmt: skip
+        assert row.H == pytest.approx(
+            janaf_row(species, 298.15)["dfH"] + table["H_minus_H298"], abs=500.0
+        )
         assert row.S == pytest.approx(table["S"], abs=0.5)
         worst = max(worst, abs(row.Cp / table["Cp"] - 1))
     # these rows were fitted: the stored largest deviation covers them
@@ -93,8 +94,20 @@ def test_a_cp_table_is_fitted_and_its_deviation_stored(bare, tmp_path):
     """H2O from twelve NIST-JANAF rows (table H-064): the fit reproduces the table's Cp within
     0.5 %, H(298.15) and S(298.15) exactly, and the stored deviation is the largest one over
     the points given (checked by evaluating the stored polynomials)."""
-    temperatures = [298.15, 400.0, 500.0, 600.0, 800.0, 1000.0, 1200.0, 1500.0, 2000.0,
-                    2500.0, 3000.0, 3500.0]  # fmt: skip
+    temperatures = [
+        298.15,
+        400.0,
+        500.0,
+        600.0,
+        800.0,
+        1000.0,
+        1200.0,
+        1500.0,
+        2000.0,
+        2500.0,
+        3000.0,
+        3500.0,
+    ]
     path = write(tmp_path / "t.csv", _table_layout("H2O", temperatures))
     with bare.session(write=True) as session:
         report = import_thermo_file(session, path)

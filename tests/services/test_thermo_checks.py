@@ -116,8 +116,10 @@ def test_directions_that_disagree_with_kc_are_flagged(db_url, tmp_path):
 
 
 def test_a_reversible_reaction_without_thermochemistry_is_flagged(db_url, tmp_path):
-    reactions = REACTIONS.replace("oh-h2,OH + H2 -> H2O + H,abstraction,", "oh-h2,OH + H2 -> "
-                                  "H2O + H,abstraction,detailed-balance")  # fmt: skip
+    reactions = REACTIONS.replace(
+        "oh-h2,OH + H2 -> H2O + H,abstraction,",
+        "oh-h2,OH + H2 -> H2O + H,abstraction,detailed-balance",
+    )
     db = thermo_store(db_url, tmp_path, reactions, FORWARD, species=("OH", "H2"))
     flags = [f for f in _check(db).flags if f.code in THERMO_CODES]
     (flag,) = flags
@@ -129,8 +131,10 @@ def test_a_reverse_above_the_collision_limit_is_flagged(db_url, tmp_path):
     """k_f = 1e16 exp(-65 kJ/mol / RT) cm3/mol/s for H + H2O -> OH + H2 is physical, but its
     reverse k_f / Kc is over 1e15 cm3/mol/s near room temperature, above the OH + H2
     collision rate (about 3e14 cm3/mol/s)."""
-    reactions = REACTIONS.replace("h-h2o,H + H2O -> OH + H2,abstraction,", "h-h2o,H + H2O -> "
-                                  "OH + H2,abstraction,detailed-balance")  # fmt: skip
+    reactions = REACTIONS.replace(
+        "h-h2o,H + H2O -> OH + H2,abstraction,",
+        "h-h2o,H + H2O -> OH + H2,abstraction,detailed-balance",
+    )
     expressions = FORWARD.splitlines()[0] + "\nh-h2o,1e16,0,65,kJ/mol,cm3/mol/s,300,2000,3,x\n"
     db = thermo_store(db_url, tmp_path, reactions, expressions)
     flags = [f for f in _check(db).flags if f.code in THERMO_CODES]

@@ -32,10 +32,24 @@ oh-oh,OH + OH -> H2O + O,
 h-o2-m,H + O2 + M -> HO2 + M,
 """
 # Coefficients whose floats round-trip only at full precision (synthetic).
-LOW = (3.3372792, -4.94024731e-05, 4.99456778e-07, -1.79566394e-10, 2.00255376e-14,
-       -950.158922, -3.20502331)  # fmt: skip
-HIGH = (2.34433112, 0.00798052075, -1.9478151e-05, 2.01572094e-08, -7.37611761e-12,
-        -917.935173, 0.683010238)  # fmt: skip
+LOW = (
+    3.3372792,
+    -4.94024731e-05,
+    4.99456778e-07,
+    -1.79566394e-10,
+    2.00255376e-14,
+    -950.158922,
+    -3.20502331,
+)
+HIGH = (
+    2.34433112,
+    0.00798052075,
+    -1.9478151e-05,
+    2.01572094e-08,
+    -7.37611761e-12,
+    -917.935173,
+    0.683010238,
+)
 
 
 @pytest.fixture
@@ -80,7 +94,7 @@ def test_polynomials_are_stored_exactly_and_replaced(store):
             [
                 _new(ids, "H2", method="fitted to tabulated Cp", max_cp_deviation=1e-3),
                 _new(ids, "O2"),
-            ],  # fmt: skip
+            ],
         )
         assert replaced == ["H2"]
         found = thermo_of(session, [ids["H2"]])
@@ -135,20 +149,35 @@ def test_reverse_rules_are_read_and_set(store):
 def test_evans_polanyi_rules_are_versioned(store):
     with store.session(write=True) as session:
         rule, before = save_evans_polanyi_rule(
-            session, "abstraction", E0=40e3, alpha=0.3, spread=None, source="a",
+            session,
+            "abstraction",
+            E0=40e3,
+            alpha=0.3,
+            spread=None,
+            source="a",
             expected_version=None,
-        )  # fmt: skip
+        )
         assert (before, rule.version, rule.updated_by) == (None, 1, "tester")
         rule, before = save_evans_polanyi_rule(
-            session, "abstraction", E0=42e3, alpha=0.35, spread=3e3, source="b",
+            session,
+            "abstraction",
+            E0=42e3,
+            alpha=0.35,
+            spread=3e3,
+            source="b",
             expected_version=1,
-        )  # fmt: skip
+        )
         assert (before, rule.version, rule.E0, rule.spread) == ((40e3, 0.3), 2, 42e3, 3e3)
         with pytest.raises(ConflictError, match="now version 2, you read version 1"):
             save_evans_polanyi_rule(
-                session, "abstraction", E0=1.0, alpha=0.0, spread=None, source=None,
+                session,
+                "abstraction",
+                E0=1.0,
+                alpha=0.0,
+                spread=None,
+                source=None,
                 expected_version=1,
-            )  # fmt: skip
+            )
         assert list(evans_polanyi_rules(session)) == ["abstraction"]
         assert remove_evans_polanyi_rule(session, "abstraction") == (42e3, 0.35)
         with pytest.raises(NotFoundError):
