@@ -54,7 +54,7 @@ from ratebank.services.thermo_checks import (
 )
 from ratebank.store import queries
 from ratebank.store.queries import ExpressionRow, ReactionRow
-from ratebank.store.thermo import reverse_rules, stoichiometry, thermo_of
+from ratebank.store.thermo import any_thermo, reverse_rules, stoichiometry, thermo_of
 
 CHECK_CODES = (
     "above-collision-limit",
@@ -167,10 +167,10 @@ def _thermochemistry_flags(
 ) -> list[Flag]:
     """The checks species thermochemistry makes possible (:mod:`.thermo_checks`)."""
     declared = reverse_rules(session, [r.id for r in reactions])
+    if not declared and not any_thermo(session):
+        return []
     participants = stoichiometry(session, [r.id for r in reactions])
     thermo = thermo_of(session, {p.species_id for ps in participants.values() for p in ps})
-    if not declared and not thermo:
-        return []
     inputs, missing = reaction_thermo_inputs(session, reactions)
     reversible = [c for c in chosen if c.reaction.id in declared]
     limit, not_checked = reverse_limit_findings(

@@ -50,6 +50,7 @@ from ratebank.store.evans_polanyi import (
     save_evans_polanyi_rule,
 )
 from ratebank.store.queries import ExpressionRow, ReactionRow
+from ratebank.store.thermo import any_thermo
 
 #: The origins a class member's expression may have.
 MEMBER_ORIGINS = ("measured-fit", "literature")
@@ -282,8 +283,8 @@ def relation_activation_energies(
         if r.reaction_class is not None
         and not [e for e in expressions[r.id] if e.origin != "collision-estimate"]
     ]
-    if not waiting:
-        return {}, {}
+    if not waiting or not any_thermo(session):
+        return {}, {}  # without thermochemistry no relation can be derived or used
     relations = _relations(session)
     waiting = [r for r in waiting if r.reaction_class in relations]
     inputs, missing = reaction_thermo_inputs(session, [r for r in waiting if r.bimolecular])

@@ -95,6 +95,11 @@ def thermo_of(session: Session, species_ids: Iterable[int] | None = None) -> dic
     return {row.species_id: row for row in found}
 
 
+def any_thermo(session: Session) -> bool:
+    """True when some species has thermochemistry (a cheap test before the heavier reads)."""
+    return session.scalar(select(SpeciesThermo.id).limit(1)) is not None
+
+
 @dataclass(frozen=True)
 class NewThermo:
     """Validated thermochemistry of one species, to write (SI units)."""
