@@ -131,6 +131,8 @@ class NewReaction:
     product_counts: Mapping[str, int] = field(default_factory=dict)
     reaction_class: str | None = None
     notes: str | None = None
+    #: "detailed-balance", or None when irreversible as written
+    reverse: str | None = None
 
 
 class ReactionKeyRow(NamedTuple):
@@ -197,9 +199,10 @@ def insert_reactions(session: Session, reactions: Sequence[NewReaction]) -> None
             "reaction_class",
             "notes",
             "created_at",
+            "reverse",
         ),
         [
-            (r.key, r.equation, r.order, r.third_body, r.reaction_class, r.notes, now)
+            (r.key, r.equation, r.order, r.third_body, r.reaction_class, r.notes, now, r.reverse)
             for r in reactions
         ],
     )
