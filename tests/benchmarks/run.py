@@ -222,7 +222,7 @@ for rid, sid, c in connection.execute(
         "SELECT reaction_id, species_id, coefficient FROM participant WHERE role = 'reactant'"):
     reactants.setdefault(rid, []).extend([sid] * c)
 ea = dict(connection.execute(
-    "SELECT reaction_id, activation_energy FROM expression WHERE pre_exponential IS NULL"))
+    "SELECT reaction_id, Ea FROM expression WHERE A IS NULL"))
 keys = dict(connection.execute("SELECT id, key FROM reaction"))
 ids = sorted(r for r in ea if len(reactants.get(r, [])) == 2)
 a = np.array([reactants[r][0] for r in ids]); b = np.array([reactants[r][1] for r in ids])
