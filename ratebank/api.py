@@ -44,7 +44,7 @@ if TYPE_CHECKING:
     from ratebank.services.estimation import EstimateReport
     from ratebank.services.expressions import ExpressionEdit
     from ratebank.services.fitting import FitReport
-    from ratebank.services.mechanism import MechanismTable, RateReport
+    from ratebank.services.mechanism import MechanismTable
     from ratebank.services.overview import ReactionOverview
     from ratebank.services.plot_data import ReactionPlotData, StericPlotData
     from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
@@ -58,7 +58,7 @@ if TYPE_CHECKING:
         SpeciesDetail,
         SpeciesSummary,
     )
-    from ratebank.store.queries import ExpressionRow
+    from ratebank.store.queries import ExpressionRow, ReactionRow
     from ratebank.store.schema import InitResult
 
 __all__ = ["PlotResult", "Store", "backup", "demo", "init", "open", "restore"]
@@ -110,6 +110,15 @@ class PlotResult(Generic[Data]):
     data: Data
 
 
+@dataclass(frozen=True)
+class SpeciesPage:
+    """What ``species show`` shows: the species with its reactions, and its thermochemistry
+    (None when it has none)."""
+
+    species: SpeciesDetail
+    thermochemistry: Any
+
+
 class Store:
     """An open ratebank store (a SQLite file or a PostgreSQL database).
 
@@ -127,6 +136,12 @@ class Store:
     def address(self) -> str:
         """The store's path or URL, with any password masked."""
         return self._handle.display_url
+
+    @property
+    def _store_file(self) -> str | None:
+        """The SQLite file of the store, which no output may replace; None for a server."""
+        url = self._handle.engine.url
+        return url.database if url.get_backend_name() == "sqlite" else None
 
     @property
     def author(self) -> str:
@@ -210,9 +225,16 @@ class Store:
             missing_diameter=missing_diameter, name_contains=name_contains,
         )  # fmt: skip
 
-    def species_detail(self, name: str) -> SpeciesDetail:
-        """One species and the reactions it takes part in; a SpeciesDetail."""
-        return self._read("species", "show_species", name)
+    def species_detail(
+        self, name: str, *, temperatures: Sequence[float] | None = None
+    ) -> SpeciesPage:
+        """One species, the reactions it takes part in, and its thermochemistry (Cp°, H°, S°
+        at ``temperatures`` [K], or the usual ones); a SpeciesPage."""
+        with self._handle.session() as session:
+            return SpeciesPage(
+                _service("species").show_species(session, name),
+                _service("thermo").species_thermo(session, name, temperatures),
+            )
 
     # ------------------------------------------------------------------ reactions
 
@@ -229,11 +251,14 @@ class Store:
         *,
         reaction_class: str | None = None,
         notes: str | None = None,
-    ) -> ImportSummary:
-        """Add one reaction, checked for known species and element balance; an ImportSummary."""
-        return self._write(
-            "reactions", "add_reaction", key, equation, reaction_class=reaction_class, notes=notes
-        )
+    ) -> ReactionRow:
+        """Add one reaction, checked for known species and element balance; the stored
+        reaction (with its canonical equation)."""
+        with self._handle.session(write=True) as session:
+            _service("reactions").add_reaction(
+                session, key, equation, reaction_class=reaction_class, notes=notes
+            )
+            return _module("store.queries").find_reaction(session, key)
 
     def reactions(
         self,
@@ -410,13 +435,18 @@ class Store:
         *,
         k_units: str | None = None,
         preset: str = "combustion",
-    ) -> RateReport:
+        reverse: bool = False,
+    ) -> Any:
         """k at the temperatures [K] from the expression that would be exported, in
-        ``k_units`` (default: the preset's unit for the reaction's order); a RateReport."""
+        ``k_units`` (default: the preset's unit for the reaction's order); a RateReport.
+        With ``reverse``, the reverse rate k_f / Kc by detailed balance (a ReverseRateReport)."""
+        if reverse:
+            return self._read(
+                "reverse", "reverse_rate", key, list(temperatures), k_units=k_units, preset=preset
+            )
         return self._read(
-            "mechanism", "rate", key, list(temperatures),
-            k_units=k_units, preset=preset,
-        )  # fmt: skip
+            "mechanism", "rate", key, list(temperatures), k_units=k_units, preset=preset
+        )
 
     def recommend(self, key: str, expression_id: int) -> ExpressionRow:
         """Mark the expression the export should use for a reaction; the ExpressionRow."""
@@ -450,6 +480,7 @@ class Store:
         form: str = "modified",
         linearise_at: float | None = None,
         leave_out_gaps: bool = False,
+        reverse_as_fit: bool = False,
     ) -> ExportResult:
         """Write the mechanism table ``out`` (CSV) and its ``.resource.json`` descriptor, and
         record the export in the history; an ExportResult (ExportGapsError when a reaction has
@@ -466,6 +497,7 @@ class Store:
                 linearise_at=linearise_at,
                 leave_out_gaps=leave_out_gaps,
                 store_label=self._handle.display_url,
+                reverse_as_fit=reverse_as_fit,
             )
 
     # ------------------------------------------------------------------ steric factors
@@ -573,11 +605,12 @@ class Store:
         store is read.
         """
         plots = _module("report.plots")
-        plots.check_plot_target(out, width, height, dpi)
+        plots.check_plot_target(out, width, height, dpi, self._store_file)
         data = self.arrhenius_plot_data(keys, preset=preset, k_units=k_units, T_range=T_range)
         written = plots.render_arrhenius(
-            data, out, panels=panels, width=width, height=height, dpi=dpi
-        )
+            data, out, panels=panels, width=width, height=height, dpi=dpi,
+            store_path=self._store_file,
+        )  # fmt: skip
         return PlotResult(written, data)
 
     def steric_plot(
@@ -593,9 +626,11 @@ class Store:
         """Write the derived steric factors per class on a log scale to ``out``; a PlotResult
         (the file and the plotted data)."""
         plots = _module("report.plots")
-        plots.check_plot_target(out, width, height, dpi)
+        plots.check_plot_target(out, width, height, dpi, self._store_file)
         data = self.steric_plot_data(collision=collision, reaction_class=reaction_class)
-        written = plots.render_steric(data, out, width=width, height=height, dpi=dpi)
+        written = plots.render_steric(
+            data, out, width=width, height=height, dpi=dpi, store_path=self._store_file
+        )
         return PlotResult(written, data)
 
     # ------------------------------------------------------------------ keeping it safe
@@ -604,6 +639,78 @@ class Store:
         """Write a consistent copy of this SQLite store to ``target``; a BackupResult (see
         :func:`backup`)."""
         return _service("backup").backup_store(self._handle.url, target, force=force)
+
+    # ------------------------------------------------------------------ thermochemistry
+
+    def import_thermochemistry(
+        self, path: str | Path, *, replace: bool = False, dry_run: bool = False
+    ) -> Any:
+        """Import species thermochemistry (coefficients or Cp-table layout), all or nothing."""
+        with self._handle.session(write=not dry_run) as session:
+            report = _module("io.thermo_files").import_thermo_file(
+                session, Path(path), dry_run=dry_run, replace=replace
+            )
+            if dry_run:
+                session.rollback()
+            return report
+
+    def fill_thermochemistry_from_janaf(
+        self,
+        tables: dict[str, str],
+        *,
+        T_range: tuple[float, float] = (200.0, 6000.0),
+        replace: bool = False,
+        dry_run: bool = False,
+    ) -> Any:
+        """Fit polynomials to NIST-JANAF tables (``{species: table}``) and store them."""
+        with self._handle.session(write=not dry_run) as session:
+            report = _module("io.thermo_files").fill_from_janaf(
+                session, tables, T_range=T_range, replace=replace, dry_run=dry_run
+            )
+            if dry_run:
+                session.rollback()
+            return report
+
+    def thermochemistry(self) -> Any:
+        """The species that have thermochemistry, with range, method and fit deviations."""
+        return self._read("thermo", "list_thermo")
+
+    def reaction_thermochemistry(self, key: str, temperatures: Sequence[float]) -> Any:
+        """ΔrH°, ΔrS°, ΔrG°, Kp and Kc of a reaction at the temperatures [K]."""
+        return self._read("thermo", "reaction_thermo", key, list(temperatures))
+
+    def set_reverse(self, key: str, rule: str) -> Any:
+        """Declare how a reaction's reverse is obtained: ``none`` or ``detailed-balance``."""
+        return self._write("thermo", "set_reverse", key, rule)
+
+    def derived_evans_polanyi(self, *, reaction_class: str | None = None) -> Any:
+        """Evans-Polanyi relations fitted per class to reactions with thermochemistry."""
+        return self._read("evans_polanyi", "derived_relations", reaction_class=reaction_class)
+
+    def evans_polanyi_rules(self) -> Any:
+        """The Evans-Polanyi relations set for classes."""
+        return self._read("evans_polanyi", "list_relations")
+
+    def set_class_evans_polanyi(
+        self,
+        reaction_class: str,
+        E0: float,
+        alpha: float,
+        *,
+        E0_units: str = "kJ/mol",
+        spread: float | None = None,
+        source: str | None = None,
+        expected_version: int | None = None,
+    ) -> Any:
+        """Set a class's relation Ea = E0 + alpha ΔrH°(298.15 K) (optimistic version check)."""
+        return self._write(
+            "evans_polanyi", "set_class_relation", reaction_class, E0, alpha,
+            E0_units=E0_units, spread=spread, source=source, expected_version=expected_version,
+        )  # fmt: skip
+
+    def clear_class_evans_polanyi(self, reaction_class: str) -> None:
+        """Remove a class's Evans-Polanyi relation."""
+        self._write("evans_polanyi", "remove_class_relation", reaction_class)
 
 
 def open(db: str | Path | None = None, *, author: str | None = None) -> Store:

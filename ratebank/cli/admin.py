@@ -9,7 +9,8 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import STATE, number, say
+from ratebank import api
+from ratebank.cli.common import STATE, calls, number, opened_store, say
 
 _FIELD_WORDS = {
     "A": "A",
@@ -29,6 +30,7 @@ def register(app: typer.Typer, expressions_app: typer.Typer) -> None:
     app.command("restore")(restore)
 
 
+@calls("edit_expression")
 def expressions_edit(
     expression_id: int = typer.Argument(..., help="Id of the expression (see expressions list)."),
     expect_version: int = typer.Option(
@@ -64,12 +66,8 @@ def expressions_edit(
 
     Example: ratebank expressions edit 12 --Ea 41.5 --Ea-units kJ/mol --expect-version 1
     """
-    from ratebank.cli.common import store_session
-    from ratebank.services.expressions import edit_expression
-
-    with store_session(write=True) as session:
-        result = edit_expression(
-            session,
+    with opened_store() as store:
+        result = store.edit_expression(
             expression_id,
             expected_version=expect_version,
             A=A,
@@ -95,6 +93,7 @@ def expressions_edit(
     )
 
 
+@calls("backup")
 def backup(
     file: Path = typer.Argument(..., help="The backup file to write."),
     force: bool = typer.Option(False, "--force", help="Replace FILE if it exists."),
@@ -106,9 +105,7 @@ def backup(
 
     Example: ratebank --db group.db backup group-2025-06-01.db
     """
-    from ratebank.services.backup import backup_store
-
-    result = backup_store(STATE.db, file, force=force)
+    result = api.backup(STATE.db, file, force=force)
     counts = result.counts
     say(
         f"Backed up {result.source} to {result.path} ({result.bytes / 1e6:.1f} MB, schema "
@@ -119,6 +116,7 @@ def backup(
     say(f"Content fingerprint: {result.fingerprint}")
 
 
+@calls("restore")
 def restore(
     file: Path = typer.Argument(..., help="A backup written by `ratebank backup`."),
 ) -> None:
@@ -128,9 +126,7 @@ def restore(
 
     Example: ratebank --db restored.db restore group-2025-06-01.db
     """
-    from ratebank.services.backup import restore_store
-
-    result = restore_store(STATE.db, file, author=STATE.author)
+    result = api.restore(STATE.db, file, author=STATE.author)
     counts = result.counts
     upgraded = (
         f" (upgraded from schema {result.backup_revision})"

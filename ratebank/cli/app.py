@@ -11,14 +11,27 @@ from pathlib import Path
 
 import typer
 
-from ratebank import __version__
+from ratebank import __version__, api
 from ratebank.cli import admin as admin_commands
 from ratebank.cli import common
-from ratebank.cli import mechanism as mechanism_commands
+from ratebank.cli import kinetics as kinetics_commands
 from ratebank.cli import plot as plot_commands
 from ratebank.cli import thermo as thermo_commands
-from ratebank.cli.common import STATE, RatebankGroup, number, print_json, say, show, store_session
+from ratebank.cli.common import (
+    STATE,
+    RatebankGroup,
+    calls,
+    number,
+    opened_store,
+    print_json,
+    say,
+    show,
+)
 from ratebank.cli.progress import progress_bar
+from ratebank.report import tables
+from ratebank.report.demo import demo_summary
+from ratebank.report.tables import import_message
+from ratebank.report.thermo import species_thermo_record, species_thermo_table
 
 HELP = """Curate gas-phase rate parameters: store species, reactions and measured k(T);
 fit Arrhenius expressions; estimate missing A factors from collision theory; check
@@ -57,8 +70,8 @@ app.add_typer(species_app, name="species")
 app.add_typer(reactions_app, name="reactions")
 app.add_typer(data_app, name="data")
 app.add_typer(expressions_app, name="expressions")
-mechanism_commands.register(app)
-plot_commands.register(app, mechanism_commands.steric_app)
+kinetics_commands.register(app)
+plot_commands.register(app, kinetics_commands.steric_app)
 admin_commands.register(app, expressions_app)
 thermo_commands.register(app)
 
@@ -112,6 +125,7 @@ def main_options(
 
 
 @app.command()
+@calls("init")
 def init() -> None:
     """Create the store, or upgrade it to this ratebank's schema.
 
@@ -119,21 +133,20 @@ def init() -> None:
 
     Example: ratebank --db group.db init
     """
-    from ratebank.services.store_access import init_store
-
-    store, result = init_store(STATE.db, author=STATE.author)
+    store, result = api.init(STATE.db, author=STATE.author)
     try:
         if result.before is None:
-            say(f"Created a ratebank store at {store.display_url} (schema {result.after}).")
+            say(f"Created a ratebank store at {store.address} (schema {result.after}).")
         elif result.changed:
-            say(f"Upgraded {store.display_url} from schema {result.before} to {result.after}.")
+            say(f"Upgraded {store.address} from schema {result.before} to {result.after}.")
         else:
-            say(f"{store.display_url} is up to date (schema {result.after}); nothing to do.")
+            say(f"{store.address} is up to date (schema {result.after}); nothing to do.")
     finally:
         store.close()
 
 
 @app.command()
+@calls("history")
 def history(
     limit: int = typer.Option(50, "--limit", "-n", min=1, help="How many entries."),
     target: str = typer.Option(None, "--target", help="Only entries about this file or key."),
@@ -144,11 +157,8 @@ def history(
 
     Example: ratebank history --limit 20
     """
-    from ratebank.report import tables
-    from ratebank.services.history import list_history
-
-    with store_session() as session:
-        rows = list_history(session, limit=limit, target=target, author=author)
+    with opened_store() as store:
+        rows = store.history(limit=limit, target=target, author=author)
     if as_json:
         print_json(tables.history_records(rows))
     else:
@@ -156,6 +166,7 @@ def history(
 
 
 @app.command()
+@calls("demo")
 def demo(
     db: Path = typer.Option(
         Path("ratebank-demo.db"), "--db", help="Where to build the demo store."
@@ -169,10 +180,7 @@ def demo(
 
     Example: ratebank demo --db /tmp/demo.db
     """
-    from ratebank.io.demo import run_demo
-    from ratebank.report.demo import demo_summary
-
-    result = run_demo(db, out, author=STATE.author)
+    result = api.demo(db, out, author=STATE.author)
     show(*demo_summary(result))
 
 
@@ -180,6 +188,7 @@ def demo(
 
 
 @species_app.command("add")
+@calls("add_species")
 def species_add(
     name: str = typer.Argument(..., help="Species name as used in equations, e.g. OH."),
     formula: str = typer.Argument(..., help="Formula, e.g. HO or CH3OH."),
@@ -216,30 +225,24 @@ def species_add(
 
     Example: ratebank species add CH3OH CH3OH --tc 512.6 --pc 80.97
     """
-    from ratebank.services.species import add_species
-
-    def text(value: float | None) -> str | None:
-        return None if value is None else repr(value)
-
     fields = {
-        "name": name,
-        "formula": formula,
-        "molar_mass_g_per_mol": text(molar_mass),
-        "diameter_angstrom": text(diameter),
+        "molar_mass_g_per_mol": molar_mass,
+        "diameter_angstrom": diameter,
         "diameter_kind": diameter_kind,
-        "well_depth_K": text(well_depth),
-        "critical_temperature_K": text(critical_temperature),
-        "critical_pressure_bar": text(critical_pressure),
-        "acentric_factor": text(acentric_factor),
-        "boiling_volume_cm3_per_mol": text(boiling_volume),
+        "well_depth_K": well_depth,
+        "critical_temperature_K": critical_temperature,
+        "critical_pressure_bar": critical_pressure,
+        "acentric_factor": acentric_factor,
+        "boiling_volume_cm3_per_mol": boiling_volume,
         "source": source,
     }
-    with store_session(write=True) as session:
-        add_species(session, **fields)
+    with opened_store() as store:
+        store.add_species(name, formula, **fields)
     say(f"Added species {name}.")
 
 
 @species_app.command("import")
+@calls("import_species")
 def species_import(
     file: Path = typer.Argument(..., help="CSV file with a header row."),
     dry_run: bool = DRY_RUN_OPTION,
@@ -252,17 +255,13 @@ def species_import(
 
     Example: ratebank species import species.csv
     """
-    from ratebank.io.csv_import import import_species_file
-    from ratebank.report.tables import import_message
-
-    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
-        summary = import_species_file(session, file, dry_run=dry_run, progress=progress)
-        if dry_run:
-            session.rollback()
+    with opened_store() as store, progress_bar(STATE.quiet) as progress:
+        summary = store.import_species(file, dry_run=dry_run, progress=progress)
     say(import_message(summary))
 
 
 @species_app.command("list")
+@calls("species")
 def species_list(
     missing_diameter: bool = typer.Option(
         None, "--missing-diameter/--with-diameter", help="Only species without / with a diameter."
@@ -274,11 +273,8 @@ def species_list(
 
     Example: ratebank species list --missing-diameter
     """
-    from ratebank.report import tables
-    from ratebank.services.species import list_species
-
-    with store_session() as session:
-        rows = list_species(session, missing_diameter=missing_diameter, name_contains=name)
+    with opened_store() as store:
+        rows = store.species(missing_diameter=missing_diameter, name_contains=name)
     if as_json:
         print_json(tables.species_records(rows))
     else:
@@ -286,6 +282,7 @@ def species_list(
 
 
 @species_app.command("show")
+@calls("species_detail")
 def species_show(
     name: str = typer.Argument(..., help="Species name."),
     temperatures: list[float] = typer.Option(
@@ -297,24 +294,25 @@ def species_show(
 
     Example: ratebank species show OH -T 300 -T 1000
     """
-    from ratebank.report import tables
-    from ratebank.services.species import show_species
-
-    with store_session() as session:
-        detail = show_species(session, name)
-        thermo_record, thermo_table = thermo_commands.species_thermo_output(
-            session, name, temperatures
-        )
+    with opened_store() as store:
+        detail = store.species_detail(name, temperatures=temperatures or None)
+    thermo_record = species_thermo_record(detail.thermochemistry)
     if as_json:
-        print_json({**tables.species_detail_record(detail), "thermochemistry": thermo_record})
+        print_json(
+            {**tables.species_detail_record(detail.species), "thermochemistry": thermo_record}
+        )
     else:
-        show(*tables.species_detail_tables(detail), thermo_table)
+        show(
+            *tables.species_detail_tables(detail.species),
+            species_thermo_table(name, detail.thermochemistry),
+        )
 
 
 # --------------------------------------------------------------------------- reactions
 
 
 @reactions_app.command("add")
+@calls("add_reaction")
 def reactions_add(
     key: str = typer.Argument(..., help="Short unique key, e.g. oh-ch4."),
     equation: str = typer.Argument(..., help="Equation, e.g. 'OH + CH4 -> CH3 + H2O'."),
@@ -325,15 +323,13 @@ def reactions_add(
 
     Example: ratebank reactions add oh-ch4 'OH + CH4 -> CH3 + H2O' --class h-abstraction
     """
-    from ratebank.services.reactions import add_reaction, show_reaction
-
-    with store_session(write=True) as session:
-        add_reaction(session, key, equation, reaction_class=reaction_class, notes=notes)
-        detail = show_reaction(session, key)
-    say(f"Added reaction {key}: {detail.equation}")
+    with opened_store() as store:
+        added = store.add_reaction(key, equation, reaction_class=reaction_class, notes=notes)
+    say(f"Added reaction {key}: {added.equation}")
 
 
 @reactions_app.command("import")
+@calls("import_reactions")
 def reactions_import(
     file: Path = typer.Argument(..., help="CSV file with a header row."),
     dry_run: bool = DRY_RUN_OPTION,
@@ -344,17 +340,13 @@ def reactions_import(
 
     Example: ratebank reactions import reactions.csv
     """
-    from ratebank.io.csv_import import import_reactions_file
-    from ratebank.report.tables import import_message
-
-    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
-        summary = import_reactions_file(session, file, dry_run=dry_run, progress=progress)
-        if dry_run:
-            session.rollback()
+    with opened_store() as store, progress_bar(STATE.quiet) as progress:
+        summary = store.import_reactions(file, dry_run=dry_run, progress=progress)
     say(import_message(summary))
 
 
 @reactions_app.command("list")
+@calls("reactions")
 def reactions_list(
     species: str = typer.Option(None, "--species", help="Only reactions involving this species."),
     reaction_class: str = typer.Option(None, "--class", help="Only this reaction class."),
@@ -369,13 +361,8 @@ def reactions_list(
 
     Example: ratebank reactions list --species OH --status ea-only
     """
-    from ratebank.report import tables
-    from ratebank.services.reactions import list_reactions
-
-    with store_session() as session:
-        rows = list_reactions(
-            session, species=species, reaction_class=reaction_class, status=status
-        )
+    with opened_store() as store:
+        rows = store.reactions(species=species, reaction_class=reaction_class, status=status)
     if as_json:
         print_json(tables.reaction_records(rows))
     else:
@@ -383,6 +370,7 @@ def reactions_list(
 
 
 @reactions_app.command("show")
+@calls("reaction_overview")
 def reactions_show(
     reaction: str = typer.Argument(..., help="Reaction key or equation."),
     temperatures: list[float] = typer.Option(
@@ -399,11 +387,8 @@ def reactions_show(
 
     Example: ratebank reactions show 'CH4 + OH -> CH3 + H2O' -T 300 -T 1000
     """
-    from ratebank.report import tables
-    from ratebank.services.overview import reaction_overview
-
-    with store_session() as session:
-        overview = reaction_overview(session, reaction, temperatures=temperatures or None)
+    with opened_store() as store:
+        overview = store.reaction_overview(reaction, temperatures=temperatures or None)
     if as_json:
         print_json(tables.reaction_overview_record(overview, preset))
     else:
@@ -414,6 +399,7 @@ def reactions_show(
 
 
 @data_app.command("import")
+@calls("import_measurements")
 def data_import(
     file: Path = typer.Argument(..., help="CSV file, one row per measured point."),
     k_units: str = typer.Option(
@@ -428,19 +414,15 @@ def data_import(
 
     Example: ratebank data import points.csv --k-units cm3/molecule/s
     """
-    from ratebank.io.csv_import import import_measurements_file
-    from ratebank.report.tables import import_message
-
-    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
-        summary = import_measurements_file(
-            session, file, k_units=k_units, dry_run=dry_run, progress=progress
+    with opened_store() as store, progress_bar(STATE.quiet) as progress:
+        summary = store.import_measurements(
+            file, k_units=k_units, dry_run=dry_run, progress=progress
         )
-        if dry_run:
-            session.rollback()
     say(import_message(summary))
 
 
 @data_app.command("list")
+@calls("measurement_sets")
 def data_list(
     reaction: str = typer.Option(None, "--reaction", help="Only sets of this reaction."),
     as_json: bool = JSON_OPTION,
@@ -449,11 +431,8 @@ def data_list(
 
     Example: ratebank data list --reaction oh-ch4
     """
-    from ratebank.report import tables
-    from ratebank.services.measurements import list_sets
-
-    with store_session() as session:
-        rows = list_sets(session, reaction=reaction)
+    with opened_store() as store:
+        rows = store.measurement_sets(reaction=reaction)
     if as_json:
         print_json(tables.set_records(rows))
     else:
@@ -464,6 +443,7 @@ def data_list(
 
 
 @expressions_app.command("import")
+@calls("import_expressions")
 def expressions_import(
     file: Path = typer.Argument(..., help="CSV file of expressions."),
     dry_run: bool = DRY_RUN_OPTION,
@@ -476,17 +456,13 @@ def expressions_import(
 
     Example: ratebank expressions import literature.csv
     """
-    from ratebank.io.csv_import import import_expressions_file
-    from ratebank.report.tables import import_message
-
-    with store_session(write=not dry_run) as session, progress_bar(STATE.quiet) as progress:
-        summary = import_expressions_file(session, file, dry_run=dry_run, progress=progress)
-        if dry_run:
-            session.rollback()
+    with opened_store() as store, progress_bar(STATE.quiet) as progress:
+        summary = store.import_expressions(file, dry_run=dry_run, progress=progress)
     say(import_message(summary))
 
 
 @expressions_app.command("list")
+@calls("expressions")
 def expressions_list(
     reaction: str = typer.Option(None, "--reaction", help="Only expressions of this reaction."),
     origin: str = typer.Option(
@@ -501,11 +477,8 @@ def expressions_list(
 
     Example: ratebank expressions list --units atmospheric
     """
-    from ratebank.report import tables
-    from ratebank.services.expressions import list_expressions
-
-    with store_session() as session:
-        rows = list_expressions(session, reaction=reaction, origin=origin)
+    with opened_store() as store:
+        rows = store.expressions(reaction=reaction, origin=origin)
     if as_json:
         print_json(tables.expression_records(rows, preset))
     else:

@@ -8,22 +8,25 @@ from __future__ import annotations
 
 import json
 import os
+import sqlite3
 import sys
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import typer
+from rich.console import Console
+from sqlalchemy.exc import DataError, DBAPIError, IntegrityError, OperationalError, SQLAlchemyError
+from sqlalchemy.orm.exc import StaleDataError
 from typer.core import TyperGroup
 
+from ratebank import api
+from ratebank.api import Store
 from ratebank.errors import BadInputError, ExportGapsError, RatebankError, RefusedEstimateError
-
-if TYPE_CHECKING:
-    from rich.console import Console
-    from sqlalchemy.orm import Session
-
-    from ratebank.services.store_access import StoreHandle
+from ratebank.services.input_rules import NUMBER_PADDING, number_text_problem
+from ratebank.store.constraints import explain_integrity_error
+from ratebank.store.engine import database_url, explain_sqlite_error, mask_url, redact
 
 
 @dataclass
@@ -44,8 +47,6 @@ def console() -> Console:
     """The stdout console; wide when not a terminal so tables are not cut."""
     global _console
     if _console is None:
-        from rich.console import Console
-
         width = None if sys.stdout.isatty() else int(os.environ.get("COLUMNS", "200"))
         _console = Console(width=width, highlight=False)
     return _console
@@ -54,8 +55,6 @@ def console() -> Console:
 def error_console() -> Console:
     global _error_console
     if _error_console is None:
-        from rich.console import Console
-
         _error_console = Console(stderr=True, highlight=False, soft_wrap=True)
     return _error_console
 
@@ -84,32 +83,27 @@ def show(*renderables: Any) -> None:
 
 
 @contextmanager
-def store_session(*, write: bool = False) -> Iterator[Session]:
-    """Open the store named by the global options and give one transaction."""
-    from ratebank.services.store_access import open_store
-
-    store = open_store(STATE.db, author=STATE.author)
+def opened_store() -> Iterator[Store]:
+    """The store named by the global options, as the library's front door opens it."""
+    store = api.open(STATE.db, author=STATE.author)
     try:
-        with store.session(write=write) as session:
-            yield session
+        yield store
     finally:
         store.close()
 
 
-def open_store_handle(check: bool = True) -> StoreHandle:
-    from ratebank.services.store_access import open_store
+def calls(method: str) -> Callable[[Callable[..., Any]], Callable[..., Any]]:
+    """Declare the one ``ratebank.api`` method (or function) a command is a thin call of.
 
-    return open_store(STATE.db, author=STATE.author, check=check)
+    A command parses its options, makes that one call and renders the result;
+    ``tests/cli/test_commands.py`` walks every command and checks that it does.
+    """
 
+    def mark(command: Callable[..., Any]) -> Callable[..., Any]:
+        command.__ratebank_calls__ = method  # type: ignore[attr-defined]
+        return command
 
-def store_file() -> str | None:
-    """The SQLite file of the store in use, which no output may replace; None for a server."""
-    from sqlalchemy.engine import make_url
-
-    from ratebank.store.engine import database_url
-
-    url = make_url(database_url(STATE.db))
-    return url.database if url.get_backend_name() == "sqlite" else None
+    return mark
 
 
 def number(text: str | float) -> float:
@@ -122,8 +116,6 @@ def number(text: str | float) -> float:
     """
     if isinstance(text, int | float):  # a default value, not typed by anyone
         return float(text)
-    from ratebank.services.input_rules import NUMBER_PADDING, number_text_problem
-
     problem = number_text_problem(text)
     if problem is None:
         return float(text.strip(NUMBER_PADDING))
@@ -149,8 +141,6 @@ def _scrub(text: str) -> str:
     """
     if "://" not in (STATE.db or "") and "://" not in os.environ.get("RATEBANK_DB", ""):
         return text
-    from ratebank.store.engine import redact
-
     return redact(text, STATE.db, os.environ.get("RATEBANK_DB"))
 
 
@@ -231,10 +221,6 @@ def _is_command_line_signal(exc: Exception) -> bool:
 
 def _as_library_error(exc: Exception) -> Exception:
     """A driver's own error (bulk inserts use the driver directly) as SQLAlchemy's wrapper."""
-    import sqlite3
-
-    from sqlalchemy.exc import DBAPIError
-
     bases: list[type[Exception]] = [sqlite3.Error]
     try:
         import psycopg
@@ -250,19 +236,6 @@ def _as_library_error(exc: Exception) -> Exception:
 
 def translate_exception(exc: Exception) -> str:
     """A one-line message for a library error, naming what to do next."""
-    from ratebank.store.engine import database_url, explain_sqlite_error, mask_url
-
-    try:
-        from sqlalchemy.exc import (
-            DataError,
-            DBAPIError,
-            IntegrityError,
-            OperationalError,
-            SQLAlchemyError,
-        )
-        from sqlalchemy.orm.exc import StaleDataError
-    except ImportError:  # pragma: no cover - sqlalchemy is a dependency
-        SQLAlchemyError = ()  # type: ignore[assignment]
     if isinstance(exc, StaleDataError):
         # Sessions made by ratebank.store.engine name the row and who changed it; this
         # is for a StaleDataError that reached here some other way.
@@ -284,8 +257,6 @@ def translate_exception(exc: Exception) -> str:
             if explained is not None:
                 return str(explained)
         if isinstance(exc, IntegrityError):
-            from ratebank.store.constraints import explain_integrity_error
-
             return explain_integrity_error(exc)
         if isinstance(exc, DataError):
             # A value validation let through but the database cannot hold (too long, NUL).

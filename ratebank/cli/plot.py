@@ -10,7 +10,7 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import number, say, store_file, store_session
+from ratebank.cli.common import calls, number, opened_store, say
 
 OUT_OPTION = typer.Option(
     ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
@@ -32,6 +32,7 @@ def _written(kind: str, result) -> str:  # type: ignore[no-untyped-def]
     return f"Wrote {kind} to {result.path} ({result.format.upper()}, {result.size_text})."
 
 
+@calls("plot")
 def plot(
     keys: list[str] = typer.Argument(..., help="Reaction keys or equations."),
     out: Path = OUT_OPTION,
@@ -63,20 +64,18 @@ def plot(
 
     Example: ratebank plot oh-ch4 ho2-ho2 --panels -o arrhenius.png --dpi 200
     """
-    from ratebank.report.plots import check_plot_target, render_arrhenius
-    from ratebank.services.plot_data import arrhenius_plot_data
-
-    check_plot_target(out, width, height, dpi, store_file())
     span = None if not t_range or t_range[0] is None else (t_range[0], t_range[1])
-    with store_session() as session:
-        data = arrhenius_plot_data(session, keys, preset=preset, k_units=k_units, t_range=span)
-    result = render_arrhenius(
-        data, out, panels=panels, width=width, height=height, dpi=dpi, store_path=store_file()
-    )
+    with opened_store() as store:
+        result = store.plot(
+            keys, out, preset=preset, k_units=k_units, T_range=span, panels=panels,
+            width=width, height=height, dpi=dpi,
+        )  # fmt: skip
+    data = result.data
     shown = ", ".join(d.key for d in data)
-    say(_written(f"the Arrhenius plot of {len(data)} reaction(s) ({shown})", result))
+    say(_written(f"the Arrhenius plot of {len(data)} reaction(s) ({shown})", result.file))
 
 
+@calls("steric_plot")
 def steric_plot(
     out: Path = OUT_OPTION,
     collision: str = typer.Option(
@@ -94,16 +93,15 @@ def steric_plot(
 
     Example: ratebank steric plot -o steric.svg
     """
-    from ratebank.report.plots import check_plot_target, render_steric
-    from ratebank.services.plot_data import steric_plot_data
-
-    check_plot_target(out, width, height, dpi, store_file())
-    with store_session() as session:
-        data = steric_plot_data(session, collision, reaction_class=reaction_class)
-    result = render_steric(data, out, width=width, height=height, dpi=dpi, store_path=store_file())
+    with opened_store() as store:
+        result = store.steric_plot(
+            out, collision=collision, reaction_class=reaction_class,
+            width=width, height=height, dpi=dpi,
+        )  # fmt: skip
+    data = result.data
     say(
         _written(
             f"the steric factors of {data.count} reaction(s) in {len(data.classes)} class(es)",
-            result,
+            result.file,
         )
     )

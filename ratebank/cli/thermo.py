@@ -7,8 +7,22 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import print_json, say, show, store_session
+from ratebank.cli.common import calls, opened_store, print_json, say, show
 from ratebank.errors import BadInputError
+from ratebank.report.thermo import (
+    import_message,
+    import_records,
+    import_table,
+    reaction_thermo_records,
+    reaction_thermo_table,
+    relation_records,
+    relation_table,
+    rule_records,
+    rule_table,
+    thermo_records,
+    thermo_table,
+)
+from ratebank.science.unit_presets import energy_unit_for
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 PRESET_OPTION = typer.Option(
@@ -36,16 +50,8 @@ def register(app: typer.Typer) -> None:
     app.add_typer(evans_polanyi_app, name="evans-polanyi")
 
 
-def species_thermo_output(session, name: str, temperatures: list[float] | None):  # type: ignore[no-untyped-def]
-    """The thermochemistry part of ``species show``: (JSON record, table)."""
-    from ratebank.report.thermo import species_thermo_record, species_thermo_table
-    from ratebank.services.thermo import species_thermo
-
-    view = species_thermo(session, name, temperatures or None)
-    return species_thermo_record(view), species_thermo_table(name, view)
-
-
 @thermo_app.command("import")
+@calls("import_thermochemistry")
 def thermo_import(
     file: Path = typer.Argument(..., help="CSV file of either layout (see the README)."),
     replace: bool = REPLACE_OPTION,
@@ -61,13 +67,8 @@ def thermo_import(
 
     Example: ratebank thermo import thermo.csv --dry-run
     """
-    from ratebank.io.thermo_files import import_thermo_file
-    from ratebank.report.thermo import import_message, import_records, import_table
-
-    with store_session(write=not dry_run) as session:
-        report = import_thermo_file(session, file, dry_run=dry_run, replace=replace)
-        if dry_run:
-            session.rollback()
+    with opened_store() as store:
+        report = store.import_thermochemistry(file, replace=replace, dry_run=dry_run)
     if as_json:
         print_json(import_records(report))
         return
@@ -90,6 +91,7 @@ def _pairs(pairs: list[str]) -> dict[str, str]:
 
 
 @thermo_app.command("janaf")
+@calls("fill_thermochemistry_from_janaf")
 def thermo_janaf(
     species_tables: list[str] = typer.Argument(
         ..., help="SPECIES=TABLE pairs: a stored species and its NIST-JANAF table, e.g. OH=H-038."
@@ -108,20 +110,11 @@ def thermo_janaf(
 
     Example: ratebank thermo janaf H2O=H-064 OH=H-038 O2=O-029
     """
-    from ratebank.io.thermo_files import fill_from_janaf
-    from ratebank.report.thermo import import_message, import_records, import_table
-
     pairs = _pairs(species_tables)
-    with store_session(write=not dry_run) as session:
-        report = fill_from_janaf(
-            session,
-            pairs,
-            T_range=(float(t_range[0]), float(t_range[1])),
-            replace=replace,
-            dry_run=dry_run,
+    with opened_store() as store:
+        report = store.fill_thermochemistry_from_janaf(
+            pairs, T_range=(float(t_range[0]), float(t_range[1])), replace=replace, dry_run=dry_run
         )
-        if dry_run:
-            session.rollback()
     if as_json:
         print_json(import_records(report))
         return
@@ -130,16 +123,14 @@ def thermo_janaf(
 
 
 @thermo_app.command("list")
+@calls("thermochemistry")
 def thermo_list(as_json: bool = JSON_OPTION) -> None:
     """The species that have thermochemistry, with its range, method and fit deviation.
 
     Example: ratebank thermo list --json
     """
-    from ratebank.report.thermo import thermo_records, thermo_table
-    from ratebank.services.thermo import list_thermo
-
-    with store_session() as session:
-        rows = list_thermo(session)
+    with opened_store() as store:
+        rows = store.thermochemistry()
     if as_json:
         print_json(thermo_records(rows))
     else:
@@ -147,6 +138,7 @@ def thermo_list(as_json: bool = JSON_OPTION) -> None:
 
 
 @thermo_app.command("reaction")
+@calls("reaction_thermochemistry")
 def thermo_reaction(
     key: str = typer.Argument(..., help="Reaction key or equation."),
     temperatures: list[float] = typer.Option(..., "-T", "--temperature", help="Temperature [K]."),
@@ -160,11 +152,8 @@ def thermo_reaction(
 
     Example: ratebank thermo reaction h-o2-m -T 298 -T 1000 --units atmospheric
     """
-    from ratebank.report.thermo import reaction_thermo_records, reaction_thermo_table
-    from ratebank.services.thermo import reaction_thermo
-
-    with store_session() as session:
-        report = reaction_thermo(session, key, temperatures)
+    with opened_store() as store:
+        report = store.reaction_thermochemistry(key, temperatures)
     if as_json:
         print_json(reaction_thermo_records(report, preset))
     else:
@@ -172,6 +161,7 @@ def thermo_reaction(
 
 
 @thermo_app.command("set-reverse")
+@calls("set_reverse")
 def thermo_set_reverse(
     key: str = typer.Argument(..., help="Reaction key or equation."),
     rule: str = typer.Argument(..., help="none or detailed-balance."),
@@ -180,10 +170,8 @@ def thermo_set_reverse(
 
     Example: ratebank thermo set-reverse oh-h2 detailed-balance
     """
-    from ratebank.services.thermo import set_reverse
-
-    with store_session(write=True) as session:
-        reaction = set_reverse(session, key, rule)
+    with opened_store() as store:
+        reaction = store.set_reverse(key, rule)
     say(f"Reaction {reaction.key}: reverse {rule}.")
 
 
@@ -191,6 +179,7 @@ def thermo_set_reverse(
 
 
 @evans_polanyi_app.command("derived")
+@calls("derived_evans_polanyi")
 def evans_polanyi_derived(
     reaction_class: str = typer.Option(None, "--class", help="Only this class."),
     preset: str = PRESET_OPTION,
@@ -201,13 +190,9 @@ def evans_polanyi_derived(
 
     Example: ratebank evans-polanyi derived --class h-abstraction
     """
-    from ratebank.report.thermo import relation_records, relation_table
-    from ratebank.science.unit_presets import energy_unit_for
-    from ratebank.services.evans_polanyi import derived_relations
-
     unit = energy_unit_for(preset)
-    with store_session() as session:
-        groups = derived_relations(session, reaction_class=reaction_class)
+    with opened_store() as store:
+        groups = store.derived_evans_polanyi(reaction_class=reaction_class)
     if as_json:
         print_json(relation_records(groups, unit))
     else:
@@ -215,6 +200,7 @@ def evans_polanyi_derived(
 
 
 @evans_polanyi_app.command("set-class")
+@calls("set_class_evans_polanyi")
 def evans_polanyi_set_class(
     reaction_class: str = typer.Argument(..., help="Reaction class."),
     e0: float = typer.Argument(..., help="Intrinsic barrier E0 (in --E0-units)."),
@@ -232,11 +218,8 @@ def evans_polanyi_set_class(
 
     Example: ratebank evans-polanyi set-class h-abstraction 45 0.5 --E0-units kJ/mol
     """
-    from ratebank.services.evans_polanyi import set_class_relation
-
-    with store_session(write=True) as session:
-        rule = set_class_relation(
-            session,
+    with opened_store() as store:
+        rule = store.set_class_evans_polanyi(
             reaction_class,
             e0,
             alpha,
@@ -252,18 +235,15 @@ def evans_polanyi_set_class(
 
 
 @evans_polanyi_app.command("list")
+@calls("evans_polanyi_rules")
 def evans_polanyi_list(preset: str = PRESET_OPTION, as_json: bool = JSON_OPTION) -> None:
     """The Evans-Polanyi relations set for classes.
 
     Example: ratebank evans-polanyi list --units si
     """
-    from ratebank.report.thermo import rule_records, rule_table
-    from ratebank.science.unit_presets import energy_unit_for
-    from ratebank.services.evans_polanyi import list_relations
-
     unit = energy_unit_for(preset)
-    with store_session() as session:
-        rules = list_relations(session)
+    with opened_store() as store:
+        rules = store.evans_polanyi_rules()
     if as_json:
         print_json(rule_records(rules, unit))
     else:
@@ -271,6 +251,7 @@ def evans_polanyi_list(preset: str = PRESET_OPTION, as_json: bool = JSON_OPTION)
 
 
 @evans_polanyi_app.command("clear-class")
+@calls("clear_class_evans_polanyi")
 def evans_polanyi_clear_class(
     reaction_class: str = typer.Argument(..., help="Reaction class."),
 ) -> None:
@@ -278,8 +259,6 @@ def evans_polanyi_clear_class(
 
     Example: ratebank evans-polanyi clear-class h-abstraction
     """
-    from ratebank.services.evans_polanyi import remove_class_relation
-
-    with store_session(write=True) as session:
-        remove_class_relation(session, reaction_class)
+    with opened_store() as store:
+        store.clear_class_evans_polanyi(reaction_class)
     say(f"Removed the Evans-Polanyi relation of class {reaction_class}.")

@@ -32,6 +32,7 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from ratebank import __version__, safe_output
+from ratebank.caution import CAUTION
 from ratebank.errors import RatebankError
 from ratebank.services import mechanism
 from ratebank.services.memory import paused_garbage_collection
@@ -269,8 +270,7 @@ def export_mechanism(
         "profile": "tabular-data-resource",
         "name": _slug(out.stem),
         "title": "Mechanism table exported by ratebank",
-        "description": "One row per reaction: k = A T^n exp(-Ea/(R T)), T in K. "
-        + mechanism.CAUTION,
+        "description": "One row per reaction: k = A T^n exp(-Ea/(R T)), T in K. " + CAUTION,
         "path": out.name,
         "format": "csv",
         "mediatype": "text/csv",
@@ -307,7 +307,7 @@ def export_mechanism(
             "chosen_by": {
                 r.key: {"expression_id": r.expression_id, "rule": r.chosen_by} for r in table.rows
             },
-            "caution": mechanism.CAUTION,
+            "caution": CAUTION,
             "text_cells": TEXT_CELL_RULE,
             "reverse": descriptor_block(table.reverse),
         },

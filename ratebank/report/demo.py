@@ -2,13 +2,15 @@
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 
-from ratebank.io.demo import DemoResult
+from ratebank.caution import CAUTION
 from ratebank.report.tables import import_message
-from ratebank.services.mechanism import CAUTION
+
+if TYPE_CHECKING:  # types only: a report module must stay light to import
+    from ratebank.io.demo import DemoResult
 
 
 def demo_summary(result: DemoResult) -> list[Any]:

@@ -19,11 +19,13 @@ import os
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ratebank import safe_output
 from ratebank.errors import RatebankError
-from ratebank.services.plot_data import ReactionPlotData, StericPlotData
+
+if TYPE_CHECKING:  # types only: a report module must stay light to import
+    from ratebank.services.plot_data import ReactionPlotData, StericPlotData
 
 #: File formats a plot can be written in, by suffix.
 PLOT_FORMATS = ("png", "svg", "pdf")

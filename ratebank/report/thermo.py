@@ -4,21 +4,23 @@ rates and Evans-Polanyi relations."""
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 
 from ratebank.report.format import shown, sig, trange
-from ratebank.services.evans_polanyi import ClassRelation
-from ratebank.services.reverse import ReverseRateReport
-from ratebank.services.thermo import (
-    ReactionThermoReport,
-    SpeciesThermoView,
-    ThermoImportReport,
-    kc_unit,
-)
-from ratebank.store.evans_polanyi import EvansPolanyiRuleRow
-from ratebank.store.thermo import ThermoRow
+from ratebank.science.unit_presets import kc_unit
+
+if TYPE_CHECKING:  # types only: a report module must stay light to import
+    from ratebank.services.evans_polanyi import ClassRelation
+    from ratebank.services.reverse import ReverseRateReport
+    from ratebank.services.thermo import (
+        ReactionThermoReport,
+        SpeciesThermoView,
+        ThermoImportReport,
+    )
+    from ratebank.store.evans_polanyi import EvansPolanyiRuleRow
+    from ratebank.store.thermo import ThermoRow
 
 KJ = 1e3
 

@@ -71,12 +71,6 @@ RATE_LAW_CONVENTION = (
     "(and [M] for a third body). For a self-reaction A + A -> products, r = k[A]^2 and "
     "d[A]/dt = -2 r; a code that writes d[A]/dt = -k[A]^2 needs twice this k."
 )
-CAUTION = (
-    "Estimated rate parameters are order-of-magnitude guidance and fitted ones hold only "
-    "over their measured range. Where this mechanism feeds safety decisions (ignition, "
-    "explosion limits, emissions permits), its numbers must be validated against "
-    "measurements; local codes and licensed practice decide."
-)
 
 _VOLUMES = {"cm3": ("cm6", 1e-6), "dm3": ("dm6", 1e-3), "L": ("L2", 1e-3), "m3": ("m6", 1.0)}
 _AMOUNTS = ("molecule", "mol")

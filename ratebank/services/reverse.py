@@ -31,14 +31,13 @@ from ratebank.science.thermo import (
     reaction_thermochemistry,
     reverse_rate_constant,
 )
-from ratebank.science.unit_presets import rate_unit_for
+from ratebank.science.unit_presets import kc_unit, rate_unit_for
 from ratebank.science.units import energy_from_si, energy_to_si, rate_from_si, rate_to_si
 from ratebank.services.selection import chosen_expressions, evaluate
 from ratebank.services.thermo import (
     ReactionThermoInputs,
     check_in_range,
     inputs_of,
-    kc_unit,
     lacking_thermo_message,
     reaction_thermo_inputs,
 )

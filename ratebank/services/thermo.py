@@ -28,7 +28,6 @@ from ratebank.science.thermo import (
     reaction_thermochemistry,
     standard_properties,
 )
-from ratebank.science.units import parse_unit
 from ratebank.services.thermo_validation import (
     LAYOUTS,
     GivenPolynomials,
@@ -58,7 +57,6 @@ DEFAULT_TEMPERATURES = (298.15, 500.0, 1000.0, 1500.0, 2000.0)
 GIVEN_METHOD = "given coefficients"
 FITTED_METHOD = "fitted to tabulated Cp"
 #: The concentration unit of each unit preset; Kc is in it to the power Δn.
-CONCENTRATIONS = {"combustion": "mol/cm3", "atmospheric": "molecule/cm3", "si": "mol/m3"}
 #: An ideal gas has Cp° of at least 5R/2 (a monatomic gas); a table below it is not of a gas.
 IDEAL_GAS_MINIMUM_CP = 2.5 * GAS_CONSTANT
 
@@ -542,33 +540,3 @@ def set_reverse(session: Session, key: str, rule: str) -> ReactionRow:
     set_reverse_rule(session, reaction.id, None if rule == "none" else rule)
     audit.record(session, "reaction.reverse", reaction.key, reverse=rule, before=before)
     return reaction
-
-
-def kc_unit(preset: str, delta_n: int) -> tuple[str, float]:
-    """The unit of Kc for a change of ``delta_n`` moles in ``preset``, and its SI factor
-    (Kc_SI = Kc × factor).
-
-    >>> kc_unit("combustion", -1)
-    ('cm3/mol', 1e-06)
-    >>> kc_unit("si", 0)
-    ('1', 1.0)
-    """
-    if preset not in CONCENTRATIONS:
-        raise BadInputError(
-            f"unknown unit preset {preset!r}; expected one of {', '.join(CONCENTRATIONS)}",
-            argument="preset",
-        )
-    if delta_n == 0:
-        return "1", 1.0
-    amount, volume = (_power(symbol, abs(delta_n)) for symbol in CONCENTRATIONS[preset].split("/"))
-    text = f"{amount}/{volume}" if delta_n > 0 else f"{volume}/{amount}"
-    return text, parse_unit(text).to_si
-
-
-def _power(symbol: str, power: int) -> str:
-    """A unit symbol to a power in the project's spelling: cm3 squared is cm6."""
-    if power == 1:
-        return symbol
-    if symbol[-1].isdigit():
-        return f"{symbol[:-1]}{int(symbol[-1]) * power}"
-    return f"{symbol}{power}"

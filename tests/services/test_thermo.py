@@ -14,6 +14,7 @@ from scipy import constants
 
 from ratebank.errors import BadInputError, ImportValidationError, NotFoundError
 from ratebank.io.thermo_files import import_thermo_file
+from ratebank.science.unit_presets import kc_unit
 from ratebank.science.units import parse_unit
 from ratebank.services import thermo
 from ratebank.services.store_access import open_store
@@ -255,7 +256,7 @@ def test_a_temperature_outside_the_polynomials_is_refused(store):
 def test_kc_units_follow_from_delta_n(preset, delta_n, text, factor):
     """Kc in (concentration)^Δn: the factors are worked out by hand (1 cm3 = 1e-6 m3;
     N_A from scipy.constants)."""
-    unit, to_si = thermo.kc_unit(preset, delta_n)
+    unit, to_si = kc_unit(preset, delta_n)
     assert unit == text
     assert to_si == pytest.approx(factor, rel=1e-12)
     if delta_n:

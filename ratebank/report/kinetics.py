@@ -3,16 +3,18 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 
 from ratebank.report.format import shown, sig, trange
-from ratebank.services.checks import CheckReport
-from ratebank.services.estimation import EstimateReport
-from ratebank.services.fitting import FitReport
-from ratebank.services.mechanism import RateReport
-from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
+
+if TYPE_CHECKING:  # types only: a report module must stay light to import
+    from ratebank.services.checks import CheckReport
+    from ratebank.services.estimation import EstimateReport
+    from ratebank.services.fitting import FitReport
+    from ratebank.services.mechanism import RateReport
+    from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
 
 
 def _units(order: int, preset: str) -> tuple[str, str]:

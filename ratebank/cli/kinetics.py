@@ -1,4 +1,4 @@
-"""Commands of the main job: fit, steric, estimate, check, rate, recommend, export."""
+"""Commands of the kinetics: fit, steric, estimate, check, rate, recommend, export."""
 
 from __future__ import annotations
 
@@ -6,8 +6,24 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import STATE, number, print_json, say, show, store_session
+from ratebank.cli.common import STATE, calls, number, opened_store, print_json, say, show
 from ratebank.cli.progress import progress_bar
+from ratebank.errors import RefusedEstimateError
+from ratebank.report.kinetics import (
+    check_records,
+    check_table,
+    derived_records,
+    derived_table,
+    estimate_records,
+    estimate_tables,
+    fit_records,
+    fit_table,
+    rate_records,
+    rate_table,
+    steric_rule_records,
+    steric_rule_tables,
+)
+from ratebank.report.thermo import reverse_rate_records, reverse_rate_table
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 PRESET_OPTION = typer.Option(
@@ -40,6 +56,7 @@ def register(app: typer.Typer) -> None:
     app.add_typer(steric_app, name="steric")
 
 
+@calls("fit")
 def fit(
     keys: list[str] = typer.Argument(None, help="Reaction keys (default: every measured one)."),
     form: str = typer.Option(
@@ -59,11 +76,8 @@ def fit(
 
     Example: ratebank fit oh-ch4 --form auto
     """
-    from ratebank.report.mechanism import fit_records, fit_table
-    from ratebank.services.fitting import fit_reactions
-
-    with store_session(write=True) as session, progress_bar(STATE.quiet) as progress:
-        report = fit_reactions(session, keys or None, form=form, fixed_n=fixed_n, progress=progress)
+    with opened_store() as store, progress_bar(STATE.quiet) as progress:
+        report = store.fit(keys or None, form=form, fixed_n=fixed_n, progress=progress)
     if as_json:
         print_json(fit_records(report, preset))
     elif not STATE.quiet:
@@ -73,6 +87,7 @@ def fit(
         raise typer.Exit(1)
 
 
+@calls("estimate")
 def estimate(
     keys: list[str] = typer.Argument(
         None, help="Reaction keys (default: every bimolecular reaction with only an Ea)."
@@ -115,14 +130,9 @@ def estimate(
 
     Example: ratebank estimate --class h-abstraction --collision hard-sphere
     """
-    from ratebank.errors import RefusedEstimateError
-    from ratebank.report.mechanism import estimate_records, estimate_tables
-    from ratebank.services.estimation import estimate as run_estimate
-
     try:
-        with store_session(write=True) as session, progress_bar(STATE.quiet) as progress:
-            report = run_estimate(
-                session,
+        with opened_store() as store, progress_bar(STATE.quiet) as progress:
+            report = store.estimate(
                 keys or None,
                 steric=steric,
                 T_ref=t_ref,
@@ -163,6 +173,7 @@ def _check_summary(report) -> str:  # type: ignore[no-untyped-def]
     )
 
 
+@calls("check")
 def check(
     t_range: tuple[float, float] = typer.Option(
         None,
@@ -190,16 +201,9 @@ def check(
 
     Example: ratebank check --t-range 300 2000
     """
-    from ratebank.report.mechanism import check_records, check_table
-    from ratebank.services.checks import check_store
-
-    with store_session() as session:
-        report = check_store(
-            session,
-            T_range=_t_range(t_range),
-            ignore=ignore or None,
-            keys=keys or None,
-            collision=collision,
+    with opened_store() as store:
+        report = store.check(
+            keys or None, T_range=_t_range(t_range), ignore=ignore or None, collision=collision
         )
     if as_json:
         print_json(check_records(report))
@@ -210,6 +214,7 @@ def check(
         raise typer.Exit(1)
 
 
+@calls("rate")
 def rate(
     key: str = typer.Argument(..., help="Reaction key or equation."),
     temperatures: list[float] = typer.Option(
@@ -229,34 +234,15 @@ def rate(
 
     Example: ratebank rate oh-ch4 -T 298 -T 1000 --k-units cm3/molecule/s
     """
-    from ratebank.report.mechanism import rate_records, rate_table
-    from ratebank.services.mechanism import rate as rate_of
-
-    if reverse:
-        _reverse_rate(key, temperatures, k_units, preset, as_json)
-        return
-    with store_session() as session:
-        report = rate_of(session, key, temperatures, k_units=k_units, preset=preset)
+    with opened_store() as store:
+        report = store.rate(key, temperatures, k_units=k_units, preset=preset, reverse=reverse)
     if as_json:
-        print_json(rate_records(report))
+        print_json(reverse_rate_records(report) if reverse else rate_records(report))
     else:
-        show(rate_table(report))
+        show(reverse_rate_table(report) if reverse else rate_table(report))
 
 
-def _reverse_rate(
-    key: str, temperatures: list[float], k_units: str | None, preset: str, as_json: bool
-) -> None:
-    from ratebank.report.thermo import reverse_rate_records, reverse_rate_table
-    from ratebank.services.reverse import reverse_rate
-
-    with store_session() as session:
-        report = reverse_rate(session, key, temperatures, k_units=k_units, preset=preset)
-    if as_json:
-        print_json(reverse_rate_records(report))
-    else:
-        show(reverse_rate_table(report))
-
-
+@calls("recommend")
 def recommend(
     key: str = typer.Argument(..., help="Reaction key or equation."),
     expression_id: int = typer.Argument(..., help="Id of the expression (see expressions list)."),
@@ -265,14 +251,12 @@ def recommend(
 
     Example: ratebank recommend oh-ch4 12
     """
-    from ratebank.services.selection import recommend as mark
-
-    with store_session(write=True) as session:
-        expression = mark(session, key, expression_id)
-        origin = expression.origin
+    with opened_store() as store:
+        origin = store.recommend(key, expression_id).origin
     say(f"Expression {expression_id} ({origin}) is now the recommended one for {key}.")
 
 
+@calls("export")
 def export(
     out: Path = typer.Argument(..., help="Output CSV; the descriptor goes beside it."),
     preset: str = typer.Option(
@@ -306,26 +290,17 @@ def export(
 
     Example: ratebank export mechanism.csv --preset atmospheric
     """
-    from ratebank.cli.common import open_store_handle
-    from ratebank.io.export import export_mechanism
-
-    store = open_store_handle()
-    try:
-        with store.session(write=True) as session:
-            result = export_mechanism(
-                session,
-                out,
-                preset=preset,
-                k_units=k_units,
-                e_units=e_units,
-                form=form,
-                linearise_at=linearise_at,
-                leave_out_gaps=leave_out_gaps,
-                store_label=store.display_url,
-                reverse_as_fit=reverse_as_fit,
-            )
-    finally:
-        store.close()
+    with opened_store() as store:
+        result = store.export(
+            out,
+            preset=preset,
+            k_units=k_units,
+            e_units=e_units,
+            form=form,
+            linearise_at=linearise_at,
+            leave_out_gaps=leave_out_gaps,
+            reverse_as_fit=reverse_as_fit,
+        )
     left = result.table.left_out
     say(
         f"Wrote {len(result.table.rows)} reactions to {result.table_path} and "
@@ -335,16 +310,14 @@ def export(
 
 
 @steric_app.command("list")
+@calls("steric_rules")
 def steric_list(as_json: bool = JSON_OPTION) -> None:
     """The stored steric factors: class rules and per-reaction values.
 
     Example: ratebank steric list
     """
-    from ratebank.report.mechanism import steric_rule_records, steric_rule_tables
-    from ratebank.services.steric import list_rules
-
-    with store_session() as session:
-        rules, reactions = list_rules(session)
+    with opened_store() as store:
+        rules, reactions = store.steric_rules()
     if as_json:
         print_json(steric_rule_records(rules, reactions))
     else:
@@ -352,6 +325,7 @@ def steric_list(as_json: bool = JSON_OPTION) -> None:
 
 
 @steric_app.command("set-class")
+@calls("set_class_steric")
 def steric_set_class(
     reaction_class: str = typer.Argument(..., help="Reaction class."),
     value: float = typer.Argument(..., help="Steric factor P.", parser=number),
@@ -377,11 +351,8 @@ def steric_set_class(
 
     Example: ratebank steric set-class h-abstraction 0.05 --source "analogy with OH + C2H6"
     """
-    from ratebank.services.steric import set_class_rule
-
-    with store_session(write=True) as session:
-        rule = set_class_rule(
-            session,
+    with opened_store() as store:
+        rule = store.set_class_steric(
             reaction_class,
             value,
             uncertainty_factor=uncertainty_factor,
@@ -394,19 +365,19 @@ def steric_set_class(
 
 
 @steric_app.command("clear-class")
+@calls("clear_class_steric")
 def steric_clear_class(reaction_class: str = typer.Argument(..., help="Reaction class.")) -> None:
     """Remove the steric rule of a reaction class.
 
     Example: ratebank steric clear-class h-abstraction
     """
-    from ratebank.services.steric import remove_class_rule
-
-    with store_session(write=True) as session:
-        remove_class_rule(session, reaction_class)
+    with opened_store() as store:
+        store.clear_class_steric(reaction_class)
     say(f"Removed the steric rule of class {reaction_class}.")
 
 
 @steric_app.command("set-reaction")
+@calls("set_reaction_steric")
 def steric_set_reaction(
     key: str = typer.Argument(..., help="Reaction key or equation."),
     value: float = typer.Argument(..., help="Steric factor P.", parser=number),
@@ -422,27 +393,25 @@ def steric_set_reaction(
 
     Example: ratebank steric set-reaction ho2-ho2 0.02 --source "analogy"
     """
-    from ratebank.services.steric import set_reaction_steric
-
-    with store_session(write=True) as session:
-        stored = set_reaction_steric(session, key, value, source=source, definition=definition)
+    with opened_store() as store:
+        stored = store.set_reaction_steric(key, value, source=source, definition=definition)
     say(f"Reaction {key}: local P = {stored.steric_factor:g}.")
 
 
 @steric_app.command("clear-reaction")
+@calls("clear_reaction_steric")
 def steric_clear_reaction(key: str = typer.Argument(..., help="Reaction key or equation.")) -> None:
     """Remove the steric factor stored on one reaction.
 
     Example: ratebank steric clear-reaction ho2-ho2
     """
-    from ratebank.services.steric import set_reaction_steric
-
-    with store_session(write=True) as session:
-        set_reaction_steric(session, key, None)
+    with opened_store() as store:
+        store.clear_reaction_steric(key)
     say(f"Reaction {key}: stored steric factor removed.")
 
 
 @steric_app.command("derived")
+@calls("derived_steric_factors")
 def steric_derived(
     collision: str = COLLISION_OPTION,
     reaction_class: str = typer.Option(None, "--class", help="Only this class."),
@@ -452,11 +421,8 @@ def steric_derived(
 
     Example: ratebank steric derived --collision lennard-jones
     """
-    from ratebank.report.mechanism import derived_records, derived_table
-    from ratebank.services.steric import derived_steric_factors
-
-    with store_session() as session:
-        groups = derived_steric_factors(session, model=collision, reaction_class=reaction_class)
+    with opened_store() as store:
+        groups = store.derived_steric_factors(collision=collision, reaction_class=reaction_class)
     if as_json:
         print_json(derived_records(groups))
     else:
