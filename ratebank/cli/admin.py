@@ -93,7 +93,7 @@ def expressions_edit(
     )
 
 
-@calls("backup")
+@calls("api.backup")
 def backup(
     file: Path = typer.Argument(..., help="The backup file to write."),
     force: bool = typer.Option(False, "--force", help="Replace FILE if it exists."),
@@ -116,7 +116,7 @@ def backup(
     say(f"Content fingerprint: {result.fingerprint}")
 
 
-@calls("restore")
+@calls("api.restore")
 def restore(
     file: Path = typer.Argument(..., help="A backup written by `ratebank backup`."),
 ) -> None:

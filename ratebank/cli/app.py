@@ -125,7 +125,7 @@ def main_options(
 
 
 @app.command()
-@calls("init")
+@calls("api.init")
 def init() -> None:
     """Create the store, or upgrade it to this ratebank's schema.
 
@@ -166,7 +166,7 @@ def history(
 
 
 @app.command()
-@calls("demo")
+@calls("api.demo")
 def demo(
     db: Path = typer.Option(
         Path("ratebank-demo.db"), "--db", help="Where to build the demo store."

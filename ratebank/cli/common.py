@@ -93,7 +93,8 @@ def opened_store() -> Iterator[Store]:
 
 
 def calls(method: str) -> Callable[[Callable[..., Any]], Callable[..., Any]]:
-    """Declare the one ``ratebank.api`` method (or function) a command is a thin call of.
+    """Declare the one ``ratebank.api`` call a command is a thin call of: a ``Store`` method
+    by name (``"fit"``), or a module function as ``"api.init"``.
 
     A command parses its options, makes that one call and renders the result;
     ``tests/cli/test_commands.py`` walks every command and checks that it does.
