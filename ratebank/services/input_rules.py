@@ -10,7 +10,8 @@ Numbers
     close to zero to be stored at full precision (subnormal doubles, below
     about 2.2e-308) are refused too. Every importer and every command-line
     number go through :func:`number_text_problem` (one cell) or
-    :func:`number_problems` (a column, looking closely only at suspect cells);
+    :func:`~ratebank.services.measurement_validation.number_problems` (a column,
+    looking closely only at suspect cells);
     a property test checks that the two agree.
 
 Names
@@ -32,8 +33,10 @@ import math
 import re
 import sys
 import unicodedata
-from collections.abc import Sequence
-from typing import Any
+
+from ratebank.errors import EquationError
+from ratebank.science.equation import check_species_name
+from ratebank.science.units import rate_to_si
 
 #: The one accepted spelling of a number (after surrounding spaces are removed).
 NUMBER_SYNTAX = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
@@ -96,40 +99,9 @@ and exponent (e.g. 1.5e-12); expected a temperature in K
     return float(text.strip(NUMBER_PADDING))
 
 
-def number_problems(texts: Sequence[str], values: Any, present: Any) -> list[tuple[int, str]]:
-    """(index, reason) for each present cell of ``texts`` that is not an accepted number.
-
-    ``values`` holds Python's ``float`` of each text (NaN where it could not
-    read it) and ``present`` marks the non-empty cells, both as numpy arrays.
-    Every reason comes from :func:`number_text_problem`; only the cells that
-    can have one are looked at one by one: those ``float`` could not read or
-    read as infinite, NaN or subnormal, and, when the column holds any
-    character outside the plain syntax, those cells.
-    """
-    import numpy as np
-
-    with np.errstate(invalid="ignore"):
-        suspects = present & (
-            ~np.isfinite(values) | ((values != 0) & (np.abs(values) < SMALLEST_NORMAL))
-        )
-    if not _PLAIN_CHARACTERS.fullmatch("".join(texts)):
-        plain = np.fromiter(
-            (_PLAIN_CHARACTERS.fullmatch(text) is not None for text in texts),
-            dtype=bool,
-            count=len(texts),
-        )
-        suspects |= present & ~plain
-    found = []
-    for i in np.flatnonzero(suspects).tolist():
-        problem = number_text_problem(texts[i])
-        if problem is not None:
-            found.append((i, problem))
-    return found
-
-
 #: Characters of the plain syntax: where a column holds only these, Python's ``float``
 #: reads exactly the texts :data:`NUMBER_SYNTAX` accepts.
-_PLAIN_CHARACTERS = re.compile(r"[0-9+\-.eE \t]*")
+PLAIN_CHARACTERS = re.compile(r"[0-9+\-.eE \t]*")
 
 
 def temperature_problem(value: float) -> str | None:
@@ -164,9 +136,6 @@ control character; use printable characters only"
 
 def species_name_problem(name: str) -> str | None:
     """Why ``name`` cannot be a species name, or None: printable, and readable in equations."""
-    from ratebank.errors import EquationError
-    from ratebank.science.equation import check_species_name
-
     problem = name_problem(name, "species name")
     if problem is not None:
         return problem
@@ -202,8 +171,6 @@ def rate_constant_bounds_si(order: int) -> tuple[float, float, str]:
     >>> f"{low:.3e}", said
     ('6.022e-13', '1e-30 to 1e-06 cm3/molecule/s')
     """
-    from ratebank.science.units import rate_to_si
-
     low, high, unit = PLAUSIBLE_RATE_CONSTANT.get(order, PLAUSIBLE_RATE_CONSTANT[2])
     return (
         float(rate_to_si(low, unit, order)),

@@ -112,6 +112,37 @@ def _stripped(values: Sequence[str] | None, empty: Sequence[str]) -> Sequence[st
     return [table[text] for text in values]
 
 
+def number_problems(
+    texts: Sequence[str], values: np.ndarray, present: np.ndarray
+) -> list[tuple[int, str]]:
+    """(index, reason) for each present cell of ``texts`` that is not an accepted number.
+
+    ``values`` holds Python's ``float`` of each text (NaN where it could not
+    read it) and ``present`` marks the non-empty cells, both as numpy arrays.
+    Every reason comes from :func:`number_text_problem`; only the cells that
+    can have one are looked at one by one: those ``float`` could not read or
+    read as infinite, NaN or subnormal, and, when the column holds any
+    character outside the plain syntax, those cells.
+    """
+    with np.errstate(invalid="ignore"):
+        suspects = present & (
+            ~np.isfinite(values) | ((values != 0) & (np.abs(values) < input_rules.SMALLEST_NORMAL))
+        )
+    if not input_rules.PLAIN_CHARACTERS.fullmatch("".join(texts)):
+        plain = np.fromiter(
+            (input_rules.PLAIN_CHARACTERS.fullmatch(text) is not None for text in texts),
+            dtype=bool,
+            count=len(texts),
+        )
+        suspects |= present & ~plain
+    found = []
+    for i in np.flatnonzero(suspects).tolist():
+        problem = input_rules.number_text_problem(texts[i])
+        if problem is not None:
+            found.append((i, problem))
+    return found
+
+
 def _column_numbers(
     texts: Sequence[str],
     lines: Sequence[int],
@@ -149,7 +180,7 @@ def _column_numbers(
             except ValueError:
                 values[i] = np.nan
     given = present.copy()
-    for i, message in input_rules.number_problems(texts, values, present):
+    for i, message in number_problems(texts, values, present):
         problems.add(lines[i], column, f"{message}; expected {what}")
         present[i] = False
         values[i] = np.nan
