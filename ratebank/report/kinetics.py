@@ -61,6 +61,8 @@ def fit_records(report: FitReport, preset: str) -> list[dict[str, Any]]:
                 "reduced_chi_square": r.reduced_chi_square,
                 "uncertainty_factor_min": r.uncertainty_factor_min,
                 "uncertainty_factor_max": r.uncertainty_factor_max,
+                "uncertainty_f298": r.uncertainty_f298,
+                "uncertainty_g_K": r.uncertainty_g,
                 "steric_factor": r.steric_factor,
                 "steric_note": r.steric_note,
                 "warnings": r.warnings,

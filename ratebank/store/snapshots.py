@@ -19,7 +19,18 @@ from pathlib import Path
 from typing import Any
 from urllib.parse import quote
 
-from sqlalchemy import JSON, DateTime, Engine, Text, cast, create_engine, func, select, text
+from sqlalchemy import (
+    JSON,
+    DateTime,
+    Engine,
+    Text,
+    cast,
+    create_engine,
+    func,
+    inspect,
+    select,
+    text,
+)
 from sqlalchemy.orm import Session
 
 from ratebank.store.bulk import insert_rows
@@ -28,17 +39,29 @@ from ratebank.store.listings import store_counts
 from ratebank.store.models import (
     AuditEntry,
     Base,
+    EvansPolanyiRule,
     Expression,
     MeasurementSet,
     Participant,
     Point,
     Reaction,
     Species,
+    SpeciesThermo,
     StericRule,
 )
 
 #: Curated tables: a store with a row in any of them is not empty.
-CONTENT_TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
+CONTENT_TABLES = (
+    Species,
+    Reaction,
+    Participant,
+    MeasurementSet,
+    Point,
+    Expression,
+    StericRule,
+    SpeciesThermo,
+    EvansPolanyiRule,
+)
 #: Rows copied per statement during a restore.
 RESTORE_CHUNK = 10_000
 
@@ -117,8 +140,16 @@ def content_table_counts(bind: Engine | Session) -> dict[str, int]:
 
 
 def _content_table_counts(connection: Any) -> dict[str, int]:
+    # a store of an earlier revision lacks the tables added since: they hold nothing
+    present = set(
+        inspect(
+            connection.connection() if isinstance(connection, Session) else connection
+        ).get_table_names()
+    )
     return {
         model.__tablename__: connection.execute(select(func.count()).select_from(model)).scalar()
+        if model.__tablename__ in present
+        else 0
         for model in CONTENT_TABLES
     }
 
