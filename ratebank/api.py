@@ -300,13 +300,22 @@ class Store:
         k_units: str | None = None,
         dry_run: bool = False,
         progress: Progress | None = None,
+        fill_uncertainty: str | None = None,
     ) -> ImportSummary:
         """Import measured k(T) points from a CSV file, all or nothing; an ImportSummary.
 
-        ``k_units`` is the unit of k for rows whose ``k_units`` cell is empty.
+        ``k_units`` is the unit of k for rows whose ``k_units`` cell is empty. A set that
+        states an uncertainty for some points but not others is refused unless
+        ``fill_uncertainty="median"``: then the missing ones take the median of the set's
+        stated relative uncertainties, and the summary and history record it.
         """
         return self._import(
-            "import_measurements_file", path, dry_run=dry_run, k_units=k_units, progress=progress
+            "import_measurements_file",
+            path,
+            dry_run=dry_run,
+            k_units=k_units,
+            progress=progress,
+            fill_uncertainty=fill_uncertainty,
         )
 
     def measurement_sets(self, *, reaction: str | None = None) -> list[SetSummary]:

@@ -405,6 +405,12 @@ def data_import(
     k_units: str = typer.Option(
         None, "--k-units", help="Unit of k for rows whose k_units cell is empty."
     ),
+    fill_uncertainty: str = typer.Option(
+        None,
+        "--fill-uncertainty",
+        help="In a set that states some uncertainties, give the points without one the "
+        "set's median (the only choice: median). Recorded in the history.",
+    ),
     dry_run: bool = DRY_RUN_OPTION,
 ) -> None:
     """Import measured k(T) points (all or nothing).
@@ -416,7 +422,11 @@ def data_import(
     """
     with opened_store() as store, progress_bar(STATE.quiet) as progress:
         summary = store.import_measurements(
-            file, k_units=k_units, dry_run=dry_run, progress=progress
+            file,
+            k_units=k_units,
+            dry_run=dry_run,
+            progress=progress,
+            fill_uncertainty=fill_uncertainty,
         )
     say(import_message(summary))
 

@@ -329,6 +329,7 @@ def import_measurements_file(
     dry_run: bool = False,
     progress: Progress | None = None,
     chunk_rows: int = CHUNK_ROWS,
+    fill_uncertainty: str | None = None,
 ) -> ImportSummary:
     """Stream a measurements file into the store in one transaction; all or nothing.
 
@@ -363,6 +364,7 @@ def import_measurements_file(
         progress=progress,
         problems=problems,
         expected_rows=expected,
+        fill_uncertainty=fill_uncertainty,
     )
     with paused_garbage_collection():
         for chunk_columns, lines in stream:

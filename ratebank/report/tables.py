@@ -401,6 +401,10 @@ def import_message(summary: ImportSummary) -> str:
     extra = ""
     if summary.kind == "measurements":
         extra = f" in {summary.details.get('sets', 0)} sets"
+        filled = summary.details.get("sets_with_filled_uncertainties", 0)
+        if filled:
+            verb = "would fill" if summary.dry_run else "filled"
+            extra += f"; {verb} the missing uncertainties of {filled} sets with the set's median"
     elif summary.kind == "expressions":
         extra = (
             f" ({summary.details.get('complete', 0)} complete, "

@@ -13,6 +13,7 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 from sqlalchemy.orm import Session
 
+from ratebank.errors import BadInputError
 from ratebank.services.measurement_validation import MeasurementChunk, MeasurementValidator
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.services.validate import ImportSummary, LazyReactionResolver, Problems
@@ -20,6 +21,7 @@ from ratebank.store import audit
 from ratebank.store.bulk import SuspendedIndex
 from ratebank.store.records import (
     NewSet,
+    fill_missing_uncertainties,
     insert_points,
     insert_sets,
     measurement_set_names,
@@ -46,6 +48,7 @@ class MeasurementImporter:
         progress: Progress | None = None,
         problems: Problems | None = None,
         expected_rows: int = 0,
+        fill_uncertainty: str | None = None,
     ):
         self.session = session
         self.source = source
@@ -60,6 +63,7 @@ class MeasurementImporter:
             known.intersection,
             self.problems,
             default_k_units=default_k_units,
+            fill_uncertainty=_checked_fill(fill_uncertainty),
         )
         self._set_ids: list[int] = []
         self._expected_rows = expected_rows
@@ -109,13 +113,51 @@ class MeasurementImporter:
             self.problems.raise_if_any(self.source)
         if self._point_index is not None:
             self._point_index.restore()
+        filled = self._fill_missing_uncertainties()
         self._savepoint.commit()
         sets = len(self.validator.sets)
         if not self.dry_run and self.points:
-            audit.record(self.session, "data.import", self.source, sets=sets, points=self.points)
+            extra = {"uncertainties_filled_with_the_set_median": filled} if filled else {}
+            audit.record(
+                self.session, "data.import", self.source, sets=sets, points=self.points, **extra
+            )
         return ImportSummary(
-            "measurements", self.source, self.rows, self.points, self.dry_run, {"sets": sets}
+            "measurements",
+            self.source,
+            self.rows,
+            self.points,
+            self.dry_run,
+            self._details(sets),
         )
+
+    def _fill_missing_uncertainties(self) -> dict[str, float]:
+        """The sets whose missing uncertainties were filled with the set's median, and the
+        value used (the caller chose to; it is recorded and reported)."""
+        mixed = [r for r in self.validator.sets if r.mixed and r.id is not None]
+        if self.dry_run or not mixed or self.validator.fill_uncertainty is None:
+            return {}
+        used = fill_missing_uncertainties(self.session, [r.id for r in mixed])
+        return {r.name: used[r.id] for r in mixed if r.id in used}
+
+    def _details(self, sets: int) -> dict[str, int]:
+        if self.validator.fill_uncertainty is None:
+            return {"sets": sets}
+        mixed = sum(1 for r in self.validator.sets if r.mixed)
+        return {"sets": sets, "sets_with_filled_uncertainties": mixed}
+
+
+#: How missing uncertainties of a set that states some may be filled.
+FILL_UNCERTAINTY = ("median",)
+
+
+def _checked_fill(fill: str | None) -> str | None:
+    if fill is not None and fill not in FILL_UNCERTAINTY:
+        raise BadInputError(
+            f"unknown way to fill missing uncertainties {fill!r}; expected "
+            f"{', '.join(FILL_UNCERTAINTY)}",
+            argument="fill_uncertainty",
+        )
+    return fill
 
 
 def _point_columns(chunk: MeasurementChunk, set_ids: list[int]) -> dict[str, list[object]]:

@@ -267,11 +267,14 @@ class MeasurementValidator:
         problems: Problems,
         *,
         default_k_units: str | None = None,
+        fill_uncertainty: str | None = None,
     ):
         self.resolver = resolver
         self.set_exists = set_exists
         self.problems = problems
         self.default_k_units = default_k_units or ""
+        #: how points without an uncertainty in a set with some are filled (None: refused)
+        self.fill_uncertainty = fill_uncertainty
         self.sets: list[MeasurementSetRecord] = []
         self.by_name: dict[str, int] = {}
         self._unit_cache: dict[tuple[str, int], float | str] = {}
@@ -647,11 +650,14 @@ class MeasurementValidator:
             record.without_uncertainty += int(total[local] - with_counts[local])
             if record.with_uncertainty and record.without_uncertainty and not record.mixed:
                 record.mixed = True
+                if self.fill_uncertainty is not None:
+                    continue  # filled once the set is complete, and said so
                 missing = np.flatnonzero(~stated & (rows.local_index == local))
                 first = lines[int(missing[0])] if missing.size else record.first_line
                 self.problems.add(
                     first,
                     "k_uncertainty",
                     f"set {record.name!r} states an uncertainty for some points but not for "
-                    f"this one; give every point of a set an uncertainty, or none",
+                    "this one; give every point of a set an uncertainty, or none, or fill the "
+                    "missing ones with the set's median",
                 )

@@ -13,11 +13,12 @@ service modules with the small imports, start fast.
 
 from __future__ import annotations
 
+import statistics
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, NamedTuple
 
-from sqlalchemy import insert, select
+from sqlalchemy import insert, select, update
 from sqlalchemy.orm import Session
 from sqlalchemy.orm.exc import StaleDataError
 
@@ -31,7 +32,7 @@ from ratebank.store.bulk import (
 )
 from ratebank.store.engine import concurrent_edit_message
 from ratebank.store.expressions import update_expression
-from ratebank.store.models import Expression, MeasurementSet, Reaction, Species
+from ratebank.store.models import Expression, MeasurementSet, Point, Reaction, Species
 
 #: Rows per ``IN (...)`` list of the ORM lookups.
 _LOOKUP_CHUNK = 500
@@ -412,3 +413,27 @@ def write_expression_edit(
         current = _load_expression(session, expression.id, lock=False)
         raise stale_edit_error(expression.id, expression.version, current) from None
     return expression._loaded.version
+
+
+def fill_missing_uncertainties(session: Session, set_ids: Sequence[int]) -> dict[int, float]:
+    """Give each point of these sets that states no uncertainty the median relative
+    uncertainty of the set's other points; return the value used per set."""
+    used: dict[int, float] = {}
+    for set_id in set_ids:
+        stated = sorted(
+            session.scalars(
+                select(Point.relative_uncertainty).where(
+                    Point.set_id == set_id, Point.relative_uncertainty.is_not(None)
+                )
+            )
+        )
+        if not stated:
+            continue
+        median = statistics.median(stated)
+        session.execute(
+            update(Point)
+            .where(Point.set_id == set_id, Point.relative_uncertainty.is_(None))
+            .values(relative_uncertainty=median)
+        )
+        used[set_id] = median
+    return used

@@ -149,3 +149,35 @@ def test_a_sets_systematic_uncertainty_is_read_once_per_set(store, tmp_path):
     refused = run(store, "data", "import", str(write(tmp_path / "c.csv", too_big)))
     assert ":2: systematic_uncertainty: 1.5 is 150 % of k" in refused.stderr
     assert snapshot(store) == before
+
+
+def test_missing_uncertainties_are_filled_with_the_sets_median_only_when_asked(store, tmp_path):
+    """A set with some uncertainties stated is refused, unless --fill-uncertainty median:
+    then the points without one take the median of the stated ones (synthetic values)."""
+    from sqlalchemy import select
+
+    import ratebank
+    from ratebank.store.models import Point
+
+    rows = MEASUREMENT_HEADER + "".join(
+        f"a,oh-ch4,{T},{3e-11 * 2.718281828 ** (-1100 / T):.6e},cm3/molecule/s,{u},\n"
+        for T, u in ((250, 0.1), (300, 0.3), (350, 0.2), (400, ""), (450, ""))
+    )
+    path = write(tmp_path / "m.csv", rows)
+    before = snapshot(store)
+    refused = run(store, "data", "import", str(path))
+    assert refused.exit_code == 1 and "or fill the missing ones" in refused.stderr
+    assert snapshot(store) == before
+    wrong = run(store, "data", "import", str(path), "--fill-uncertainty", "mean")
+    assert wrong.exit_code == 1 and "expected median" in wrong.stderr
+    dry = run(store, "data", "import", str(path), "--fill-uncertainty", "median", "--dry-run")
+    assert dry.exit_code == 0 and "would fill the missing uncertainties of 1 sets" in dry.stdout
+    assert snapshot(store) == before
+    done = run(store, "data", "import", str(path), "--fill-uncertainty", "median")
+    assert done.exit_code == 0, done.stderr
+    assert "filled the missing uncertainties of 1 sets with the set's median" in done.stdout
+    with ratebank.open(store) as opened, opened.session() as session:
+        stored = sorted(session.scalars(select(Point.relative_uncertainty)))
+    assert stored == pytest.approx([0.1, 0.2, 0.2, 0.2, 0.3])  # median of 0.1, 0.3, 0.2
+    (entry,) = [e for e in ratebank.open(store).history() if e.action == "data.import"]
+    assert entry.detail["uncertainties_filled_with_the_set_median"] == {"a": pytest.approx(0.2)}
