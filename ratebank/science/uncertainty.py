@@ -380,8 +380,8 @@ def covering_panel_factor(T, sigma_ln_k, *, floor=1.0) -> PanelFactor:
     References
     ----------
     Burkholder et al., JPL Publication 19-5 (2019), section 1 (the form,
-    from memory). Helly's theorem: e.g. Matousek, J. *Lectures on Discrete
-    Geometry*; Springer, 2002; ch. 1.
+    from memory). Helly's theorem on convex sets (any standard text on discrete
+    geometry, chapter 1; from memory).
 
     Examples
     --------
