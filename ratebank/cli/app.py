@@ -16,6 +16,7 @@ from ratebank.cli import admin as admin_commands
 from ratebank.cli import common
 from ratebank.cli import mechanism as mechanism_commands
 from ratebank.cli import plot as plot_commands
+from ratebank.cli import review as review_commands
 from ratebank.cli.common import STATE, RatebankGroup, print_json, say, show, store_session
 from ratebank.cli.progress import progress_bar
 
@@ -59,6 +60,7 @@ app.add_typer(expressions_app, name="expressions")
 mechanism_commands.register(app)
 plot_commands.register(app, mechanism_commands.steric_app)
 admin_commands.register(app, expressions_app)
+review_commands.register(app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")
@@ -155,23 +157,53 @@ def history(
 
 @app.command()
 def demo(
+    ctx: typer.Context,
     db: Path = typer.Option(
-        Path("ratebank-demo.db"), "--db", help="Where to build the demo store."
+        None,
+        "--db",
+        help="Where to build the demo store (default: the global --db, else ratebank-demo.db).",
+        show_default=False,
     ),
     out: Path = typer.Option(Path("demo-out"), "--out", help="Folder for the demo's outputs."),
 ) -> None:
     """Build a fresh store from the invented demo scenario and summarise it.
 
     Every rate number in the demo is synthetic. The demo store file is
-    replaced only if it is an earlier demo store.
+    replaced only if it is an earlier demo store. The review book of the demo
+    store is written to OUT/review; the last line is the path of its index.
 
     Example: ratebank demo --db /tmp/demo.db
     """
     from ratebank.io.demo import run_demo
+    from ratebank.report.book import check_book_target
     from ratebank.report.demo import demo_summary
 
+    if db is None:
+        # a --db typed before the command names the demo store; RATEBANK_DB, which
+        # names the group's own store, does not
+        given = ctx.parent.get_parameter_source("db") if ctx.parent else None
+        typed = given is not None and given.name == "COMMANDLINE" and STATE.db
+        db = Path(STATE.db) if typed else Path("ratebank-demo.db")
+        if typed and "://" in str(STATE.db):
+            from ratebank.errors import RatebankError
+
+            raise RatebankError(
+                "the demo builds a SQLite file: give --db a file path, not a database address"
+            )
+    book_folder = out / "review"
+    if out.is_dir():
+        check_book_target(book_folder)
     result = run_demo(db, out, author=STATE.author)
     show(*demo_summary(result))
+    from ratebank.services.store_access import open_store
+
+    store = open_store(str(result.db), author=STATE.author)
+    try:
+        book = review_commands.write_review_book(store, book_folder)
+    finally:
+        store.close()
+    say(f"Review book of the demo store ({book.pages} pages); open its index:")
+    say(str(book.index))
 
 
 # --------------------------------------------------------------------------- species

@@ -551,6 +551,9 @@ def list_species(
 class SpeciesDetail:
     species: SpeciesSummary
     reactions: list[tuple[str, str, str]]  # (key, equation, role)
+    #: for a species without a diameter: the estimate collision theory would use
+    #: (a ``science.diameters.DiameterEstimate``, not stored), else None
+    estimated_diameter: Any = None
 
 
 def show_species(session: Session, name: str) -> SpeciesDetail:
@@ -561,7 +564,10 @@ def show_species(session: Session, name: str) -> SpeciesDetail:
         .where(Participant.species_id == species.id)
         .order_by(Reaction.key)
     ).all()
-    return SpeciesDetail(_species_summary(species), [tuple(r) for r in rows])
+    from ratebank.services.partners import estimated_diameter
+
+    summary = _species_summary(species)
+    return SpeciesDetail(summary, [tuple(r) for r in rows], estimated_diameter(summary))
 
 
 @dataclass(frozen=True)

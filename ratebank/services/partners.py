@@ -187,6 +187,32 @@ def _complete(partner: PartnerData, species: Any, model: str) -> tuple[PartnerDa
     return partner, None
 
 
+def estimated_diameter(species: Any):  # type: ignore[no-untyped-def]
+    """The diameter estimate collision theory would use for a species that has none.
+
+    ``species`` is anything with the species' ``formula``, ``diameter``,
+    ``critical_temperature``, ``critical_pressure``, ``acentric_factor`` and
+    ``boiling_volume`` (SI). Returns the
+    :class:`ratebank.science.diameters.DiameterEstimate` that
+    :func:`collision_pairs` would make, or None when the species has a
+    diameter or none can be estimated. Nothing is stored.
+    """
+    from ratebank.science import diameters
+
+    if species.diameter is not None or diameters.outside_correlations(species.formula):
+        return None
+    try:
+        return diameters.estimate_diameter(
+            Tc=species.critical_temperature,
+            Pc=species.critical_pressure,
+            omega=species.acentric_factor,
+            boiling_volume=species.boiling_volume,
+            formula=species.formula,
+        )
+    except DiameterError:
+        return None
+
+
 class SpeciesRow(NamedTuple):
     """The species columns collision theory reads."""
 
