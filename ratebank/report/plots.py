@@ -671,7 +671,12 @@ def _svg_text(figure: Any) -> str:
     with rc_context({"svg.fonttype": "none", "svg.hashsalt": "ratebank"}), quiet_library():
         figure.savefig(buffer, format="svg")
     text = buffer.getvalue()
-    return text[text.index("<svg") :]
+    # the element alone, without the file's XML prologue and its RDF metadata block
+    text = text[text.index("<svg") :]
+    start, end = text.find("<metadata>"), text.find("</metadata>")
+    if 0 <= start < end:
+        text = text[:start] + text[end + len("</metadata>") :]
+    return text
 
 
 class BookFigures:
