@@ -15,8 +15,19 @@ from ratebank.cli.common import say, store_session
 OUT_OPTION = typer.Option(
     ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
 )
-WIDTH_OPTION = typer.Option(7.0, "--width", help="Figure width in inches.")
-HEIGHT_OPTION = typer.Option(5.0, "--height", help="Figure height in inches.")
+WIDTH_OPTION = typer.Option(
+    None,
+    "--width",
+    help="Figure width in inches (default 7; with --panels 4.6 per column; the steric plot "
+    "widens with its classes).",
+    show_default=False,
+)
+HEIGHT_OPTION = typer.Option(
+    None,
+    "--height",
+    help="Figure height in inches (default 5; with --panels 3.7 per row).",
+    show_default=False,
+)
 DPI_OPTION = typer.Option(
     150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels."
 )
@@ -62,10 +73,10 @@ def plot(
 
     Example: ratebank plot oh-ch4 ho2-ho2 --panels -o arrhenius.png --dpi 200
     """
-    from ratebank.report.plots import check_plot_target, render_arrhenius
+    from ratebank.report.plots import arrhenius_figure_size, check_plot_target, render_arrhenius
     from ratebank.services.plot_data import arrhenius_plot_data
 
-    check_plot_target(out, width, height, dpi)
+    check_plot_target(out, *arrhenius_figure_size(len(set(keys)), panels, width, height), dpi)
     span = None if not t_range or t_range[0] is None else (t_range[0], t_range[1])
     with store_session() as session:
         data = arrhenius_plot_data(session, keys, preset=preset, k_units=k_units, t_range=span)
@@ -91,10 +102,10 @@ def steric_plot(
 
     Example: ratebank steric plot -o steric.svg
     """
-    from ratebank.report.plots import check_plot_target, render_steric
+    from ratebank.report.plots import DEFAULT_SIZE, check_plot_target, render_steric
     from ratebank.services.plot_data import steric_plot_data
 
-    check_plot_target(out, width, height, dpi)
+    check_plot_target(out, width or DEFAULT_SIZE[0], height or DEFAULT_SIZE[1], dpi)
     with store_session() as session:
         data = steric_plot_data(session, collision, reaction_class=reaction_class)
     result = render_steric(data, out, width=width, height=height, dpi=dpi)
