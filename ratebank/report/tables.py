@@ -12,6 +12,8 @@ from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 
+from ratebank.report.layout import ReportTable
+
 if TYPE_CHECKING:  # the overview pulls in the checks; a listing should not pay for them
     from ratebank.services.overview import ReactionOverview
 
@@ -63,7 +65,9 @@ def species_records(rows: Sequence[SpeciesSummary]) -> list[dict[str, Any]]:
 
 
 def species_table(rows: Sequence[SpeciesSummary]) -> Table:
-    table = Table(title=f"Species ({len(rows)})")
+    table = ReportTable(
+        title=f"Species ({len(rows)})", drop=("source", "Pc (bar)", "Tc (K)", "ε/k (K)")
+    )
     for header in (
         "name",
         "formula",
@@ -107,7 +111,7 @@ def species_detail_record(detail: SpeciesDetail) -> dict[str, Any]:
 
 def species_detail_tables(detail: SpeciesDetail) -> list[Table]:
     record = species_detail_record(detail)
-    facts = Table(title=f"Species {detail.species.name}", show_header=False)
+    facts = ReportTable(title=f"Species {detail.species.name}", show_header=False)
     facts.add_column("property")
     facts.add_column("value", overflow="fold")
     labels = {
@@ -127,7 +131,7 @@ def species_detail_tables(detail: SpeciesDetail) -> list[Table]:
     for key, label in labels.items():
         value = record[key]
         facts.add_row(label, sig(value) if isinstance(value, float) else str(value or ""))
-    reactions = Table(title=f"Reactions of {detail.species.name} ({len(detail.reactions)})")
+    reactions = ReportTable(title=f"Reactions of {detail.species.name} ({len(detail.reactions)})")
     for header in ("key", "equation", "role"):
         reactions.add_column(header, overflow="fold")
     for key, equation, role in detail.reactions:
@@ -156,7 +160,9 @@ def reaction_records(rows: Sequence[ReactionSummary]) -> list[dict[str, Any]]:
 
 
 def reactions_table(rows: Sequence[ReactionSummary]) -> Table:
-    table = Table(title=f"Reactions ({len(rows)})")
+    table = ReportTable(
+        title=f"Reactions ({len(rows)})", drop=("expressions", "order", "sets", "points")
+    )
     for header in ("key", "equation", "order", "class", "sets", "points", "expressions", "status"):
         table.add_column(header, overflow="fold")
     for r in rows:
@@ -194,7 +200,7 @@ def set_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
 
 
 def sets_table(rows: Sequence[SetSummary]) -> Table:
-    table = Table(title=f"Measurement sets ({len(rows)})")
+    table = ReportTable(title=f"Measurement sets ({len(rows)})")
     for header in ("set", "reaction", "points", "T (K)", "k given in", "method", "reference"):
         table.add_column(header, overflow="fold")
     for s in rows:
@@ -252,7 +258,10 @@ def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[d
 def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
     records = expression_records(rows, preset)
     e_units = records[0]["Ea_units"] if records else ""
-    table = Table(title=f"Expressions ({len(rows)}), k = A T^n exp(-Ea/RT), {preset} units")
+    table = ReportTable(
+        title=f"Expressions ({len(rows)}), k = A T^n exp(-Ea/RT), {preset} units",
+        drop=("v", "reference", "f", "T (K)", "origin"),
+    )
     for header in (
         "id",
         "reaction",
@@ -309,7 +318,7 @@ def reaction_detail_record(detail: ReactionDetail, preset: str) -> dict[str, Any
 
 
 def reaction_detail_tables(detail: ReactionDetail, preset: str) -> list[Table]:
-    facts = Table(title=f"Reaction {detail.key}", show_header=False)
+    facts = ReportTable(title=f"Reaction {detail.key}", show_header=False)
     facts.add_column("property")
     facts.add_column("value", overflow="fold")
     facts.add_row("equation", detail.equation)
@@ -324,7 +333,7 @@ def reaction_detail_tables(detail: ReactionDetail, preset: str) -> list[Table]:
         )
     if detail.notes:
         facts.add_row("notes", detail.notes)
-    participants = Table(title="Participants")
+    participants = ReportTable(title="Participants")
     for header in ("role", "species", "coefficient", "M (g/mol)", "d (Å)", "ε/k (K)"):
         participants.add_column(header)
     for p in detail.participants:
@@ -373,7 +382,7 @@ def _detail_text(detail: dict[str, Any]) -> str:
 
 
 def history_table(rows: Sequence[HistoryEntry], title: str = "History") -> Table:
-    table = Table(title=f"{title} ({len(rows)}, newest first)")
+    table = ReportTable(title=f"{title} ({len(rows)}, newest first)")
     for header in ("when (UTC)", "who", "what", "target", "detail"):
         table.add_column(header, overflow="fold")
     for h in rows:
@@ -447,7 +456,7 @@ def reaction_overview_tables(overview: ReactionOverview, preset: str) -> list[Ta
     history = tables.pop() if detail.history else None
     unit = rate_unit_for(preset, detail.order)
     origin = {e.id: e.origin for e in detail.expressions}
-    rates = Table(title=f"k at a temperature grid ({unit})")
+    rates = ReportTable(title=f"k at a temperature grid ({unit})")
     rates.add_column("T (K)")
     ids = list(overview.rates)
     for eid in ids:
@@ -462,13 +471,13 @@ def reaction_overview_tables(overview: ReactionOverview, preset: str) -> list[Ta
         rates.caption = f"★ exported ({overview.chosen_rule})"
     tables.append(rates)
     if overview.steric_factors:
-        steric = Table(title="Steric factors")
+        steric = ReportTable(title="Steric factors")
         for header in ("expression", "origin", "P"):
             steric.add_column(header)
         for eid, kind, p in overview.steric_factors:
             steric.add_row(str(eid), kind, sig(p, 3))
         tables.append(steric)
-    flags = Table(title=f"Check flags ({len(overview.flags)})")
+    flags = ReportTable(title=f"Check flags ({len(overview.flags)})")
     flags.add_column("check")
     flags.add_column("finding", overflow="fold")
     for f in overview.flags:
