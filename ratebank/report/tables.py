@@ -29,6 +29,8 @@ from ratebank.services.curate import (
     SpeciesSummary,
 )
 
+#: The one meaning of ★ in every table.
+RECOMMENDED_LEGEND = "★ recommended by the curator"
 G_PER_KG = 1e3
 ANGSTROM_PER_M = 1e10
 BAR_PER_PA = 1e-5
@@ -103,6 +105,17 @@ def species_table(rows: Sequence[SpeciesSummary]) -> Table:
 
 def species_detail_record(detail: SpeciesDetail) -> dict[str, Any]:
     record = species_records([detail.species])[0]
+    guess = detail.estimated_diameter
+    record["diameter_estimate"] = (
+        None
+        if guess is None
+        else {
+            "diameter_angstrom": guess.diameter * ANGSTROM_PER_M,
+            "method": guess.method,
+            "source": guess.source,
+            "stored": False,
+        }
+    )
     record["reactions"] = [
         {"key": key, "equation": equation, "role": role} for key, equation, role in detail.reactions
     ]
@@ -130,7 +143,16 @@ def species_detail_tables(detail: SpeciesDetail) -> list[Table]:
     }
     for key, label in labels.items():
         value = record[key]
-        facts.add_row(label, sig(value) if isinstance(value, float) else str(value or ""))
+        text = sig(value) if isinstance(value, float) else str(value or "")
+        if key == "diameter_angstrom" and record["diameter_estimated"]:
+            text += " (estimated)"
+        guess = record["diameter_estimate"]
+        if key == "diameter_angstrom" and guess is not None:
+            # what collision theory would use: shown, marked, and not stored
+            text = f"{sig(guess['diameter_angstrom'])} (estimated, not stored)"
+        if key == "diameter_method" and guess is not None:
+            text = f"{guess['method']} ({guess['source']})"
+        facts.add_row(label, text)
     reactions = ReportTable(title=f"Reactions of {detail.species.name} ({len(detail.reactions)})")
     for header in ("key", "equation", "role"):
         reactions.add_column(header, overflow="fold")
@@ -290,7 +312,8 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
             r["reference"] or "",
             str(r["version"]),
         )
-    table.caption = "★ recommended by the curator; v: version (for edits with --expect-version)"
+    legend = [RECOMMENDED_LEGEND] if any(r["recommended"] for r in records) else []
+    table.caption = "; ".join([*legend, "v: version (for edits with --expect-version)"])
     return table
 
 
@@ -456,19 +479,26 @@ def reaction_overview_tables(overview: ReactionOverview, preset: str) -> list[Ta
     history = tables.pop() if detail.history else None
     unit = rate_unit_for(preset, detail.order)
     origin = {e.id: e.origin for e in detail.expressions}
+    recommended = {e.id for e in detail.expressions if e.recommended}
     rates = ReportTable(title=f"k at a temperature grid ({unit})")
     rates.add_column("T (K)")
     ids = list(overview.rates)
     for eid in ids:
-        mark = " ★" if eid == overview.chosen_id else ""
+        # ★ means recommended by the curator here too; the exported one is named
+        mark = (" ★" if eid in recommended else "") + (
+            " (exported)" if eid == overview.chosen_id else ""
+        )
         rates.add_column(f"{eid} {origin[eid]}{mark}")
     for i, t in enumerate(overview.temperatures):
         rates.add_row(
             sig(t),
             *[sig(float(rate_from_si(overview.rates[eid][i], unit, detail.order))) for eid in ids],
         )
+    legend = [RECOMMENDED_LEGEND] if recommended & set(ids) else []
     if overview.chosen_id is not None:
-        rates.caption = f"★ exported ({overview.chosen_rule})"
+        legend.append(f"exported: the expression the export uses ({overview.chosen_rule})")
+    if legend:
+        rates.caption = "; ".join(legend)
     tables.append(rates)
     if overview.steric_factors:
         steric = ReportTable(title="Steric factors")

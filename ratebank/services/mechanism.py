@@ -186,6 +186,7 @@ def mechanism_table(
     ``linearise_at`` gives the temperature at which to replace it by its local
     two-parameter form (A T^n e^n, Ea + nRT), which is then recorded.
     """
+    from ratebank.numbers import round_significant
     from ratebank.science.units import energy_from_si, rate_from_si
 
     if form not in FORMS:
@@ -228,10 +229,11 @@ def mechanism_table(
                 key=c.reaction_key,
                 equation=c.equation,
                 order=c.order,
-                # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged)
-                A=A * factors[c.order],
+                # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged),
+                # rounded to 15 digits so that a value given in these units reads back as given
+                A=round_significant(A * factors[c.order]),
                 n=float(n),
-                Ea=Ea * energy_factor,
+                Ea=round_significant(Ea * energy_factor),
                 k_units=units.k_unit(c.order),
                 Ea_units=units.e_units,
                 T_min_K=c.t_min,

@@ -527,6 +527,8 @@ def _column_numbers(
     else:
         present = np.ones(n, dtype=bool)
         candidates = list(texts)
+    # a cell that is not a number is reported as that, not a second time as empty
+    empty = ~present
     try:
         values[present] = np.array(candidates, dtype=np.float64)
     except ValueError:
@@ -549,7 +551,7 @@ def _column_numbers(
                 lines[i], column, f"{texts[i].strip()} must be greater than zero; expected {what}"
             )
     if required:
-        for i in np.flatnonzero(~present):
+        for i in np.flatnonzero(empty):
             problems.add(lines[i], column, f"is empty; expected {what}")
     return values
 
