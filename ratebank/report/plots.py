@@ -224,7 +224,7 @@ def temperature_ticks(t_span: tuple[float, float], max_labels: int = 8) -> list[
     """Round temperatures [K] to label a 1000/T axis with, no two closer than 1/max_labels.
 
     >>> temperature_ticks((300.0, 2000.0), 4)
-    [300, 400, 600, 1000]
+    [300, 400, 600, 1200]
     """
     low, high = t_span
     # nice temperatures crowd at the hot end of a 1/T axis: keep those at least
