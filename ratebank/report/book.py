@@ -300,12 +300,14 @@ def render_book(book: Book, out_dir: Path | str, *, progress: Progress | None = 
         written = 0
         progress.start("writing reaction pages", len(book.reactions))
         for reaction in book.reactions:
-            svg = figures.arrhenius_svg(reaction.plot) if reaction.plot is not None else None
+            plot = figures.arrhenius(reaction.plot) if reaction.plot is not None else None
             text = pages.render(
                 "reaction.html",
                 "../",
                 r=reaction,
-                plot_svg=Markup(svg) if svg else None,
+                plot_svg=Markup(plot.svg) if plot else None,
+                # swatches are built from numbers and colour codes; labels stay escaped
+                legend=[(Markup(e.swatch), e.label) for e in plot.legend] if plot else [],
                 any_recommended=any(e.recommended for e in reaction.expressions),
             )
             _write(folder / "reactions" / pages.reactions[reaction.key], text)
