@@ -832,9 +832,12 @@ class BookFigures:
         given as entries for the page to show beside the plot (drawing it inside
         the figure would cost a quarter of the time).
         """
+        from matplotlib import rc_context
+
         self._empty_arrhenius()
         axes = self._axes
-        with quiet_library():
+        # stored text ("$5 lab") is text, not mathematics to typeset
+        with quiet_library(), rc_context({"text.parse_math": False}):
             extrapolated = _draw_reaction(axes, data, _palette(0, True), alone=True)
             for index, container in enumerate(axes.containers):
                 container.lines[0].set_gid(f"measured-points-{index}")
@@ -857,6 +860,8 @@ class BookFigures:
         figure = self._steric
         figure.clear()
         axes = figure.subplots()
-        with quiet_library():
+        from matplotlib import rc_context
+
+        with quiet_library(), rc_context({"text.parse_math": False}):
             _draw_steric(axes, [points], model, self.STERIC_SIZE[0])
         return _svg_text(figure)

@@ -161,7 +161,9 @@ def store(tmp_path):
     assert run(db, "init").exit_code == 0
     species = SPECIES_CSV.replace("Svehla 1962 (from memory)", HOSTILE)
     reactions = REACTIONS_CSV.replace("self-reaction", HOSTILE.replace(",", " "))
-    points = MEASUREMENTS_CSV.replace("test lab A", HOSTILE.replace('"', "'"))
+    points = MEASUREMENTS_CSV.replace("test lab A", HOSTILE.replace('"', "'")).replace(
+        "test lab B", "lab $B$ (cost $5)"
+    )
     for command, name, text in (
         ("species", "s.csv", species),
         ("reactions", "r.csv", reactions),
@@ -186,9 +188,9 @@ def test_stored_markup_is_shown_as_text(store, tmp_path):
     assert "&lt;script&gt;alert(" in (book / "reactions" / "ho2-ho2.html").read_text(
         encoding="utf-8"
     )
-    assert "&lt;script&gt;alert(" in (book / "reactions" / "oh-ch4.html").read_text(
-        encoding="utf-8"
-    )
+    oh = (book / "reactions" / "oh-ch4.html").read_text(encoding="utf-8")
+    assert "&lt;script&gt;alert(" in oh
+    assert "lab $B$ (cost $5)" in oh  # shown as written, not typeset as mathematics
 
 
 def test_review_limited_by_key_class_or_species(store, tmp_path):
