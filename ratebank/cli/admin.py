@@ -9,14 +9,14 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import STATE, say
+from ratebank.cli.common import STATE, number, say
 
 _FIELD_WORDS = {
     "A": "A",
     "n": "n",
     "Ea": "Ea",
-    "t_min": "T_min",
-    "t_max": "T_max",
+    "T_min": "T_min",
+    "T_max": "T_max",
     "uncertainty_factor": "uncertainty factor",
     "reference": "reference",
 }
@@ -36,15 +36,24 @@ def expressions_edit(
         "--expect-version",
         help="The version you read; the edit is refused if someone changed it since.",
     ),
-    A: float = typer.Option(None, "--A", help="Pre-exponential factor, in --k-units times K^-n."),
+    A: float = typer.Option(
+        None, "--A", help="Pre-exponential factor, in --k-units times K^-n.", parser=number
+    ),
     k_units: str = typer.Option(None, "--k-units", help="Unit of --A, e.g. cm3/molecule/s."),
-    n: float = typer.Option(None, "--n", help="Temperature exponent."),
-    Ea: float = typer.Option(None, "--Ea", help="Activation energy, in --Ea-units."),
+    n: float = typer.Option(None, "--n", help="Temperature exponent.", parser=number),
+    Ea: float = typer.Option(None, "--Ea", help="Activation energy, in --Ea-units.", parser=number),
     Ea_units: str = typer.Option(None, "--Ea-units", help="Unit of --Ea, e.g. kJ/mol or K."),
-    t_min: float = typer.Option(None, "--t-min", help="Lower end of the valid range [K]."),
-    t_max: float = typer.Option(None, "--t-max", help="Upper end of the valid range [K]."),
+    t_min: float = typer.Option(
+        None, "--t-min", help="Lower end of the valid range [K].", parser=number
+    ),
+    t_max: float = typer.Option(
+        None, "--t-max", help="Upper end of the valid range [K].", parser=number
+    ),
     uncertainty_factor: float = typer.Option(
-        None, "--uncertainty-factor", help="Factor (at least 1) by which k is uncertain."
+        None,
+        "--uncertainty-factor",
+        help="Factor (at least 1) by which k is uncertain.",
+        parser=number,
     ),
     reference: str = typer.Option(None, "--reference", help="Where the numbers come from."),
 ) -> None:
@@ -56,7 +65,7 @@ def expressions_edit(
     Example: ratebank expressions edit 12 --Ea 41.5 --Ea-units kJ/mol --expect-version 1
     """
     from ratebank.cli.common import store_session
-    from ratebank.services.editing import edit_expression
+    from ratebank.services.expressions import edit_expression
 
     with store_session(write=True) as session:
         result = edit_expression(
@@ -68,8 +77,8 @@ def expressions_edit(
             Ea=Ea,
             Ea_units=Ea_units,
             k_units=k_units,
-            t_min=t_min,
-            t_max=t_max,
+            T_min=t_min,
+            T_max=t_max,
             uncertainty_factor=uncertainty_factor,
             reference=reference,
         )

@@ -17,7 +17,7 @@ from ratebank.cli import common
 from ratebank.cli import mechanism as mechanism_commands
 from ratebank.cli import plot as plot_commands
 from ratebank.cli import review as review_commands
-from ratebank.cli.common import STATE, RatebankGroup, print_json, say, show, store_session
+from ratebank.cli.common import STATE, RatebankGroup, number, print_json, say, show, store_session
 from ratebank.cli.progress import progress_bar
 
 HELP = """Curate gas-phase rate parameters: store species, reactions and measured k(T);
@@ -145,10 +145,10 @@ def history(
     Example: ratebank history --limit 20
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.history import list_history
 
     with store_session() as session:
-        rows = curate.history(session, limit=limit, target=target, author=author)
+        rows = list_history(session, limit=limit, target=target, author=author)
     if as_json:
         print_json(tables.history_records(rows))
     else:
@@ -213,17 +213,32 @@ def demo(
 def species_add(
     name: str = typer.Argument(..., help="Species name as used in equations, e.g. OH."),
     formula: str = typer.Argument(..., help="Formula, e.g. HO or CH3OH."),
-    molar_mass: float = typer.Option(None, "--molar-mass", help="g/mol (default: from formula)."),
-    diameter: float = typer.Option(None, "--diameter", help="Collision diameter in Å."),
+    molar_mass: float = typer.Option(
+        None, "--molar-mass", help="g/mol (default: from formula).", parser=number
+    ),
+    diameter: float = typer.Option(
+        None, "--diameter", help="Collision diameter in Å.", parser=number
+    ),
     diameter_kind: str = typer.Option(
         None, "--diameter-kind", help="hard-sphere or lennard-jones."
     ),
-    well_depth: float = typer.Option(None, "--well-depth", help="Well depth ε/k_B in K."),
-    critical_temperature: float = typer.Option(None, "--tc", help="Critical temperature in K."),
-    critical_pressure: float = typer.Option(None, "--pc", help="Critical pressure in bar."),
-    acentric_factor: float = typer.Option(None, "--acentric", help="Acentric factor."),
+    well_depth: float = typer.Option(
+        None, "--well-depth", help="Well depth ε/k_B in K.", parser=number
+    ),
+    critical_temperature: float = typer.Option(
+        None, "--tc", help="Critical temperature in K.", parser=number
+    ),
+    critical_pressure: float = typer.Option(
+        None, "--pc", help="Critical pressure in bar.", parser=number
+    ),
+    acentric_factor: float = typer.Option(
+        None, "--acentric", help="Acentric factor.", parser=number
+    ),
     boiling_volume: float = typer.Option(
-        None, "--boiling-volume", help="Molar volume at the normal boiling point, cm3/mol."
+        None,
+        "--boiling-volume",
+        help="Molar volume at the normal boiling point, cm3/mol.",
+        parser=number,
     ),
     source: str = typer.Option(None, "--source", help="Where the numbers come from."),
 ) -> None:
@@ -231,7 +246,7 @@ def species_add(
 
     Example: ratebank species add CH3OH CH3OH --tc 512.6 --pc 80.97
     """
-    from ratebank.services import curate
+    from ratebank.services.species import add_species
 
     def text(value: float | None) -> str | None:
         return None if value is None else repr(value)
@@ -250,7 +265,7 @@ def species_add(
         "source": source,
     }
     with store_session(write=True) as session:
-        curate.add_species(session, **fields)
+        add_species(session, **fields)
     say(f"Added species {name}.")
 
 
@@ -290,10 +305,10 @@ def species_list(
     Example: ratebank species list --missing-diameter
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.species import list_species
 
     with store_session() as session:
-        rows = curate.list_species(session, missing_diameter=missing_diameter, name_contains=name)
+        rows = list_species(session, missing_diameter=missing_diameter, name_contains=name)
     if as_json:
         print_json(tables.species_records(rows))
     else:
@@ -310,10 +325,10 @@ def species_show(
     Example: ratebank species show OH
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.partners import species_detail
 
     with store_session() as session:
-        detail = curate.show_species(session, name)
+        detail = species_detail(session, name)
     if as_json:
         print_json(tables.species_detail_record(detail))
     else:
@@ -334,11 +349,11 @@ def reactions_add(
 
     Example: ratebank reactions add oh-ch4 'OH + CH4 -> CH3 + H2O' --class h-abstraction
     """
-    from ratebank.services import curate
+    from ratebank.services.reactions import add_reaction, show_reaction
 
     with store_session(write=True) as session:
-        curate.add_reaction(session, key, equation, reaction_class=reaction_class, notes=notes)
-        detail = curate.show_reaction(session, key)
+        add_reaction(session, key, equation, reaction_class=reaction_class, notes=notes)
+        detail = show_reaction(session, key)
     say(f"Added reaction {key}: {detail.equation}")
 
 
@@ -379,10 +394,10 @@ def reactions_list(
     Example: ratebank reactions list --species OH --status ea-only
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.reactions import list_reactions
 
     with store_session() as session:
-        rows = curate.list_reactions(
+        rows = list_reactions(
             session, species=species, reaction_class=reaction_class, status=status
         )
     if as_json:
@@ -395,7 +410,11 @@ def reactions_list(
 def reactions_show(
     reaction: str = typer.Argument(..., help="Reaction key or equation."),
     temperatures: list[float] = typer.Option(
-        None, "-T", "--temperature", help="Temperatures [K] for the k table (repeatable)."
+        None,
+        "-T",
+        "--temperature",
+        help="Temperatures [K] for the k table (repeatable).",
+        parser=number,
     ),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
@@ -455,10 +474,10 @@ def data_list(
     Example: ratebank data list --reaction oh-ch4
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.measurements import list_sets
 
     with store_session() as session:
-        rows = curate.list_sets(session, reaction=reaction)
+        rows = list_sets(session, reaction=reaction)
     if as_json:
         print_json(tables.set_records(rows))
     else:
@@ -507,10 +526,10 @@ def expressions_list(
     Example: ratebank expressions list --units atmospheric
     """
     from ratebank.report import tables
-    from ratebank.services import curate
+    from ratebank.services.expressions import list_expressions
 
     with store_session() as session:
-        rows = curate.list_expressions(session, reaction=reaction, origin=origin)
+        rows = list_expressions(session, reaction=reaction, origin=origin)
     if as_json:
         print_json(tables.expression_records(rows, preset))
     else:

@@ -19,7 +19,7 @@ from typing import TYPE_CHECKING, Any
 import typer
 from typer.core import TyperGroup
 
-from ratebank.errors import RatebankError
+from ratebank.errors import BadInputError, ExportGapsError, RatebankError, RefusedEstimateError
 
 if TYPE_CHECKING:
     from rich.console import Console
@@ -108,6 +108,41 @@ def open_store_handle(check: bool = True) -> StoreHandle:
     return open_store(STATE.db, author=STATE.author, check=check)
 
 
+def store_file() -> str | None:
+    """The SQLite file of the store in use, which no output may replace; None for a server."""
+    from sqlalchemy.engine import make_url
+
+    from ratebank.store.engine import database_url
+
+    url = make_url(database_url(STATE.db))
+    return url.database if url.get_backend_name() == "sqlite" else None
+
+
+def number(text: str | float) -> float:
+    """A number given on the command line, in the one syntax the importers accept too.
+
+    Used as the ``parser`` of every number option, so that ``1_000``, digits of
+    other scripts and values too close to zero are refused with the reason;
+    ``inf`` and ``nan`` are left to the command, which refuses them in one line
+    naming the field.
+    """
+    if isinstance(text, int | float):  # a default value, not typed by anyone
+        return float(text)
+    from ratebank.services.input_rules import NUMBER_PADDING, number_text_problem
+
+    problem = number_text_problem(text)
+    if problem is None:
+        return float(text.strip(NUMBER_PADDING))
+    try:
+        value = float(text)
+    except ValueError:
+        value = 0.0
+    if value != value or value in (float("inf"), float("-inf")):
+        # inf and nan reach the command, whose check names the field in one line
+        return value
+    raise typer.BadParameter(problem)
+
+
 def _one_line(text: str) -> str:
     return text.strip()
 
@@ -192,6 +227,38 @@ def prepare_arguments(command: Any, args: list[str], path: str = "") -> list[str
     return [*before, "--", *after] if after else before
 
 
+#: The option that lets a refused command go ahead, by error type.
+_WAY_AROUND = {ExportGapsError: "--leave-out-gaps", RefusedEstimateError: "--keep-going"}
+
+
+def _options_by_argument(command: Any) -> dict[str, str]:
+    """Every option of the command tree, by its parameter name in lower case."""
+    found: dict[str, str] = {}
+    for sub in getattr(command, "commands", {}).values():
+        for name, flag in _options_by_argument(sub).items():
+            found.setdefault(name, flag)
+    for param in getattr(command, "params", []):
+        opts = [o for o in getattr(param, "opts", []) if o.startswith("--")]
+        if opts and param.name:
+            found.setdefault(param.name.lower(), opts[0])
+    return found
+
+
+def with_option_names(exc: RatebankError, command: Any) -> str:
+    """The library's message, with the command-line option it concerns where that helps.
+
+    The library speaks of arguments (``argument="fixed_n"``); a user typed an
+    option (``--fixed-n``), so the option is named here, in one place.
+    """
+    message = str(exc)
+    for kind, option in _WAY_AROUND.items():
+        if isinstance(exc, kind):
+            return f"{message} ({option})"
+    argument = getattr(exc, "argument", None) if isinstance(exc, BadInputError) else None
+    option = _options_by_argument(command).get(argument.lower()) if argument else None
+    return f"{message} (option {option})" if option else message
+
+
 class RatebankGroup(TyperGroup):
     """A command group that turns every error into one line and an exit code."""
 
@@ -218,7 +285,7 @@ class RatebankGroup(TyperGroup):
         except RatebankError as exc:
             if STATE.traceback:
                 raise
-            report_error(str(exc))
+            report_error(with_option_names(exc, self))
             raise typer.Exit(exc.exit_code) from None
         except KeyboardInterrupt:
             if STATE.traceback:
@@ -244,6 +311,25 @@ def _is_command_line_signal(exc: Exception) -> bool:
     return hasattr(exc, "show") and hasattr(exc, "exit_code")
 
 
+def _as_library_error(exc: Exception) -> Exception:
+    """A driver's own error (bulk inserts use the driver directly) as SQLAlchemy's wrapper."""
+    import sqlite3
+
+    from sqlalchemy.exc import DBAPIError
+
+    bases: list[type[Exception]] = [sqlite3.Error]
+    try:
+        import psycopg
+
+        bases.append(psycopg.Error)
+    except ImportError:  # pragma: no cover - psycopg is a dependency
+        pass
+    for base in bases:
+        if isinstance(exc, base):
+            return DBAPIError.instance(None, None, exc, base)
+    return exc
+
+
 def translate_exception(exc: Exception) -> str:
     """A one-line message for a library error, naming what to do next."""
     from ratebank.store.engine import database_url, explain_sqlite_error, mask_url
@@ -266,6 +352,7 @@ def translate_exception(exc: Exception) -> str:
             "someone else changed a record you were editing at the same time; nothing was "
             "written; read it again before changing it"
         )
+    exc = _as_library_error(exc)
     if isinstance(exc, SQLAlchemyError):
         orig = getattr(exc, "orig", None)
         detail = str(orig) if orig is not None else str(exc)
@@ -279,10 +366,17 @@ def translate_exception(exc: Exception) -> str:
             if explained is not None:
                 return str(explained)
         if isinstance(exc, IntegrityError):
-            return f"the store refused the change: {detail}; nothing was written"
+            from ratebank.store.constraints import explain_integrity_error
+
+            return explain_integrity_error(exc)
         if isinstance(exc, DataError):
             # A value validation let through but the database cannot hold (too long, NUL).
             return f"the store refused a value: {detail}; nothing was written"
+        if getattr(orig, "sqlstate", None) == "53100":  # PostgreSQL: disk full
+            return (
+                "the database server has no space left on its disk; nothing was written; ask "
+                "its administrator to free some, then run the command again"
+            )
         if isinstance(exc, DBAPIError) and exc.connection_invalidated:
             return (
                 f"lost the connection to the database server ({detail}); nothing was "

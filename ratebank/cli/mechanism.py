@@ -6,7 +6,7 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import STATE, print_json, say, show, store_session
+from ratebank.cli.common import STATE, number, print_json, say, show, store_session
 from ratebank.cli.progress import progress_bar
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
@@ -48,7 +48,7 @@ def fit(
         help="arrhenius (A, Ea), modified (A, n, Ea) or auto (n only when the data support it).",
     ),
     fixed_n: float = typer.Option(
-        None, "--fixed-n", help="Fit A and Ea with n held at this value."
+        None, "--fixed-n", help="Fit A and Ea with n held at this value.", parser=number
     ),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
@@ -77,25 +77,29 @@ def estimate(
     keys: list[str] = typer.Argument(
         None, help="Reaction keys (default: every bimolecular reaction with only an Ea)."
     ),
-    steric: float = typer.Option(None, "--steric", help="Steric factor P for these reactions."),
+    steric: float = typer.Option(
+        None, "--steric", help="Steric factor P for these reactions.", parser=number
+    ),
     t_ref: float = typer.Option(
-        None, "--t-ref", help="Temperature [K] at which the activation energy holds."
+        None, "--t-ref", help="Temperature [K] at which the activation energy holds.", parser=number
     ),
     collision: str = COLLISION_OPTION,
     reaction_class: str = typer.Option(None, "--class", help="Only reactions of this class."),
     fallback_steric: float = typer.Option(
-        None, "--fallback-steric", help="P for reactions no other rule covers."
+        None, "--fallback-steric", help="P for reactions no other rule covers.", parser=number
     ),
     uncertainty_factor: float = typer.Option(
         None,
         "--uncertainty-factor",
         help="Uncertainty factor when no class spread is known (default 10).",
+        parser=number,
     ),
     t_range: tuple[float, float] = typer.Option(
         None,
         "--t-range",
         help="Valid range TMIN TMAX [K] for estimates that state none.",
         show_default=False,
+        parser=number,
     ),
     keep_going: bool = typer.Option(
         False, "--keep-going", help="Store what can be estimated even if some cannot."
@@ -116,8 +120,8 @@ def estimate(
 
     Example: ratebank estimate --class h-abstraction --collision hard-sphere
     """
+    from ratebank.errors import RefusedEstimateError
     from ratebank.report.mechanism import estimate_records, estimate_tables
-    from ratebank.services.estimation import EstimateIncomplete
     from ratebank.services.estimation import estimate as run_estimate
 
     try:
@@ -126,16 +130,16 @@ def estimate(
                 session,
                 keys or None,
                 steric=steric,
-                t_ref=t_ref,
+                T_ref=t_ref,
                 collision=collision,
                 reaction_class=reaction_class,
                 fallback_steric=fallback_steric,
                 uncertainty_factor=uncertainty_factor,
-                t_range=_t_range(t_range),
+                T_range=_t_range(t_range),
                 keep_going=keep_going,
                 progress=progress,
             )
-    except EstimateIncomplete as exc:
+    except RefusedEstimateError as exc:
         if as_json:
             print_json(estimate_records(exc.report, preset))
         raise
@@ -150,15 +154,35 @@ def estimate(
     # with --keep-going, reactions left out (listed above) are not a failure
 
 
+def _check_summary(report) -> str:  # type: ignore[no-untyped-def]
+    if report.clean:
+        return "Clean: nothing flagged, everything checked."
+    unchecked = f"{len(report.unchecked)} expression(s) could not be checked"
+    if not report.flags:
+        return f"Nothing flagged, but {unchecked} (listed above)."
+    return (
+        f"{len(report.flags)} flag(s); {unchecked}."
+        if report.unchecked
+        else (f"{len(report.flags)} flag(s).")
+    )
+
+
 def check(
     t_range: tuple[float, float] = typer.Option(
         None,
         "--t-range",
         help="Range TMIN TMAX [K] the mechanism will be used over (flags extrapolation).",
         show_default=False,
+        parser=number,
     ),
     ignore: list[str] = typer.Option(None, "--ignore", help="A check not to report (repeatable)."),
     keys: list[str] = typer.Argument(None, help="Reaction keys (default: all)."),
+    collision: str = typer.Option(
+        None,
+        "--collision",
+        help="Collision model of the limit: hard-sphere or lennard-jones (default: each "
+        "estimate's own model, else hard-sphere).",
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """Check every expression against physical limits; exit 1 when anything is flagged.
@@ -173,20 +197,26 @@ def check(
 
     with store_session() as session:
         report = check_store(
-            session, t_range=_t_range(t_range), ignore=ignore or None, keys=keys or None
+            session,
+            T_range=_t_range(t_range),
+            ignore=ignore or None,
+            keys=keys or None,
+            collision=collision,
         )
     if as_json:
         print_json(check_records(report))
     else:
         show(check_table(report))
-        say("Clean: nothing flagged." if report.clean else f"{len(report.flags)} flag(s).")
-    if not report.clean:
+        say(_check_summary(report))
+    if report.flags:
         raise typer.Exit(1)
 
 
 def rate(
     key: str = typer.Argument(..., help="Reaction key or equation."),
-    temperatures: list[float] = typer.Option(..., "-T", "--temperature", help="Temperature [K]."),
+    temperatures: list[float] = typer.Option(
+        ..., "-T", "--temperature", help="Temperature [K].", parser=number
+    ),
     k_units: str = typer.Option(None, "--k-units", help="Unit of k (default: from --units)."),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
@@ -239,6 +269,7 @@ def export(
         "--linearise-at",
         help="With --form arrhenius: T [K] at which n != 0 rows are "
         "replaced by their local two-parameter form.",
+        parser=number,
     ),
     leave_out_gaps: bool = typer.Option(
         False, "--leave-out-gaps", help="Export even if some reactions have no expression."
@@ -295,17 +326,26 @@ def steric_list(as_json: bool = JSON_OPTION) -> None:
 @steric_app.command("set-class")
 def steric_set_class(
     reaction_class: str = typer.Argument(..., help="Reaction class."),
-    value: float = typer.Argument(..., help="Steric factor P."),
+    value: float = typer.Argument(..., help="Steric factor P.", parser=number),
     uncertainty_factor: float = typer.Option(
-        None, "--uncertainty-factor", help="Uncertainty factor of estimates using this rule."
+        None,
+        "--uncertainty-factor",
+        help="Uncertainty factor of estimates using this rule.",
+        parser=number,
     ),
     source: str = typer.Option(None, "--source", help="Where the value comes from."),
     note: str = typer.Option(None, "--note", help="Free text."),
     expect_version: int = typer.Option(
         None, "--expect-version", help="Refuse if the rule changed since you read this version."
     ),
+    definition: str = typer.Option(
+        "local",
+        "--definition",
+        help="How P is defined: local (ratebank's, k / (z exp(-E0/RT))) or textbook (A / z, "
+        "converted to the local P = e^(-1/2) A / z).",
+    ),
 ) -> None:
-    """Set the steric factor of a reaction class.
+    """Set the (local) steric factor of a reaction class.
 
     Example: ratebank steric set-class h-abstraction 0.05 --source "analogy with OH + C2H6"
     """
@@ -320,8 +360,9 @@ def steric_set_class(
             source=source,
             note=note,
             expected_version=expect_version,
+            definition=definition,
         )
-    say(f"Class {rule.reaction_class}: P = {rule.steric_factor:g} (version {rule.version}).")
+    say(f"Class {rule.reaction_class}: local P = {rule.steric_factor:g} (version {rule.version}).")
 
 
 @steric_app.command("clear-class")
@@ -340,18 +381,24 @@ def steric_clear_class(reaction_class: str = typer.Argument(..., help="Reaction 
 @steric_app.command("set-reaction")
 def steric_set_reaction(
     key: str = typer.Argument(..., help="Reaction key or equation."),
-    value: float = typer.Argument(..., help="Steric factor P."),
+    value: float = typer.Argument(..., help="Steric factor P.", parser=number),
     source: str = typer.Option(None, "--source", help="Where the value comes from."),
+    definition: str = typer.Option(
+        "local",
+        "--definition",
+        help="How P is defined: local (ratebank's, k / (z exp(-E0/RT))) or textbook (A / z, "
+        "converted to the local P = e^(-1/2) A / z).",
+    ),
 ) -> None:
-    """Store a steric factor on one reaction (it takes precedence over its class).
+    """Store a (local) steric factor on one reaction (it takes precedence over its class).
 
     Example: ratebank steric set-reaction ho2-ho2 0.02 --source "analogy"
     """
     from ratebank.services.steric import set_reaction_steric
 
     with store_session(write=True) as session:
-        set_reaction_steric(session, key, value, source=source)
-    say(f"Reaction {key}: P = {value:g}.")
+        stored = set_reaction_steric(session, key, value, source=source, definition=definition)
+    say(f"Reaction {key}: local P = {stored.steric_factor:g}.")
 
 
 @steric_app.command("clear-reaction")

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import say, store_session
+from ratebank.cli.common import number, say, store_file, store_session
 
 OUT_OPTION = typer.Option(
     ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
@@ -21,15 +21,17 @@ WIDTH_OPTION = typer.Option(
     help="Figure width in inches (default 7; with --panels 4.6 per column; the steric plot "
     "widens with its classes).",
     show_default=False,
+    parser=number,
 )
 HEIGHT_OPTION = typer.Option(
     None,
     "--height",
     help="Figure height in inches (default 5; with --panels 3.7 per row).",
     show_default=False,
+    parser=number,
 )
 DPI_OPTION = typer.Option(
-    150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels."
+    150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels.", parser=number
 )
 
 
@@ -58,6 +60,7 @@ def plot(
         help="Temperature span TMIN TMAX [K] (default: the data and expression ranges "
         "with a margin).",
         show_default=False,
+        parser=number,
     ),
     panels: bool = typer.Option(False, "--panels", help="One panel per reaction."),
     width: float = WIDTH_OPTION,
@@ -76,11 +79,15 @@ def plot(
     from ratebank.report.plots import arrhenius_figure_size, check_plot_target, render_arrhenius
     from ratebank.services.plot_data import arrhenius_plot_data
 
-    check_plot_target(out, *arrhenius_figure_size(len(set(keys)), panels, width, height), dpi)
+    check_plot_target(
+        out, *arrhenius_figure_size(len(set(keys)), panels, width, height), dpi, store_file()
+    )
     span = None if not t_range or t_range[0] is None else (t_range[0], t_range[1])
     with store_session() as session:
         data = arrhenius_plot_data(session, keys, preset=preset, k_units=k_units, t_range=span)
-    result = render_arrhenius(data, out, panels=panels, width=width, height=height, dpi=dpi)
+    result = render_arrhenius(
+        data, out, panels=panels, width=width, height=height, dpi=dpi, store_path=store_file()
+    )
     shown = ", ".join(d.key for d in data)
     say(_written(f"the Arrhenius plot of {len(data)} reaction(s) ({shown})", result))
 
@@ -105,10 +112,10 @@ def steric_plot(
     from ratebank.report.plots import DEFAULT_SIZE, check_plot_target, render_steric
     from ratebank.services.plot_data import steric_plot_data
 
-    check_plot_target(out, width or DEFAULT_SIZE[0], height or DEFAULT_SIZE[1], dpi)
+    check_plot_target(out, width or DEFAULT_SIZE[0], height or DEFAULT_SIZE[1], dpi, store_file())
     with store_session() as session:
         data = steric_plot_data(session, collision, reaction_class=reaction_class)
-    result = render_steric(data, out, width=width, height=height, dpi=dpi)
+    result = render_steric(data, out, width=width, height=height, dpi=dpi, store_path=store_file())
     say(
         _written(
             f"the steric factors of {data.count} reaction(s) in {len(data.classes)} class(es)",

@@ -49,7 +49,13 @@ def write_review_book(
                 store_label=store.display_url,
                 progress=progress,
             )
-        return render_book(book, out_dir, progress=progress)
+        return render_book(book, out_dir, progress=progress, store_path=_store_file(store))
+
+
+def _store_file(store: StoreHandle) -> str | None:
+    """The SQLite file of the store (which the book must never replace), or None."""
+    engine = store.engine
+    return engine.url.database if engine.dialect.name == "sqlite" else None
 
 
 def review(

@@ -10,6 +10,7 @@ whole file is valid.
 from __future__ import annotations
 
 import csv
+import difflib
 from collections.abc import Sequence
 from dataclasses import dataclass
 from itertools import islice, repeat
@@ -17,11 +18,15 @@ from pathlib import Path
 
 from sqlalchemy.orm import Session
 
-from ratebank.errors import ImportValidationError, RatebankError
-from ratebank.services import curate
+from ratebank.errors import BadInputError
 from ratebank.services import validate as v
+from ratebank.services.expressions import import_expressions
+from ratebank.services.measurement_import import MeasurementImporter
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.progress import Progress
+from ratebank.services.reactions import import_reactions
+from ratebank.services.species import import_species
+from ratebank.services.validate import ImportSummary
 
 #: Longest accepted cell, in characters (a guard against runaway quoting).
 MAX_FIELD = 100_000
@@ -29,7 +34,7 @@ MAX_FIELD = 100_000
 CHUNK_ROWS = 100_000
 
 
-class CsvFileError(RatebankError):
+class CsvFileError(BadInputError):
     """The file cannot be read as a CSV table."""
 
 
@@ -100,8 +105,6 @@ def _separator_error(name: str, header: list[str]) -> CsvFileError | None:
 
 def _closest_column(name: str, columns: Sequence[str]) -> str:
     """ " (did you mean 'x'?)" for the known column nearest to ``name``, or ""."""
-    import difflib
-
     by_lower = {c.lower(): c for c in columns}
     found = difflib.get_close_matches(name.lower(), list(by_lower), n=1, cutoff=0.6)
     return f" (did you mean {by_lower[found[0]]!r}?)" if found else ""
@@ -248,6 +251,31 @@ def _plain_chunks(
         yield columns, lines
 
 
+def _check_header(
+    name: str, header: Sequence[str], line: int, columns: Sequence[str], required: Sequence[str]
+) -> None:
+    """Refuse an empty, repeated, unknown or missing column name (every one is reported)."""
+    problems = v.Problems()
+    seen: set[str] = set()
+    for h in header:
+        if h == "":
+            problems.add(line, "", "the header has an empty column name")
+        elif h in seen:
+            problems.add(line, h, "appears twice in the header")
+        elif h not in columns:
+            problems.add(
+                line,
+                h,
+                f"unknown column{_closest_column(h, columns)}; expected columns are "
+                f"{', '.join(columns)}",
+            )
+        seen.add(h)
+    for r in required:
+        if r not in seen:
+            problems.add(line, r, "required column is missing from the header")
+    problems.raise_if_any(name)
+
+
 def iter_table(
     path: str | Path,
     columns: Sequence[str],
@@ -285,31 +313,7 @@ def iter_table(
             separated = _separator_error(name, header)
             if separated is not None:
                 raise separated
-            header_line = reader.line_num
-            header_problems = v.Problems()
-            seen: set[str] = set()
-            for h in header:
-                if h == "":
-                    header_problems.add(header_line, "", "the header has an empty column name")
-                elif h in seen:
-                    header_problems.add(header_line, h, "appears twice in the header")
-                elif h not in columns:
-                    header_problems.add(
-                        header_line,
-                        h,
-                        f"unknown column{_closest_column(h, columns)}; expected columns are "
-                        f"{', '.join(columns)}",
-                    )
-                seen.add(h)
-            for r in required:
-                if r not in seen:
-                    header_problems.add(
-                        header_line, r, "required column is missing from the header"
-                    )
-            if header_problems:
-                raise ImportValidationError(
-                    name, [p.render(name) for p in header_problems.sorted()]
-                )
+            _check_header(name, header, reader.line_num, columns, required)
             yield header
             width = len(header)
             if plain and width > 1:
@@ -333,10 +337,7 @@ def read_table(path: str | Path, columns: Sequence[str], required: Sequence[str]
     for chunk_columns, chunk_lines in stream:
         rows.extend(list(row) for row in zip(*chunk_columns, strict=True))
         lines.extend(chunk_lines)
-    if problems:
-        raise ImportValidationError(
-            name, [p.render(name) for p in problems.sorted()], total=problems.total
-        )
+    problems.raise_if_any(name)
     if not rows:
         raise CsvFileError(f"{name}: has a header but no data rows")
     return CsvTable(name, header, rows, lines)
@@ -352,27 +353,27 @@ def _row_dicts(table: CsvTable) -> list[tuple[int | None, dict[str, str | None]]
 
 def import_species_file(
     session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
-) -> curate.ImportSummary:
+) -> ImportSummary:
     table = read_table(path, v.SPECIES_COLUMNS, v.SPECIES_REQUIRED)
-    return curate.import_species(
+    return import_species(
         session, _row_dicts(table), source=table.path, dry_run=dry_run, progress=progress
     )
 
 
 def import_reactions_file(
     session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
-) -> curate.ImportSummary:
+) -> ImportSummary:
     table = read_table(path, v.REACTION_COLUMNS, v.REACTION_REQUIRED)
-    return curate.import_reactions(
+    return import_reactions(
         session, _row_dicts(table), source=table.path, dry_run=dry_run, progress=progress
     )
 
 
 def import_expressions_file(
     session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
-) -> curate.ImportSummary:
+) -> ImportSummary:
     table = read_table(path, v.EXPRESSION_COLUMNS, v.EXPRESSION_REQUIRED)
-    return curate.import_expressions(session, _row_dicts(table), source=table.path, dry_run=dry_run)
+    return import_expressions(session, _row_dicts(table), source=table.path, dry_run=dry_run)
 
 
 def import_measurements_file(
@@ -383,7 +384,7 @@ def import_measurements_file(
     dry_run: bool = False,
     progress: Progress | None = None,
     chunk_rows: int = CHUNK_ROWS,
-) -> curate.ImportSummary:
+) -> ImportSummary:
     """Stream a measurements file into the store in one transaction; all or nothing.
 
     Memory stays flat in the number of rows: the file is read, validated and
@@ -401,14 +402,15 @@ def import_measurements_file(
     header = next(stream)
     if "k_units" not in header and not k_units:
         raise CsvFileError(
-            f"{name}:1: k_units: the file has no k_units column and no --k-units was "
-            "given; expected one of them"
+            f"{name}:1: k_units: the file has no k_units column and no default k_units was "
+            "given; expected one of them",
+            argument="k_units",
         )
     try:
         expected = max(Path(path).stat().st_size // 60, 0)
     except OSError:
         expected = 0
-    importer = curate.MeasurementImporter(
+    importer = MeasurementImporter(
         session,
         source=name,
         default_k_units=k_units,

@@ -13,12 +13,13 @@ from pathlib import Path
 from ratebank.errors import RatebankError
 from ratebank.io import csv_import
 from ratebank.io.export import ExportResult, export_mechanism
-from ratebank.services import curate
 from ratebank.services.checks import CheckReport, check_store
-from ratebank.services.curate import ImportSummary
 from ratebank.services.estimation import EstimateReport, estimate
 from ratebank.services.fitting import FitReport, fit_reactions
+from ratebank.services.reactions import list_reactions
 from ratebank.services.steric import set_reaction_steric
+from ratebank.services.store_access import store_counts
+from ratebank.services.validate import ImportSummary
 
 DEMO_MARK = "demo.build"
 DEMO_STERIC_REACTION = "ho2-ho2"
@@ -133,8 +134,8 @@ def run_demo(db: Path, out: Path, *, author: str | None = None) -> DemoResult:
             result.estimate = estimate(session, keep_going=True)
         with store.session() as session:
             result.check = check_store(session)
-            result.counts = curate.store_counts(session)
-            for reaction in curate.list_reactions(session):
+            result.counts = store_counts(session)
+            for reaction in list_reactions(session):
                 result.statuses[reaction.status] = result.statuses.get(reaction.status, 0) + 1
         out.mkdir(parents=True, exist_ok=True)
         for preset in ("combustion", "atmospheric"):

@@ -5,8 +5,16 @@ describes it as a Frictionless Tabular Data Resource (the open Table Schema
 standard), with the units, the rate-law convention, the store's content
 fingerprint, the creation time, the tool version and the caution text.
 
-Both files are first written to temporary files in the target folder, synced,
-and then renamed over the targets, so a reader never sees a half-written file.
+Both files are written as one unit by :mod:`ratebank.safe_output` (staged
+beside the targets, synced, committed, renamed into place; the store's own
+file and non-regular targets are refused; see there for what a crash leaves).
+
+A text cell that a spreadsheet would read as a formula (one that begins with
+``=``, ``+``, ``-``, ``@``, a tab or a carriage return) is written with an
+apostrophe in front, the usual protection against formula injection; a text
+cell that already begins with an apostrophe gets one more, so that removing
+one leading apostrophe always gives the stored text back. The descriptor says
+so. Numbers are written as they are.
 """
 
 from __future__ import annotations
@@ -16,7 +24,6 @@ import datetime as dt
 import io
 import os
 import re
-import tempfile
 from dataclasses import dataclass
 from operator import itemgetter
 from pathlib import Path
@@ -24,7 +31,7 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from ratebank import __version__
+from ratebank import __version__, safe_output
 from ratebank.errors import RatebankError
 from ratebank.services import mechanism
 from ratebank.services.memory import paused_garbage_collection
@@ -101,17 +108,43 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
         {
             "name": "steric_factor",
             "type": "number",
-            "description": "steric factor used by an estimate or implied by a fit",
+            "description": "the local steric factor P = k / (z exp(-E0/RT)) behind an estimate, "
+            "or implied by a fit; for hard spheres P = A_local / (e^(1/2) z), so a textbook "
+            "A / z is e^(1/2) times larger",
         },
         {
             "name": "uncertainty_factor",
             "type": "number",
-            "description": "k is uncertain by this factor (one standard deviation in ln k)",
+            "description": "the largest uncertainty factor f(T) over the row's range (one "
+            "standard deviation of ln k; see uncertainty_f298 and uncertainty_g_K)",
         },
         {
             "name": "references",
             "type": "string",
             "description": "measurement sets or sources behind the numbers",
+        },
+        {
+            "name": "uncertainty_f298",
+            "type": "number",
+            "description": "f(298 K) of the uncertainty factor f(T) = f(298 K) exp|g (1/T - "
+            "1/298 K)|, one standard deviation of ln k (the evaluation panels' form)",
+        },
+        {
+            "name": "uncertainty_g_K",
+            "type": "number",
+            "description": "g of that form [K]; 0 means the same factor at every temperature",
+        },
+        {
+            "name": "linearised_at_K",
+            "type": "number",
+            "description": "for a two-parameter export of a curved expression: the temperature "
+            "inside the row's range where its local Arrhenius form was taken",
+        },
+        {
+            "name": "linearisation_max_ln_deviation",
+            "type": "number",
+            "description": "the largest |ln(k_row / k_expression)| over the row's range; it is "
+            "included in uncertainty_f298",
         },
     ]
 
@@ -121,59 +154,56 @@ def _slug(text: str) -> str:
     return slug or "mechanism"
 
 
-def _table_text(table: mechanism.MechanismTable) -> str:
+#: First characters that make a spreadsheet read a text cell as a formula; the
+#: apostrophe is included so that the protection can always be undone exactly.
+FORMULA_LEADING = frozenset("=+-@\t\r'")
+#: What the descriptor says about text cells.
+TEXT_CELL_RULE = (
+    "A text cell that begins with =, +, -, @, a tab, a carriage return or an apostrophe "
+    "is written with one apostrophe in front, so that a spreadsheet shows it as text and "
+    "never runs it as a formula; remove that one leading apostrophe to get the stored text. "
+    "Numbers are written as they are."
+)
+
+
+def neutralised_text(cell: str) -> str:
+    """``cell`` as written in a text column: an apostrophe before a formula-like start.
+
+    >>> neutralised_text("=HYPERLINK(0)"), neutralised_text("oh-ch4"), neutralised_text("'a")
+    ("'=HYPERLINK(0)", 'oh-ch4', "''a")
+    """
+    return "'" + cell if cell and cell[0] in FORMULA_LEADING else cell
+
+
+def _text_columns(units: mechanism.ExportUnits) -> list[int]:
+    return [
+        index for index, field in enumerate(_field_descriptions(units)) if field["type"] == "string"
+    ]
+
+
+def _table_text(table: mechanism.MechanismTable, text_columns: list[int]) -> str:
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(mechanism.COLUMNS)
     # Rows start with the table's columns. The csv module writes a float as its
     # repr, the shortest text that reads back as the same float (full
     # precision), and None as an empty cell.
-    writer.writerows(map(itemgetter(slice(0, len(mechanism.COLUMNS))), table.rows))
+    rows = list(map(itemgetter(slice(0, len(mechanism.COLUMNS))), table.rows))
+    leading = FORMULA_LEADING
+    for position, row in enumerate(rows):
+        if any(isinstance(row[i], str) and row[i][:1] in leading for i in text_columns):
+            rows[position] = tuple(
+                neutralised_text(cell) if i in text_columns and isinstance(cell, str) else cell
+                for i, cell in enumerate(row)
+            )
+    writer.writerows(rows)
     return buffer.getvalue()
 
 
-#: Temporary files of an export killed half-way are removed after this long [s].
-STALE_TEMPORARY_AGE = 3600.0
-
-
-def _remove_stale_temporaries(target: Path) -> None:
-    import time
-
-    cutoff = time.time() - STALE_TEMPORARY_AGE
-    for leftover in target.parent.glob(f".{target.name}.*.tmp"):
-        try:
-            if leftover.stat().st_mtime < cutoff:
-                leftover.unlink()
-        except OSError:
-            pass
-
-
-def _write_atomically(pairs: list[tuple[Path, str]]) -> None:
-    for target, _ in pairs:
-        _remove_stale_temporaries(target)
-    temporary: list[Path] = []
-    try:
-        for target, text in pairs:
-            handle = tempfile.NamedTemporaryFile(  # noqa: SIM115 - closed below, kept on error
-                "w",
-                encoding="utf-8",
-                newline="",
-                dir=target.parent,
-                prefix=f".{target.name}.",
-                suffix=".tmp",
-                delete=False,
-            )
-            temporary.append(Path(handle.name))
-            with handle:
-                handle.write(text)
-                handle.flush()
-                os.fsync(handle.fileno())
-        for (target, _), temp in zip(pairs, temporary, strict=True):
-            os.replace(temp, target)
-    except BaseException:
-        for temp in temporary:
-            temp.unlink(missing_ok=True)
-        raise
+def _store_file(session: Session) -> str | None:
+    """The SQLite file of the store (which an export must never replace), or None."""
+    bind = session.get_bind()
+    return bind.url.database if bind.dialect.name == "sqlite" else None
 
 
 @paused_garbage_collection()
@@ -198,6 +228,9 @@ def export_mechanism(
         raise ExportError(f"folder {folder} is not writable; nothing was written")
     if out.is_dir():
         raise ExportError(f"{out} is a folder; give a file name such as mechanism.csv")
+    store_file = _store_file(session)
+    for target in (out, descriptor_path_for(out)):
+        safe_output.check_target(target, store_path=store_file)
     units = mechanism.export_units(preset, k_units, e_units)
     table = mechanism.mechanism_table(
         session, units=units, form=form, linearise_at=linearise_at, leave_out_gaps=leave_out_gaps
@@ -248,14 +281,16 @@ def export_mechanism(
                 r.key: {"expression_id": r.expression_id, "rule": r.chosen_by} for r in table.rows
             },
             "caution": mechanism.CAUTION,
+            "text_cells": TEXT_CELL_RULE,
         },
     }
-    _write_atomically(
-        [
-            (out, _table_text(table)),
+    safe_output.write_files(
+        {
+            out: _table_text(table, _text_columns(units)),
             # a mechanism's descriptor lists every reaction: the C encoder, not json's
-            (descriptor_path, json_codec.dumps_indented(descriptor) + "\n"),
-        ]
+            descriptor_path: json_codec.dumps_indented(descriptor) + "\n",
+        },
+        store_path=store_file,
     )
     from ratebank.store import audit
 

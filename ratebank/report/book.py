@@ -15,8 +15,11 @@ Layout of a book::
     classes/<class>.html      one per reaction class, with its steric-factor plot
     assets/book.css, book.js
 
-The book is built in a temporary folder beside the target and renamed into
-place (:func:`write_folder_atomically`), so a reader never sees half a book.
+The book is written by :func:`ratebank.safe_output.write_folder`: staged whole
+beside the target and swapped in as one unit, so a reader never sees half a
+book; the store's own file and non-regular targets are refused, and files and
+folders get the modes the umask gives. Only a new or empty folder, or an
+earlier review book (a folder holding :data:`BOOK_MARK`), is ever replaced.
 """
 
 from __future__ import annotations
@@ -25,23 +28,27 @@ import datetime as dt
 import math
 import os
 import re
-import shutil
-import tempfile
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
+from functools import partial
 from importlib import resources
 from pathlib import Path
-from typing import Any, TypeVar
+from typing import Any, BinaryIO
 
+from jinja2 import Environment, PackageLoader, StrictUndefined
+from markupsafe import Markup, escape
+
+from ratebank import safe_output
 from ratebank.errors import RatebankError
 from ratebank.report.format import sig, trange
+from ratebank.report.plots import BookFigures
+from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
 from ratebank.services.progress import NoProgress, Progress
-from ratebank.services.review import Book, BookSpecies
+from ratebank.services.review import Book, BookClass, BookReaction, BookSpecies
 
 #: A file in every book's folder; only a folder holding it is ever replaced.
 BOOK_MARK = ".ratebank-review-book"
 ASSETS = ("book.css", "book.js")
-_T = TypeVar("_T")
 
 
 class BookError(RatebankError):
@@ -83,41 +90,23 @@ def check_book_target(out_dir: Path | str) -> Path:
     return target
 
 
-def write_folder_atomically(target: Path, fill: Callable[[Path], _T]) -> _T:
-    """Let ``fill`` write a folder's content, then put the folder at ``target`` in one step.
+def earlier_book_entries(target: Path) -> list[str]:
+    """The files and subfolders of the earlier review book at ``target`` (none if none).
 
-    The content is written into a new temporary folder beside ``target``; only
-    when ``fill`` has returned is it renamed to ``target`` (an earlier folder
-    there is moved aside first and removed afterwards). If anything fails,
-    the temporary folder is removed and ``target`` is as it was.
+    Names are relative, with ``/`` between parts, as
+    :func:`ratebank.safe_output.write_folder` takes them as ``replaceable``;
+    anything that is not a regular file or a folder (a link, say) is left out,
+    so that the write refuses it.
     """
-    staging = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent))
-    try:
-        result = fill(staging)
-        os.chmod(staging, 0o777 & ~_umask())
-        old = None
-        if target.exists():
-            old = target.with_name(f".{target.name}.old-{os.getpid()}")
-            shutil.rmtree(old, ignore_errors=True)
-            os.replace(target, old)
-        try:
-            os.replace(staging, target)
-        except BaseException:
-            if old is not None:
-                os.replace(old, target)
-            raise
-    except BaseException:
-        shutil.rmtree(staging, ignore_errors=True)
-        raise
-    if old is not None:
-        shutil.rmtree(old, ignore_errors=True)
-    return result
-
-
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
+    if not (target / BOOK_MARK).is_file():
+        return []
+    found: list[str] = []
+    for folder, subfolders, files in os.walk(target):
+        inside = Path(folder).relative_to(target).as_posix()
+        prefix = "" if inside == "." else inside + "/"
+        found.extend(prefix + name for name in subfolders if not (Path(folder) / name).is_symlink())
+        found.extend(prefix + name for name in files)
+    return found
 
 
 # --------------------------------------------------------------------------- helpers
@@ -203,6 +192,10 @@ def _species_properties(entry: BookSpecies) -> list[tuple[str, str, str, bool]]:
         ("critical pressure (bar)", s.critical_pressure, 1e-5),
         ("acentric factor", s.acentric_factor, 1.0),
         ("boiling-point molar volume (cm³/mol)", s.boiling_volume, 1e6),
+        ("normal boiling temperature (K)", s.boiling_temperature, 1.0),
+        ("dipole moment (D)", s.dipole_moment, 1.0 / DEBYE),
+        ("polarizability (Å³)", s.polarizability, 1e30),
+        ("ionization energy (eV)", s.ionization_energy, 1.0 / ELECTRONVOLT_MOLAR),
     ):
         if value is not None:
             rows.append((label, sig(value * factor), "given", False))
@@ -216,8 +209,6 @@ class _Pages:
     """The Jinja2 environment and the links between the book's pages."""
 
     def __init__(self, book: Book):
-        from jinja2 import Environment, PackageLoader, StrictUndefined
-
         self.book = book
         self.env = Environment(
             loader=PackageLoader("ratebank.report", "templates"),
@@ -232,8 +223,6 @@ class _Pages:
         self.created = _when(book.created_at) + " UTC"
 
     def _link(self, folder: str, pages: dict[str, str], name: str, root: str):  # type: ignore[no-untyped-def]
-        from markupsafe import Markup, escape
-
         page = pages.get(name)
         if page is None:
             return escape(name)
@@ -256,7 +245,106 @@ class _Pages:
         )
 
 
-def render_book(book: Book, out_dir: Path | str, *, progress: Progress | None = None) -> BookFiles:
+@dataclass(frozen=True)
+class _Page:
+    """A page rendered when the write reaches it, so the pages are never all in memory."""
+
+    render: Callable[[], str]
+    progress: Progress
+    #: (what, how many) on the first page of a kind, which starts its progress report
+    starts: tuple[str, int] | None = None
+
+    def __call__(self, stream: BinaryIO) -> None:
+        if self.starts is not None:
+            self.progress.start(*self.starts)
+        stream.write(self.render().encode("utf-8"))
+        self.progress.advance()
+
+
+def _pages_of(
+    folder: str,
+    kind: str,
+    names: dict[str, str],
+    entries: Sequence[Any],
+    name_of: Callable[[Any], str],
+    render: Callable[[Any], str],
+    progress: Progress,
+) -> dict[str, _Page]:
+    """The pages of one kind (reactions, species or classes), by file name in the book."""
+    what = f"writing {kind} pages"
+    return {
+        f"{folder}/{names[name_of(entry)]}": _Page(
+            partial(render, entry), progress, (what, len(entries)) if number == 0 else None
+        )
+        for number, entry in enumerate(entries)
+    }
+
+
+def _book_contents(book: Book, pages: _Pages, progress: Progress) -> dict[str, Any]:
+    """Every file of the book by its name inside the book's folder."""
+    figures = BookFigures()
+
+    def reaction_page(reaction: BookReaction) -> str:
+        plot = figures.arrhenius(reaction.plot) if reaction.plot is not None else None
+        return pages.render(
+            "reaction.html",
+            "../",
+            r=reaction,
+            plot_svg=Markup(plot.svg) if plot else None,
+            # swatches are built from numbers and colour codes; labels stay escaped
+            legend=[(Markup(e.swatch), e.label) for e in plot.legend] if plot else [],
+            any_recommended=any(e.recommended for e in reaction.expressions),
+        )
+
+    def species_page(entry: BookSpecies) -> str:
+        return pages.render("species.html", "../", s=entry, properties=_species_properties(entry))
+
+    def class_page(entry: BookClass) -> str:
+        svg = (
+            figures.steric_svg(entry.points, entry.collision_model)
+            if entry.points is not None
+            else None
+        )
+        return pages.render("class.html", "../", c=entry, plot_svg=Markup(svg) if svg else None)
+
+    contents: dict[str, Any] = {
+        f"assets/{name}": resources.files("ratebank.report").joinpath("assets", name).read_bytes()
+        for name in ASSETS
+    }
+    contents[BOOK_MARK] = (
+        "A review book written by ratebank; `ratebank review` replaces this folder.\n"
+    )
+    for folder, kind, names, entries, name_of, render in (
+        ("reactions", "reaction", pages.reactions, book.reactions, _key, reaction_page),
+        ("species", "species", pages.species, book.species, _species_name, species_page),
+        ("classes", "class", pages.classes, book.classes, _class_name, class_page),
+    ):
+        contents.update(_pages_of(folder, kind, names, entries, name_of, render, progress))
+    contents["index.html"] = lambda stream: stream.write(
+        pages.render("index.html", "").encode("utf-8")
+    )
+    return contents
+
+
+def _key(reaction: BookReaction) -> str:
+    return reaction.key
+
+
+def _species_name(entry: BookSpecies) -> str:
+    return entry.species.name
+
+
+def _class_name(entry: BookClass) -> str:
+    return entry.name
+
+
+def render_book(
+    book: Book,
+    out_dir: Path | str,
+    *,
+    progress: Progress | None = None,
+    store_path: str | Path | None = None,
+) -> BookFiles:
     """Write the review book of ``book`` into the folder ``out_dir``.
 
     Parameters
@@ -266,7 +354,9 @@ def render_book(book: Book, out_dir: Path | str, *, progress: Progress | None = 
     out_dir : pathlib.Path or str
         The book's folder: new, empty, or an earlier book, which is replaced.
     progress : Progress, optional
-        Told of each plot drawn and each page written.
+        Told of each page written.
+    store_path : str or pathlib.Path, optional
+        The SQLite store in use, which the book must never replace.
 
     Returns
     -------
@@ -277,65 +367,13 @@ def render_book(book: Book, out_dir: Path | str, *, progress: Progress | None = 
     ------
     BookError
         If ``out_dir`` cannot hold the book (see :func:`check_book_target`).
+    OutputError
+        If the folder cannot be written (see :func:`ratebank.safe_output.write_folder`).
     """
-    from markupsafe import Markup
-
-    from ratebank.report.plots import BookFigures
-
     target = check_book_target(out_dir)
-    progress = progress or NoProgress()
-    pages = _Pages(book)
-
-    def fill(folder: Path) -> int:
-        for sub in ("reactions", "species", "classes", "assets"):
-            (folder / sub).mkdir()
-        for name in ASSETS:
-            source = resources.files("ratebank.report").joinpath("assets", name)
-            (folder / "assets" / name).write_bytes(source.read_bytes())
-        (folder / BOOK_MARK).write_text(
-            "A review book written by ratebank; `ratebank review` replaces this folder.\n",
-            encoding="utf-8",
-        )
-        figures = BookFigures()
-        written = 0
-        progress.start("writing reaction pages", len(book.reactions))
-        for reaction in book.reactions:
-            plot = figures.arrhenius(reaction.plot) if reaction.plot is not None else None
-            text = pages.render(
-                "reaction.html",
-                "../",
-                r=reaction,
-                plot_svg=Markup(plot.svg) if plot else None,
-                # swatches are built from numbers and colour codes; labels stay escaped
-                legend=[(Markup(e.swatch), e.label) for e in plot.legend] if plot else [],
-                any_recommended=any(e.recommended for e in reaction.expressions),
-            )
-            _write(folder / "reactions" / pages.reactions[reaction.key], text)
-            written += 1
-            progress.advance()
-        progress.start("writing species pages", len(book.species))
-        for entry in book.species:
-            text = pages.render(
-                "species.html", "../", s=entry, properties=_species_properties(entry)
-            )
-            _write(folder / "species" / pages.species[entry.species.name], text)
-            written += 1
-            progress.advance()
-        for entry in book.classes:
-            svg = (
-                figures.steric_svg(entry.points, entry.collision_model)
-                if entry.points is not None
-                else None
-            )
-            text = pages.render("class.html", "../", c=entry, plot_svg=Markup(svg) if svg else None)
-            _write(folder / "classes" / pages.classes[entry.name], text)
-            written += 1
-        _write(folder / "index.html", pages.render("index.html", ""))
-        return written + 1
-
-    count = write_folder_atomically(target, fill)
-    return BookFiles(target, target / "index.html", count)
-
-
-def _write(path: Path, text: str) -> None:
-    path.write_text(text, encoding="utf-8")
+    contents = _book_contents(book, _Pages(book), progress or NoProgress())
+    safe_output.write_folder(
+        target, contents, store_path=store_path, replaceable=earlier_book_entries(target)
+    )
+    pages = len(book.reactions) + len(book.species) + len(book.classes) + 1
+    return BookFiles(target, target / "index.html", pages)

@@ -245,14 +245,16 @@ def estimate_records(report: EstimateReport, preset: str) -> dict[str, Any]:
                 "Ea_units": e_unit,
                 "activation_energy": _e(r.activation_energy, e_unit),
                 "T_ref_K": r.T_ref,
-                "T_min_K": r.t_min,
-                "T_max_K": r.t_max,
+                "T_min_K": r.T_min,
+                "T_max_K": r.T_max,
                 "steric_factor": r.steric_factor,
                 "steric_rule": r.steric_rule,
                 "uncertainty_factor": r.uncertainty_factor,
                 "collision_model": r.collision_model,
-                "collision_rate_at_T_ref": _k(r.collision_rate_at_t_ref, 2, k_unit),
+                "collision_rate_at_T_ref": _k(r.collision_rate_at_T_ref, 2, k_unit),
                 "estimated_diameters": r.estimated_diameters,
+                "threshold_energy_held_at_zero": r.threshold_shortfall > 0,
+                "activation_energy_below_collision_rate": _e(r.threshold_shortfall, e_unit),
                 "max_fit_deviation": r.max_fit_deviation,
                 "expression_id": r.expression_id,
                 "replaced": r.replaced,
@@ -286,8 +288,21 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
     ):
         done.add_column(header, overflow="fold")
     estimated, more = shown(data["estimated"])
-    if more:
-        done.caption = more
+    held = [r["key"] for r in data["estimated"] if r["threshold_energy_held_at_zero"]]
+    unranged = [r["key"] for r in data["estimated"] if r["T_min_K"] is None]
+    notes = [more] if more else []
+    if unranged:
+        notes.append(
+            f"No valid range stated for {', '.join(unranged[:10])}"
+            f"{' ...' if len(unranged) > 10 else ''}: give the activation energy a range"
+        )
+    if held:
+        notes.append(
+            f"E0 held at 0 for {', '.join(held[:10])}{' ...' if len(held) > 10 else ''}: "
+            "the given Ea is below the collision rate's own, so the estimate is P z(T)"
+        )
+    if notes:
+        done.caption = "\n".join(notes)
     for r in estimated:
         done.add_row(
             r["key"],
@@ -325,6 +340,11 @@ def check_records(report: CheckReport) -> dict[str, Any]:
         "expressions": report.expressions,
         "t_range_K": list(report.t_range) if report.t_range else None,
         "ignored": report.ignored,
+        "collision_model": report.collision,
+        "unchecked": [
+            {"key": u.key, "expression_id": u.expression_id, "reason": u.reason}
+            for u in report.unchecked
+        ],
         "flags": [
             {
                 "key": f.key,
@@ -350,6 +370,8 @@ def check_table(report: CheckReport) -> Table:
         table.caption = more
     for f in flags:
         table.add_row(f.key, f.code, f.message)
+    for u in report.unchecked:
+        table.add_row(u.key, "unchecked", u.reason)
     return table
 
 
@@ -364,8 +386,8 @@ def rate_records(report: RateReport) -> dict[str, Any]:
         "expression_id": report.expression_id,
         "chosen_by": report.chosen_by,
         "k_units": report.k_units,
-        "T_min_K": report.t_min,
-        "T_max_K": report.t_max,
+        "T_min_K": report.T_min,
+        "T_max_K": report.T_max,
         "rates": [
             {
                 "T_K": r.T,

@@ -6,9 +6,10 @@ listing imports pays for it. Figures are built with the object interface
 window, no global figure registry to leak into, and no change to the backend
 of a notebook that calls these functions.
 
-Every file is written atomically: drawn into a temporary file in the target
-folder, then renamed over the target, so a failed plot leaves nothing behind
-and an earlier file of the same name intact.
+Every file is written through :mod:`ratebank.safe_output`: drawn into a
+staging folder beside the target, then renamed over it, so a failed plot
+leaves nothing behind and an earlier file of the same name intact; the store's
+own file and non-regular targets (a FIFO, a device) are refused.
 """
 
 from __future__ import annotations
@@ -24,6 +25,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from ratebank import safe_output
 from ratebank.errors import RatebankError
 from ratebank.services.plot_data import ReactionPlotData, StericClassPoints, StericPlotData
 
@@ -135,37 +137,14 @@ def _check_folder(path: Path) -> None:
         raise RatebankError(f"cannot write to folder {str(folder)!r}: Permission denied")
 
 
-def _temporary_beside(path: Path) -> tuple[int, Path]:
-    """A new, empty file in the folder of ``path``, with the mode a plain open() gives."""
-    import secrets
-
-    for _ in range(100):
-        temporary = path.with_name(f".{path.name}.{secrets.token_hex(6)}.tmp")
-        try:
-            # 0o666 lets the umask decide, as for any file the user creates
-            return os.open(temporary, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666), temporary
-        except FileExistsError:
-            continue
-    raise RatebankError(f"cannot make a temporary file in {str(path.parent)!r}")
-
-
-def _write_atomically(figure: Any, path: Path, fmt: str, dpi: float) -> None:
-    try:
-        handle, temporary = _temporary_beside(path)
-    except OSError as exc:
-        raise RatebankError(
-            f"cannot write to folder {str(path.parent)!r}: {exc.strerror or exc}"
-        ) from None
-    try:
-        with os.fdopen(handle, "wb") as stream, quiet_library():
+def _write_atomically(
+    figure: Any, path: Path, fmt: str, dpi: float, store_path: str | None
+) -> None:
+    def save(stream: Any) -> None:
+        with quiet_library():
             figure.savefig(stream, format=fmt, dpi=dpi)
-        if path.exists():
-            # replacing a plot keeps the permissions the old one was given
-            os.chmod(temporary, path.stat().st_mode & 0o7777)
-        os.replace(temporary, path)
-    except BaseException:
-        temporary.unlink(missing_ok=True)
-        raise
+
+    safe_output.write_file(path, save, store_path=store_path)
 
 
 def _new_figure(width: float, height: float):  # type: ignore[no-untyped-def]
@@ -178,7 +157,7 @@ def _new_figure(width: float, height: float):  # type: ignore[no-untyped-def]
 
 
 def check_plot_target(
-    path: Path | str, width: float, height: float, dpi: float
+    path: Path | str, width: float, height: float, dpi: float, store_path: str | None = None
 ) -> tuple[Path, str, int, int]:
     """Refuse a plot file that cannot be written, before any work is done.
 
@@ -190,6 +169,8 @@ def check_plot_target(
         Figure size [in]; positive.
     dpi : float
         Resolution [pixels per inch]; positive.
+    store_path : str or None
+        The SQLite store in use, which a plot must never replace.
 
     Returns
     -------
@@ -199,12 +180,14 @@ def check_plot_target(
     Raises
     ------
     RatebankError
-        For an unknown suffix, an impossible size, or a missing folder.
+        For an unknown suffix, an impossible size, a missing folder, the store's
+        own file or a target that is not a regular file.
     """
     path = Path(path)
     fmt = plot_format(path)
     width_px, height_px = _check_size(width, height, dpi)
     _check_folder(path)
+    safe_output.check_target(path, store_path=store_path)
     return path, fmt, width_px, height_px
 
 
@@ -433,6 +416,7 @@ def render_arrhenius(
     width: float | None = None,
     height: float | None = None,
     dpi: float = 150.0,
+    store_path: str | None = None,
 ) -> PlotFile:
     """Write an Arrhenius plot, log10 k against 1000/T, of one or more reactions.
 
@@ -449,6 +433,8 @@ def render_arrhenius(
         Figure size [in]; default :func:`arrhenius_figure_size`.
     dpi : float, optional
         Resolution [pixels per inch]; a PNG is ``width*dpi`` by ``height*dpi`` pixels.
+    store_path : str or None, optional
+        The SQLite store in use, which the plot must never replace.
 
     Returns
     -------
@@ -462,7 +448,7 @@ def render_arrhenius(
         size, or reactions whose k units differ on one shared axis.
     """
     width, height = arrhenius_figure_size(len(data), panels, width, height)
-    path, fmt, width_px, height_px = check_plot_target(path, width, height, dpi)
+    path, fmt, width_px, height_px = check_plot_target(path, width, height, dpi, store_path)
     if not data:
         raise RatebankError("nothing to plot")
     units = sorted({d.k_unit for d in data})
@@ -473,7 +459,7 @@ def render_arrhenius(
         )
     with quiet_library():
         figure = arrhenius_figure(data, panels=panels, width=width, height=height)
-    _write_atomically(figure, path, fmt, dpi)
+    _write_atomically(figure, path, fmt, dpi, store_path)
     return PlotFile(path, fmt, width_px, height_px, width, height)
 
 
@@ -524,6 +510,7 @@ def render_steric(
     width: float | None = None,
     height: float | None = None,
     dpi: float = 150.0,
+    store_path: str | None = None,
 ) -> PlotFile:
     """Write the distribution of derived steric factors per reaction class (log scale).
 
@@ -544,6 +531,8 @@ def render_steric(
         (:func:`steric_figure_width`) and 5 in high.
     dpi : float, optional
         Resolution [pixels per inch].
+    store_path : str or None, optional
+        The SQLite store in use, which the plot must never replace.
 
     Returns
     -------
@@ -552,12 +541,12 @@ def render_steric(
     """
     width = steric_figure_width(len(data.classes)) if width is None else width
     height = DEFAULT_SIZE[1] if height is None else height
-    path, fmt, width_px, height_px = check_plot_target(path, width, height, dpi)
+    path, fmt, width_px, height_px = check_plot_target(path, width, height, dpi, store_path)
     if not data.classes:
         raise RatebankError("no steric factors to plot")
     with quiet_library():
         figure = steric_figure(data, width=width, height=height)
-    _write_atomically(figure, path, fmt, dpi)
+    _write_atomically(figure, path, fmt, dpi, store_path)
     return PlotFile(path, fmt, width_px, height_px, width, height)
 
 

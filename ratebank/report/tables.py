@@ -18,10 +18,11 @@ if TYPE_CHECKING:  # the overview pulls in the checks; a listing should not pay 
     from ratebank.services.overview import ReactionOverview
 
 from ratebank.report.format import sig, trange
-from ratebank.services.curate import (
+from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
+from ratebank.services.validate import ImportSummary
+from ratebank.store.listings import (
     ExpressionSummary,
     HistoryEntry,
-    ImportSummary,
     ReactionDetail,
     ReactionSummary,
     SetSummary,
@@ -60,6 +61,10 @@ def species_records(rows: Sequence[SpeciesSummary]) -> list[dict[str, Any]]:
             "critical_pressure_bar": _opt(s.critical_pressure, BAR_PER_PA),
             "acentric_factor": s.acentric_factor,
             "boiling_volume_cm3_per_mol": _opt(s.boiling_volume, CM3_PER_M3),
+            "boiling_temperature_K": s.boiling_temperature,
+            "dipole_moment_debye": _opt(s.dipole_moment, 1.0 / DEBYE),
+            "polarizability_angstrom3": _opt(s.polarizability, ANGSTROM_PER_M**3),
+            "ionization_energy_eV": _opt(s.ionization_energy, 1.0 / ELECTRONVOLT_MOLAR),
             "source": s.source,
         }
         for s in rows
@@ -213,8 +218,8 @@ def set_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
             "method": s.method,
             "bath_gas": s.bath_gas,
             "points": s.points,
-            "T_min_K": s.t_min,
-            "T_max_K": s.t_max,
+            "T_min_K": s.T_min,
+            "T_max_K": s.T_max,
             "k_units_given": s.k_units,
         }
         for s in rows
@@ -230,7 +235,7 @@ def sets_table(rows: Sequence[SetSummary]) -> Table:
             s.name,
             s.reaction_key,
             str(s.points),
-            trange(s.t_min, s.t_max),
+            trange(s.T_min, s.T_max),
             s.k_units,
             s.method or "",
             s.reference or "",
@@ -263,9 +268,10 @@ def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[d
                 "Ea": float(energy_from_si(e.Ea, e_units)),
                 "k_units": k_units,
                 "Ea_units": e_units,
-                "T_min_K": e.t_min,
-                "T_max_K": e.t_max,
+                "T_min_K": e.T_min,
+                "T_max_K": e.T_max,
                 "uncertainty_factor": e.uncertainty_factor,
+                "uncertainty_g_K": e.uncertainty_g,
                 "reference": e.reference,
                 "recommended": e.recommended,
                 "version": e.version,

@@ -44,6 +44,7 @@ from typing import NamedTuple
 import numpy as np
 
 from ratebank.errors import FitError, ScienceInputError
+from ratebank.science import uncertainty
 from ratebank.science.constants import GAS_CONSTANT
 
 __all__ = [
@@ -55,11 +56,13 @@ __all__ = [
     "BatchFormChoice",
     "FitWarning",
     "FormComparison",
+    "GroupFits",
     "ModifiedArrheniusApproximation",
     "approximate_with_modified_arrhenius",
     "arrhenius",
     "compare_forms",
     "compare_forms_batch",
+    "fit_groups",
     "fit_rate_constants",
     "fit_rate_constants_batch",
     "ln_k_uncertainty",
@@ -337,7 +340,12 @@ class FitWarning:
     ----------
     code : str
         Stable identifier: ``"collinear-n-ea"`` (n and Ea nearly collinear),
-        ``"no-degrees-of-freedom"`` (as many points as parameters).
+        ``"no-degrees-of-freedom"`` (as many points as parameters),
+        ``"scatter-above-stated"`` / ``"scatter-below-stated"`` (the reduced
+        chi-square of a weighted fit is improbably far above or below 1:
+        inconsistent sets or a wrong form, or overstated uncertainties),
+        ``"sets-disagree"`` (pooled sets differ beyond their stated
+        uncertainties, Cochran's Q test).
     message : str
         One sentence for the user.
     """
@@ -436,16 +444,11 @@ class ArrheniusFit:
         sigma^2 = g C g^T with g = (1, ln T, -1/(R T)), the gradient of ln k
         with respect to (ln A, n, Ea).
         """
-        T = _temperature(T)
-        gradient = np.stack(
-            np.broadcast_arrays(np.ones_like(T), np.log(T), -1.0 / (GAS_CONSTANT * T)), axis=-1
-        )
-        variance = np.einsum("...i,ij,...j->...", gradient, self.covariance, gradient)
-        return np.sqrt(np.maximum(variance, 0.0))
+        return uncertainty.sigma_ln_k_from_covariance(T, self.covariance)
 
     def uncertainty_factor(self, T):
         """Uncertainty factor f(T) = exp(sigma_ln_k(T)) [-], T [K]."""
-        return np.exp(self.sigma_ln_k(T))
+        return uncertainty.uncertainty_factor_from_covariance(T, self.covariance)
 
     def local_activation_energy(self, T):
         """Local Arrhenius activation energy Ea + n R T [J mol^-1], T [K]."""
@@ -1197,23 +1200,34 @@ def approximate_with_modified_arrhenius(T, k) -> ModifiedArrheniusApproximation:
     grid. Used to export curves that are not exactly of this form, such as
     the Lennard-Jones-corrected collision-theory estimate.
 
+    Many curves are approximated at once when ``T`` and ``k`` have a leading
+    axis (one row per curve, each with its own grid): the regressors of each
+    row are centred on their means, and the row's 3 x 3 normal equations are
+    solved as one stacked ``numpy.linalg.solve``.
+
     Parameters
     ----------
-    T : array_like, shape (N,)
-        Temperature grid [K]; at least 3 distinct positive values.
-    k : array_like, shape (N,)
+    T : array_like, shape (N,) or (m, N)
+        Temperature grid [K]; at least 3 distinct positive values per row.
+    k : array_like, shape (N,) or (m, N)
         Model rate constants on the grid [k-unit]; positive.
 
     Returns
     -------
     ModifiedArrheniusApproximation
         (A [k-unit K^-n], n [-], Ea [J mol^-1], largest relative deviation [-]);
-        it unpacks as a 4-tuple.
+        floats for one curve, arrays of shape (m,) for many. It unpacks as a
+        4-tuple.
 
     Raises
     ------
     FitError
         As :func:`fit_rate_constants` with ``form="modified"``.
+
+    References
+    ----------
+    Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed. (2003),
+    ch. 7 (linear least squares).
 
     Examples
     --------
@@ -1222,12 +1236,35 @@ def approximate_with_modified_arrhenius(T, k) -> ModifiedArrheniusApproximation:
     >>> A, n, Ea, worst = approximate_with_modified_arrhenius(T, 3.0 * T**0.5 * np.exp(-800 / T))
     >>> f"{A:.4f} {n:.4f} {worst < 1e-12}"
     '3.0000 0.5000 True'
+    >>> grids = np.stack([T, 2 * T])
+    >>> many = approximate_with_modified_arrhenius(grids, 5.0 * grids**1.5)
+    >>> [f"{a:.4f}" for a in many.A], [f"{x:.4f}" for x in many.n]
+    (['5.0000', '5.0000'], ['1.5000', '1.5000'])
     """
     T = np.asarray(T, dtype=float)
     k = np.asarray(k, dtype=float)
-    fit = fit_rate_constants(T, k, form="modified")
-    deviation = float(np.max(np.abs(fit.k(T) / k - 1.0)))
-    return ModifiedArrheniusApproximation(fit.A, fit.n, fit.Ea, deviation)
+    if k.ndim < 2:
+        fit = fit_rate_constants(T, k, form="modified")
+        deviation = float(np.max(np.abs(fit.k(T) / k - 1.0)))
+        return ModifiedArrheniusApproximation(fit.A, fit.n, fit.Ea, deviation)
+    T = np.broadcast_to(T, k.shape)
+    if not (np.all(np.isfinite(T) & (T > 0)) and np.all(np.isfinite(k) & (k > 0))):
+        raise FitError("T and k must be positive and finite to approximate a curve.")
+    ln_T, inverse_T, ln_k = np.log(T), 1.0 / T, np.log(k)
+    centred = [x - x.mean(axis=-1, keepdims=True) for x in (ln_T, inverse_T, ln_k)]
+    scale = np.abs(centred[1]).max(axis=-1, keepdims=True)
+    scale = np.where(scale > 0, scale, 1.0)
+    x = np.stack([centred[0], centred[1] / scale], axis=-1)  # (m, N, 2)
+    normal = np.einsum("mni,mnj->mij", x, x)
+    if np.any(np.abs(np.linalg.det(normal)) < 1e-300):
+        raise FitError("each curve needs at least 3 distinct temperatures.")
+    slope = np.linalg.solve(normal, np.einsum("mni,mn->mi", x, centred[2])[..., None])[..., 0]
+    n = slope[:, 0]
+    Ea = -slope[:, 1] / scale[:, 0] * GAS_CONSTANT
+    ln_A = (ln_k - n[:, None] * ln_T + Ea[:, None] / GAS_CONSTANT * inverse_T).mean(axis=-1)
+    k_fit = np.exp(ln_A[:, None] + n[:, None] * ln_T - Ea[:, None] / GAS_CONSTANT * inverse_T)
+    deviation = np.max(np.abs(k_fit / k - 1.0), axis=-1)
+    return ModifiedArrheniusApproximation(np.exp(ln_A), n, Ea, deviation)
 
 
 @dataclass(frozen=True, eq=False)
@@ -1352,3 +1389,299 @@ def compare_forms_batch(T, k, sigma_ln_k, group, *, significance: float = 0.05) 
                 f"p = {p_value[i]:.2g} >= {significance:g}); the two-parameter form suffices."
             )
     return BatchFormChoice(two, three, supported, reason.astype(str), p_value)
+
+
+@dataclass(frozen=True, eq=False)
+class GroupFits:
+    """The chosen fit of each group of points (one row per sorted group label).
+
+    Groups whose every point states sigma(ln k) are fitted with those weights
+    (absolute covariance); the others with unit weights, the covariance then
+    scaled by the reduced chi-square. Rows that could not be fitted have
+    ``ok`` False and their reason in ``status``.
+
+    Attributes
+    ----------
+    groups : numpy.ndarray, shape (m,)
+    ok : numpy.ndarray of bool
+    status : numpy.ndarray of str
+        ``"ok"`` or why the group was not fitted.
+    form : numpy.ndarray of str
+        The form kept for the group.
+    reason : numpy.ndarray of str
+        Why that form was kept.
+    weighted : numpy.ndarray of bool
+    A, n, Ea, T_ref, reduced_chi_square, T_min, T_max, mean_T : numpy.ndarray
+        As in :class:`BatchFit`; ``mean_T`` is the geometric-mean temperature
+        of the group's points [K].
+    n_points : numpy.ndarray of int
+    covariance : numpy.ndarray, shape (m, 3, 3)
+    warnings : numpy.ndarray of tuple
+        The :class:`FitWarning` objects of each group.
+    n_sets : numpy.ndarray of int
+        Measurement sets pooled in the group (1 when no sets were given).
+    between_set_variance : numpy.ndarray
+        tau^2 of ln k between the group's sets (DerSimonian-Laird; 0 for one
+        set or an unweighted group), added as random set offsets before the fit.
+    covariance_scale : numpy.ndarray
+        The factor the covariance was scaled by: max(1, reduced chi-square)
+        for a weighted group, and the reduced chi-square itself for an
+        unweighted one (the usual estimate of the unknown variance).
+    """
+
+    groups: np.ndarray
+    ok: np.ndarray
+    status: np.ndarray
+    form: np.ndarray
+    reason: np.ndarray
+    weighted: np.ndarray
+    A: np.ndarray
+    n: np.ndarray
+    Ea: np.ndarray
+    T_ref: np.ndarray
+    covariance: np.ndarray
+    reduced_chi_square: np.ndarray
+    n_points: np.ndarray
+    T_min: np.ndarray
+    T_max: np.ndarray
+    mean_T: np.ndarray
+    warnings: np.ndarray
+    n_sets: np.ndarray
+    between_set_variance: np.ndarray
+    covariance_scale: np.ndarray
+
+    def __len__(self) -> int:
+        return int(self.groups.size)
+
+
+_GROUP_COLUMNS = ("A", "n", "Ea", "T_ref", "reduced_chi_square", "T_min", "T_max")
+
+
+def _chosen_batches(T, k, sigma, group, form, fixed_n, significance):
+    """(two, three, keep_three, reasons) for one weighting of the groups."""
+    if fixed_n is not None:
+        fits = fit_rate_constants_batch(T, k, sigma, group, form="fixed-n", fixed_n=fixed_n)
+        reason = f"n fixed at {fixed_n:g} by the user"
+        return fits, fits, np.zeros(len(fits), bool), np.full(len(fits), reason, object)
+    if form == "auto":
+        choice = compare_forms_batch(T, k, sigma, group, significance=significance)
+        return choice.two, choice.three, choice.supported, choice.reason
+    fits = fit_rate_constants_batch(T, k, sigma, group, form=form)
+    reason = f"the {form} form was asked for"
+    return fits, fits, np.zeros(len(fits), bool), np.full(len(fits), reason, object)
+
+
+#: Tail probability beyond which a weighted fit's chi-square is reported as improbable.
+SCATTER_SIGNIFICANCE = 1e-3
+
+
+def _add_scatter_warnings(out: dict, weighted: np.ndarray, tau2: np.ndarray) -> None:
+    """Warn where a weighted fit's chi-square says the stated uncertainties are not the scatter.
+
+    Under the stated uncertainties chi^2 = dof * reduced chi-square follows the
+    chi-square distribution with dof degrees of freedom; a tail probability
+    below :data:`SCATTER_SIGNIFICANCE` on either side is reported (common
+    practice; Bevington & Robinson 2003, ch. 11).
+    """
+    from scipy.special import chdtr, chdtrc
+
+    for row in np.flatnonzero(weighted & out["ok"]).tolist():
+        chi, dof = out["reduced_chi_square"][row], out["n_points"][row] - _free(out["form"][row])
+        if not (np.isfinite(chi) and dof > 0):
+            continue
+        if chdtrc(dof, chi * dof) < SCATTER_SIGNIFICANCE:
+            warning = FitWarning(
+                "scatter-above-stated",
+                f"the points scatter more than their stated uncertainties allow (reduced "
+                f"chi-square {chi:.3g}): inconsistent sets or a wrong form; the covariance is "
+                "scaled by it",
+            )
+        elif tau2[row] == 0 and chdtr(dof, chi * dof) < SCATTER_SIGNIFICANCE:
+            # (with set offsets added the scatter is small by construction)
+            warning = FitWarning(
+                "scatter-below-stated",
+                f"the points scatter less than their stated uncertainties suggest (reduced "
+                f"chi-square {chi:.3g}): the uncertainties may be overstated",
+            )
+        else:
+            continue
+        out["warnings"][row] = (*out["warnings"][row], warning)
+
+
+def _add_disagreement_warnings(out: dict, p_value: np.ndarray, tau2: np.ndarray) -> None:
+    """Warn where pooled sets disagree beyond their stated uncertainties (Cochran's Q test)."""
+    for row in np.flatnonzero(out["ok"] & (p_value < SCATTER_SIGNIFICANCE)).tolist():
+        warning = FitWarning(
+            "sets-disagree",
+            f"the pooled sets disagree beyond their stated uncertainties (between-set "
+            f"factor {np.exp(np.sqrt(tau2[row])):.3g}); the fit's uncertainty includes it",
+        )
+        out["warnings"][row] = (*out["warnings"][row], warning)
+
+
+def _free(form: str | None) -> int:
+    """Free parameters of a fitted form."""
+    return 3 if form == "modified" else 2
+
+
+def _set_counts(inverse: np.ndarray, sets: np.ndarray, m: int) -> np.ndarray:
+    """How many distinct sets each group's points come from."""
+    pairs = np.unique(np.stack([inverse, np.unique(sets, return_inverse=True)[1].ravel()]), axis=1)
+    return np.bincount(pairs[0], minlength=m)
+
+
+def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n):
+    """sigma(ln k) widened by each pooled group's between-set variance; tau^2 and the
+    heterogeneity p-value (Cochran's Q against chi-square with sets - 1 degrees of freedom)
+    per group."""
+    from scipy.special import chdtrc
+
+    tau2 = np.zeros(pooled.size)
+    p_value = np.full(pooled.size, np.nan)
+    widened = sigma.copy()
+    for row in np.flatnonzero(pooled).tolist():
+        mask = inverse == row
+        fit_form = (
+            "fixed-n" if fixed_n is not None else "modified" if form == "modified" else "arrhenius"
+        )
+        try:
+            result = uncertainty.between_set_variance(
+                T[mask], np.log(k[mask]), sigma[mask], sets[mask], form=fit_form, fixed_n=fixed_n
+            )
+        except (FitError, ScienceInputError):
+            continue  # the group's own fit reports why it cannot be fitted
+        tau2[row] = result.tau_squared
+        p_value[row] = chdtrc(result.sets.size - 1, result.q_statistic)
+        widened[mask] = uncertainty.random_effects_sigma_ln_k(
+            sigma[mask], sets[mask], result.tau_squared
+        )
+    return widened, tau2, p_value
+
+
+def fit_groups(
+    T,
+    k,
+    sigma_ln_k,
+    group,
+    *,
+    sets=None,
+    form: str = "auto",
+    fixed_n: float | None = None,
+    significance: float = 0.05,
+) -> GroupFits:
+    """Fit every group of points (a reaction's pooled sets) and keep the form each supports.
+
+    ``form`` is ``"arrhenius"`` (n = 0), ``"modified"`` (A, n, Ea) or
+    ``"auto"`` (the three-parameter form only where :func:`compare_forms_batch`
+    justifies it); ``fixed_n`` fits A and Ea with n held. ``sigma_ln_k`` may
+    hold NaN: a group with any such point is fitted unweighted, its
+    covariance scaled by the reduced chi-square.
+
+    Uncertainties that admit disagreement (DESIGN section 13):
+
+    - where a weighted group pools several measurement sets (``sets``), the
+      between-set variance tau^2 of ln k (DerSimonian & Laird 1986) enters as
+      a random offset of each set (:func:`ratebank.science.uncertainty.
+      random_effects_sigma_ln_k`), so that f reflects how far the sets
+      disagree and does not shrink as points are added;
+    - a weighted group's covariance is then scaled by max(1, reduced
+      chi-square) (:func:`ratebank.science.uncertainty.scale_covariance_by_chi_square`).
+
+    Parameters
+    ----------
+    T : array_like, shape (N,)
+        Temperatures [K].
+    k : array_like, shape (N,)
+        Rate constants [k-unit]; positive.
+    sigma_ln_k : array_like, shape (N,)
+        sigma of ln k per point [-], NaN where not stated.
+    group : array_like, shape (N,)
+        Group label of each point.
+    sets : array_like, shape (N,), optional
+        Measurement-set label of each point.
+
+    Returns
+    -------
+    GroupFits
+
+    Raises
+    ------
+    FitError
+        For an unknown form or a non-finite ``fixed_n``.
+
+    References
+    ----------
+    Bevington & Robinson, *Data Reduction and Error Analysis*, 3rd ed. (2003),
+    chs. 6-7 and 11; DerSimonian & Laird, *Control. Clin. Trials* 1986, 7, 177,
+    doi:10.1016/0197-2456(86)90046-2.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> T = np.array([300.0, 400.0, 500.0, 300.0, 600.0])
+    >>> k = 2.0e8 * np.exp(-1000.0 / T)
+    >>> fits = fit_groups(T, k, np.full(5, np.nan), np.array([1, 1, 1, 2, 2]), form="arrhenius")
+    >>> [f"{a:.3e}" for a in fits.A], fits.form.tolist()
+    (['2.000e+08', '2.000e+08'], ['arrhenius', 'arrhenius'])
+    """
+    if form not in ("arrhenius", "modified", "auto"):
+        raise FitError(
+            f"unknown form {form!r}; expected arrhenius, modified or auto", argument="form"
+        )
+    if fixed_n is not None and not np.isfinite(fixed_n):
+        raise FitError("a fixed n must be a finite number", argument="fixed_n")
+    T, k = np.asarray(T, float), np.asarray(k, float)
+    sigma, group = np.asarray(sigma_ln_k, float), np.asarray(group)
+    labels, inverse = np.unique(group, return_inverse=True)
+    inverse = inverse.ravel()
+    m = labels.size
+    sets = np.zeros(T.size, dtype=np.int64) if sets is None else np.asarray(sets)
+    n_sets = _set_counts(inverse, sets, m) if T.size else np.zeros(m, dtype=np.int64)
+    weighted_group = np.bincount(inverse, weights=np.isnan(sigma), minlength=m) == 0
+    sigma, tau2, heterogeneity = _with_set_offsets(
+        T, k, sigma, inverse, sets, weighted_group & (n_sets > 1), form, fixed_n
+    )
+    out = {name: np.full(m, np.nan) for name in _GROUP_COLUMNS}
+    out["covariance"] = np.full((m, 3, 3), np.nan)
+    out.update(
+        ok=np.zeros(m, bool),
+        status=np.full(m, "no points", object),
+        form=np.full(m, None, object),
+        reason=np.full(m, "", object),
+        n_points=np.bincount(inverse, minlength=m),
+        warnings=np.empty(m, object),
+        mean_T=np.exp(np.bincount(inverse, weights=np.log(T), minlength=m) / np.bincount(inverse)),
+    )
+    for weighted in (True, False):
+        mask = weighted_group[inverse] == weighted
+        if not mask.any():
+            continue
+        two, three, keep_three, reasons = _chosen_batches(
+            T[mask], k[mask], sigma[mask] if weighted else None, group[mask],
+            form, fixed_n, significance,
+        )  # fmt: skip
+        rows = np.searchsorted(labels, two.groups)
+        for i, row in enumerate(rows.tolist()):
+            batch = three if keep_three[i] else two
+            for name in (*_GROUP_COLUMNS, "covariance"):
+                out[name][row] = getattr(batch, name)[i]
+            out["ok"][row], out["status"][row] = bool(batch.ok[i]), str(batch.status[i])
+            out["form"][row], out["reason"][row] = batch.form, str(reasons[i])
+            out["warnings"][row] = batch.fit_warnings(i) if batch.ok[i] else ()
+    _add_scatter_warnings(out, weighted_group, tau2)
+    _add_disagreement_warnings(out, heterogeneity, tau2)
+    scale = np.where(weighted_group, 1.0, out["reduced_chi_square"])
+    if weighted_group.any():
+        scaled = uncertainty.scale_covariance_by_chi_square(
+            out["covariance"][weighted_group], out["reduced_chi_square"][weighted_group]
+        )
+        out["covariance"][weighted_group] = scaled.covariance
+        scale[weighted_group] = scaled.scale
+    return GroupFits(
+        groups=labels,
+        weighted=weighted_group,
+        n_sets=n_sets,
+        between_set_variance=tau2,
+        covariance_scale=scale,
+        **out,
+    )

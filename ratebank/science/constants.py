@@ -40,3 +40,7 @@ ATMOSPHERE: float = 101_325.0
 BAR: float = 1.0e5
 #: Angstrom [m] (exactly 10^-10 m).
 ANGSTROM: float = 1.0e-10
+#: Debye [C m] (exactly 1e-21 / c), the unit dipole moments are quoted in.
+DEBYE: float = 1.0e-21 / SPEED_OF_LIGHT
+#: Electronvolt per molecule as a molar energy [J mol^-1] (e N_A, exact).
+ELECTRONVOLT_MOLAR: float = ELEMENTARY_CHARGE * AVOGADRO

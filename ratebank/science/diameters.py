@@ -34,11 +34,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from ratebank.errors import DiameterError
-from ratebank.science.constants import ANGSTROM, ATMOSPHERE
+from ratebank.science.constants import ANGSTROM, ATMOSPHERE, DEBYE
 
 __all__ = [
+    "DEBYE",
     "DIAMETER_METHODS",
-    "POLAR_MOLECULES",
+    "POLAR_DIPOLE_MOMENT",
     "QUANTUM_GASES",
     "WELL_DEPTH_METHODS",
     "DiameterEstimate",
@@ -104,12 +105,10 @@ _SOURCES: dict[str, str] = {
 #: is not small against the diameter, so corresponding states fail for them.
 QUANTUM_GASES: frozenset[str] = frozenset({"H2", "D2", "HD", "He"})
 
-#: Strongly polar molecules for which the nonpolar correlations are not used
-#: (common practice: a Stockmayer or tabulated diameter is needed). Methanol
-#: is listed both as written (CH3OH) and in Hill order (CH4O).
-POLAR_MOLECULES: frozenset[str] = frozenset(
-    {"H2O", "D2O", "NH3", "HF", "HCl", "HCN", "CH3OH", "CH4O"}
-)
+#: Dipole moment [C m] from which a molecule counts as strongly polar, so that
+#: the nonpolar correlations are not used (common practice: a Stockmayer or
+#: tabulated diameter is needed; HCl at about 1.1 D is the mildest usual case).
+POLAR_DIPOLE_MOMENT: float = 1.0 * DEBYE
 
 
 @dataclass(frozen=True)
@@ -427,43 +426,47 @@ def well_depth_bird_stewart_lightfoot_boiling(Tb):
     return 1.15 * _positive("Tb", Tb, "K")
 
 
-def outside_correlations(formula: str | None) -> str | None:
+def outside_correlations(formula: str | None, dipole_moment: float | None = None) -> str | None:
     """Why the diameter correlations do not apply to a species, or None if they may.
 
     Parameters
     ----------
     formula : str or None
         Chemical formula as written (case-sensitive, e.g. ``"HCl"``).
+    dipole_moment : float, optional
+        Permanent dipole moment [C m]; a strongly polar molecule (at least
+        :data:`POLAR_DIPOLE_MOMENT`) is outside the nonpolar correlations.
+        Polarity is decided by this value alone, never by a molecule's name.
 
     Returns
     -------
     str or None
         A reason naming the species as a quantum gas (H2, D2, HD, He) or a
-        strongly polar molecule (H2O, D2O, NH3, HF, HCl, HCN, CH3OH; common
-        practice), or None when nothing is known against the correlations.
+        strongly polar molecule, or None when nothing is known against the
+        correlations.
 
     Examples
     --------
     >>> outside_correlations("He")
     'He is a quantum gas, for which corresponding-states diameter correlations fail'
-    >>> outside_correlations("CH4") is None
+    >>> outside_correlations("SO2", dipole_moment=1.63 * DEBYE)[:33]
+    'SO2 is strongly polar (1.63 D), a'
+    >>> outside_correlations("CH4", dipole_moment=0.0) is None
     True
     """
-    if formula is None:
-        return None
-    key = "".join(formula.split())
+    key = "".join(formula.split()) if formula is not None else None
     if key in QUANTUM_GASES:
         return f"{key} is a quantum gas, for which corresponding-states diameter correlations fail"
-    if key in POLAR_MOLECULES:
+    if dipole_moment is not None and dipole_moment >= POLAR_DIPOLE_MOMENT:
         return (
-            f"{key} is strongly polar, and the diameter correlations were built for "
-            "nonpolar molecules"
+            f"{key or 'the species'} is strongly polar ({dipole_moment / DEBYE:.3g} D), and the "
+            "diameter correlations were built for nonpolar molecules"
         )
     return None
 
 
-def _refuse_out_of_scope(formula: str | None, what: str) -> None:
-    reason = outside_correlations(formula)
+def _refuse_out_of_scope(formula: str | None, what: str, dipole_moment: float | None) -> None:
+    reason = outside_correlations(formula, dipole_moment)
     if reason is not None:
         raise DiameterError(
             f"The {what} correlations do not apply: {reason}; enter a measured or tabulated "
@@ -514,6 +517,7 @@ def estimate_diameter(
     boiling_volume: float | None = None,
     method: str | None = None,
     formula: str | None = None,
+    dipole_moment: float | None = None,
 ) -> DiameterEstimate:
     """Estimate a Lennard-Jones collision diameter with a named correlation.
 
@@ -568,7 +572,7 @@ def estimate_diameter(
     >>> estimate_diameter(boiling_volume=37.58e-6).method
     'bird-stewart-lightfoot-boiling'
     """
-    _refuse_out_of_scope(formula, "diameter")
+    _refuse_out_of_scope(formula, "diameter", dipole_moment)
     given = {"Tc": Tc, "Pc": Pc, "omega": omega, "boiling_volume": boiling_volume}
     chosen = _choose_method(method, given, _DIAMETER_INPUTS, "diameter")
     if chosen == "tee-gotoh-stewart-acentric":
@@ -590,6 +594,7 @@ def estimate_well_depth(
     Tb: float | None = None,
     method: str | None = None,
     formula: str | None = None,
+    dipole_moment: float | None = None,
 ) -> WellDepthEstimate:
     """Estimate a Lennard-Jones well depth eps/k_B with a named correlation.
 
@@ -613,8 +618,9 @@ def estimate_well_depth(
     method : str, optional
         One of :data:`WELL_DEPTH_METHODS`.
     formula : str, optional
-        The species' formula; quantum gases and strongly polar molecules are
-        refused.
+        The species' formula; quantum gases are refused.
+    dipole_moment : float, optional
+        Dipole moment [C m]; strongly polar molecules are refused.
 
     Returns
     -------
@@ -638,7 +644,7 @@ def estimate_well_depth(
     >>> est.method, f"{est.well_depth:.2f}"
     ('bird-stewart-lightfoot-boiling', '88.96')
     """
-    _refuse_out_of_scope(formula, "well depth")
+    _refuse_out_of_scope(formula, "well depth", dipole_moment)
     given = {"Tc": Tc, "omega": omega, "Tb": Tb}
     chosen = _choose_method(method, given, _WELL_DEPTH_INPUTS, "well depth")
     if chosen == "tee-gotoh-stewart-acentric":

@@ -4,10 +4,9 @@ Syntax
 ------
 ``reactants -> products``, for example ``CH4 + OH -> CH3 + H2O``.
 
-* One arrow, written ``->`` (the character ``→`` is read the same way).
-  Every other arrow or equals sign (``<=>``, ``<->``, ``=``, ``=>``, ``-->``,
-  ``⇌``, ...) is refused: ratebank stores one direction per reaction and
-  writes ``->``; the reverse reaction is entered as a reaction of its own.
+* One arrow, written ``->``. Text without it is not an equation, and the
+  message shows how one is written. ratebank stores one direction per
+  reaction; the reverse reaction is entered as a reaction of its own.
 * Species are separated by ``+``. Species names never contain ``+``, so a
   ``+`` always separates and the spaces around it are optional
   (``H+O2+M->HO2+M`` is read like ``H + O2 + M -> HO2 + M``). Ions are not
@@ -23,6 +22,9 @@ Syntax
   ``H + O2 + M -> HO2 + M``. ``M`` is not accepted as an ordinary species,
   with a coefficient, on one side only, twice on a side, or as the only
   entry of a side.
+* A species name is valid only if this parser reads it, alone, as that one
+  species (:func:`check_species_name`); the store keeps no species that
+  could not be written in an equation.
 
 Canonical form
 --------------
@@ -40,6 +42,7 @@ r = k [A]^2 and d[A]/dt = -2 r.
 from __future__ import annotations
 
 import re
+import unicodedata
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 
@@ -53,6 +56,8 @@ __all__ = [
     "Equation",
     "canonical_equation",
     "check_element_balance",
+    "check_species_name",
+    "looks_like_equation",
     "parse_equation",
 ]
 
@@ -66,8 +71,8 @@ MAX_COEFFICIENT = 20
 _LETTERS = "abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ"
 _DIGITS = "0123456789"
 _NAME_CHARACTERS = frozenset(_LETTERS + _DIGITS + "()_-,'*")
+#: Characters that draw an arrow; a run of them is one token, and only ``->`` is an arrow.
 _ARROW_CHARACTERS = "<=>-"
-_OTHER_ARROWS = "⇌⇋⇄⇆↔⇔⇒⟶⟹⟷⟺←⟵⇐⇀↽"
 _LOCANT = re.compile(r"[0-9][0-9,]*-")
 _NUMBER = re.compile(r"[+-]?([0-9]+\.?[0-9]*|\.[0-9]+)([eE][+-]?[0-9]+)?|[0-9]+/[0-9]+")
 _WORD = re.compile(r"\S+")
@@ -79,7 +84,11 @@ def _quoted(text: str) -> str:
 
 
 def _show(char: str) -> str:
-    return f"'{char}'" if char.isprintable() and char != "'" else repr(char)
+    shown = f"'{char}'" if char.isprintable() and char != "'" else repr(char)
+    if char.isascii():
+        return shown
+    # a look-alike from another script must be told apart from the letter it resembles
+    return f"{shown} (U+{ord(char):04X} {unicodedata.name(char, 'unnamed character')})"
 
 
 @dataclass(frozen=True)
@@ -235,47 +244,30 @@ def _expand(counts: Mapping[str, int]) -> tuple[str, ...]:
 class _Reader:
     """Reads one equation text; every error names a 1-based column of ``text``."""
 
-    def __init__(self, text: str):
+    def __init__(self, text: str, subject: str = "equation"):
         self.text = text
+        self.subject = subject
 
     def fail(self, problem: str, index: int, expected: str) -> EquationError:
         return EquationError(
-            f"{problem} at column {index + 1} in equation {_quoted(self.text)}: {expected}"
+            f"{problem} at column {index + 1} in {self.subject} {_quoted(self.text)}: {expected}"
         )
 
     def find_arrow(self) -> int:
-        """Return the index of the single '->' (or '→'), refusing every other arrow."""
+        """Return the index of the single '->'."""
         text = self.text
         arrows: list[int] = []
         index = 0
         while index < len(text):
-            char = text[index]
-            if char in _ARROW_CHARACTERS:
+            if text[index] in _ARROW_CHARACTERS:
                 end = index
                 while end < len(text) and text[end] in _ARROW_CHARACTERS:
                     end += 1
-                run = text[index:end]
-                if run == ARROW:
+                # Only the run '->' is an arrow; a run of hyphens belongs to a species
+                # name (n-C3H7), and any other run makes a malformed equation.
+                if text[index:end] == ARROW:
                     arrows.append(index)
-                elif any(ch in "<=>" for ch in run):
-                    raise self.fail(
-                        f"'{run}' is not an arrow ratebank reads",
-                        index,
-                        f"write '{ARROW}'; each direction of a reaction is entered as a "
-                        "reaction of its own",
-                    )
-                # A run of hyphens alone belongs to a species name (n-C3H7).
                 index = end
-            elif char == "→":
-                arrows.append(index)
-                index += 1
-            elif char in _OTHER_ARROWS:
-                raise self.fail(
-                    f"'{char}' is not an arrow ratebank reads",
-                    index,
-                    f"write '{ARROW}'; each direction of a reaction is entered as a "
-                    "reaction of its own",
-                )
             else:
                 index += 1
         if not arrows:
@@ -401,10 +393,6 @@ class _Reader:
                 at,
                 "a species name starts with a letter, '(' or a locant such as '1-'",
             )
-        if name == f"({THIRD_BODY})":
-            raise self.fail(
-                f"'{name}'", at, f"a third body is written '+ {THIRD_BODY}' on both sides"
-            )
         opened: list[int] = []
         for offset, char in enumerate(name):
             if char == "(":
@@ -419,6 +407,15 @@ class _Reader:
             raise self.fail(
                 f"'(' is never closed in species '{name}'", at + opened[-1], "expected ')'"
             )
+
+
+def looks_like_equation(text: str) -> bool:
+    """True when ``text`` holds an arrow, so that it is meant as an equation, not a key.
+
+    >>> looks_like_equation("OH + CH4 -> CH3 + H2O"), looks_like_equation("oh-ch4")
+    (True, False)
+    """
+    return ARROW in text
 
 
 def parse_equation(text: str) -> Equation:
@@ -440,7 +437,7 @@ def parse_equation(text: str) -> Equation:
     ------
     EquationError
         Naming the 1-based column (in the text without its surrounding
-        spaces) and what was expected: missing, repeated or foreign arrow,
+        spaces) and what was expected: a missing or repeated arrow,
         empty side, missing species between ``+`` signs, a coefficient that
         is not a whole number from 1 to 20, a bad species name, or a third
         body ``M`` used other than once on each side.
@@ -451,12 +448,11 @@ def parse_equation(text: str) -> Equation:
     'O + O3 -> O2 + O2'
     >>> parse_equation("H + O2 + M -> HO2 + M").order
     3
-    >>> parse_equation("OH + CH4 <=> CH3 + H2O")
+    >>> parse_equation("OH + CH4 CH3 + H2O")
     Traceback (most recent call last):
     ...
-    ratebank.errors.EquationError: '<=>' is not an arrow ratebank reads at column 10 \
-in equation 'OH + CH4 <=> CH3 + H2O': write '->'; each direction of a reaction is \
-entered as a reaction of its own
+    ratebank.errors.EquationError: no '->' in equation 'OH + CH4 CH3 + H2O': expected \
+reactants -> products, e.g. 'CH4 + OH -> CH3 + H2O'
     """
     if not isinstance(text, str):
         raise EquationError(f"an equation must be given as text, got {type(text).__name__}")
@@ -478,6 +474,55 @@ entered as a reaction of its own
             f"write '+ {THIRD_BODY}' on the {other} side too",
         )
     return Equation(tuple(reactants), tuple(products), left_m is not None)
+
+
+def check_species_name(name: str) -> None:
+    """Refuse a species name that this parser would not read as that one species.
+
+    The name is read by the parser's own rules for one term of an equation,
+    so a name the store keeps can always be written in an equation.
+
+    Parameters
+    ----------
+    name : str
+        A species name, e.g. ``'OH'``, ``'CH2(S)'``, ``'1-C4H8'``.
+
+    Raises
+    ------
+    EquationError
+        Saying why: a space or ``+`` (both separate terms), the third body's
+        name ``M``, or a character or start the naming rule of the module
+        docstring does not allow.
+
+    Examples
+    --------
+    >>> check_species_name("CH2(S)")
+    >>> check_species_name("=1+1 x")
+    Traceback (most recent call last):
+    ...
+    ratebank.errors.EquationError: '+' at column 3 in species name '=1+1 x': '+' separates \
+species in an equation, so a name cannot hold it
+    """
+    if not isinstance(name, str) or not name:
+        raise EquationError("a species name must not be empty")
+    reader = _Reader(name, subject="species name")
+    if "+" in name:
+        raise reader.fail(
+            "'+'", name.index("+"), "'+' separates species in an equation, so a name cannot hold it"
+        )
+    space = next((i for i, ch in enumerate(name) if ch.isspace()), None)
+    if space is not None:
+        raise reader.fail(
+            "a space",
+            space,
+            "names hold no spaces (in an equation a space separates a coefficient from its "
+            "species)",
+        )
+    if name == THIRD_BODY:
+        raise reader.fail(
+            f"'{THIRD_BODY}'", 0, "M is the third body in equations; choose another name"
+        )
+    reader.term([(0, name)])
 
 
 def canonical_equation(text: str) -> str:

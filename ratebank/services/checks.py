@@ -2,15 +2,27 @@
 
 Flags (each with a stable code):
 
-- ``above-collision-limit``: a bimolecular k(T) above the hard-sphere
-  collision rate z(T) somewhere in its temperature range (ratio and T given).
+- ``above-collision-limit``: a bimolecular k(T) above the collision limit
+  somewhere in its temperature range (ratio and T given). The limit is the
+  collision rate z(T) of the model the caller chooses (else the one the
+  expression's own estimate used, else hard spheres) or, where both partners
+  carry a polarizability and an ionization energy, the dispersion-limited
+  capture rate if that is larger (long-range attraction lets radicals react
+  faster than hard spheres collide).
 - ``steric-above-one``: a steric factor above 1, used by an estimate or
   implied by a measured fit (it happens; it needs a reason).
 - ``collinear-fit``: a three-parameter fit whose n and Ea are nearly collinear.
+- ``fit-scatter``: a weighted fit whose reduced chi-square is improbably far
+  above 1 (inconsistent sets or a wrong form) or below it (uncertainties
+  overstated).
 - ``extrapolation``: the expression that would be exported does not cover the
   temperature range the mechanism will be used over (``t_range``).
 - ``estimated-diameter``: the exported estimate rests on an estimated diameter.
 - ``nothing-usable``: a reaction with no complete expression.
+
+A bimolecular expression whose partners lack what the collision model needs
+is listed as unchecked, with the reason; a report is clean only when nothing
+is flagged and nothing was left unchecked.
 """
 
 from __future__ import annotations
@@ -18,18 +30,23 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from sqlalchemy import select
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import RatebankError
-from ratebank.services.partners import collision_pairs
-from ratebank.services.selection import chosen_expressions
-from ratebank.store.models import Expression, Reaction
+from ratebank.errors import BadInputError
+from ratebank.science.arrhenius import modified_arrhenius
+from ratebank.science.capture import london_capture_rate_constant
+from ratebank.science.collision import collision_limit_ratio, collision_rate
+from ratebank.services.partners import CollisionPair, PairColumns, check_model, collision_pairs
+from ratebank.services.selection import Chosen, chosen_expressions
+from ratebank.store import queries
+from ratebank.store.queries import ExpressionRow, ReactionRow
 
 CHECK_CODES = (
     "above-collision-limit",
     "steric-above-one",
     "collinear-fit",
+    "fit-scatter",
     "extrapolation",
     "estimated-diameter",
     "nothing-usable",
@@ -48,6 +65,15 @@ class Flag:
     temperature: float | None = None
 
 
+@dataclass(frozen=True)
+class Unchecked:
+    """An expression the collision limit could not be checked for, and why."""
+
+    key: str
+    expression_id: int
+    reason: str
+
+
 @dataclass
 class CheckReport:
     flags: list[Flag]
@@ -55,92 +81,163 @@ class CheckReport:
     expressions: int
     t_range: tuple[float, float] | None
     ignored: list[str] = field(default_factory=list)
+    unchecked: list[Unchecked] = field(default_factory=list)
+    collision: str | None = None
 
     @property
     def clean(self) -> bool:
-        return not self.flags
+        """Nothing flagged, and everything checked."""
+        return not self.flags and not self.unchecked
 
 
 def check_store(
     session: Session,
     *,
-    t_range: tuple[float, float] | None = None,
+    T_range: tuple[float, float] | None = None,
     ignore: list[str] | None = None,
     keys: list[str] | None = None,
+    collision: str | None = None,
 ) -> CheckReport:
-    """Run every check; ``ignore`` names codes not to report."""
-    import numpy as np
+    """Run every check; ``ignore`` names codes not to report.
 
-    from ratebank.science import collision
-    from ratebank.science.arrhenius import modified_arrhenius
-
+    ``collision`` chooses the collision model of the limit for every
+    expression; by default each collision estimate is held to its own model
+    and everything else to hard spheres.
+    """
     ignore = list(ignore or [])
     unknown = [c for c in ignore if c not in CHECK_CODES]
     if unknown:
-        raise RatebankError(
-            f"unknown check {', '.join(unknown)}; the checks are {', '.join(CHECK_CODES)}"
+        raise BadInputError(
+            f"unknown check {', '.join(unknown)}; the checks are {', '.join(CHECK_CODES)}",
+            argument="ignore",
         )
-    if t_range is not None and not (0 < t_range[0] < t_range[1]):
-        raise RatebankError("--t-range needs two temperatures, the lower first, both above 0 K")
-    if keys:
-        from ratebank.services.curate import find_reaction
-
-        reactions = [find_reaction(session, key) for key in keys]
-    else:
-        reactions = list(session.scalars(select(Reaction).order_by(Reaction.key)))
+    if T_range is not None and not (0 < T_range[0] < T_range[1]):
+        raise BadInputError(
+            "T_range needs two temperatures, the lower first, both above 0 K", argument="T_range"
+        )
+    reactions = queries.find_reactions(session, keys) if keys else queries.reactions(session)
     by_id = {r.id: r for r in reactions}
-    expressions: list[Expression] = []
-    ids = list(by_id)
-    for start in range(0, len(ids), 500):
-        expressions.extend(
-            session.scalars(
-                select(Expression)
-                .where(Expression.reaction_id.in_(ids[start : start + 500]))
-                .order_by(Expression.id)
-            )
-        )
+    by_reaction = queries.expressions_of(session, list(by_id))
+    expressions = sorted((e for own in by_reaction.values() for e in own), key=lambda e: e.id)
+    if collision is not None:
+        check_model(collision)
+    bimolecular = [r for r in reactions if r.bimolecular]
+    pairs = {
+        model: collision_pairs(session, bimolecular, model=model)
+        for model in ("hard-sphere", "lennard-jones")
+    }
+    chosen, gaps = chosen_expressions(session, reactions)
+    limit_flags, unchecked = _collision_limit_flags(expressions, pairs, by_id, collision)
+    flags = [
+        *limit_flags,
+        *_expression_flags(expressions, by_id),
+        *_gap_flags(gaps),
+        *_chosen_flags(chosen, T_range),
+    ]
+    flags = [f for f in flags if f.code not in ignore]
+    flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
+    return CheckReport(
+        flags, len(reactions), len(expressions), T_range, ignore, unchecked, collision
+    )
+
+
+def _model_of(expression: ExpressionRow, chosen: str | None) -> str:
+    """The collision model an expression is held to."""
+    if chosen is not None:
+        return chosen
+    own = expression.provenance.get("collision_model")
+    return own if expression.origin == "collision-estimate" and own else "hard-sphere"
+
+
+def _collision_limit_flags(
+    expressions: list[ExpressionRow],
+    pairs: dict[str, dict[int, CollisionPair | str]],
+    by_id: dict[int, ReactionRow],
+    collision: str | None,
+) -> tuple[list[Flag], list[Unchecked]]:
+    """k(T) above the collision rate, every complete bimolecular expression at once per model."""
     flags: list[Flag] = []
-
-    # collision limit, vectorized over all complete bimolecular expressions
-    bimolecular = [r for r in reactions if r.reaction_order == 2 and not r.third_body]
-    pairs = collision_pairs(session, bimolecular)
-    grid_unit = np.geomspace(1.0, 2.0, 40) - 1.0  # 0..1, denser at the low end
-    rows = []
+    unchecked: list[Unchecked] = []
+    by_model: dict[str, list[tuple[ExpressionRow, CollisionPair]]] = {}
     for e in expressions:
-        pair = pairs.get(e.reaction_id)
-        if e.A is None or pair is None or isinstance(pair, str):
+        model = _model_of(e, collision)
+        pair = pairs[model].get(e.reaction_id)
+        if not e.complete or pair is None:
             continue
-        low = e.t_min or DEFAULT_LIMIT_RANGE[0]
-        high = e.t_max or DEFAULT_LIMIT_RANGE[1]
-        rows.append((e, pair, low + (high - low) * grid_unit))
-    if rows:
-        T = np.stack([grid for _, _, grid in rows])
-        A = np.array([[e.A] for e, _, _ in rows])
-        n = np.array([[e.n] for e, _, _ in rows])
-        Ea = np.array([[e.Ea] for e, _, _ in rows])
-        k = modified_arrhenius(T, A, n, Ea)
-        z = np.stack([pair.collision_rate(grid) for _, pair, grid in rows])
-        ratio, where = collision.collision_limit_ratio(T, k, z)
-        for (e, _pair, _grid), r, t in zip(
-            rows, np.atleast_1d(ratio), np.atleast_1d(where), strict=True
-        ):
-            if r > 1.0:
-                flags.append(
-                    Flag(
-                        by_id[e.reaction_id].key,
-                        "above-collision-limit",
-                        f"expression {e.id} ({e.origin}) is {r:.3g} times the hard-sphere "
-                        f"collision rate at {t:.4g} K",
-                        e.id,
-                        float(r),
-                        float(t),
-                    )
-                )
+        if isinstance(pair, str):
+            key = by_id[e.reaction_id].key
+            unchecked.append(Unchecked(key, e.id, f"{model} collision limit: {pair}"))
+            continue
+        by_model.setdefault(model, []).append((e, pair))
+    for model, rows in by_model.items():
+        flags.extend(_limit_flags(rows, by_id, model))
+    return flags, unchecked
 
+
+def _limit_flags(
+    rows: list[tuple[ExpressionRow, CollisionPair]], by_id: dict[int, ReactionRow], model: str
+) -> list[Flag]:
+    grid_unit = np.geomspace(1.0, 2.0, 40) - 1.0  # 0..1, denser at the low end
+    low = np.array([[e.T_min or DEFAULT_LIMIT_RANGE[0]] for e, _ in rows])
+    high = np.array([[e.T_max or DEFAULT_LIMIT_RANGE[1]] for e, _ in rows])
+    T = low + (high - low) * grid_unit
+    A, n, Ea = (np.array([[getattr(e, name)] for e, _ in rows]) for name in ("A", "n", "Ea"))
+    k = modified_arrhenius(T, A, n, Ea)
+    columns = PairColumns.of([pair for _, pair in rows])
+    arguments = columns.rate_arguments(model)
+    z = collision_rate(T, **{name: _column(v) for name, v in arguments.items()})
+    z = np.maximum(z, _capture_rate(T, columns))
+    ratio, where = collision_limit_ratio(T, k, z)
+    flags = []
+    for (e, _pair), r, t in zip(rows, np.atleast_1d(ratio), np.atleast_1d(where), strict=True):
+        # an estimate made with P = 1 is the limit itself: within rounding, and within the
+        # deviation its modified-Arrhenius fit recorded, it is not a violation
+        allowed = 1.0 + 1e-9 + (e.provenance.get("max_relative_deviation_of_fit") or 0.0)
+        if r > allowed:
+            flags.append(
+                Flag(
+                    by_id[e.reaction_id].key,
+                    "above-collision-limit",
+                    f"expression {e.id} ({e.origin}) is {r:.3g} times the collision limit "
+                    f"({model}, or dispersion capture where larger) at {t:.4g} K",
+                    e.id,
+                    float(r),
+                    float(t),
+                )
+            )
+    return flags
+
+
+def _capture_rate(T: np.ndarray, columns: PairColumns) -> np.ndarray:
+    """The dispersion-limited capture rate on each row's grid (0 where data are missing)."""
+    capture = np.zeros_like(T)
+    rows = columns.has_capture_data
+    if rows.any():
+        capture[rows] = london_capture_rate_constant(
+            T[rows],
+            columns.polarizability_a[rows, None],
+            columns.polarizability_b[rows, None],
+            columns.ionization_energy_a[rows, None],
+            columns.ionization_energy_b[rows, None],
+            columns.molar_mass_a[rows, None],
+            columns.molar_mass_b[rows, None],
+            identical=columns.identical[rows, None],
+        )
+    return capture
+
+
+def _column(value: object) -> object:
+    """A per-reaction array as a column that broadcasts against a (reactions, grid) array."""
+    return value[:, None] if isinstance(value, np.ndarray) else value
+
+
+def _expression_flags(
+    expressions: list[ExpressionRow], by_id: dict[int, ReactionRow]
+) -> list[Flag]:
+    flags = []
     for e in expressions:
         key = by_id[e.reaction_id].key
-        provenance = e.provenance or {}
-        steric = provenance.get("steric_factor")
+        steric = e.provenance.get("steric_factor")
         if steric is not None and steric > 1.0:
             what = "is estimated with" if e.origin == "collision-estimate" else "implies"
             flags.append(
@@ -152,68 +249,97 @@ def check_store(
                     float(steric),
                 )
             )
-        if e.origin == "measured-fit" and "collinear-n-ea" in (provenance.get("warnings") or []):
+        warnings = e.provenance.get("warnings") or [] if e.origin == "measured-fit" else []
+        flags.extend(_scatter_flags(key, e, warnings))
+        if "collinear-n-ea" in warnings:
             flags.append(
                 Flag(
                     key,
                     "collinear-fit",
-                    f"fit {e.id}: n and Ea are nearly collinear over {e.t_min:.4g}-{e.t_max:.4g} K;"
-                    " refit with --form arrhenius",
+                    f"fit {e.id}: n and Ea are nearly collinear over {e.T_min:.4g}-{e.T_max:.4g} K;"
+                    " refit with the two-parameter arrhenius form",
                     e.id,
                 )
             )
+    return flags
 
-    chosen, gaps = chosen_expressions(session, reactions)
-    for reaction in gaps:
-        flags.append(
-            Flag(
-                reaction.key,
-                "nothing-usable",
-                "no complete expression (no fit, no literature A, no estimate)",
-            )
+
+_SCATTER_FINDINGS = {
+    "sets-disagree": "its pooled sets disagree beyond their stated uncertainties "
+    "(between-set factor {between:.3g}, included in its uncertainty)",
+    "scatter-above-stated": "reduced chi-square {chi:.3g} is improbably far above 1: the sets "
+    "disagree or the form is wrong",
+    "scatter-below-stated": "reduced chi-square {chi:.3g} is improbably far below 1: the "
+    "stated uncertainties look overstated",
+}
+
+
+def _scatter_flags(key: str, e: ExpressionRow, warnings: list[str]) -> list[Flag]:
+    chi = e.provenance.get("reduced_chi_square") or float("nan")
+    between = math.exp(math.sqrt(e.provenance.get("between_set_variance_ln_k") or 0.0))
+    return [
+        Flag(
+            key,
+            "fit-scatter",
+            f"fit {e.id}: " + finding.format(chi=chi, between=between),
+            e.id,
+            between if code == "sets-disagree" else chi,
         )
+        for code, finding in _SCATTER_FINDINGS.items()
+        if code in warnings
+    ]
+
+
+def _gap_flags(gaps: list[ReactionRow]) -> list[Flag]:
+    return [
+        Flag(
+            reaction.key,
+            "nothing-usable",
+            "no complete expression (no fit, no literature A, no estimate)",
+        )
+        for reaction in gaps
+    ]
+
+
+def _chosen_flags(chosen: list[Chosen], T_range: tuple[float, float] | None) -> list[Flag]:
+    flags = []
     for choice in chosen:
         e = choice.expression
         key = choice.reaction.key
-        if e.origin == "collision-estimate":
-            estimated = (e.provenance or {}).get("estimated_diameters") or []
-            if estimated:
-                flags.append(
-                    Flag(
-                        key,
-                        "estimated-diameter",
-                        f"the exported estimate {e.id} uses estimated diameters of "
-                        f"{', '.join(estimated)}",
-                        e.id,
-                    )
+        estimated = e.provenance.get("estimated_diameters") or []
+        if e.origin == "collision-estimate" and estimated:
+            flags.append(
+                Flag(
+                    key,
+                    "estimated-diameter",
+                    f"the exported estimate {e.id} uses estimated diameters of "
+                    f"{', '.join(estimated)}",
+                    e.id,
                 )
-        if t_range is not None:
-            low, high = t_range
-            if e.t_min is None or e.t_max is None:
-                flags.append(
-                    Flag(
-                        key,
-                        "extrapolation",
-                        f"the exported expression {e.id} ({e.origin}) states no valid range; "
-                        f"it would be used over {low:g}-{high:g} K",
-                        e.id,
-                    )
-                )
-            elif e.t_min > low * (1 + 1e-9) or e.t_max < high * (1 - 1e-9):
-                flags.append(
-                    Flag(
-                        key,
-                        "extrapolation",
-                        f"the exported expression {e.id} ({e.origin}) holds over "
-                        f"{e.t_min:.4g}-{e.t_max:.4g} K, but would be used over "
-                        f"{low:g}-{high:g} K",
-                        e.id,
-                    )
-                )
-    flags = [f for f in flags if f.code not in ignore]
-    flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
-    return CheckReport(flags, len(reactions), len(expressions), t_range, ignore)
+            )
+        if T_range is not None:
+            flag = _extrapolation_flag(key, e, T_range)
+            if flag is not None:
+                flags.append(flag)
+    return flags
 
 
-def _finite(value: float | None) -> bool:
-    return value is not None and math.isfinite(value)
+def _extrapolation_flag(key: str, e: ExpressionRow, T_range: tuple[float, float]) -> Flag | None:
+    low, high = T_range
+    if e.T_min is None or e.T_max is None:
+        return Flag(
+            key,
+            "extrapolation",
+            f"the exported expression {e.id} ({e.origin}) states no valid range; "
+            f"it would be used over {low:g}-{high:g} K",
+            e.id,
+        )
+    if e.T_min > low * (1 + 1e-9) or e.T_max < high * (1 - 1e-9):
+        return Flag(
+            key,
+            "extrapolation",
+            f"the exported expression {e.id} ({e.origin}) holds over "
+            f"{e.T_min:.4g}-{e.T_max:.4g} K, but would be used over {low:g}-{high:g} K",
+            e.id,
+        )
+    return None

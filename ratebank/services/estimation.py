@@ -1,74 +1,50 @@
 """Fill missing pre-exponential factors from collision theory times a steric factor.
 
-For a bimolecular reaction with a known activation energy Ea (at T_ref):
+For a bimolecular reaction with a known activation energy Ea (at T_ref) the
+estimate is k(T) = P z(T) exp(-E0/RT) with E0 = Ea - E_z(T_ref)
+(:func:`ratebank.science.collision.collision_theory_estimate`, for the
+hard-sphere and the Lennard-Jones collision models). The service reads the
+candidates, chooses P for each, makes that one science call for all of them,
+and writes the estimates through the store's one expression write path.
 
-- hard spheres: E0 = Ea - R T_ref/2 and k(T) = P z(T) exp(-E0/RT). Since
-  z(T) is proportional to T^(1/2) this is exactly a modified-Arrhenius
-  expression with n = 1/2, A = P z(T_ref)/T_ref^(1/2) and Ea = E0, and it is
-  stored that way.
-- Lennard-Jones: z_LJ = z Omega(2,2)*(T/eps_AB), E0 = Ea - E_z(T_ref) with the
-  model's own E_z = -R d ln z/d(1/T), and the stored expression is a
-  modified-Arrhenius fit to P z_LJ(T) exp(-E0/RT) over the temperature range,
-  its largest deviation recorded.
-
-P comes from the first of: the command line; the value stored on the
-reaction; the rule stored for its class; the geometric mean of the steric
-factors derived from measured reactions of the class; a fallback the user
-gives. A reaction with none of these is reported, never guessed.
+P comes from the first of: the value given by the caller; the value stored
+on the reaction; the rule stored for its class; the geometric mean of the
+steric factors derived from measured reactions of the class; a fallback the
+caller gives. A reaction with none of these is reported, never guessed.
 """
 
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any, NamedTuple
+from typing import Any
 
-from sqlalchemy import delete, select
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import RatebankError
-from ratebank.services.curate import find_reaction
+from ratebank.errors import BadInputError, RefusedEstimateError
+from ratebank.science.collision import CollisionEstimate, collision_theory_estimate
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import (
-    COLLISION_MODELS,
     CollisionPair,
+    PairColumns,
+    check_model,
     collision_pairs,
     store_estimated_partners,
 )
-from ratebank.services.progress import NoProgress, Progress, chunks
-from ratebank.services.steric import MINIMUM_ESTIMATE_FACTOR, derived_steric_factors
-from ratebank.store import audit
-from ratebank.store.bulk import (
-    EXPRESSION_COLUMNS,
-    db_timestamp,
-    fetch_all,
-    insert_returning_ids,
-    json_adapter,
+from ratebank.services.progress import NoProgress, Progress
+from ratebank.services.steric import (
+    MINIMUM_ESTIMATE_FACTOR,
+    ClassSteric,
+    derived_steric_factors,
 )
-from ratebank.store.models import Expression, Reaction, StericRule
+from ratebank.store import queries
+from ratebank.store.expressions import ExpressionRecord, remove_expressions, write_expressions
+from ratebank.store.queries import ExpressionRow, ReactionRow, StericRuleRow
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
 DEFAULT_UNCERTAINTY_FACTOR = 10.0
-#: Reference temperature when neither the user nor the activation energy gives one [K].
-DEFAULT_T_REF = 298.15
-#: Temperature grid of the Lennard-Jones fit when no range is known [K].
-DEFAULT_LJ_RANGE = (200.0, 2500.0)
-
-
-class EstimateIncomplete(RatebankError):
-    """Some requested reactions could not be estimated; nothing was written."""
-
-    def __init__(self, report: EstimateReport):
-        self.report = report
-        lines = [f"{s.key}: {s.reason}" for s in report.skipped[:20]]
-        more = len(report.skipped) - len(lines)
-        super().__init__(
-            f"{len(report.skipped)} of {len(report.skipped) + len(report.rows)} requested "
-            "reaction(s) cannot be estimated, so nothing was written (use --keep-going to "
-            "store the others):\n  "
-            + "\n  ".join(lines)
-            + (f"\n  ... and {more} more" if more > 0 else "")
-        )
 
 
 @dataclass(slots=True)
@@ -80,14 +56,17 @@ class EstimateRow:
     Ea: float  # the stored Ea (E0 for the hard-sphere n = 1/2 form)
     activation_energy: float  # the Ea the estimate was made from
     T_ref: float
-    t_min: float | None
-    t_max: float | None
+    T_min: float | None
+    T_max: float | None
     steric_factor: float
     steric_rule: str
     uncertainty_factor: float
     collision_model: str
-    collision_rate_at_t_ref: float
+    collision_rate_at_T_ref: float
+    threshold_energy: float
+    collision_activation_energy: float
     estimated_diameters: list[str]
+    threshold_shortfall: float = 0.0
     max_fit_deviation: float | None = None
     expression_id: int | None = None
     replaced: list[int] = field(default_factory=list)
@@ -105,74 +84,107 @@ class EstimateReport:
     skipped: list[Skipped]
     written: bool
 
-    @property
-    def all_estimated(self) -> bool:
-        return not self.skipped
-
 
 @dataclass(frozen=True)
-class _StericChoice:
+class StericChoice:
+    """The steric factor an estimate uses, the rule that supplied it, and its uncertainty."""
+
     value: float
     rule: str
     uncertainty_factor: float
     detail: dict[str, Any]
 
 
-def _steric_for(
-    reaction: _ReactionRow,
-    *,
-    given: float | None,
-    rules: dict[str, StericRule],
-    derived: dict[str | None, Any],
-    fallback: float | None,
-    user_factor: float | None,
-) -> _StericChoice | str:
-    default_factor = user_factor if user_factor is not None else DEFAULT_UNCERTAINTY_FACTOR
-    if given is not None:
-        return _StericChoice(given, "given on the command line", default_factor, {})
-    if reaction.steric_factor is not None:
-        return _StericChoice(
-            reaction.steric_factor,
-            "stored for the reaction",
-            default_factor,
-            {"source": reaction.steric_source},
+@dataclass(frozen=True)
+class StericSources:
+    """Where steric factors can come from, in order of precedence."""
+
+    given: float | None
+    rules: dict[str, StericRuleRow]
+    derived: dict[str | None, ClassSteric]
+    fallback: float | None
+    uncertainty_factor: float | None
+
+    def choose(self, reaction: ReactionRow) -> StericChoice | str:
+        """P for ``reaction``, or why there is none."""
+        default = self.uncertainty_factor or DEFAULT_UNCERTAINTY_FACTOR
+        if self.given is not None:
+            return StericChoice(self.given, "given by the user", default, {})
+        if reaction.steric_factor is not None:
+            detail = {"source": reaction.steric_source}
+            return StericChoice(reaction.steric_factor, "stored for the reaction", default, detail)
+        rule = self.rules.get(reaction.reaction_class or "")
+        if rule is not None:
+            return StericChoice(
+                rule.steric_factor,
+                f"rule for class {rule.reaction_class}",
+                rule.uncertainty_factor or default,
+                {"source": rule.source, "rule_version": rule.version},
+            )
+        group = self.derived.get(reaction.reaction_class) if reaction.reaction_class else None
+        if group is not None and group.count > 0:
+            return _derived_choice(group, default)
+        if self.fallback is not None:
+            return StericChoice(self.fallback, "fallback given by the user", default, {})
+        where = f"class {reaction.reaction_class!r}" if reaction.reaction_class else "no class"
+        return (
+            f"no applicable steric factor ({where}: no value stored for the reaction, no class "
+            "rule, no measured reaction of the class); give a steric factor or a fallback, or "
+            "store one for the reaction or its class"
         )
-    rule = rules.get(reaction.reaction_class or "")
-    if rule is not None:
-        return _StericChoice(
-            rule.steric_factor,
-            f"rule for class {rule.reaction_class}",
-            rule.uncertainty_factor or default_factor,
-            {"source": rule.source, "rule_version": rule.version},
-        )
-    group = derived.get(reaction.reaction_class) if reaction.reaction_class else None
-    if group is not None and group.count > 0:
-        spread = group.spread_factor
-        factor = max(spread, MINIMUM_ESTIMATE_FACTOR) if spread is not None else default_factor
-        return _StericChoice(
-            group.geometric_mean,
-            f"derived from {group.count} measured reaction(s) of class {reaction.reaction_class}",
-            factor,
-            {
-                "class_spread_factor": spread,
-                "class_members": [
-                    {
-                        "key": s.key,
-                        "steric_factor": s.steric_factor,
-                        "expression_id": s.expression_id,
-                    }
-                    for s in group.samples
-                ],
-            },
-        )
-    if fallback is not None:
-        return _StericChoice(fallback, "fallback given on the command line", default_factor, {})
-    where = f"class {reaction.reaction_class!r}" if reaction.reaction_class else "no class"
-    return (
-        f"no applicable steric factor ({where}: no value stored for the reaction, no class "
-        "rule, no measured reaction of the class); give --steric, store one with "
-        "`ratebank steric`, or give --fallback-steric"
+
+
+def _derived_choice(group: ClassSteric, default: float) -> StericChoice:
+    spread = group.spread_factor
+    factor = max(spread, MINIMUM_ESTIMATE_FACTOR) if spread is not None else default
+    members = [
+        {"key": s.key, "steric_factor": s.steric_factor, "expression_id": s.expression_id}
+        for s in group.samples
+    ]
+    return StericChoice(
+        group.geometric_mean,
+        f"derived from {group.count} measured reaction(s) of class {group.reaction_class}",
+        factor,
+        {"class_spread_factor": spread, "class_members": members},
     )
+
+
+def _positive(value: float | None, argument: str, what: str, minimum: float = 0.0) -> None:
+    if value is None:
+        return
+    if not math.isfinite(value) or (value <= minimum and minimum == 0.0) or value < minimum:
+        raise BadInputError(f"{argument} {value!r} must be {what}", argument=argument)
+
+
+def _check_options(
+    model: str,
+    steric: float | None,
+    fallback_steric: float | None,
+    T_ref: float | None,
+    uncertainty_factor: float | None,
+    T_range: tuple[float, float] | None,
+) -> None:
+    check_model(model)
+    _positive(steric, "steric", "a finite number greater than zero")
+    _positive(fallback_steric, "fallback_steric", "a finite number greater than zero")
+    _positive(T_ref, "T_ref", "a temperature above 0 K")
+    _positive(uncertainty_factor, "uncertainty_factor", "a finite number of at least 1", 1.0)
+    if T_range is not None and not (0 < T_range[0] < T_range[1]):
+        raise BadInputError(
+            "T_range needs two temperatures, the lower first, both above 0 K", argument="T_range"
+        )
+
+
+@dataclass(frozen=True)
+class _Candidate:
+    reaction: ReactionRow
+    partial: ExpressionRow
+    pair: CollisionPair
+    choice: StericChoice
+    T_ref: float
+    T_min: float | None
+    T_max: float | None
+    T_ref_given: bool
 
 
 @paused_garbage_collection()
@@ -181,12 +193,12 @@ def estimate(
     keys: list[str] | None = None,
     *,
     steric: float | None = None,
-    t_ref: float | None = None,
+    T_ref: float | None = None,
     collision: str = "hard-sphere",
     reaction_class: str | None = None,
     fallback_steric: float | None = None,
     uncertainty_factor: float | None = None,
-    t_range: tuple[float, float] | None = None,
+    T_range: tuple[float, float] | None = None,
     keep_going: bool = False,
     progress: Progress | None = None,
 ) -> EstimateReport:
@@ -194,282 +206,51 @@ def estimate(
 
     Without ``keys``, every such reaction (of ``reaction_class``, if given) is
     a candidate. If any requested reaction cannot be estimated, nothing is
-    written and :class:`EstimateIncomplete` lists why, unless ``keep_going``.
+    written and :class:`RefusedEstimateError` lists why, unless ``keep_going``.
     Measured and literature expressions are never touched; an earlier
     collision estimate of the same reaction (not recommended) is replaced.
     """
-    import numpy as np
-
-    from ratebank.science import collision as sct
-    from ratebank.science.arrhenius import approximate_with_modified_arrhenius
-
-    if collision not in COLLISION_MODELS:
-        raise RatebankError(
-            f"unknown collision model {collision!r}; expected one of {', '.join(COLLISION_MODELS)}"
-        )
-    for name, value in (("--steric", steric), ("--fallback-steric", fallback_steric)):
-        if value is not None and (not math.isfinite(value) or value <= 0):
-            raise RatebankError(f"{name} {value!r} must be a finite number greater than zero")
-    if t_ref is not None and (not math.isfinite(t_ref) or t_ref <= 0):
-        raise RatebankError(f"--t-ref {t_ref!r} must be a temperature above 0 K")
-    if uncertainty_factor is not None and (
-        not math.isfinite(uncertainty_factor) or uncertainty_factor < 1
-    ):
-        raise RatebankError("--uncertainty-factor must be a number of at least 1")
-    if t_range is not None and not (0 < t_range[0] < t_range[1]):
-        raise RatebankError("--t-range needs two temperatures, the lower first, both above 0 K")
-
-    reactions = _reactions(session, keys, reaction_class)
-    expressions = _expressions(session, [r.id for r in reactions])
-
-    skipped: list[Skipped] = []
-    candidates: list[tuple[_ReactionRow, _ExpressionRow]] = []
-    for reaction in reactions:
-        own = expressions[reaction.id]
-        complete = [e for e in own if e.A is not None and e.origin != "collision-estimate"]
-        partial = [e for e in own if e.A is None]
-        if complete or not partial:
-            if keys:
-                skipped.append(Skipped(reaction.key, _why_not_candidate(complete)))
-            continue
-        candidates.append((reaction, partial[-1]))
-
-    pairs = collision_pairs(session, [r for r, _ in candidates], model=collision)
-    rules = {r.reaction_class: r for r in session.scalars(select(StericRule))}
-    derived = {g.reaction_class: g for g in derived_steric_factors(session, model=collision)}
-
-    rows: list[EstimateRow] = []
-    plans: list[tuple[_ReactionRow, EstimateRow, dict[str, Any]]] = []
-    progress = progress or NoProgress()
-    progress.start("estimating", len(candidates))
-    ready: list[
-        tuple[_ReactionRow, _ExpressionRow, CollisionPair, _StericChoice, float, Any, Any]
-    ] = []
-    # a P given on the command line is the same choice for every reaction
-    given_choice = (
-        _steric_for(
-            candidates[0][0],
-            given=steric,
-            rules=rules,
-            derived=derived,
-            fallback=fallback_steric,
-            user_factor=uncertainty_factor,
-        )
-        if steric is not None and candidates
-        else None
-    )
-    for reaction, partial in candidates:
-        progress.advance()
-        pair = pairs[reaction.id]
-        if isinstance(pair, str):
-            skipped.append(Skipped(reaction.key, pair))
-            continue
-        choice = given_choice or _steric_for(
-            reaction,
-            given=steric,
-            rules=rules,
-            derived=derived,
-            fallback=fallback_steric,
-            user_factor=uncertainty_factor,
-        )
-        if isinstance(choice, str):
-            skipped.append(Skipped(reaction.key, choice))
-            continue
-        t_min = partial.t_min if partial.t_min is not None else (t_range[0] if t_range else None)
-        t_max = partial.t_max if partial.t_max is not None else (t_range[1] if t_range else None)
-        reference_t = t_ref
-        if reference_t is None:
-            reference_t = math.sqrt(t_min * t_max) if t_min and t_max else DEFAULT_T_REF
-        ready.append((reaction, partial, pair, choice, reference_t, t_min, t_max))
-
-    # the collision rate of every candidate at its T_ref in one vectorized call
-    z_ref = np.zeros(len(ready))
-    e_z = np.zeros(len(ready))
-    if ready and collision == "hard-sphere":
-        pairs_ready = [item[2] for item in ready]
-        T_ref = np.array([item[4] for item in ready])
-        distinct = sct.collision_rate_constant(
-            T_ref,
-            np.array([p.a.diameter for p in pairs_ready]),
-            np.array([p.b.diameter for p in pairs_ready]),
-            np.array([p.a.molar_mass for p in pairs_ready]),
-            np.array([p.b.molar_mass for p in pairs_ready]),
-        )
-        # A + A: mu = m/2 comes out of the same formula; the 1/2 is ratebank's rate law
-        z_ref = np.where([p.identical for p in pairs_ready], 0.5, 1.0) * distinct
-        e_z = np.asarray(sct.collision_rate_activation_energy(T_ref, model="hard-sphere"))
-    z_ref_list = np.broadcast_to(z_ref, (len(ready),)).tolist()
-    e_z_list = np.broadcast_to(e_z, (len(ready),)).tolist()
-    partner_records: dict[int, dict[str, object]] = {}  # one record per species, shared
-    for i, (reaction, partial, pair, choice, reference_t, t_min, t_max) in enumerate(ready):
-        try:
-            row, detail = _estimate_one(
-                reaction,
-                partial,
-                pair,
-                choice,
-                reference_t,
-                t_min,
-                t_max,
-                collision,
-                sct,
-                approximate_with_modified_arrhenius,
-                np,
-                z_ref=z_ref_list[i] if collision == "hard-sphere" else None,
-                e_z=e_z_list[i] if collision == "hard-sphere" else None,
-                partner_records=partner_records,
-            )
-        except (ValueError, RatebankError) as exc:
-            skipped.append(Skipped(reaction.key, f"collision model failed: {exc}"))
-            continue
-        rows.append(row)
-        plans.append((reaction, row, detail))
-
-    if skipped and not keep_going:
-        raise EstimateIncomplete(EstimateReport(rows, skipped, written=False))
-    if plans:
-        # store the diameters estimated for the partners actually used, flagged
-        store_estimated_partners(session, [pairs[r.id] for r, _, _ in plans])
-        author = session.info.get("author")
-        replaced: list[int] = []
-        for reaction, row, _detail in plans:
-            row.replaced = [
-                e.id
-                for e in expressions[reaction.id]
-                if e.origin == "collision-estimate" and not e.recommended
-            ]
-            replaced.extend(row.replaced)
-        for start, stop in chunks(len(replaced), 500):
-            session.execute(delete(Expression).where(Expression.id.in_(replaced[start:stop])))
-        now = db_timestamp(session)
-        encode = json_adapter(session)
-        new_ids = insert_returning_ids(
-            session,
-            "expression",
-            EXPRESSION_COLUMNS,
-            [
-                (
-                    reaction.id,
-                    "collision-estimate",
-                    row.A,
-                    row.n,
-                    row.Ea,
-                    row.t_min,
-                    row.t_max,
-                    row.uncertainty_factor,
-                    f"collision theory ({row.collision_model}) x steric factor "
-                    f"{row.steric_factor:.3g} ({row.steric_rule})",
-                    encode(detail),
-                    False,
-                    1,
-                    now,
-                    author,
-                )
-                for reaction, row, detail in plans
-            ],
-        )
-        for (_, row, _), new_id in zip(plans, new_ids, strict=True):
-            row.expression_id = new_id
-        audit.record_many(
-            session,
-            "estimate",
-            [
-                (
-                    row.key,
-                    {
-                        "expression": row.expression_id,
-                        "model": row.collision_model,
-                        "steric_factor": row.steric_factor,
-                        "steric_rule": row.steric_rule,
-                        "replaced": row.replaced,
-                    },
-                )
-                for _, row, _ in plans
-            ],
-        )
-    return EstimateReport(rows, skipped, written=bool(plans))
-
-
-class _ReactionRow(NamedTuple):
-    """The reaction columns estimation reads (a plain row, not an ORM object)."""
-
-    id: int
-    key: str
-    equation: str
-    reaction_order: int
-    third_body: bool
-    reaction_class: str | None
-    steric_factor: float | None
-    steric_source: str | None
-
-
-class _ExpressionRow(NamedTuple):
-    id: int
-    reaction_id: int
-    origin: str
-    A: float | None
-    Ea: float
-    t_min: float | None
-    t_max: float | None
-    recommended: bool
-
-
-_REACTION_COLUMNS = (
-    Reaction.id,
-    Reaction.key,
-    Reaction.equation,
-    Reaction.reaction_order,
-    Reaction.third_body,
-    Reaction.reaction_class,
-    Reaction.steric_factor,
-    Reaction.steric_source,
-)
-
-
-def _reactions(
-    session: Session, keys: list[str] | None, reaction_class: str | None
-) -> list[_ReactionRow]:
+    _check_options(collision, steric, fallback_steric, T_ref, uncertainty_factor, T_range)
     if keys:
-        ids = [find_reaction(session, key).id for key in keys]
-        found = {
-            row[0]: _ReactionRow(*row)
-            for row in session.execute(select(*_REACTION_COLUMNS).where(Reaction.id.in_(ids)))
-        }
-        return [found[i] for i in ids]
-    query = select(*_REACTION_COLUMNS).order_by(Reaction.key)
-    if reaction_class is not None:
-        query = query.where(Reaction.reaction_class == reaction_class)
-        return [_ReactionRow(*row) for row in session.execute(query)]
-    # the whole store: plain rows through the driver
-    return [_ReactionRow(*row) for row in fetch_all(session, query)]
-
-
-def _expressions(session: Session, reaction_ids: list[int]) -> dict[int, list[_ExpressionRow]]:
-    columns = (
-        Expression.id,
-        Expression.reaction_id,
-        Expression.origin,
-        Expression.A,
-        Expression.Ea,
-        Expression.t_min,
-        Expression.t_max,
-        Expression.recommended,
+        reactions = queries.find_reactions(session, keys)
+    else:
+        reactions = queries.reactions(session, reaction_class=reaction_class)
+    expressions = queries.expressions_of(session, [r.id for r in reactions])
+    sources = StericSources(
+        steric,
+        queries.steric_rules(session),
+        {g.reaction_class: g for g in derived_steric_factors(session, model=collision)},
+        fallback_steric,
+        uncertainty_factor,
     )
-    found: dict[int, list[_ExpressionRow]] = {i: [] for i in reaction_ids}
-    query = select(*columns).order_by(Expression.id)
-    if len(reaction_ids) <= 5000:
-        for start in range(0, len(reaction_ids), 500):
-            chunk = reaction_ids[start : start + 500]
-            for row in session.execute(query.where(Expression.reaction_id.in_(chunk))):
-                found[row[1]].append(_ExpressionRow(*row))
-    else:  # most of the store: one pass through the driver beats thousands of IN lists
-        for row in fetch_all(session, query):
-            if row[1] in found:
-                found[row[1]].append(_ExpressionRow(*row))
-    return found
+    progress = progress or NoProgress()
+    candidates, skipped = _candidates(
+        session, reactions, expressions, bool(keys), sources, collision, T_ref, T_range
+    )
+    progress.start("estimating", len(candidates))
+    rows = _estimate_rows(candidates, collision, skipped)
+    progress.advance(len(candidates))
+    if skipped and not keep_going:
+        raise RefusedEstimateError(_refusal(rows, skipped), EstimateReport(rows, skipped, False))
+    written = [(c, row) for c, row in zip(candidates, rows, strict=True) if row is not None]
+    if written:
+        _write(session, written, expressions)
+    return EstimateReport([row for _, row in written], skipped, written=bool(written))
 
 
-def _why_not_candidate(complete: list[_ExpressionRow]) -> str:
+def _refusal(rows: Sequence[EstimateRow | None], skipped: list[Skipped]) -> str:
+    lines = [f"{s.key}: {s.reason}" for s in skipped[:20]]
+    more = len(skipped) - len(lines)
+    total = len(skipped) + sum(1 for r in rows if r is not None)
+    return (
+        f"{len(skipped)} of {total} requested reaction(s) cannot be estimated, so nothing was "
+        "written (keep going to store the others):\n  "
+        + "\n  ".join(lines)
+        + (f"\n  ... and {more} more" if more > 0 else "")
+    )
+
+
+def _why_not_candidate(complete: list[ExpressionRow]) -> str:
     if complete:
         return (
             f"already has a complete {complete[-1].origin} expression; estimates never "
@@ -478,82 +259,218 @@ def _why_not_candidate(complete: list[_ExpressionRow]) -> str:
     return "no activation energy stored (import one with A left empty)"
 
 
-def _estimate_one(
-    reaction: _ReactionRow,
-    partial: _ExpressionRow,
-    pair: CollisionPair,
-    choice: _StericChoice,
-    t_ref: float,
-    t_min: float | None,
-    t_max: float | None,
+def _candidates(
+    session: Session,
+    reactions: list[ReactionRow],
+    expressions: dict[int, list[ExpressionRow]],
+    named: bool,
+    sources: StericSources,
     model: str,
-    sct: Any,
-    approximate: Any,
-    np: Any,
-    *,
-    z_ref: float | None = None,
-    e_z: float | None = None,
-    partner_records: dict[int, dict[str, object]] | None = None,
-) -> tuple[EstimateRow, dict[str, Any]]:
-    ea = partial.Ea
-    if z_ref is None:
-        z_ref = float(pair.collision_rate(t_ref, model))
-    if e_z is None:
-        e_z = float(pair.collision_activation_energy(t_ref, model))
-    # E0 = Ea - E_z(T_ref) (plain arithmetic: E_z is already the model's own)
-    e0 = ea - e_z
-    max_deviation = None
-    if model == "hard-sphere":
-        A = choice.value * z_ref / math.sqrt(t_ref)
-        n = 0.5
-        stored_ea = e0
-    else:
-        low, high = (t_min, t_max) if t_min and t_max else DEFAULT_LJ_RANGE
-        low, high = min(low, t_ref), max(high, t_ref)
-        grid = np.geomspace(low, high, 60)
-        k_model = sct.collision_theory_rate_constant(
-            grid, choice.value, pair.collision_rate(grid, model), e0
+    T_ref: float | None,
+    T_range: tuple[float, float] | None,
+) -> tuple[list[_Candidate], list[Skipped]]:
+    skipped: list[Skipped] = []
+    waiting: list[tuple[ReactionRow, ExpressionRow]] = []
+    for reaction in reactions:
+        own = expressions[reaction.id]
+        complete = [e for e in own if e.complete and e.origin != "collision-estimate"]
+        partial = [e for e in own if not e.complete]
+        if complete or not partial:
+            if named:
+                skipped.append(Skipped(reaction.key, _why_not_candidate(complete)))
+            continue
+        waiting.append((reaction, partial[-1]))
+    pairs = collision_pairs(session, [r for r, _ in waiting], model=model)
+    candidates: list[_Candidate] = []
+    for reaction, partial in waiting:
+        pair = pairs[reaction.id]
+        choice = sources.choose(reaction)
+        reason = pair if isinstance(pair, str) else choice if isinstance(choice, str) else None
+        if reason is not None:
+            skipped.append(Skipped(reaction.key, reason))
+            continue
+        assert isinstance(pair, CollisionPair) and isinstance(choice, StericChoice)
+        low = partial.T_min if partial.T_min is not None else (T_range[0] if T_range else None)
+        high = partial.T_max if partial.T_max is not None else (T_range[1] if T_range else None)
+        # no silent defaults: T_ref comes from the caller or the activation energy's range
+        reference = T_ref or (math.sqrt(low * high) if low and high else None)
+        reason = _missing_temperatures(reference, low, high, model)
+        if reason:
+            skipped.append(Skipped(reaction.key, reason))
+            continue
+        assert reference is not None
+        candidates.append(
+            _Candidate(reaction, partial, pair, choice, reference, low, high, T_ref is not None)
         )
-        fit = approximate(grid, k_model)
-        A, n, stored_ea = float(fit.A), float(fit.n), float(fit.Ea)
-        max_deviation = float(fit.max_relative_deviation)
-        t_min, t_max = t_min or low, t_max or high
-    estimated = pair.estimated_diameters
-    row = EstimateRow(
-        key=reaction.key,
-        equation=reaction.equation,
-        A=float(A),
-        n=float(n),
-        Ea=float(stored_ea),
-        activation_energy=float(ea),
-        T_ref=float(t_ref),
-        t_min=t_min,
-        t_max=t_max,
-        steric_factor=float(choice.value),
-        steric_rule=choice.rule,
-        uncertainty_factor=float(choice.uncertainty_factor),
-        collision_model=model,
-        collision_rate_at_t_ref=z_ref,
-        estimated_diameters=estimated,
-        max_fit_deviation=max_deviation,
+    return candidates, skipped
+
+
+def _missing_temperatures(
+    T_ref: float | None, low: float | None, high: float | None, model: str
+) -> str | None:
+    if T_ref is None:
+        return (
+            "no reference temperature: the activation energy states no valid range; give the "
+            "temperature at which it holds, or a range"
+        )
+    if model == "lennard-jones" and not (low and high):
+        return (
+            "a lennard-jones estimate is a fit over a temperature range, and the activation "
+            "energy states none; give a range"
+        )
+    return None
+
+
+def _estimate_rows(
+    candidates: list[_Candidate], model: str, skipped: list[Skipped]
+) -> list[EstimateRow | None]:
+    """One science call for every candidate; a candidate the model refuses is skipped."""
+    if not candidates:
+        return []
+    try:
+        estimates = _science(candidates, model)
+    except ValueError:
+        # one bad input refuses the whole array: find it by estimating one at a time
+        rows: list[EstimateRow | None] = []
+        for candidate in candidates:
+            try:
+                rows.extend(_estimate_rows_of([candidate], _science([candidate], model), model))
+            except ValueError as exc:
+                skipped.append(Skipped(candidate.reaction.key, f"collision model failed: {exc}"))
+                rows.append(None)
+        return rows
+    return list(_estimate_rows_of(candidates, estimates, model))
+
+
+def _science(candidates: list[_Candidate], model: str) -> CollisionEstimate:
+    columns = PairColumns.of([c.pair for c in candidates])
+    arguments = columns.rate_arguments(model)
+    ranged = model == "lennard-jones"
+    return collision_theory_estimate(
+        np.array([c.partial.Ea for c in candidates]),
+        np.array([c.T_ref for c in candidates]),
+        np.array([c.choice.value for c in candidates]),
+        T_min=np.array([c.T_min for c in candidates], dtype=float) if ranged else None,
+        T_max=np.array([c.T_max for c in candidates], dtype=float) if ranged else None,
+        **arguments,
     )
-    detail = {
+
+
+def _estimate_rows_of(
+    candidates: list[_Candidate], estimates: CollisionEstimate, model: str
+) -> list[EstimateRow]:
+    rows = []
+    lists = {
+        name: np.asarray(getattr(estimates, name)).tolist()
+        for name in estimates.__dataclass_fields__
+    }
+    for i, c in enumerate(candidates):
+        T_min, T_max, deviation = c.T_min, c.T_max, None
+        if model != "hard-sphere":
+            assert T_min is not None and T_max is not None
+            T_min, T_max = min(T_min, c.T_ref), max(T_max, c.T_ref)
+            deviation = lists["max_relative_deviation"][i]
+        rows.append(
+            EstimateRow(
+                key=c.reaction.key,
+                equation=c.reaction.equation,
+                A=lists["A"][i],
+                n=lists["n"][i],
+                Ea=lists["Ea"][i],
+                activation_energy=float(c.partial.Ea),
+                T_ref=float(c.T_ref),
+                T_min=T_min,
+                T_max=T_max,
+                steric_factor=float(c.choice.value),
+                steric_rule=c.choice.rule,
+                uncertainty_factor=float(c.choice.uncertainty_factor),
+                collision_model=model,
+                collision_rate_at_T_ref=lists["collision_rate_at_T_ref"][i],
+                threshold_energy=lists["threshold_energy"][i],
+                collision_activation_energy=lists["collision_activation_energy"][i],
+                estimated_diameters=c.pair.estimated_diameters,
+                threshold_shortfall=lists["threshold_shortfall"][i],
+                max_fit_deviation=deviation,
+            )
+        )
+    return rows
+
+
+def _provenance(c: _Candidate, row: EstimateRow, partners: dict) -> dict[str, Any]:
+    return {
         "method": "simple collision theory times a steric factor",
-        "collision_model": model,
+        "collision_model": row.collision_model,
         "steric_factor": row.steric_factor,
-        "steric_rule": choice.rule,
-        "steric_detail": choice.detail,
+        "steric_rule": c.choice.rule,
+        "steric_detail": c.choice.detail,
         "uncertainty_factor": row.uncertainty_factor,
         "activation_energy_J_per_mol": row.activation_energy,
-        "activation_energy_expression_id": partial.id,
-        "threshold_energy_J_per_mol": e0,
-        "collision_activation_energy_J_per_mol": e_z,
+        "activation_energy_expression_id": c.partial.id,
+        "threshold_energy_J_per_mol": row.threshold_energy,
+        "threshold_energy_held_at_zero": row.threshold_shortfall > 0,
+        "activation_energy_below_collision_rate_J_per_mol": row.threshold_shortfall,
+        "collision_activation_energy_J_per_mol": row.collision_activation_energy,
         "T_ref": row.T_ref,
-        "collision_rate_at_T_ref_SI": z_ref,
-        "self_reaction": pair.identical,
-        "partners": pair.as_record(cache=partner_records),
+        "T_ref_from": "given by the user" if c.T_ref_given else "middle of the valid range",
+        "valid_range_stated": row.T_min is not None and row.T_max is not None,
+        "collision_rate_at_T_ref_SI": row.collision_rate_at_T_ref,
+        "self_reaction": c.pair.identical,
+        "partners": c.pair.as_record(cache=partners),
         "estimated_diameters": row.estimated_diameters,
-        "form": "n = 1/2 exactly" if model == "hard-sphere" else "modified-Arrhenius fit",
-        "max_relative_deviation_of_fit": max_deviation,
+        "form": "n = 1/2 exactly"
+        if row.collision_model == "hard-sphere"
+        else "modified-Arrhenius fit",
+        "max_relative_deviation_of_fit": row.max_fit_deviation,
     }
-    return row, detail
+
+
+def _write(
+    session: Session,
+    written: list[tuple[_Candidate, EstimateRow]],
+    expressions: dict[int, list[ExpressionRow]],
+) -> None:
+    # store the diameters estimated for the partners actually used, flagged
+    store_estimated_partners(session, [c.pair for c, _ in written])
+    replaced: list[int] = []
+    for c, row in written:
+        row.replaced = [
+            e.id
+            for e in expressions[c.reaction.id]
+            if e.origin == "collision-estimate" and not e.recommended
+        ]
+        replaced.extend(row.replaced)
+    remove_expressions(session, replaced)
+    partners: dict[int, dict[str, object]] = {}
+    records, history = [], []
+    for c, row in written:
+        provenance = _provenance(c, row, partners)
+        records.append(
+            ExpressionRecord(
+                reaction_id=c.reaction.id,
+                origin="collision-estimate",
+                A=row.A,
+                n=row.n,
+                Ea=row.Ea,
+                T_min=row.T_min,
+                T_max=row.T_max,
+                uncertainty_factor=row.uncertainty_factor,
+                uncertainty_g=0.0,
+                reference=f"collision theory ({row.collision_model}) x steric factor "
+                f"{row.steric_factor:.3g} ({row.steric_rule})",
+                provenance=provenance,
+            )
+        )
+        history.append(
+            (
+                row.key,
+                {
+                    "model": row.collision_model,
+                    "steric_factor": row.steric_factor,
+                    "steric_rule": row.steric_rule,
+                    "replaced": row.replaced,
+                },
+            )
+        )
+    ids = write_expressions(session, records, action="estimate", history=history)
+    for (_, row), new_id in zip(written, ids, strict=True):
+        row.expression_id = new_id

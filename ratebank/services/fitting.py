@@ -1,36 +1,39 @@
 """Fit the measured k(T) sets of reactions and store each fit as an expression.
 
-All sets of a reaction are pooled into one weighted least-squares fit in ln k
-(``ratebank.science.arrhenius``). Every reaction of the store is fitted in one
-vectorized pass. A reaction whose points all carry an uncertainty is fitted
-with those weights (absolute covariance); otherwise with unit weights, the
-covariance then scaled by the reduced chi-square.
+All sets of a reaction are pooled into one weighted least-squares fit in ln k,
+every reaction of the store in one vectorized pass
+(:func:`ratebank.science.arrhenius.fit_groups`). The service reads the points,
+makes that one science call, and writes the fits through the store's one
+expression write path.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
-from typing import Any, NamedTuple
+from typing import Any
 
-from sqlalchemy import select
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import FitError, RatebankError
-from ratebank.services.curate import find_reaction
-from ratebank.services.memory import paused_garbage_collection
-from ratebank.services.progress import NoProgress, Progress
-from ratebank.store import audit
-from ratebank.store.bulk import (
-    EXPRESSION_COLUMNS,
-    db_timestamp,
-    fetch_all,
-    fetch_in,
-    insert_returning_ids,
-    json_adapter,
+from ratebank.science.arrhenius import GroupFits, fit_groups
+from ratebank.science.collision import collision_rate, steric_factor_of_expression
+from ratebank.science.uncertainty import (
+    panel_factor_from_covariance,
+    uncertainty_factor_from_covariance,
 )
-from ratebank.store.models import MeasurementSet, Point
+from ratebank.services.memory import paused_garbage_collection
+from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
+from ratebank.services.progress import NoProgress, Progress
+from ratebank.store import queries
+from ratebank.store.expressions import ExpressionRecord, write_expressions
+from ratebank.store.points import PointColumns
+from ratebank.store.points import points as points_of
+from ratebank.store.queries import ExpressionRow, ReactionRow
 
 FORMS = ("arrhenius", "modified", "auto")
+#: Temperatures per fit at which f(T) is evaluated for its smallest and largest value.
+_FACTOR_GRID = 25
 
 
 @dataclass
@@ -53,6 +56,9 @@ class FitRow:
     reduced_chi_square: float | None = None
     uncertainty_factor_min: float | None = None
     uncertainty_factor_max: float | None = None
+    #: f(298 K) and g [K] of the panels' form covering the fit's band over its range
+    uncertainty_f298: float | None = None
+    uncertainty_g: float | None = None
     steric_factor: float | None = None
     steric_note: str | None = None
     warnings: list[str] = field(default_factory=list)
@@ -72,37 +78,6 @@ class FitReport:
         return sum(1 for r in self.rows if r.status == "failed")
 
 
-def _points(session: Session, reaction_ids: list[int] | None):  # type: ignore[no-untyped-def]
-    import numpy as np
-
-    query = (
-        select(
-            MeasurementSet.reaction_id,
-            Point.set_id,
-            Point.temperature,
-            Point.rate_constant,
-            Point.relative_uncertainty,
-        )
-        .join(MeasurementSet, MeasurementSet.id == Point.set_id)
-        .order_by(MeasurementSet.reaction_id, Point.set_id, Point.id)
-    )
-    if reaction_ids is not None:
-        query = query.where(MeasurementSet.reaction_id.in_(reaction_ids))
-    rows = fetch_all(session, query)  # ids only: safe to inline
-    if not rows:
-        empty = np.zeros(0)
-        return empty.astype(np.int64), empty.astype(np.int64), empty, empty, empty
-    reaction, set_id, T, k, u = zip(*rows, strict=True)
-    u_array = np.array(u, dtype=float)  # None becomes NaN
-    return (
-        np.asarray(reaction, dtype=np.int64),
-        np.asarray(set_id, dtype=np.int64),
-        np.asarray(T, dtype=float),
-        np.asarray(k, dtype=float),
-        u_array,
-    )
-
-
 @paused_garbage_collection()
 def fit_reactions(
     session: Session,
@@ -116,302 +91,223 @@ def fit_reactions(
     """Fit the measured sets of the named reactions (default: every measured one).
 
     ``form`` is ``arrhenius`` (n = 0), ``modified`` (A, n, Ea) or ``auto``
-    (the three-parameter form only when the data support it, by the F-test of
-    :func:`ratebank.science.arrhenius.compare_forms_batch`); ``fixed_n`` fits
-    A and Ea with n held at the given value. A fit identical to the reaction's
-    newest stored fit is not stored again.
+    (the three-parameter form only when the data support it); ``fixed_n``
+    fits A and Ea with n held at the given value. A fit identical to the
+    reaction's newest stored fit is not stored again.
     """
-    import numpy as np
-
-    from ratebank.science import arrhenius
-
-    if form not in FORMS:
-        raise RatebankError(f"unknown form {form!r}; expected one of {', '.join(FORMS)}")
-    if fixed_n is not None and not np.isfinite(fixed_n):
-        raise RatebankError("--fixed-n must be a finite number")
-    if keys:
-        reactions = [find_reaction(session, key) for key in keys]
-        ids: list[int] | None = [r.id for r in reactions]
-    else:
-        ids = None
-    progress = progress or NoProgress()
-    reaction_ids, set_ids, T, k, u = _points(session, ids)
-    if keys:
-        by_id = {r.id: r for r in reactions}
-    else:
-        by_id = _reaction_rows(session, np.unique(reaction_ids).tolist())
-    rows: list[FitRow] = []
-    if keys:
-        for reaction in reactions:
-            if reaction.id not in set(reaction_ids.tolist()):
-                rows.append(
-                    FitRow(
-                        reaction.key,
-                        reaction.equation,
-                        reaction.reaction_order,
-                        "failed",
-                        "no measured points to fit",
-                    )
-                )
-    if T.size == 0:
-        return FitReport(rows)
-
-    # Weighted where every point of the reaction states its uncertainty.
-    has_u = ~np.isnan(u)
-    _, inverse = np.unique(reaction_ids, return_inverse=True)
-    all_u = np.bincount(inverse, weights=~has_u) == 0
-    weighted_point = all_u[inverse]
-
-    results: dict[int, dict[str, Any]] = {}
-    for weighted in (True, False):
-        mask = weighted_point == weighted
-        if not mask.any():
-            continue
-        sigma = u[mask] if weighted else None
-        if fixed_n is not None:
-            two = three = arrhenius.fit_rate_constants_batch(
-                T[mask], k[mask], sigma, reaction_ids[mask], form="fixed-n", fixed_n=fixed_n
-            )
-            chosen = np.zeros(len(two), dtype=bool)
-            reasons = np.full(len(two), f"n fixed at {fixed_n:g} by the user", dtype=object)
-        elif form == "auto":
-            choice = arrhenius.compare_forms_batch(
-                T[mask], k[mask], sigma, reaction_ids[mask], significance=significance
-            )
-            two, three = choice.two, choice.three
-            chosen = choice.supported
-            reasons = choice.reason
-        else:
-            two = three = arrhenius.fit_rate_constants_batch(
-                T[mask], k[mask], sigma, reaction_ids[mask], form=form
-            )
-            chosen = np.zeros(len(two), dtype=bool)
-            reasons = np.full(len(two), f"the {form} form was asked for", dtype=object)
-        set_lists: dict[int, list[int]] = {}
-        for rid, sid in zip(reaction_ids[mask].tolist(), set_ids[mask].tolist(), strict=True):
-            lst = set_lists.setdefault(rid, [])
-            if not lst or lst[-1] != sid:
-                lst.append(sid)
-        # geometric-mean temperature of each group's data, in the batch's group order
-        log_mean_T = np.bincount(
-            two.group_index, weights=np.log(T[mask]), minlength=len(two)
-        ) / np.maximum(two.n_points, 1)
-        for i, rid in enumerate(two.groups.tolist()):
-            batch = three if chosen[i] else two
-            results[rid] = {
-                "batch": batch,
-                "row": i,
-                "reason": str(reasons[i]),
-                "weighted": weighted,
-                "sets": sorted(set(set_lists.get(rid, []))),
-                "t_mean": float(np.exp(log_mean_T[i])),
-            }
-
-    progress.start("storing fits", len(results))
-    newest_fit = _newest_fits(session, list(results))
-    from ratebank.services.partners import collision_pairs
-
-    pairs = collision_pairs(session, [by_id[rid] for rid in results])
-    steric_of = _implied_steric_factors(results, pairs)
-    factors_of = _uncertainty_factor_ranges(results)
-    references = _references(session, [sid for info in results.values() for sid in info["sets"]])
-    author = session.info.get("author")
-    inserts: list[dict[str, Any]] = []
-    pending: list[FitRow] = []
-    listed: dict[int, dict[str, list[Any]]] = {}
-    partner_records: dict[int, dict[str, object]] = {}  # one record per species, shared
-    for rid in sorted(results, key=lambda r: by_id[r].key):
-        info = results[rid]
-        reaction = by_id[rid]
-        batch, i = info["batch"], info["row"]
-        # the batch's arrays as lists, once: numpy scalar indexing per row is slow
-        arrays = listed.get(id(batch))
-        if arrays is None:
-            arrays = listed[id(batch)] = _listed(batch)
-        row = FitRow(reaction.key, reaction.equation, reaction.reaction_order, "failed", "")
-        row.n_points = arrays["n_points"][i]
-        row.n_sets = len(info["sets"])
-        if not arrays["ok"][i]:
-            row.message = str(batch.status[i])
-            rows.append(row)
-            continue
-        warnings = batch.fit_warnings(i)
-        row.form = batch.form
-        row.A, row.n, row.Ea = arrays["A"][i], arrays["n"][i], arrays["Ea"][i]
-        row.T_min, row.T_max = arrays["T_min"][i], arrays["T_max"][i]
-        row.reduced_chi_square = _finite(arrays["reduced_chi_square"][i])
-        row.uncertainty_factor_min, row.uncertainty_factor_max = factors_of.get(rid, (None, None))
-        row.warnings = [w.message for w in warnings]
-        row.message = info["reason"]
-        pair = pairs.get(rid)
-        steric, t_mean = steric_of.get(rid, (None, None))
-        partners = None
-        if isinstance(pair, str):
-            row.steric_note = pair
-        elif pair is not None:
-            row.steric_factor = steric
-            if pair.uses_estimated_diameter:
-                row.steric_note = "uses an estimated diameter"
-            partners = pair.as_record(cache=partner_records)
-        provenance = {
-            "method": "weighted linear least squares in ln k"
-            if info["weighted"]
-            else "unweighted least squares in ln k (covariance scaled by reduced chi-square)",
-            "form": batch.form,
-            "form_reason": info["reason"],
-            "fixed_n": fixed_n,
-            "T_ref": arrays["T_ref"][i],
-            "covariance": arrays["covariance"][i],
-            "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
-            "absolute_sigma": bool(batch.absolute_sigma),
-            "reduced_chi_square": row.reduced_chi_square,
-            "n_points": row.n_points,
-            "n_sets": row.n_sets,
-            "set_ids": info["sets"],
-            "warnings": [w.code for w in warnings],
-            "steric_factor": steric,
-            "steric_factor_T_K": t_mean if steric is not None else None,
-            "steric_factor_model": "hard-sphere" if steric is not None else None,
-            "partners": partners,
-        }
-        progress.advance()
-        previous = newest_fit.get(rid)
-        if previous is not None and _same_fit(previous, row, provenance):
-            row.status = "unchanged"
-            row.expression_id = previous.id
-            rows.append(row)
-            continue
-        row.status = "stored"
-        inserts.append(
-            {
-                "reaction_id": rid,
-                "origin": "measured-fit",
-                "A": row.A,
-                "n": row.n,
-                "Ea": row.Ea,
-                "t_min": row.T_min,
-                "t_max": row.T_max,
-                "uncertainty_factor": row.uncertainty_factor_max,
-                "reference": "; ".join(references[sid] for sid in info["sets"]),
-                "provenance": provenance,
-                "recommended": False,
-                "created_by": author,
-            }
-        )
-        pending.append(row)
-        rows.append(row)
-    if inserts:
-        now = db_timestamp(session)
-        encode = json_adapter(session)
-        new_ids = insert_returning_ids(
-            session,
-            "expression",
-            EXPRESSION_COLUMNS,
-            [
-                (
-                    e["reaction_id"],
-                    e["origin"],
-                    e["A"],
-                    e["n"],
-                    e["Ea"],
-                    e["t_min"],
-                    e["t_max"],
-                    e["uncertainty_factor"],
-                    e["reference"],
-                    encode(e["provenance"]),
-                    False,
-                    1,
-                    now,
-                    e["created_by"],
-                )
-                for e in inserts
-            ],
-        )
-        for row, new_id in zip(pending, new_ids, strict=True):
-            row.expression_id = new_id
-        audit.record_many(
-            session,
-            "fit",
-            [
-                (
-                    row.key,
-                    {
-                        "expression": row.expression_id,
-                        "form": row.form,
-                        "points": row.n_points,
-                        "sets": row.n_sets,
-                    },
-                )
-                for row in pending
-            ],
-        )
+    asked = queries.find_reactions(session, keys) if keys else None
+    points = points_of(session, [r.id for r in asked] if asked else None)
+    fits = fit_groups(
+        points.T,
+        points.k,
+        points.relative_uncertainty,
+        points.reaction_id,
+        sets=points.set_id,
+        form=form,
+        fixed_n=fixed_n,
+        significance=significance,
+    )
+    reactions = {r.id: r for r in asked or queries.reactions(session, ids=fits.groups.tolist())}
+    rows = [_without_points(r) for r in asked or () if r.id not in set(fits.groups.tolist())]
+    if len(fits):
+        rows += _store_fits(session, reactions, points, fits, fixed_n, progress or NoProgress())
     rows.sort(key=lambda r: r.key)
     return FitReport(rows)
 
 
-def _listed(batch: Any) -> dict[str, list[Any]]:
-    """The per-group arrays of a batch fit as Python lists (covariance: non-finite as 0)."""
-    import numpy as np
+def _without_points(reaction: ReactionRow) -> FitRow:
+    return FitRow(
+        reaction.key, reaction.equation, reaction.order, "failed", "no measured points to fit"
+    )
 
-    covariance = np.where(np.isfinite(batch.covariance), batch.covariance, 0.0)
-    lists = {
-        name: getattr(batch, name).tolist()
-        for name in ("ok", "n_points", "A", "n", "Ea", "T_min", "T_max", "reduced_chi_square")
-    }
-    lists["T_ref"] = np.broadcast_to(batch.T_ref, batch.A.shape).tolist()
-    lists["covariance"] = covariance.tolist()
-    return lists
+
+def _store_fits(
+    session: Session,
+    reactions: dict[int, ReactionRow],
+    points: PointColumns,
+    fits: GroupFits,
+    fixed_n: float | None,
+    progress: Progress,
+) -> list[FitRow]:
+    rids = fits.groups.tolist()
+    set_ids = _set_ids(points)
+    pairs = collision_pairs(session, [reactions[r] for r in rids])
+    derived = _Derived(fits, pairs)
+    previous = queries.newest_fits(session, rids)
+    labels = queries.set_labels(session, [s for sets in set_ids.values() for s in sets])
+    progress.start("storing fits", len(rids))
+    rows: list[FitRow] = []
+    records: list[ExpressionRecord] = []
+    history: list[tuple[str, dict[str, Any]]] = []
+    stored: list[FitRow] = []
+    partner_records: dict[int, dict[str, object]] = {}
+    for i in sorted(range(len(rids)), key=lambda i: reactions[rids[i]].key):
+        progress.advance()
+        rid = rids[i]
+        row = _fit_row(reactions[rid], fits, i, derived, len(set_ids[rid]))
+        rows.append(row)
+        if row.status == "failed":
+            continue
+        provenance = _provenance(fits, i, row, set_ids[rid], derived, fixed_n, partner_records)
+        old = previous.get(rid)
+        if old is not None and _same_fit(old, row, provenance):
+            row.status, row.expression_id = "unchanged", old.id
+            continue
+        row.status = "stored"
+        records.append(_record(rid, row, provenance, [labels[s] for s in set_ids[rid]]))
+        history.append((row.key, {"form": row.form, "points": row.n_points, "sets": row.n_sets}))
+        stored.append(row)
+    ids = write_expressions(session, records, action="fit", history=history)
+    for row, new_id in zip(stored, ids, strict=True):
+        row.expression_id = new_id
+    return rows
+
+
+def _set_ids(points: PointColumns) -> dict[int, list[int]]:
+    """The sorted ids of the sets behind each reaction's points."""
+    pairs = np.unique(np.stack([points.reaction_id, points.set_id]), axis=1)
+    found: dict[int, list[int]] = {}
+    for rid, sid in zip(pairs[0].tolist(), pairs[1].tolist(), strict=True):
+        found.setdefault(rid, []).append(sid)
+    return found
+
+
+class _Derived:
+    """What each fit implies, computed for all fits at once: f(T) range and steric factor."""
+
+    def __init__(self, fits: GroupFits, pairs: dict[int, CollisionPair | str]):
+        self.pairs = pairs
+        self.factor_range = self._factor_ranges(fits)
+        self.panel = self._panel_factors(fits)
+        self.steric = self._steric_factors(fits)
+
+    @staticmethod
+    def _factor_ranges(fits: GroupFits) -> list[tuple[float | None, float | None]]:
+        """(smallest, largest) f(T) over each fit's range, from its covariance."""
+        ok = fits.ok
+        ranges: list[tuple[float | None, float | None]] = [(None, None)] * len(fits)
+        if not ok.any():
+            return ranges
+        fraction = np.linspace(0.0, 1.0, _FACTOR_GRID)
+        low, high = fits.T_min[ok], fits.T_max[ok]
+        grid = np.exp(np.log(low)[:, None] + np.log(high / low)[:, None] * fraction)
+        factor = uncertainty_factor_from_covariance(grid, fits.covariance[ok])
+        finite = np.isfinite(factor).all(axis=1)
+        for row, good, lo, hi in zip(
+            np.flatnonzero(ok).tolist(),
+            finite.tolist(),
+            factor.min(axis=1).tolist(),
+            factor.max(axis=1).tolist(),
+            strict=True,
+        ):
+            if good:
+                ranges[row] = (lo, hi)
+        return ranges
+
+    @staticmethod
+    def _panel_factors(fits: GroupFits) -> list[tuple[float | None, float | None]]:
+        """(f(298), g) of each fit: the panels' form covering its band over its range."""
+        panel: list[tuple[float | None, float | None]] = [(None, None)] * len(fits)
+        ok = np.flatnonzero(fits.ok & np.isfinite(fits.covariance).all(axis=(1, 2)))
+        if not ok.size:
+            return panel
+        found = panel_factor_from_covariance(fits.covariance[ok], fits.T_min[ok], fits.T_max[ok])
+        f298 = np.atleast_1d(found.f298).tolist()
+        g = np.atleast_1d(found.g).tolist()
+        for row, factor, slope in zip(ok.tolist(), f298, g, strict=True):
+            panel[row] = (factor, slope)
+        return panel
+
+    def _steric_factors(self, fits: GroupFits) -> list[float | None]:
+        """P implied by each fit at the geometric-mean T of its data (hard spheres)."""
+        implied: list[float | None] = [None] * len(fits)
+        rows = [
+            i
+            for i, rid in enumerate(fits.groups.tolist())
+            if fits.ok[i] and isinstance(self.pairs.get(rid), CollisionPair)
+        ]
+        if not rows:
+            return implied
+        columns = PairColumns.of([self.pairs[fits.groups[i]] for i in rows])
+        T = fits.mean_T[rows]
+        z = collision_rate(T, **columns.rate_arguments("hard-sphere"))
+        steric = steric_factor_of_expression(T, fits.A[rows], fits.n[rows], fits.Ea[rows], z)
+        for i, p in zip(rows, np.atleast_1d(steric).tolist(), strict=True):
+            implied[i] = p
+        return implied
 
 
 def _finite(value: float) -> float | None:
-    import math
-
     return float(value) if math.isfinite(value) else None
 
 
-class ReactionRow(NamedTuple):
-    id: int
-    key: str
-    equation: str
-    reaction_order: int
-    third_body: bool
+def _fit_row(reaction: ReactionRow, fits: GroupFits, i: int, derived: _Derived, n_sets: int):
+    row = FitRow(reaction.key, reaction.equation, reaction.order, "failed", "")
+    row.n_points, row.n_sets = int(fits.n_points[i]), n_sets
+    if not fits.ok[i]:
+        row.message = str(fits.status[i])
+        return row
+    row.status, row.message, row.form = "fitted", str(fits.reason[i]), str(fits.form[i])
+    row.A, row.n, row.Ea = float(fits.A[i]), float(fits.n[i]), float(fits.Ea[i])
+    row.T_min, row.T_max = float(fits.T_min[i]), float(fits.T_max[i])
+    row.reduced_chi_square = _finite(float(fits.reduced_chi_square[i]))
+    row.uncertainty_factor_min, row.uncertainty_factor_max = derived.factor_range[i]
+    row.uncertainty_f298, row.uncertainty_g = derived.panel[i]
+    row.warnings = [w.message for w in fits.warnings[i]]
+    pair = derived.pairs.get(int(fits.groups[i]))
+    if isinstance(pair, str):
+        row.steric_note = pair
+    elif pair is not None:
+        row.steric_factor = derived.steric[i]
+        if pair.uses_estimated_diameter:
+            row.steric_note = "uses an estimated diameter"
+    return row
 
 
-def _reaction_rows(session: Session, reaction_ids: list[int]) -> dict[int, ReactionRow]:
-    """The reactions of ``reaction_ids`` as light rows, by id (no ORM objects)."""
-    query = (
-        "SELECT id, key, equation, reaction_order, third_body FROM reaction WHERE id IN ({marks})"
-    )
-    return {row[0]: ReactionRow(*row) for row in fetch_in(session, query, reaction_ids)}
+def _provenance(
+    fits: GroupFits,
+    i: int,
+    row: FitRow,
+    set_ids: list[int],
+    derived: _Derived,
+    fixed_n: float | None,
+    partner_records: dict[int, dict[str, object]],
+) -> dict[str, Any]:
+    pair = derived.pairs.get(int(fits.groups[i]))
+    steric = row.steric_factor
+    weighted = bool(fits.weighted[i])
+    covariance = np.where(np.isfinite(fits.covariance[i]), fits.covariance[i], 0.0)
+    return {
+        "method": "weighted linear least squares in ln k; sets pooled with a random offset "
+        "each (DerSimonian-Laird between-set variance); covariance scaled by max(1, reduced "
+        "chi-square)"
+        if weighted
+        else "unweighted least squares in ln k (covariance scaled by reduced chi-square)",
+        "form": row.form,
+        "form_reason": row.message,
+        "fixed_n": fixed_n,
+        "T_ref": float(fits.T_ref[i]),
+        "covariance": covariance.tolist(),
+        "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
+        "absolute_sigma": weighted,
+        "reduced_chi_square": row.reduced_chi_square,
+        "covariance_scale": float(fits.covariance_scale[i]),
+        "between_set_variance_ln_k": float(fits.between_set_variance[i]),
+        "n_points": row.n_points,
+        "n_sets": row.n_sets,
+        "set_ids": set_ids,
+        "warnings": [w.code for w in fits.warnings[i]],
+        "steric_factor": steric,
+        "steric_factor_T_K": float(fits.mean_T[i]) if steric is not None else None,
+        "steric_factor_model": "hard-sphere" if steric is not None else None,
+        "partners": pair.as_record(cache=partner_records)
+        if isinstance(pair, CollisionPair)
+        else None,
+    }
 
 
-class StoredFit(NamedTuple):
-    id: int
-    reaction_id: int
-    A: float | None
-    Ea: float
-    provenance: dict[str, Any]
-
-
-def _newest_fits(session: Session, reaction_ids: list[int]) -> dict[int, StoredFit]:
-    """The newest measured fit of each reaction."""
-    from ratebank.store.json_codec import loads
-
-    query = (
-        "SELECT id, reaction_id, pre_exponential, activation_energy, provenance FROM expression "
-        "WHERE id IN (SELECT MAX(id) FROM expression WHERE origin = 'measured-fit' "
-        "AND reaction_id IN ({marks}) GROUP BY reaction_id)"
-    )
-    newest = {}
-    for eid, rid, A, Ea, provenance in fetch_in(session, query, reaction_ids):
-        # PostgreSQL's driver has decoded the JSON already; SQLite hands over text
-        record = loads(provenance) if isinstance(provenance, (str, bytes)) else provenance
-        newest[rid] = StoredFit(eid, rid, A, Ea, record or {})
-    return newest
-
-
-def _same_fit(previous: Any, row: FitRow, provenance: dict[str, Any]) -> bool:
-    old = previous.provenance or {}
+def _same_fit(previous: ExpressionRow, row: FitRow, provenance: dict[str, Any]) -> bool:
+    old = previous.provenance
     return (
         old.get("set_ids") == provenance["set_ids"]
         and old.get("form") == provenance["form"]
@@ -423,87 +319,19 @@ def _same_fit(previous: Any, row: FitRow, provenance: dict[str, Any]) -> bool:
     )
 
 
-def _references(session: Session, set_ids: list[int]) -> dict[int, str]:
-    """'set name: reference' of each set, by id."""
-    query = "SELECT id, name, reference FROM measurement_set WHERE id IN ({marks})"
-    return {
-        set_id: f"{name}: {reference}" if reference else name
-        for set_id, name, reference in fetch_in(session, query, sorted(set(set_ids)))
-    }
-
-
-def _implied_steric_factors(results, pairs):  # type: ignore[no-untyped-def]
-    """P implied by each fit at the geometric-mean T of its data (hard spheres), vectorized."""
-    import numpy as np
-
-    from ratebank.science import collision
-    from ratebank.science.arrhenius import local_activation_energy, modified_arrhenius
-    from ratebank.services.partners import CollisionPair
-
-    rids = [
-        rid
-        for rid, info in results.items()
-        if isinstance(pairs.get(rid), CollisionPair) and info["batch"].ok[info["row"]]
-    ]
-    if not rids:
-        return {}
-    A = np.array([results[r]["batch"].A[results[r]["row"]] for r in rids])
-    n = np.array([results[r]["batch"].n[results[r]["row"]] for r in rids])
-    Ea = np.array([results[r]["batch"].Ea[results[r]["row"]] for r in rids])
-    t_mean = np.array([results[r]["t_mean"] for r in rids])
-    chosen = [pairs[r] for r in rids]
-    z = collision.collision_rate_constant(
-        t_mean,
-        np.array([p.a.diameter for p in chosen]),
-        np.array([p.b.diameter for p in chosen]),
-        np.array([p.a.molar_mass for p in chosen]),
-        np.array([p.b.molar_mass for p in chosen]),
-    ) * np.where([p.identical for p in chosen], 0.5, 1.0)
-    k_mean = modified_arrhenius(t_mean, A, n, Ea)
-    ea_local = local_activation_energy(t_mean, n, Ea)
-    steric = collision.derived_steric_factor(k_mean, ea_local, t_mean, z)
-    return {rid: (float(p), float(t)) for rid, p, t in zip(rids, steric, t_mean, strict=True)}
-
-
-def _uncertainty_factor_ranges(results):  # type: ignore[no-untyped-def]
-    """(smallest, largest) f(T) over each fit's range, from its covariance, vectorized."""
-    import numpy as np
-
-    from ratebank.science.constants import GAS_CONSTANT
-
-    rids = [rid for rid, info in results.items() if info["batch"].ok[info["row"]]]
-    if not rids:
-        return {}
-    rows = [(results[r]["batch"], results[r]["row"]) for r in rids]
-    low = np.array([b.T_min[i] for b, i in rows])
-    high = np.array([b.T_max[i] for b, i in rows])
-    cov = np.stack([b.covariance[i] for b, i in rows])
-    grid = np.exp(np.linspace(np.log(low), np.log(high), 25, axis=1))  # (m, 25)
-    g = np.stack([np.ones_like(grid), np.log(grid), -1.0 / (GAS_CONSTANT * grid)], axis=-1)
-    variance = np.einsum("mti,mij,mtj->mt", g, cov, g)
-    with np.errstate(invalid="ignore"):
-        factor = np.exp(np.sqrt(np.maximum(variance, 0.0)))
-    finite = np.isfinite(factor).all(axis=1).tolist()
-    smallest, largest = factor.min(axis=1).tolist(), factor.max(axis=1).tolist()
-    return {
-        rid: (lo, hi) for rid, ok, lo, hi in zip(rids, finite, smallest, largest, strict=True) if ok
-    }
-
-
-def single_fit(session: Session, key: str, *, form: str = "auto", fixed_n: float | None = None):  # type: ignore[no-untyped-def]
-    """The fit of one reaction as an ArrheniusFit, without storing it (for plots and checks)."""
-    import numpy as np
-
-    from ratebank.science import arrhenius
-
-    reaction = find_reaction(session, key)
-    _, _, T, k, u = _points(session, [reaction.id])
-    if T.size == 0:
-        raise FitError(f"reaction {reaction.key!r} has no measured points")
-    sigma = None if np.isnan(u).any() else u
-    if fixed_n is not None:
-        return arrhenius.fit_rate_constants(T, k, sigma, form="fixed-n", fixed_n=fixed_n)
-    if form == "auto":
-        comparison = arrhenius.compare_forms(T, k, sigma)
-        return comparison.modified_fit if comparison.supported else comparison.arrhenius_fit
-    return arrhenius.fit_rate_constants(T, k, sigma, form=form)
+def _record(
+    reaction_id: int, row: FitRow, provenance: dict[str, Any], references: list[str]
+) -> ExpressionRecord:
+    return ExpressionRecord(
+        reaction_id=reaction_id,
+        origin="measured-fit",
+        A=row.A,
+        n=row.n or 0.0,
+        Ea=row.Ea or 0.0,
+        T_min=row.T_min,
+        T_max=row.T_max,
+        uncertainty_factor=row.uncertainty_f298,
+        uncertainty_g=row.uncertainty_g,
+        reference="; ".join(references),
+        provenance=provenance,
+    )

@@ -15,16 +15,33 @@ import math
 from dataclasses import dataclass, field
 from typing import Any, NamedTuple
 
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import RatebankError, UnitError
-from ratebank.services.curate import find_reaction
+from ratebank.errors import BadInputError, ExportGapsError, NotFoundError, UnitError
+from ratebank.numbers import round_significant
+from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
+from ratebank.science.uncertainty import (
+    linearize_modified_arrhenius,
+    linearized_panel_factor,
+    panel_uncertainty_factor,
+)
+from ratebank.science.unit_presets import ENERGY_PRESETS, PRESETS, rate_unit_for
+from ratebank.science.units import (
+    canonical_energy_unit,
+    energy_from_si,
+    parse_energy_unit,
+    parse_rate_unit,
+    rate_from_si,
+)
 from ratebank.services.selection import (
+    ChosenRow,
     chosen_expressions,
     chosen_rows,
     evaluate,
     uncertainty_factor,
 )
+from ratebank.store.queries import find_reaction
 
 COLUMNS = (
     "key",
@@ -41,6 +58,10 @@ COLUMNS = (
     "steric_factor",
     "uncertainty_factor",
     "references",
+    "uncertainty_f298",
+    "uncertainty_g_K",
+    "linearised_at_K",
+    "linearisation_max_ln_deviation",
 )
 FORMS = ("modified", "arrhenius")
 RATE_LAW_CONVENTION = (
@@ -57,18 +78,6 @@ CAUTION = (
 
 _VOLUMES = {"cm3": ("cm6", 1e-6), "dm3": ("dm6", 1e-3), "L": ("L2", 1e-3), "m3": ("m6", 1.0)}
 _AMOUNTS = ("molecule", "mol")
-
-
-class ExportGapsError(RatebankError):
-    """Some reactions have no usable expression; the export was stopped."""
-
-    def __init__(self, gaps: list[str]):
-        self.gaps = gaps
-        shown = ", ".join(gaps[:30]) + (f", ... ({len(gaps) - 30} more)" if len(gaps) > 30 else "")
-        super().__init__(
-            f"{len(gaps)} reaction(s) have no usable expression, so nothing was written: "
-            f"{shown}. Fit, estimate or import them, or pass --leave-out-gaps"
-        )
 
 
 @dataclass(frozen=True)
@@ -88,13 +97,11 @@ class ExportUnits:
 
 def _derive_orders(unit: str) -> dict[int, str]:
     """k units for orders 1-3 with the same volume and amount as ``unit``."""
-    from ratebank.science.units import parse_rate_unit
-
     given = parse_rate_unit(unit)
     if given.order == 1:
         raise UnitError(
             f"{unit!r} is a first-order unit and says nothing about volume or amount; give a "
-            "bimolecular unit such as cm3/molecule/s with --k-units"
+            "bimolecular unit such as cm3/molecule/s"
         )
     # dm3 and L are the same volume: try first the symbol the user wrote
     for volume in sorted(_VOLUMES, key=lambda v: v.rstrip("3") not in unit):
@@ -121,9 +128,6 @@ def export_units(
     preset: str | None = "combustion", k_units: str | None = None, e_units: str | None = None
 ) -> ExportUnits:
     """Units from a preset, overridden by explicit ``k_units`` and ``e_units``."""
-    from ratebank.science.unit_presets import ENERGY_PRESETS, PRESETS
-    from ratebank.science.units import canonical_energy_unit, parse_energy_unit
-
     if preset is not None and preset not in PRESETS:
         raise UnitError(f"unknown unit preset {preset!r}; expected one of {', '.join(PRESETS)}")
     base = preset or "si"
@@ -155,9 +159,12 @@ class MechanismRow(NamedTuple):
     steric_factor: float | None
     uncertainty_factor: float | None
     references: str
+    uncertainty_f298: float | None
+    uncertainty_g_K: float | None
+    linearised_at_K: float | None
+    linearisation_max_ln_deviation: float | None
     expression_id: int
     chosen_by: str
-    linearised_at_K: float | None = None
 
     def values(self) -> list[Any]:
         return [getattr(self, c) for c in COLUMNS]
@@ -172,6 +179,62 @@ class MechanismTable:
     left_out: list[str] = field(default_factory=list)
 
 
+def _check_form_options(form: str, linearise_at: float | None) -> None:
+    if form not in FORMS:
+        raise BadInputError(
+            f"unknown form {form!r}; expected one of {', '.join(FORMS)}", argument="form"
+        )
+    if linearise_at is not None and (not math.isfinite(linearise_at) or linearise_at <= 0):
+        raise BadInputError(
+            "the linearisation temperature must be above 0 K", argument="linearise_at"
+        )
+    if linearise_at is not None and form != "arrhenius":
+        raise BadInputError(
+            "a linearisation temperature applies only to the arrhenius form",
+            argument="linearise_at",
+        )
+
+
+class _Linearised(NamedTuple):
+    A: float
+    Ea: float
+    T_lin: float
+    max_ln_deviation: float | None
+    f298: float | None
+
+
+def _linearised(c: ChosenRow, linearise_at: float | None) -> _Linearised | str:
+    """The row's two-parameter form inside its own range, or why it cannot have one."""
+    if c.T_min is None or c.T_max is None:
+        if linearise_at is None:
+            return f"{c.reaction_key} (no valid range: give a linearisation temperature)"
+        A = float(local_pre_exponential(linearise_at, c.A, c.n))
+        Ea = float(local_activation_energy(linearise_at, c.n, c.Ea))
+        return _Linearised(A, Ea, linearise_at, None, c.uncertainty_factor)
+    if linearise_at is not None and not (
+        c.T_min * (1 - 1e-12) <= linearise_at <= c.T_max * (1 + 1e-12)
+    ):
+        return f"{c.reaction_key} ({linearise_at:g} K is outside {c.T_min:g}-{c.T_max:g} K)"
+    found = linearize_modified_arrhenius(c.A, c.n, c.Ea, c.T_min, c.T_max, linearise_at)
+    deviation = float(found.max_ln_deviation)
+    f298 = None
+    if c.uncertainty_factor is not None:
+        f298 = float(
+            linearized_panel_factor(c.uncertainty_factor, c.uncertainty_g or 0.0, deviation).f298
+        )
+    return _Linearised(float(found.A), float(found.Ea), float(found.T_lin), deviation, f298)
+
+
+def _largest_factor(c: ChosenRow, f298: float | None) -> float | None:
+    """The largest f(T) over the row's range (f(298) when it states no range)."""
+    if f298 is None:
+        return None
+    g = c.uncertainty_g or 0.0
+    if c.T_min is None or c.T_max is None or g == 0.0:
+        return f298
+    return float(np.max(panel_uncertainty_factor(np.array([c.T_min, c.T_max, 298.0]), f298, g)))
+
+
 def mechanism_table(
     session: Session,
     *,
@@ -182,72 +245,76 @@ def mechanism_table(
 ) -> MechanismTable:
     """Build the rows of the mechanism table (nothing is written here).
 
-    With ``form="arrhenius"`` a row whose n is not 0 is refused unless
-    ``linearise_at`` gives the temperature at which to replace it by its local
-    two-parameter form (A T^n e^n, Ea + nRT), which is then recorded.
+    With ``form="arrhenius"`` a row whose n is not 0 is replaced by its local
+    two-parameter form (A T^n e^n, Ea + nRT) inside its own range: at
+    ``linearise_at`` when given (refused for a row whose range does not hold
+    it), else at the geometric middle of the range. The row records the
+    temperature and the largest |ln k| deviation over its range, and its
+    uncertainty factor includes that deviation.
     """
-    from ratebank.numbers import round_significant
-    from ratebank.science.units import energy_from_si, rate_from_si
-
-    if form not in FORMS:
-        raise RatebankError(f"unknown form {form!r}; expected one of {', '.join(FORMS)}")
-    if linearise_at is not None and (not math.isfinite(linearise_at) or linearise_at <= 0):
-        raise RatebankError("--linearise-at must be a temperature above 0 K")
-    if linearise_at is not None and form != "arrhenius":
-        raise RatebankError("--linearise-at applies only to --form arrhenius")
+    _check_form_options(form, linearise_at)
     chosen, gaps = chosen_rows(session)
     if gaps and not leave_out_gaps:
         raise ExportGapsError(gaps)
-    if form == "arrhenius" and linearise_at is None:
-        curved = [c.reaction_key for c in chosen if c.n != 0]
-        if curved:
-            raise RatebankError(
-                f"{len(curved)} expression(s) have n != 0 and cannot be written as two-parameter "
-                f"Arrhenius rows: {', '.join(curved[:20])}; pass --linearise-at T to use their "
-                "local form at T, or export --form modified"
+    linear: dict[int, _Linearised] = {}
+    if form == "arrhenius":
+        refused = []
+        for c in chosen:
+            if c.n != 0:
+                found = _linearised(c, linearise_at)
+                if isinstance(found, str):
+                    refused.append(found)
+                else:
+                    linear[c.expression_id] = found
+        if refused:
+            raise BadInputError(
+                f"{len(refused)} expression(s) with n != 0 cannot be written as two-parameter "
+                f"rows: {'; '.join(refused[:20])}",
+                argument="linearise_at",
             )
-    rows: list[MechanismRow] = []
-    factors: dict[int, float] = {}
-    for c in chosen:
-        if c.order not in factors:
-            factors[c.order] = float(rate_from_si(1.0, units.k_unit(c.order), c.order))
+    factors = {
+        order: float(rate_from_si(1.0, units.k_unit(order), order))
+        for order in {c.order for c in chosen}
+    }
     energy_factor = float(energy_from_si(1.0, units.e_units))
-    for c in chosen:
-        A, n, Ea = c.A, c.n, c.Ea
-        linearised = None
-        if form == "arrhenius" and n != 0:
-            assert linearise_at is not None
-            # only a linearised export needs the Arrhenius module
-            from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
-
-            A = float(local_pre_exponential(linearise_at, A, n))
-            Ea = float(local_activation_energy(linearise_at, n, Ea))
-            n = 0.0
-            linearised = linearise_at
-        rows.append(
-            MechanismRow(
-                key=c.reaction_key,
-                equation=c.equation,
-                order=c.order,
-                # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged),
-                # rounded to 15 digits so that a value given in these units reads back as given
-                A=round_significant(A * factors[c.order]),
-                n=float(n),
-                Ea=round_significant(Ea * energy_factor),
-                k_units=units.k_unit(c.order),
-                Ea_units=units.e_units,
-                T_min_K=c.t_min,
-                T_max_K=c.t_max,
-                origin=c.origin,
-                steric_factor=c.steric_factor,
-                uncertainty_factor=c.uncertainty_factor,
-                references=c.reference or "",
-                expression_id=c.expression_id,
-                chosen_by=c.rule,
-                linearised_at_K=linearised,
-            )
-        )
+    rows = [_row(c, linear.get(c.expression_id), units, factors, energy_factor) for c in chosen]
     return MechanismTable(rows, units, form, gaps, left_out=gaps if leave_out_gaps else [])
+
+
+def _row(
+    c: ChosenRow,
+    linear: _Linearised | None,
+    units: ExportUnits,
+    factors: dict[int, float],
+    energy_factor: float,
+) -> MechanismRow:
+    A, n, Ea, f298 = c.A, c.n, c.Ea, c.uncertainty_factor
+    if linear is not None:
+        A, n, Ea, f298 = linear.A, 0.0, linear.Ea, linear.f298
+    return MechanismRow(
+        key=c.reaction_key,
+        equation=c.equation,
+        order=c.order,
+        # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged),
+        # rounded to 15 digits so that a value given in these units reads back as given
+        A=round_significant(A * factors[c.order]),
+        n=float(n),
+        Ea=round_significant(Ea * energy_factor),
+        k_units=units.k_unit(c.order),
+        Ea_units=units.e_units,
+        T_min_K=c.T_min,
+        T_max_K=c.T_max,
+        origin=c.origin,
+        steric_factor=c.steric_factor,
+        uncertainty_factor=_largest_factor(c, f298),
+        references=c.reference or "",
+        uncertainty_f298=f298,
+        uncertainty_g_K=(c.uncertainty_g or 0.0) if f298 is not None else None,
+        linearised_at_K=linear.T_lin if linear is not None else None,
+        linearisation_max_ln_deviation=linear.max_ln_deviation if linear is not None else None,
+        expression_id=c.expression_id,
+        chosen_by=c.rule,
+    )
 
 
 # --------------------------------------------------------------------------- rate
@@ -270,8 +337,8 @@ class RateReport:
     expression_id: int
     chosen_by: str
     k_units: str
-    t_min: float | None
-    t_max: float | None
+    T_min: float | None
+    T_max: float | None
     rows: list[RateRow]
 
 
@@ -284,24 +351,19 @@ def rate(
     preset: str = "combustion",
 ) -> RateReport:
     """k(T) of one reaction from the expression that would be exported."""
-    import numpy as np
-
-    from ratebank.science.unit_presets import rate_unit_for
-    from ratebank.science.units import parse_rate_unit, rate_from_si
-
     if not temperatures:
-        raise RatebankError("give at least one temperature with -T")
+        raise BadInputError("give at least one temperature", argument="temperatures")
     bad = [t for t in temperatures if not (math.isfinite(t) and t > 0)]
     if bad:
-        raise RatebankError(f"temperature {bad[0]!r} must be above 0 K")
+        raise BadInputError(f"temperature {bad[0]!r} must be above 0 K", argument="temperatures")
     reaction = find_reaction(session, key)
     chosen, _ = chosen_expressions(session, [reaction])
     if not chosen:
-        raise RatebankError(
+        raise NotFoundError(
             f"reaction {reaction.key!r} has no usable expression yet (fit, estimate or import one)"
         )
     c = chosen[0]
-    order = reaction.reaction_order
+    order = reaction.order
     unit = k_units or rate_unit_for(preset, order)
     parse_rate_unit(unit, order=order)
     T = np.asarray(temperatures, dtype=float)
@@ -312,8 +374,8 @@ def rate(
     rows = []
     for t, k, factor in zip(T.tolist(), k_out.tolist(), f.tolist(), strict=True):
         in_range = None
-        if e.t_min is not None and e.t_max is not None:
-            in_range = e.t_min * (1 - 1e-12) <= t <= e.t_max * (1 + 1e-12)
+        if e.T_min is not None and e.T_max is not None:
+            in_range = e.T_min * (1 - 1e-12) <= t <= e.T_max * (1 + 1e-12)
         rows.append(RateRow(t, k, None if math.isnan(factor) else factor, in_range))
     return RateReport(
         reaction.key,
@@ -323,7 +385,7 @@ def rate(
         e.id,
         c.rule,
         unit,
-        e.t_min,
-        e.t_max,
+        e.T_min,
+        e.T_max,
         rows,
     )

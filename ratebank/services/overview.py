@@ -1,14 +1,18 @@
-"""Everything about one reaction on one screen: ``ratebank reactions show``."""
+"""Everything about one reaction on one screen: its record, k(T) of each expression, the
+steric factors its expressions carry, and the check flags."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+import numpy as np
 from sqlalchemy.orm import Session
 
 from ratebank.services.checks import Flag, check_store
-from ratebank.services.curate import ReactionDetail, find_reaction, show_reaction
+from ratebank.services.reactions import show_reaction
 from ratebank.services.selection import choose, evaluate
+from ratebank.store.listings import ReactionDetail
+from ratebank.store.queries import expressions_of, find_reaction
 
 #: Temperatures of the k table when the expressions state no range [K].
 DEFAULT_GRID = (300.0, 500.0, 1000.0, 1500.0, 2000.0)
@@ -28,12 +32,11 @@ class ReactionOverview:
 
 
 def _grid(detail: ReactionDetail) -> list[float]:
-    import numpy as np
-
-    lows = [e.t_min for e in detail.expressions if e.t_min]
-    highs = [e.t_max for e in detail.expressions if e.t_max]
-    lows += [s.t_min for s in detail.sets if s.t_min]
-    highs += [s.t_max for s in detail.sets if s.t_max]
+    """Five temperatures spread evenly in log T over every range the reaction's data state."""
+    lows = [e.T_min for e in detail.expressions if e.T_min]
+    highs = [e.T_max for e in detail.expressions if e.T_max]
+    lows += [s.T_min for s in detail.sets if s.T_min]
+    highs += [s.T_max for s in detail.sets if s.T_max]
     if not lows or not highs:
         return list(DEFAULT_GRID)
     low, high = min(lows), max(highs)
@@ -50,13 +53,14 @@ def reaction_overview(
     detail = show_reaction(session, reaction.key)
     grid = [float(t) for t in temperatures] if temperatures else _grid(detail)
     overview = ReactionOverview(detail, grid)
-    for e in reaction.expressions:
-        if e.A is not None:
+    expressions = expressions_of(session, [reaction.id])[reaction.id]
+    for e in expressions:
+        if e.complete:
             overview.rates[e.id] = [float(x) for x in evaluate(e, grid)]
-        p = (e.provenance or {}).get("steric_factor")
+        p = e.provenance.get("steric_factor")
         if p is not None:
             overview.steric_factors.append((e.id, e.origin, float(p)))
-    choice = choose(reaction.expressions)
+    choice = choose(expressions)
     if choice is not None:
         overview.chosen_id, overview.chosen_rule = choice[0].id, choice[1]
     overview.flags = check_store(session, keys=[reaction.key]).flags

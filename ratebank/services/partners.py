@@ -11,17 +11,18 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from functools import cached_property
-from typing import Any, NamedTuple
+from typing import NamedTuple
 
-from sqlalchemy import select
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import DiameterError, RatebankError
-from ratebank.store import audit
-from ratebank.store.bulk import fetch_in
-from ratebank.store.models import Species
-
-COLLISION_MODELS = ("hard-sphere", "lennard-jones")
+from ratebank.errors import BadInputError, DiameterError
+from ratebank.science import diameters
+from ratebank.science.collision import COLLISION_MODELS
+from ratebank.store import listings, queries
+from ratebank.store.listings import SpeciesDetail, SpeciesSummary
+from ratebank.store.partner_data import store_species_estimates
+from ratebank.store.queries import ReactionRow, SpeciesRow
 
 
 @dataclass(frozen=True)
@@ -35,13 +36,22 @@ class PartnerData:
     diameter_method: str | None
     well_depth: float | None  # K
     well_depth_method: str | None
+    #: True when a given diameter is paired with an estimated well depth (or the
+    #: reverse): the two do not come from one source, so both count as estimated
+    mixed_sources: bool = False
+    polarizability: float | None = None  # m3
+    ionization_energy: float | None = None  # J/mol
 
     @cached_property  # asked for every reaction the partner takes part in
     def diameter_estimated(self) -> bool:
+        if self.mixed_sources:
+            return True
         return self.diameter is not None and self.diameter_method not in (None, "given")
 
     @cached_property
     def well_depth_estimated(self) -> bool:
+        if self.mixed_sources:
+            return True
         return self.well_depth is not None and self.well_depth_method not in (None, "given")
 
     def as_record(self) -> dict[str, object]:
@@ -54,6 +64,7 @@ class PartnerData:
             "well_depth_K": self.well_depth,
             "well_depth_method": self.well_depth_method,
             "well_depth_estimated": self.well_depth_estimated,
+            "diameter_and_well_depth_from_different_sources": self.mixed_sources,
         }
 
 
@@ -77,43 +88,6 @@ class CollisionPair(NamedTuple):
             return []
         return sorted({p.name for p in (self.a, self.b) if p.diameter_estimated})
 
-    def collision_rate(self, T, model: str = "hard-sphere"):  # type: ignore[no-untyped-def]
-        """z(T) [m3 mol-1 s-1] under ``model``."""
-        from ratebank.science import collision
-
-        if model == "lennard-jones":
-            return collision.lennard_jones_collision_rate_constant(
-                T,
-                self.a.diameter,
-                self.b.diameter,
-                self.a.molar_mass,
-                self.b.molar_mass,
-                self.a.well_depth,
-                self.b.well_depth,
-                identical=self.identical,
-            )
-        return collision.collision_rate_constant(
-            T,
-            self.a.diameter,
-            self.b.diameter,
-            self.a.molar_mass,
-            self.b.molar_mass,
-            identical=self.identical,
-        )
-
-    def collision_activation_energy(self, T, model: str = "hard-sphere"):  # type: ignore[no-untyped-def]
-        """E_z(T) = -R d ln z/d(1/T) [J/mol] of the chosen model."""
-        from ratebank.science import collision
-
-        if model == "lennard-jones":
-            return collision.collision_rate_activation_energy(
-                T,
-                model="lennard-jones",
-                well_depth_a=self.a.well_depth,
-                well_depth_b=self.b.well_depth,
-            )
-        return collision.collision_rate_activation_energy(T, model="hard-sphere")
-
     def as_record(self, cache: dict[int, dict[str, object]] | None = None) -> dict[str, object]:
         """The pair for a provenance record; ``cache`` shares one record per partner.
 
@@ -122,20 +96,77 @@ class CollisionPair(NamedTuple):
         """
         if cache is None:
             return {"identical": self.identical, "a": self.a.as_record(), "b": self.b.as_record()}
-        records = []
+        found = []
         for partner in (self.a, self.b):
             record = cache.get(id(partner))
             if record is None:
                 record = cache[id(partner)] = partner.as_record()
-            records.append(record)
-        return {"identical": self.identical, "a": records[0], "b": records[1]}
+            found.append(record)
+        return {"identical": self.identical, "a": found[0], "b": found[1]}
 
 
-class PartnerProblem(RatebankError):
-    """A reaction's collision partners lack the data collision theory needs."""
+@dataclass(frozen=True)
+class PairColumns:
+    """The partners of many pairs as arrays, the arguments of the collision-rate functions."""
+
+    diameter_a: np.ndarray
+    diameter_b: np.ndarray
+    molar_mass_a: np.ndarray
+    molar_mass_b: np.ndarray
+    well_depth_a: np.ndarray
+    well_depth_b: np.ndarray
+    identical: np.ndarray
+    polarizability_a: np.ndarray
+    polarizability_b: np.ndarray
+    ionization_energy_a: np.ndarray
+    ionization_energy_b: np.ndarray
+
+    @classmethod
+    def of(cls, pairs: Sequence[CollisionPair]) -> PairColumns:
+        def column(side: str, name: str) -> np.ndarray:
+            values = [getattr(getattr(p, side), name) for p in pairs]
+            return np.array([np.nan if v is None else v for v in values], dtype=float)
+
+        return cls(
+            column("a", "diameter"),
+            column("b", "diameter"),
+            column("a", "molar_mass"),
+            column("b", "molar_mass"),
+            column("a", "well_depth"),
+            column("b", "well_depth"),
+            np.array([p.identical for p in pairs], dtype=bool),
+            column("a", "polarizability"),
+            column("b", "polarizability"),
+            column("a", "ionization_energy"),
+            column("b", "ionization_energy"),
+        )
+
+    @property
+    def has_capture_data(self) -> np.ndarray:
+        """Pairs whose partners both carry a polarizability and an ionization energy."""
+        return np.isfinite(
+            self.polarizability_a
+            + self.polarizability_b
+            + self.ionization_energy_a
+            + self.ionization_energy_b
+        )
+
+    def rate_arguments(self, model: str) -> dict[str, object]:
+        """Keyword arguments of :func:`ratebank.science.collision.collision_rate`."""
+        arguments: dict[str, object] = {
+            "diameter_a": self.diameter_a,
+            "diameter_b": self.diameter_b,
+            "molar_mass_a": self.molar_mass_a,
+            "molar_mass_b": self.molar_mass_b,
+            "identical": self.identical,
+            "model": model,
+        }
+        if model == "lennard-jones":
+            arguments.update(well_depth_a=self.well_depth_a, well_depth_b=self.well_depth_b)
+        return arguments
 
 
-def _partner(species: Any) -> PartnerData:
+def _partner(species: SpeciesRow) -> PartnerData:
     return PartnerData(
         name=species.name,
         formula=species.formula,
@@ -144,174 +175,163 @@ def _partner(species: Any) -> PartnerData:
         diameter_method=species.diameter_method if species.diameter is not None else None,
         well_depth=species.well_depth,
         well_depth_method=species.well_depth_method if species.well_depth is not None else None,
+        polarizability=species.polarizability,
+        ionization_energy=species.ionization_energy,
     )
 
 
-def _complete(partner: PartnerData, species: Any, model: str) -> tuple[PartnerData, str | None]:
-    """Fill a missing diameter (and well depth for LJ) by estimate; or say why not."""
-    from ratebank.science import diameters
+def _diameter_estimate(species: SpeciesRow | SpeciesSummary) -> diameters.DiameterEstimate:
+    """The correlation's diameter for ``species`` (DiameterError when it has no data)."""
+    return diameters.estimate_diameter(
+        Tc=species.critical_temperature,
+        Pc=species.critical_pressure,
+        omega=species.acentric_factor,
+        boiling_volume=species.boiling_volume,
+        formula=species.formula,
+        dipole_moment=species.dipole_moment,
+    )
 
-    if partner.diameter is None:
-        reason = diameters.outside_correlations(species.formula)
-        if reason:
-            return partner, f"{species.name} has no diameter, and {reason}"
-        try:
-            estimate = diameters.estimate_diameter(
-                Tc=species.critical_temperature,
-                Pc=species.critical_pressure,
-                omega=species.acentric_factor,
-                boiling_volume=species.boiling_volume,
-                formula=species.formula,
-            )
-        except DiameterError:
-            return partner, (
-                f"{species.name} has no collision diameter and no critical constants or "
-                "boiling-point volume to estimate one"
-            )
-        partner = replace(partner, diameter=estimate.diameter, diameter_method=estimate.method)
-    if model == "lennard-jones" and partner.well_depth is None:
-        try:
-            estimate = diameters.estimate_well_depth(
-                Tc=species.critical_temperature,
-                omega=species.acentric_factor,
-                formula=species.formula,
-            )
-        except DiameterError:
-            return partner, (
-                f"{species.name} has no Lennard-Jones well depth and no critical temperature "
-                "to estimate one"
-            )
-        partner = replace(
-            partner, well_depth=estimate.well_depth, well_depth_method=estimate.method
+
+def _with_diameter(partner: PartnerData, species: SpeciesRow) -> PartnerData | str:
+    if partner.diameter is not None:
+        return partner
+    reason = diameters.outside_correlations(species.formula, species.dipole_moment)
+    if reason:
+        return f"{species.name} has no diameter, and {reason}"
+    try:
+        estimate = _diameter_estimate(species)
+    except DiameterError:
+        return (
+            f"{species.name} has no collision diameter and no critical constants or "
+            "boiling-point volume to estimate one"
         )
-    return partner, None
+    return replace(partner, diameter=estimate.diameter, diameter_method=estimate.method)
 
 
-def estimated_diameter(species: Any):  # type: ignore[no-untyped-def]
+def estimated_diameter(
+    species: SpeciesRow | SpeciesSummary,
+) -> diameters.DiameterEstimate | None:
     """The diameter estimate collision theory would use for a species that has none.
 
-    ``species`` is anything with the species' ``formula``, ``diameter``,
-    ``critical_temperature``, ``critical_pressure``, ``acentric_factor`` and
-    ``boiling_volume`` (SI). Returns the
-    :class:`ratebank.science.diameters.DiameterEstimate` that
+    Returns the :class:`ratebank.science.diameters.DiameterEstimate` that
     :func:`collision_pairs` would make, or None when the species has a
     diameter or none can be estimated. Nothing is stored.
     """
-    from ratebank.science import diameters
-
-    if species.diameter is not None or diameters.outside_correlations(species.formula):
+    if species.diameter is not None:
+        return None
+    if diameters.outside_correlations(species.formula, species.dipole_moment):
         return None
     try:
-        return diameters.estimate_diameter(
-            Tc=species.critical_temperature,
-            Pc=species.critical_pressure,
-            omega=species.acentric_factor,
-            boiling_volume=species.boiling_volume,
-            formula=species.formula,
-        )
+        return _diameter_estimate(species)
     except DiameterError:
         return None
 
 
-class SpeciesRow(NamedTuple):
-    """The species columns collision theory reads."""
+def species_detail(session: Session, name: str) -> SpeciesDetail:
+    """One species, the reactions it takes part in, and the diameter estimate it would get.
 
-    id: int
-    name: str
-    formula: str
-    molar_mass: float
-    diameter: float | None
-    diameter_method: str | None
-    well_depth: float | None
-    well_depth_method: str | None
-    critical_temperature: float | None
-    critical_pressure: float | None
-    acentric_factor: float | None
-    boiling_volume: float | None
+    For a species without a diameter, ``estimated_diameter`` is what
+    :func:`estimated_diameter` gives (not stored); otherwise None.
+    """
+    detail = listings.species_detail(session, name)
+    return replace(detail, estimated_diameter=estimated_diameter(detail.species))
+
+
+def _with_well_depth(partner: PartnerData, species: SpeciesRow) -> PartnerData | str:
+    if partner.well_depth is not None:
+        return partner
+    try:
+        estimate = diameters.estimate_well_depth(
+            Tc=species.critical_temperature,
+            omega=species.acentric_factor,
+            Tb=species.boiling_temperature,
+            formula=species.formula,
+            dipole_moment=species.dipole_moment,
+        )
+    except DiameterError as exc:
+        if "do not apply" in str(exc):
+            return f"{species.name} has no Lennard-Jones well depth, and {exc}"
+        return (
+            f"{species.name} has no Lennard-Jones well depth and no critical or boiling "
+            "temperature to estimate one"
+        )
+    return replace(partner, well_depth=estimate.well_depth, well_depth_method=estimate.method)
+
+
+def _completed(species: SpeciesRow, model: str) -> PartnerData | str:
+    """The partner with a missing diameter (and well depth for LJ) estimated; or why not."""
+    partner = _with_diameter(_partner(species), species)
+    if isinstance(partner, str) or model != "lennard-jones":
+        return partner
+    partner = _with_well_depth(partner, species)
+    if isinstance(partner, str):
+        return partner
+    estimated = [
+        m not in (None, "given") for m in (partner.diameter_method, partner.well_depth_method)
+    ]
+    return replace(partner, mixed_sources=estimated[0] != estimated[1])
+
+
+def check_model(model: str) -> None:
+    if model not in COLLISION_MODELS:
+        raise BadInputError(
+            f"unknown collision model {model!r}; expected one of {', '.join(COLLISION_MODELS)}",
+            argument="collision",
+        )
 
 
 def collision_pairs(
-    session: Session,
-    reactions: Sequence[Any],
-    *,
-    model: str = "hard-sphere",
+    session: Session, reactions: Sequence[ReactionRow], *, model: str = "hard-sphere"
 ) -> dict[int, CollisionPair | str]:
     """The collision pair of each bimolecular reaction, or the reason there is none.
 
-    ``reactions`` are stored reactions (ORM objects or rows with ``id``,
-    ``key``, ``reaction_order`` and ``third_body``). Missing diameters and
-    well depths are estimated here but not stored (see
+    Missing diameters and well depths are estimated here but not stored (see
     :func:`store_estimated_partners`).
     """
-    if model not in COLLISION_MODELS:
-        raise RatebankError(
-            f"unknown collision model {model!r}; expected one of {', '.join(COLLISION_MODELS)}"
-        )
-    # light rows, not ORM objects: fitting or estimating a whole mechanism
-    # asks for tens of thousands of reactions
-    ids = [r.id for r in reactions]
-    reactants: dict[int, list[tuple[int, int]]] = {i: [] for i in ids}
-    for reaction_id, species_id, coefficient in fetch_in(
-        session,
-        "SELECT reaction_id, species_id, coefficient FROM participant "
-        "WHERE role = 'reactant' AND reaction_id IN ({marks}) ORDER BY reaction_id, id",
-        ids,
-    ):
-        reactants[reaction_id].append((species_id, coefficient))
-    species_ids = sorted({sid for rows in reactants.values() for sid, _ in rows})
-    query = f"SELECT {', '.join(SpeciesRow._fields)} FROM species WHERE id IN ({{marks}})"
-    species = {row[0]: SpeciesRow(*row) for row in fetch_in(session, query, species_ids)}
-    completed: dict[int, tuple[PartnerData, str | None]] = {}
+    check_model(model)
+    reactants = queries.reactants(session, [r.id for r in reactions])
+    species = queries.species_by_id(
+        session, {sid for rows in reactants.values() for sid, _ in rows}
+    )
+    completed: dict[int, PartnerData | str] = {}
     result: dict[int, CollisionPair | str] = {}
     for reaction in reactions:
-        if reaction.reaction_order != 2 or reaction.third_body:
-            kind = (
-                "a third-body reaction"
-                if reaction.third_body
-                else (f"of order {reaction.reaction_order}")
-            )
+        if not reaction.bimolecular:
+            kind = "a third-body reaction" if reaction.third_body else f"of order {reaction.order}"
             result[reaction.id] = f"not bimolecular ({kind}); collision theory does not apply"
             continue
         rows = reactants[reaction.id]
-        if len(rows) == 1:
-            (sid, _), identical = rows[0], True
-            pair_ids = (sid, sid)
-        else:
-            pair_ids = (rows[0][0], rows[1][0])
-            identical = False
+        identical = len(rows) == 1
+        pair_ids = (rows[0][0], rows[0][0]) if identical else (rows[0][0], rows[1][0])
         partners = []
-        problem = None
         for sid in pair_ids:
             if sid not in completed:
-                completed[sid] = _complete(_partner(species[sid]), species[sid], model)
-            partner, why = completed[sid]
-            if why and problem is None:
-                problem = why
-            partners.append(partner)
-        if problem:
+                completed[sid] = _completed(species[sid], model)
+            partners.append(completed[sid])
+        problem = next((p for p in partners if isinstance(p, str)), None)
+        if problem is not None:
             result[reaction.id] = problem
             continue
-        result[reaction.id] = CollisionPair(
-            reaction.id, reaction.key, partners[0], partners[1], identical
-        )
+        a, b = partners
+        assert isinstance(a, PartnerData) and isinstance(b, PartnerData)
+        result[reaction.id] = CollisionPair(reaction.id, reaction.key, a, b, identical)
     return result
 
 
-def store_estimated_partners(session: Session, pairs: list[CollisionPair]) -> None:
+def store_estimated_partners(session: Session, pairs: Sequence[CollisionPair]) -> None:
     """Write the estimated diameters and well depths these pairs use onto their species.
 
-    Only species that have no value yet are changed; each change is audited
-    with the correlation that produced it.
+    Only species that have no value yet are changed; each change is recorded
+    in the history with the correlation that produced it.
     """
-    from sqlalchemy import update
-
     partners: dict[str, PartnerData] = {}
     for pair in pairs:
         for partner in (pair.a, pair.b):
             if partner.diameter_estimated or partner.well_depth_estimated:
                 partners[partner.name] = partner
+    stored = queries.species_by_name(session, partners)
     for name, partner in sorted(partners.items()):
-        species = session.scalar(select(Species).where(Species.name == name))
+        species = stored.get(name)
         if species is None:
             continue
         changed: dict[str, object] = {}
@@ -326,5 +346,4 @@ def store_estimated_partners(session: Session, pairs: list[CollisionPair]) -> No
                 well_depth=partner.well_depth, well_depth_method=partner.well_depth_method
             )
         if changed:
-            session.execute(update(Species).where(Species.id == species.id).values(**changed))
-            audit.record(session, "species.estimate", name, **changed)
+            store_species_estimates(session, species.id, name, changed)

@@ -10,7 +10,7 @@ An Arrhenius plot of a reaction shows
 - every measured point of every set, with an error bar of one standard
   uncertainty in ln k (k e^(-u) to k e^(+u), u the stored relative
   uncertainty: the same reading of u the fit weights use);
-- the expression :func:`ratebank.services.selection.chosen_expressions` picks
+- the expression :func:`ratebank.services.selection.choose` picks
   (the one exported), with its uncertainty band k/f(T) to k f(T), f from the
   fit covariance or the stored uncertainty factor
   (:func:`ratebank.services.selection.uncertainty_factor`);
@@ -25,18 +25,23 @@ hold over, so that extrapolation can be drawn differently.
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
 
-from sqlalchemy import select
+import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import RatebankError
-from ratebank.services.curate import find_reaction
-from ratebank.store.models import Expression, MeasurementSet, Point, Reaction
-
-if TYPE_CHECKING:
-    import numpy as np
+from ratebank.errors import BadInputError, RefusedError
+from ratebank.science.collision import collision_rate
+from ratebank.science.unit_presets import rate_unit_for
+from ratebank.science.units import parse_rate_unit, rate_from_si, rate_unit_label
+from ratebank.services.mechanism import export_units
+from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
+from ratebank.services.selection import choose, evaluate, uncertainty_factor
+from ratebank.services.steric import derived_steric_factors
+from ratebank.store.listings import set_sources
+from ratebank.store.points import points
+from ratebank.store.queries import ExpressionRow, ReactionRow, expressions_of, find_reaction
 
 #: Temperatures on each curve; uniform in 1/T, the plot's abscissa.
 GRID_POINTS = 200
@@ -203,8 +208,9 @@ def _check_t_range(t_range: tuple[float, float] | None) -> None:
         return
     low, high = t_range
     if not (math.isfinite(low) and math.isfinite(high) and 0 < low < high):
-        raise RatebankError(
-            f"--t-range {low:g} {high:g} must be two temperatures above 0 K, the lower first"
+        raise BadInputError(
+            f"t_range {low:g} {high:g} must be two temperatures above 0 K, the lower first",
+            argument="t_range",
         )
 
 
@@ -235,21 +241,14 @@ def display_rate_unit(order: int, *, preset: str = "combustion", k_units: str | 
     >>> display_rate_unit(3, k_units="cm3/molecule/s")
     'cm6/molecule2/s'
     """
-    from ratebank.science.unit_presets import rate_unit_for
-    from ratebank.science.units import parse_rate_unit
-
     if k_units is None:
         return rate_unit_for(preset, order)
     if parse_rate_unit(k_units).order == order:
         return k_units
-    from ratebank.services.mechanism import export_units
-
     return export_units(preset, k_units).k_unit(order)
 
 
-def _grid(t_span: tuple[float, float]):  # type: ignore[no-untyped-def]
-    import numpy as np
-
+def _grid(t_span: tuple[float, float]) -> np.ndarray:
     inverse = np.linspace(1.0 / t_span[1], 1.0 / t_span[0], GRID_POINTS)
     T = 1.0 / inverse
     # the ends exactly, not one rounding away, so a range check at the ends is exact
@@ -264,9 +263,7 @@ def _span(temperatures: list[float]) -> tuple[float, float]:
     return (low / SPAN_MARGIN, high * SPAN_MARGIN)
 
 
-def _inside(T, valid_range: tuple[float, float] | None):  # type: ignore[no-untyped-def]
-    import numpy as np
-
+def _inside(T: np.ndarray, valid_range: tuple[float, float] | None) -> np.ndarray:
     if valid_range is None:
         return np.zeros(T.shape, dtype=bool)
     low, high = valid_range
@@ -274,13 +271,13 @@ def _inside(T, valid_range: tuple[float, float] | None):  # type: ignore[no-unty
     return (low * (1 - 1e-12) <= T) & (high * (1 + 1e-12) >= T)
 
 
-def _expression_range(expression: Expression) -> tuple[float, float] | None:
-    if expression.t_min is not None and expression.t_max is not None:
-        return (float(expression.t_min), float(expression.t_max))
+def _expression_range(expression: ExpressionRow) -> tuple[float, float] | None:
+    if expression.T_min is not None and expression.T_max is not None:
+        return (float(expression.T_min), float(expression.T_max))
     return None
 
 
-def _label(expression: Expression, chosen_by: str | None) -> str:
+def _label(expression: ExpressionRow, chosen_by: str | None) -> str:
     text = f"{expression.origin} #{expression.id}"
     if chosen_by is not None:
         text += f", exported ({chosen_by})"
@@ -288,6 +285,31 @@ def _label(expression: Expression, chosen_by: str | None) -> str:
 
 
 # --------------------------------------------------------------------------- Arrhenius
+
+
+@dataclass(frozen=True)
+class _MeasuredSet:
+    """The points of one set in SI units, ordered by temperature."""
+
+    name: str
+    reference: str | None
+    T: np.ndarray
+    k: np.ndarray
+    relative_uncertainty: np.ndarray  # NaN where not given
+
+
+@dataclass(frozen=True)
+class _ReactionData:
+    """What the store holds for one plotted reaction."""
+
+    reaction: ReactionRow
+    unit: str
+    sets: list[_MeasuredSet]
+    #: the complete expressions, oldest first
+    complete: list[ExpressionRow]
+    #: the exported expression and the rule that chose it
+    choice: tuple[ExpressionRow, str] | None
+    pair: CollisionPair | str
 
 
 def arrhenius_plot_data(
@@ -325,173 +347,178 @@ def arrhenius_plot_data(
     ------
     NotFoundError
         If a key names no reaction.
-    RatebankError
-        If a reaction has neither measured points nor a complete expression,
-        or the options are invalid.
+    BadInputError
+        If no key is given, or the units or the temperature range are invalid.
+    RefusedError
+        If a reaction has neither measured points nor a complete expression.
     """
-    import numpy as np
-
-    from ratebank.science.units import rate_from_si, rate_unit_label
-    from ratebank.services.partners import collision_pairs
-    from ratebank.services.selection import chosen_expressions, evaluate, uncertainty_factor
-
     if not keys:
-        raise RatebankError("name at least one reaction to plot")
+        raise BadInputError("name at least one reaction to plot", argument="keys")
     _check_t_range(t_range)
-    reactions: list[Reaction] = []
+    reactions: list[ReactionRow] = []
     for key in keys:
         reaction = find_reaction(session, key)
         if all(r.id != reaction.id for r in reactions):
             reactions.append(reaction)
-    units = {
-        r.id: display_rate_unit(r.reaction_order, preset=preset, k_units=k_units) for r in reactions
-    }
-
-    ids = [r.id for r in reactions]
-    point_rows = session.execute(
-        select(
-            MeasurementSet.reaction_id,
-            MeasurementSet.id,
-            MeasurementSet.name,
-            MeasurementSet.reference,
-            Point.temperature,
-            Point.rate_constant,
-            Point.relative_uncertainty,
-        )
-        .join(Point, Point.set_id == MeasurementSet.id)
-        .where(MeasurementSet.reaction_id.in_(ids))
-        .order_by(MeasurementSet.reaction_id, MeasurementSet.id, Point.temperature, Point.id)
-    ).all()
-    by_set: dict[int, dict[int, list]] = {rid: {} for rid in ids}  # type: ignore[type-arg]
-    for reaction_id, set_id, name, reference, T, k, u in point_rows:
-        by_set[reaction_id].setdefault(set_id, [name, reference, [], [], []])
-        entry = by_set[reaction_id][set_id]
-        entry[2].append(T)
-        entry[3].append(k)
-        entry[4].append(np.nan if u is None else u)
-
-    complete: dict[int, list[Expression]] = {rid: [] for rid in ids}
-    for e in session.scalars(
-        select(Expression)
-        .where(Expression.reaction_id.in_(ids), Expression.A.is_not(None))
-        .order_by(Expression.id)
-    ):
-        complete[e.reaction_id].append(e)
-    chosen = {c.reaction.id: c for c in chosen_expressions(session, reactions)[0]}
-
-    empty = [r.key for r in reactions if not by_set[r.id] and r.id not in chosen]
+    units = {r.id: display_rate_unit(r.order, preset=preset, k_units=k_units) for r in reactions}
+    plotted = _read_reactions(session, reactions, units)
+    empty = [d.reaction.key for d in plotted if not d.sets and d.choice is None]
     if empty:
-        raise RatebankError(
+        raise RefusedError(
             f"nothing to plot for {', '.join(repr(k) for k in empty)}: no measured points and "
             "no complete expression (import data, fit, estimate or import an expression first)"
         )
-
-    if t_range is None:
-        temperatures: list[float] = [row[4] for row in point_rows]
-        for expressions in complete.values():
-            for e in expressions:
-                bounds = _expression_range(e)
-                if bounds:
-                    temperatures.extend(bounds)
-        t_span = _span(temperatures)
-    else:
-        t_span = (float(t_range[0]), float(t_range[1]))
+    t_span = _plot_span(plotted) if t_range is None else (float(t_range[0]), float(t_range[1]))
     T = _grid(t_span)
+    return [_reaction_plot(data, T, t_span) for data in plotted]
+
+
+def _read_reactions(
+    session: Session, reactions: list[ReactionRow], units: dict[int, str]
+) -> list[_ReactionData]:
+    """Each reaction's measured sets, complete expressions, exported choice and collision pair."""
+    ids = [r.id for r in reactions]
+    sets = _measured_sets(session, ids)
+    expressions = expressions_of(session, ids)
     pairs = collision_pairs(session, reactions)
+    return [
+        _ReactionData(
+            reaction=r,
+            unit=units[r.id],
+            sets=sets[r.id],
+            complete=[e for e in expressions[r.id] if e.complete],
+            choice=choose(expressions[r.id]),
+            pair=pairs[r.id],
+        )
+        for r in reactions
+    ]
 
-    result: list[ReactionPlotData] = []
-    for reaction in reactions:
-        order = reaction.reaction_order
-        unit = units[reaction.id]
 
-        def shown(k_si, order=order, unit=unit):  # type: ignore[no-untyped-def]
-            return np.asarray(rate_from_si(np.asarray(k_si, dtype=float), unit, order))
-
-        sets = []
-        for name, reference, set_T, set_k, set_u in by_set[reaction.id].values():
-            k = shown(set_k)
-            u = np.asarray(set_u, dtype=float)
-            sets.append(
-                SetPoints(
-                    name,
-                    reference,
-                    np.asarray(set_T, dtype=float),
-                    k,
-                    k * np.exp(-u),
-                    k * np.exp(u),
-                )
-            )
-        measured = None
-        if sets:
-            all_T = np.concatenate([s.T for s in sets])
-            measured = (float(all_T.min()), float(all_T.max()))
-
-        def curve(e: Expression, chosen_by: str | None, fallback_range):  # type: ignore[no-untyped-def]
-            k = shown(evaluate(e, T))
-            factor = np.asarray(uncertainty_factor(e, T), dtype=float)
-            valid = _expression_range(e) or fallback_range
-            return ExpressionCurve(
-                expression_id=e.id,
-                origin=e.origin,
-                label=_label(e, chosen_by),
-                T=T,
-                k=k,
-                k_low=k / factor,
-                k_high=k * factor,
-                inside=_inside(T, valid),
-                valid_range=valid,
-                chosen_by=chosen_by,
-            )
-
-        notes: list[str] = []
-        choice = chosen.get(reaction.id)
-        chosen_curve = None
-        if choice is not None:
-            chosen_curve = curve(choice.expression, choice.rule, measured)
-            if chosen_curve.valid_range is None:
-                notes.append(
-                    f"expression #{choice.expression.id} states no temperature range; "
-                    "all of it is drawn as extrapolation"
-                )
-        else:
-            notes.append("no complete expression yet: only the measured points are shown")
-        others = [
-            curve(e, None, None)
-            for e in complete[reaction.id]
-            if choice is None or e.id != choice.expression.id
-        ]
-
-        pair = pairs[reaction.id]
-        limit = None
-        collision_note = None
-        if isinstance(pair, str):
-            collision_note = pair
-        else:
-            label = "collision limit z(T), hard spheres"
-            if pair.uses_estimated_diameter:
-                label += " (estimated diameter)"
-            limit = CollisionLimit(
-                T, shown(pair.collision_rate(T)), label, pair.uses_estimated_diameter
-            )
-
-        result.append(
-            ReactionPlotData(
-                key=reaction.key,
-                equation=reaction.equation,
-                order=order,
-                k_unit=unit,
-                k_axis_label=f"log10(k / {rate_unit_label(unit)})",
-                t_span=t_span,
-                measured_range=measured,
-                sets=sets,
-                chosen=chosen_curve,
-                others=others,
-                collision_limit=limit,
-                collision_note=collision_note,
-                notes=notes,
+def _measured_sets(session: Session, reaction_ids: Sequence[int]) -> dict[int, list[_MeasuredSet]]:
+    """The measured sets of each reaction in set order, each set's points by temperature."""
+    found: dict[int, list[_MeasuredSet]] = {rid: [] for rid in reaction_ids}
+    columns = points(session, reaction_ids)
+    if not columns.size:
+        return found
+    # by set, then by temperature; the sort is stable, so equal temperatures stay in the
+    # order they were stored
+    order = np.lexsort((columns.T, columns.set_id))
+    set_id = columns.set_id[order]
+    starts = np.flatnonzero(np.concatenate(([True], set_id[1:] != set_id[:-1])))
+    ends = np.append(starts[1:], set_id.size)
+    sources = set_sources(session, np.unique(set_id).tolist())
+    for start, end in zip(starts.tolist(), ends.tolist(), strict=True):
+        rows = order[start:end]
+        name, reference = sources[int(set_id[start])]
+        found[int(columns.reaction_id[rows[0]])].append(
+            _MeasuredSet(
+                name,
+                reference,
+                columns.T[rows],
+                columns.k[rows],
+                columns.relative_uncertainty[rows],
             )
         )
-    return result
+    return found
+
+
+def _plot_span(plotted: list[_ReactionData]) -> tuple[float, float]:
+    """Every measured temperature and every complete expression's range, widened."""
+    temperatures: list[float] = []
+    for data in plotted:
+        for measured in data.sets:
+            temperatures.extend(measured.T.tolist())
+        for e in data.complete:
+            temperatures.extend(_expression_range(e) or ())
+    return _span(temperatures)
+
+
+def _reaction_plot(
+    data: _ReactionData, T: np.ndarray, t_span: tuple[float, float]
+) -> ReactionPlotData:
+    """One reaction's plot data in its display unit."""
+    reaction, unit = data.reaction, data.unit
+
+    def shown(k_si: np.ndarray) -> np.ndarray:
+        return np.asarray(rate_from_si(np.asarray(k_si, dtype=float), unit, reaction.order))
+
+    sets = []
+    for measured in data.sets:
+        k = shown(measured.k)
+        u = measured.relative_uncertainty
+        sets.append(
+            SetPoints(
+                measured.name, measured.reference, measured.T, k, k * np.exp(-u), k * np.exp(u)
+            )
+        )
+    measured_range = None
+    if sets:
+        all_T = np.concatenate([s.T for s in sets])
+        measured_range = (float(all_T.min()), float(all_T.max()))
+
+    def curve(e: ExpressionRow, chosen_by: str | None, fallback_range) -> ExpressionCurve:  # type: ignore[no-untyped-def]
+        k = shown(evaluate(e, T))
+        factor = np.asarray(uncertainty_factor(e, T), dtype=float)
+        valid = _expression_range(e) or fallback_range
+        return ExpressionCurve(
+            expression_id=e.id,
+            origin=e.origin,
+            label=_label(e, chosen_by),
+            T=T,
+            k=k,
+            k_low=k / factor,
+            k_high=k * factor,
+            inside=_inside(T, valid),
+            valid_range=valid,
+            chosen_by=chosen_by,
+        )
+
+    notes: list[str] = []
+    chosen_curve = None
+    if data.choice is not None:
+        chosen, rule = data.choice
+        chosen_curve = curve(chosen, rule, measured_range)
+        if chosen_curve.valid_range is None:
+            notes.append(
+                f"expression #{chosen.id} states no temperature range; "
+                "all of it is drawn as extrapolation"
+            )
+    else:
+        notes.append("no complete expression yet: only the measured points are shown")
+    others = [
+        curve(e, None, None)
+        for e in data.complete
+        if data.choice is None or e.id != data.choice[0].id
+    ]
+    limit, collision_note = _collision_limit(data.pair, T, shown)
+    return ReactionPlotData(
+        key=reaction.key,
+        equation=reaction.equation,
+        order=reaction.order,
+        k_unit=unit,
+        k_axis_label=f"log10(k / {rate_unit_label(unit)})",
+        t_span=t_span,
+        measured_range=measured_range,
+        sets=sets,
+        chosen=chosen_curve,
+        others=others,
+        collision_limit=limit,
+        collision_note=collision_note,
+        notes=notes,
+    )
+
+
+def _collision_limit(  # type: ignore[no-untyped-def]
+    pair: CollisionPair | str, T: np.ndarray, shown
+) -> tuple[CollisionLimit | None, str | None]:
+    """The hard-sphere collision rate z(T) of the pair, or why there is none."""
+    if isinstance(pair, str):
+        return None, pair
+    label = "collision limit z(T), hard spheres"
+    if pair.uses_estimated_diameter:
+        label += " (estimated diameter)"
+    z = collision_rate(T, **PairColumns.of([pair]).rate_arguments("hard-sphere"))
+    return CollisionLimit(T, shown(z), label, pair.uses_estimated_diameter), None
 
 
 # --------------------------------------------------------------------------- steric
@@ -566,19 +593,15 @@ def steric_plot_data(
 
     Raises
     ------
-    RatebankError
+    RefusedError
         If no measured fit implies a steric factor (nothing to plot).
     """
-    import numpy as np
-
-    from ratebank.services.steric import derived_steric_factors
-
     groups = derived_steric_factors(session, model=model, reaction_class=reaction_class)
     if not groups:
         where = f" of class {reaction_class!r}" if reaction_class is not None else ""
-        raise RatebankError(
+        raise RefusedError(
             f"no steric factors to plot: no bimolecular reaction{where} has a measured fit and "
-            "collision data (import measurements and diameters, then run `ratebank fit`)"
+            "collision data (import measurements and diameters, then fit them)"
         )
     classes = [
         StericClassPoints(

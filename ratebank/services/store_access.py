@@ -1,9 +1,9 @@
-"""Opening a store: the entry point for Python users and for the command line.
+"""Opening a store: the handle whose sessions every service works in.
 
->>> from ratebank.services.store_access import open_store   # doctest: +SKIP
+>>> from ratebank.services.species import list_species      # doctest: +SKIP
 >>> store = open_store("group.db", author="ada")             # doctest: +SKIP
 >>> with store.session() as session:                         # doctest: +SKIP
-...     curate.list_species(session)
+...     list_species(session)
 """
 
 from __future__ import annotations
@@ -24,7 +24,8 @@ from ratebank.store.engine import (
     mask_url,
     session_scope,
 )
-from ratebank.store.schema import InitResult, check_revision, upgrade_store
+from ratebank.store.listings import store_counts as _store_counts
+from ratebank.store.schema import InitResult, check_revision, initialise_store
 
 
 @dataclass
@@ -92,22 +93,21 @@ def _refuse_missing_file(url: str) -> None:
 def init_store(
     db: str | None = None, *, author: str | None = None
 ) -> tuple[StoreHandle, InitResult]:
-    """Create the store, or upgrade it to this ratebank's schema; a no-op at head."""
+    """Create the store, or upgrade it to this ratebank's schema; a no-op at head.
+
+    The change and its history entry are one transaction, and concurrent runs
+    queue, so exactly one of them creates the store (see
+    :func:`ratebank.store.schema.initialise_store`).
+    """
     store = open_store(db, author=author, check=False)
     try:
-        result = upgrade_store(store.engine)
+        result = initialise_store(store.engine, author=store.author)
     except BaseException:
         store.close()
         raise
-    if result.changed:
-        from ratebank.store import audit
-
-        with store.session(write=True) as session:
-            audit.record(
-                session,
-                "store.init" if result.before is None else "store.upgrade",
-                None,
-                before=result.before,
-                after=result.after,
-            )
     return store, result
+
+
+def store_counts(session: Session) -> dict[str, int]:
+    """How many species, reactions, measurement sets, points and expressions the store holds."""
+    return _store_counts(session)

@@ -1,22 +1,34 @@
-"""Validation of curated input, shared by the CSV importers and the ``add`` commands.
+"""Validation of curated input, shared by the CSV importers, the ``add`` services and the edit
+of an expression.
 
 Every check produces a :class:`Problem` (line, column, message) rather than
 raising, so that a whole file is checked before anything is written and every
 problem can be reported at once. Values come out converted to SI-molar units.
 
-Measurement points are validated column-wise with numpy: a million rows are
-checked in one pass, and only the failing rows are looked at one by one to
-name their lines.
+One function checks the numbers of a rate expression,
+:func:`check_expression_values`; the expressions import and the edit of a
+stored expression both use it. Measured points are validated column-wise with
+numpy in :mod:`ratebank.services.measurement_validation`; this module imports
+no numpy, so that the listings, which share service modules with the small
+imports, start fast.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Mapping, Sequence
-from dataclasses import dataclass
-from typing import Any, NamedTuple
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import NamedTuple
 
-from ratebank.errors import EquationError, FormulaError, UnitError
+from sqlalchemy.orm import Session
+
+from ratebank.errors import EquationError, FormulaError, ImportValidationError, UnitError
+from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
+from ratebank.science.equation import check_element_balance, looks_like_equation, parse_equation
+from ratebank.science.formula import molar_mass, parse_formula
+from ratebank.science.units import parse_energy_unit, parse_rate_unit
+from ratebank.services import input_rules
+from ratebank.store.records import NewReaction, NewSpecies, reactions_by_key_or_equation
 
 SPECIES_COLUMNS = (
     "name",
@@ -29,6 +41,10 @@ SPECIES_COLUMNS = (
     "critical_pressure_bar",
     "acentric_factor",
     "boiling_volume_cm3_per_mol",
+    "boiling_temperature_K",
+    "dipole_moment_debye",
+    "polarizability_angstrom3",
+    "ionization_energy_eV",
     "source",
 )
 SPECIES_REQUIRED = ("name", "formula")
@@ -61,6 +77,10 @@ EXPRESSION_COLUMNS = (
     "T_min_K",
     "T_max_K",
     "uncertainty_factor",
+    "f298",
+    "g_K",
+    "dlogk298",
+    "dE_R_K",
     "reference",
     "origin",
 )
@@ -68,7 +88,7 @@ EXPRESSION_REQUIRED = ("reaction", "Ea")
 EXPRESSION_ORIGINS = ("literature", "manual")
 
 DIAMETER_KINDS = ("hard-sphere", "lennard-jones")
-UNCERTAINTY_KINDS = ("relative", "absolute")
+UNCERTAINTY_KINDS = ("relative", "absolute", "percent")
 
 #: A given molar mass further than this from the formula's is refused as a typo.
 MOLAR_MASS_TOLERANCE = 0.01
@@ -77,6 +97,10 @@ ANGSTROM_M = 1e-10
 BAR_PA = 1e5
 CM3_M3 = 1e-6
 G_KG = 1e-3
+
+#: One row of an import: its line in the source (None for a single ``add``) and its cells by
+#: column name.
+Row = tuple[int | None, Mapping[str, str | None]]
 
 
 @dataclass(frozen=True)
@@ -112,6 +136,26 @@ class Problems:
 
     def sorted(self) -> list[Problem]:
         return sorted(self.shown, key=lambda p: (p.line or 0, p.column))
+
+    def raise_if_any(self, source: str) -> None:
+        """Raise :class:`~ratebank.errors.ImportValidationError` naming every problem found in
+        ``source``, if there is one."""
+        if self:
+            raise ImportValidationError(
+                source, [p.render(source) for p in self.sorted()], total=self.total
+            )
+
+
+@dataclass(frozen=True)
+class ImportSummary:
+    """What an import did (or, with ``dry_run``, would do)."""
+
+    kind: str
+    source: str
+    rows: int
+    added: int
+    dry_run: bool
+    details: dict[str, int] = field(default_factory=dict)
 
 
 #: Longest text the store's columns hold (the same on SQLite and PostgreSQL).
@@ -154,19 +198,21 @@ def parse_number(
     *,
     positive: bool = False,
     minimum: float | None = None,
+    temperature: bool = False,
     what: str = "a number",
 ) -> float:
-    """Parse a finite float; raises ValueError with the expected form."""
-    try:
-        value = float(text)
-    except ValueError:
-        raise ValueError(f"{text!r} is not a number; expected {what}") from None
-    if not math.isfinite(value):
-        raise ValueError(f"{text!r} is not a finite number; expected {what}")
+    """Parse a number in the accepted syntax (:mod:`.input_rules`); ValueError otherwise.
+
+    ``temperature`` also requires the range of
+    :data:`~ratebank.services.input_rules.TEMPERATURE_RANGE_K`.
+    """
+    value = input_rules.parse_number(text, what)
     if positive and value <= 0:
         raise ValueError(f"{text} must be greater than zero; expected {what}")
     if minimum is not None and value < minimum:
         raise ValueError(f"{text} is below {minimum:g}; expected {what}")
+    if temperature and (problem := input_rules.temperature_problem(value)) is not None:
+        raise ValueError(f"{problem}; expected {what}")
     return value
 
 
@@ -175,13 +221,19 @@ def _number(
     line: int | None,
     row: Mapping[str, str | None],
     column: str,
-    **kwargs: Any,
+    *,
+    positive: bool = False,
+    minimum: float | None = None,
+    temperature: bool = False,
+    what: str = "a number",
 ) -> float | None:
     text = cell(row, column)
     if text is None:
         return None
     try:
-        return parse_number(text, **kwargs)
+        return parse_number(
+            text, positive=positive, minimum=minimum, temperature=temperature, what=what
+        )
     except ValueError as exc:
         problems.add(line, column, str(exc))
         return None
@@ -190,208 +242,244 @@ def _number(
 # --------------------------------------------------------------------------- species
 
 
-@dataclass
-class SpeciesRecord:
-    line: int | None
-    name: str
-    formula: str
-    molar_mass: float
-    molar_mass_source: str
-    diameter: float | None = None
-    diameter_kind: str | None = None
-    well_depth: float | None = None
-    critical_temperature: float | None = None
-    critical_pressure: float | None = None
-    acentric_factor: float | None = None
-    boiling_volume: float | None = None
-    source: str | None = None
-
-
 def validate_species(
-    rows: Iterable[tuple[int | None, Mapping[str, str | None]]],
-    existing_names: set[str],
-    problems: Problems,
-) -> list[SpeciesRecord]:
-    from ratebank.science.formula import molar_mass, parse_formula
-
-    records: list[SpeciesRecord] = []
+    rows: Iterable[Row], existing_names: set[str], problems: Problems
+) -> list[NewSpecies]:
+    """The species of ``rows`` (species CSV columns) in SI units; every problem goes to
+    ``problems``, and nothing may be written while it holds any. ``existing_names`` are the
+    names already stored."""
+    species: list[NewSpecies] = []
     seen: dict[str, int | None] = {}
     for line, row in rows:
-        name = cell(row, "name")
-        formula = cell(row, "formula")
-        if name is None:
-            problems.add(line, "name", "is empty; expected the species name")
-        elif too_long(problems, line, "name", name):
-            name = None
-        elif name in seen:
-            where = f" (first on line {seen[name]})" if seen[name] is not None else ""
-            problems.add(line, "name", f"species {name!r} appears twice in the input{where}")
-        elif name in existing_names:
-            problems.add(line, "name", f"species {name!r} is already in the store")
-        if name is not None:
-            seen.setdefault(name, line)
-        computed_mass = None
-        if formula is None:
-            problems.add(line, "formula", "is empty; expected a formula such as CH3OH")
-        elif too_long(problems, line, "formula", formula):
-            formula = None
-        else:
-            try:
-                computed_mass = molar_mass(parse_formula(formula))
-            except FormulaError as exc:
-                problems.add(line, "formula", str(exc))
-        given_mass = _number(
-            problems, line, row, "molar_mass_g_per_mol", positive=True, what="a molar mass in g/mol"
-        )
-        if given_mass is not None and computed_mass is not None:
-            computed_g = computed_mass / G_KG
-            if abs(given_mass - computed_g) > MOLAR_MASS_TOLERANCE * computed_g:
-                problems.add(
-                    line,
-                    "molar_mass_g_per_mol",
-                    f"{given_mass:g} g/mol does not match the formula {formula} "
-                    f"({computed_g:.4f} g/mol from IUPAC atomic weights); leave it empty to use "
-                    "the formula's",
-                )
-        diameter = _number(
-            problems, line, row, "diameter_angstrom", positive=True, what="a diameter in Å"
-        )
-        kind = cell(row, "diameter_kind")
-        if kind is not None:
-            if kind not in DIAMETER_KINDS:
-                problems.add(
-                    line, "diameter_kind", f"{kind!r} is not one of {', '.join(DIAMETER_KINDS)}"
-                )
-            elif blank(row.get("diameter_angstrom")):
-                problems.add(
-                    line, "diameter_kind", "is given without a diameter_angstrom to describe"
-                )
-        well_depth = _number(
-            problems, line, row, "well_depth_K", positive=True, what="a well depth ε/k_B in K"
-        )
-        if diameter is not None and kind is None:
-            kind = "lennard-jones" if well_depth is not None else "hard-sphere"
-        tc = _number(
-            problems, line, row, "critical_temperature_K", positive=True, what="a temperature in K"
-        )
-        pc = _number(
-            problems, line, row, "critical_pressure_bar", positive=True, what="a pressure in bar"
-        )
-        omega = _number(
-            problems,
-            line,
-            row,
-            "acentric_factor",
-            minimum=-1.0,
-            what="an acentric factor (dimensionless, about -0.4 to 1.5)",
-        )
-        vb = _number(
-            problems,
-            line,
-            row,
-            "boiling_volume_cm3_per_mol",
-            positive=True,
-            what="a molar volume in cm3/mol",
-        )
+        name = _species_name(problems, line, row, existing_names, seen)
+        formula, computed_mass = _species_formula(problems, line, row)
+        given_mass = _given_molar_mass(problems, line, row, formula, computed_mass)
+        properties = _species_properties(problems, line, row)
         if name is None or formula is None or computed_mass is None:
             continue
-        records.append(
-            SpeciesRecord(
-                line=line,
+        species.append(
+            NewSpecies(
                 name=name,
                 formula=formula,
                 molar_mass=given_mass * G_KG if given_mass is not None else computed_mass,
                 molar_mass_source="given" if given_mass is not None else "formula",
-                diameter=diameter * ANGSTROM_M if diameter is not None else None,
-                diameter_kind=kind if diameter is not None else None,
-                well_depth=well_depth,
-                critical_temperature=tc,
-                critical_pressure=pc * BAR_PA if pc is not None else None,
-                acentric_factor=omega,
-                boiling_volume=vb * CM3_M3 if vb is not None else None,
                 source=cell(row, "source"),
+                **properties,
             )
         )
-    return records
+    return species
+
+
+def _species_name(
+    problems: Problems,
+    line: int | None,
+    row: Mapping[str, str | None],
+    existing_names: set[str],
+    seen: dict[str, int | None],
+) -> str | None:
+    name = cell(row, "name")
+    if name is None:
+        problems.add(line, "name", "is empty; expected the species name")
+    elif too_long(problems, line, "name", name):
+        name = None
+    elif (problem := input_rules.species_name_problem(name)) is not None:
+        problems.add(line, "name", problem)
+        name = None
+    elif name in seen:
+        where = f" (first on line {seen[name]})" if seen[name] is not None else ""
+        problems.add(line, "name", f"species {name!r} appears twice in the input{where}")
+    elif name in existing_names:
+        problems.add(line, "name", f"species {name!r} is already in the store")
+    if name is not None:
+        seen.setdefault(name, line)
+    return name
+
+
+def _species_formula(
+    problems: Problems, line: int | None, row: Mapping[str, str | None]
+) -> tuple[str | None, float | None]:
+    """The formula text and its molar mass [kg/mol] from IUPAC atomic weights."""
+    formula = cell(row, "formula")
+    if formula is None:
+        problems.add(line, "formula", "is empty; expected a formula such as CH3OH")
+        return None, None
+    if too_long(problems, line, "formula", formula):
+        return None, None
+    try:
+        return formula, molar_mass(parse_formula(formula))
+    except FormulaError as exc:
+        problems.add(line, "formula", str(exc))
+        return formula, None
+
+
+def _given_molar_mass(
+    problems: Problems,
+    line: int | None,
+    row: Mapping[str, str | None],
+    formula: str | None,
+    computed_mass: float | None,
+) -> float | None:
+    """The molar mass given [g/mol], refused when it is not the formula's."""
+    given = _number(
+        problems, line, row, "molar_mass_g_per_mol", positive=True, what="a molar mass in g/mol"
+    )
+    if given is not None and computed_mass is not None:
+        computed_g = computed_mass / G_KG
+        if abs(given - computed_g) > MOLAR_MASS_TOLERANCE * computed_g:
+            problems.add(
+                line,
+                "molar_mass_g_per_mol",
+                f"{given:g} g/mol does not match the formula {formula} "
+                f"({computed_g:.4f} g/mol from IUPAC atomic weights); leave it empty to use "
+                "the formula's",
+            )
+    return given
+
+
+def _species_properties(
+    problems: Problems, line: int | None, row: Mapping[str, str | None]
+) -> dict[str, float | str | None]:
+    """The collision and critical properties of a species row, in SI units."""
+    diameter = _number(
+        problems, line, row, "diameter_angstrom", positive=True, what="a diameter in Å"
+    )
+    diameter = _within(
+        problems, line, "diameter_angstrom", diameter, input_rules.PLAUSIBLE_DIAMETER_ANGSTROM, "Å"
+    )
+    kind = _diameter_kind(problems, line, row)
+    well_depth = _number(
+        problems, line, row, "well_depth_K", positive=True, what="a well depth ε/k_B in K"
+    )
+    well_depth = _within(
+        problems, line, "well_depth_K", well_depth, input_rules.PLAUSIBLE_WELL_DEPTH_K, "K"
+    )
+    if diameter is not None and kind is None:
+        kind = "lennard-jones" if well_depth is not None else "hard-sphere"
+    tc = _number(
+        problems, line, row, "critical_temperature_K", positive=True, what="a temperature in K"
+    )
+    pc = _number(
+        problems, line, row, "critical_pressure_bar", positive=True, what="a pressure in bar"
+    )
+    omega = _number(
+        problems,
+        line,
+        row,
+        "acentric_factor",
+        minimum=-1.0,
+        what="an acentric factor (dimensionless, about -0.4 to 1.5)",
+    )
+    vb = _number(
+        problems,
+        line,
+        row,
+        "boiling_volume_cm3_per_mol",
+        positive=True,
+        what="a molar volume in cm3/mol",
+    )
+    return {
+        **_polarity_and_capture(problems, line, row),
+        "diameter": diameter * ANGSTROM_M if diameter is not None else None,
+        "diameter_kind": kind if diameter is not None else None,
+        "well_depth": well_depth,
+        "critical_temperature": tc,
+        "critical_pressure": pc * BAR_PA if pc is not None else None,
+        "acentric_factor": omega,
+        "boiling_volume": vb * CM3_M3 if vb is not None else None,
+    }
+
+
+def _within(
+    problems: Problems,
+    line: int | None,
+    column: str,
+    value: float | None,
+    bounds: tuple[float, float],
+    unit: str,
+) -> float | None:
+    """``value`` if it lies in the plausible ``bounds``; else None, and the problem."""
+    if value is None:
+        return None
+    problem = input_rules.range_problem(value, bounds, unit)
+    if problem is not None:
+        problems.add(line, column, f"{problem}; check the value and its unit")
+        return None
+    return value
+
+
+def _polarity_and_capture(
+    problems: Problems, line: int | None, row: Mapping[str, str | None]
+) -> dict[str, float | None]:
+    """Dipole moment, boiling temperature, polarizability and ionization energy, in SI."""
+    dipole = _number(
+        problems, line, row, "dipole_moment_debye", minimum=0.0, what="a dipole moment in D"
+    )
+    boiling = _number(
+        problems,
+        line,
+        row,
+        "boiling_temperature_K",
+        positive=True,
+        temperature=True,
+        what="a temperature in K",
+    )
+    alpha = _number(
+        problems,
+        line,
+        row,
+        "polarizability_angstrom3",
+        positive=True,
+        what="a polarizability volume in Å3",
+    )
+    ionization = _number(
+        problems, line, row, "ionization_energy_eV", positive=True, what="an energy in eV"
+    )
+    return {
+        "dipole_moment": dipole * DEBYE if dipole is not None else None,
+        "boiling_temperature": boiling,
+        "polarizability": alpha * ANGSTROM_M**3 if alpha is not None else None,
+        "ionization_energy": ionization * ELECTRONVOLT_MOLAR if ionization is not None else None,
+    }
+
+
+def _diameter_kind(
+    problems: Problems, line: int | None, row: Mapping[str, str | None]
+) -> str | None:
+    kind = cell(row, "diameter_kind")
+    if kind is None:
+        return None
+    if kind not in DIAMETER_KINDS:
+        problems.add(line, "diameter_kind", f"{kind!r} is not one of {', '.join(DIAMETER_KINDS)}")
+    elif blank(row.get("diameter_angstrom")):
+        problems.add(line, "diameter_kind", "is given without a diameter_angstrom to describe")
+    return kind
 
 
 # --------------------------------------------------------------------------- reactions
 
 
-@dataclass
-class ReactionRecord:
-    line: int | None
-    key: str
-    equation: str
-    order: int
-    third_body: bool
-    reactant_counts: dict[str, int]
-    product_counts: dict[str, int]
-    reaction_class: str | None = None
-    notes: str | None = None
-
-
 def validate_reactions(
-    rows: Iterable[tuple[int | None, Mapping[str, str | None]]],
+    rows: Iterable[Row],
     species_formulas: Mapping[str, Mapping[str, int]],
     existing_keys: set[str],
     existing_equations: Mapping[str, str],
     problems: Problems,
-) -> list[ReactionRecord]:
-    """``existing_equations`` maps canonical equation -> key of the stored reaction."""
-    from ratebank.science.equation import check_element_balance, parse_equation
+) -> list[NewReaction]:
+    """The reactions of ``rows``, parsed, balanced and canonical; every problem goes to
+    ``problems``, and nothing may be written while it holds any.
 
-    records: list[ReactionRecord] = []
+    ``species_formulas`` holds the element counts of every stored species by
+    name; ``existing_equations`` maps a stored canonical equation to its key.
+    """
+    reactions: list[NewReaction] = []
     seen_keys: dict[str, int | None] = {}
     seen_equations: dict[str, int | None] = {}
     for line, row in rows:
-        key = cell(row, "key")
-        text = cell(row, "equation")
-        if key is None:
-            problems.add(line, "key", "is empty; expected a short unique reaction key")
-        elif too_long(problems, line, "key", key):
-            key = None
-        elif any(ch.isspace() for ch in key):
-            problems.add(line, "key", f"{key!r} contains spaces; expected a key without spaces")
-            key = None
-        elif key in seen_keys:
-            problems.add(line, "key", f"reaction key {key!r} appears twice in the input")
-        elif key in existing_keys:
-            problems.add(line, "key", f"reaction key {key!r} is already in the store")
-        if key is not None:
-            seen_keys.setdefault(key, line)
-        if text is None:
-            problems.add(line, "equation", "is empty; expected an equation such as A + B -> C + D")
-            continue
-        try:
-            equation = parse_equation(text)
-        except EquationError as exc:
-            problems.add(line, "equation", str(exc))
-            continue
-        unknown = [name for name in equation.species if name not in species_formulas]
-        if unknown:
-            problems.add(
-                line,
-                "equation",
-                f"unknown species {', '.join(repr(n) for n in unknown)}; add "
-                f"{'them' if len(unknown) > 1 else 'it'} with `ratebank species` first",
-            )
-            continue
-        try:
-            check_element_balance(equation, species_formulas)
-        except EquationError as exc:
-            problems.add(line, "equation", str(exc))
+        key = _reaction_key(problems, line, row, existing_keys, seen_keys)
+        equation = _reaction_equation(problems, line, row, species_formulas)
+        if equation is None:
             continue
         canonical = equation.canonical
-        if too_long(problems, line, "equation", canonical) or too_long(
-            problems, line, "class", cell(row, "class")
-        ):
-            continue
-        if equation.order > 3 or equation.order < 1:
-            problems.add(
-                line, "equation", f"has order {equation.order}; ratebank stores orders 1 to 3"
-            )
-            continue
         if canonical in seen_equations:
             problems.add(
                 line,
@@ -410,9 +498,8 @@ def validate_reactions(
             continue
         if key is None:
             continue
-        records.append(
-            ReactionRecord(
-                line=line,
+        reactions.append(
+            NewReaction(
                 key=key,
                 equation=canonical,
                 order=equation.order,
@@ -423,7 +510,85 @@ def validate_reactions(
                 notes=cell(row, "notes"),
             )
         )
-    return records
+    return reactions
+
+
+def _reaction_key(
+    problems: Problems,
+    line: int | None,
+    row: Mapping[str, str | None],
+    existing_keys: set[str],
+    seen_keys: dict[str, int | None],
+) -> str | None:
+    key = cell(row, "key")
+    if key is None:
+        problems.add(line, "key", "is empty; expected a short unique reaction key")
+    elif too_long(problems, line, "key", key):
+        key = None
+    elif any(ch.isspace() for ch in key):
+        problems.add(line, "key", f"{key!r} contains spaces; expected a key without spaces")
+        key = None
+    elif (problem := input_rules.name_problem(key, "reaction key")) is not None:
+        problems.add(line, "key", problem)
+        key = None
+    elif key in seen_keys:
+        problems.add(line, "key", f"reaction key {key!r} appears twice in the input")
+    elif key in existing_keys:
+        problems.add(line, "key", f"reaction key {key!r} is already in the store")
+    if key is not None:
+        seen_keys.setdefault(key, line)
+    return key
+
+
+def _reaction_equation(  # type: ignore[no-untyped-def]
+    problems: Problems,
+    line: int | None,
+    row: Mapping[str, str | None],
+    species_formulas: Mapping[str, Mapping[str, int]],
+):
+    """The parsed equation if it names stored species, balances, fits the store and has an
+    order of 1 to 3; else None (and the problem is reported)."""
+    text = cell(row, "equation")
+    if text is None:
+        problems.add(line, "equation", "is empty; expected an equation such as A + B -> C + D")
+        return None
+    try:
+        equation = parse_equation(text)
+        unknown = [name for name in equation.species if name not in species_formulas]
+        if unknown:
+            problems.add(
+                line,
+                "equation",
+                f"unknown species {', '.join(repr(n) for n in unknown)}; add "
+                f"{'them as species' if len(unknown) > 1 else 'it as a species'} first",
+            )
+            return None
+        check_element_balance(equation, species_formulas)
+    except EquationError as exc:
+        problems.add(line, "equation", str(exc))
+        return None
+    if too_long(problems, line, "equation", equation.canonical) or too_long(
+        problems, line, "class", cell(row, "class")
+    ):
+        return None
+    if equation.reactants == equation.products:
+        problems.add(
+            line,
+            "equation",
+            f"both sides of {equation.canonical!r} are the same; a reaction turns its "
+            "reactants into something else",
+        )
+        return None
+    reaction_class = cell(row, "class")
+    if reaction_class is not None and (
+        problem := input_rules.name_problem(reaction_class, "reaction class")
+    ):
+        problems.add(line, "class", problem)
+        return None
+    if equation.order > 3 or equation.order < 1:
+        problems.add(line, "equation", f"has order {equation.order}; ratebank stores orders 1 to 3")
+        return None
+    return equation
 
 
 # --------------------------------------------------------------------------- lookups
@@ -456,9 +621,7 @@ class ReactionResolver:
         result: ReactionRef | str
         if text in self.by_key:
             result = self.by_key[text]
-        elif "->" in text or "→" in text:
-            from ratebank.science.equation import parse_equation
-
+        elif looks_like_equation(text):
             try:
                 canonical = parse_equation(text).canonical
             except EquationError as exc:
@@ -471,522 +634,371 @@ class ReactionResolver:
         return result
 
 
-# --------------------------------------------------------------------------- measurements
+class LazyReactionResolver(ReactionResolver):
+    """Resolves reaction cells with batched queries for just the keys and equations asked for."""
 
+    def __init__(self, session: Session):
+        super().__init__({}, {})
+        self.by_key: dict[str, ReactionRef] = {}
+        self.by_equation: dict[str, ReactionRef] = {}
+        self.session = session
 
-@dataclass(slots=True)
-class MeasurementSetRecord:
-    name: str
-    reaction: ReactionRef
-    k_units: str
-    reference: str | None
-    method: str | None
-    bath_gas: str | None
-    first_line: int
-    factor: float = float("nan")
-    valid: bool = True
-    id: int | None = None
-
-
-@dataclass
-class MeasurementChunk:
-    """Validated points of one chunk, column-wise, SI units."""
-
-    new_sets: list[MeasurementSetRecord]
-    set_index: Any  # numpy int array: index into MeasurementValidator.sets per point
-    temperature: Any
-    rate_constant: Any
-    relative_uncertainty: Any  # NaN where not given
-    pressure: Any  # NaN where not given
-
-    @property
-    def n_points(self) -> int:
-        return len(self.temperature)
-
-
-def _column_numbers(
-    texts: Sequence[str],
-    lines: Sequence[int],
-    column: str,
-    problems: Problems,
-    *,
-    required: bool,
-    positive: bool,
-    what: str,
-):
-    """Parse a column of number texts with numpy; report the bad cells by line."""
-    import numpy as np
-
-    n = len(texts)
-    values = np.full(n, np.nan)
-    if not required and (n == 0 or (texts[0] == "" and texts.count("") == n)):
-        return values  # an absent or empty optional column: nothing to parse or report
-    if "" in texts:
-        present = np.fromiter((t != "" for t in texts), dtype=bool, count=n)
-        candidates = [t for t in texts if t != ""]
-    else:
-        present = np.ones(n, dtype=bool)
-        candidates = list(texts)
-    # a cell that is not a number is reported as that, not a second time as empty
-    empty = ~present
-    try:
-        values[present] = np.array(candidates, dtype=np.float64)
-    except ValueError:
-        for i, text in enumerate(texts):
-            if text == "":
-                continue
-            try:
-                values[i] = float(text)
-            except ValueError:
-                problems.add(lines[i], column, f"{text.strip()!r} is not a number; expected {what}")
-                present[i] = False
-    finite = np.isfinite(values)
-    for i in np.flatnonzero(present & ~finite):
-        problems.add(
-            lines[i], column, f"{texts[i].strip()!r} is not a finite number; expected {what}"
-        )
-    if positive:
-        for i in np.flatnonzero(present & finite & (values <= 0)):
-            problems.add(
-                lines[i], column, f"{texts[i].strip()} must be greater than zero; expected {what}"
-            )
-    if required:
-        for i in np.flatnonzero(empty):
-            problems.add(lines[i], column, f"is empty; expected {what}")
-    return values
-
-
-class MeasurementValidator:
-    """Validates measurement rows chunk by chunk, keeping the sets seen so far.
-
-    Validation is column-wise (numpy) so that a million rows are checked in a
-    few passes; rows are looked at one by one only to name problems. The
-    result is the same whatever the chunk size (a test checks this).
-    """
-
-    def __init__(
-        self,
-        resolver: ReactionResolver,
-        set_exists: Any,
-        problems: Problems,
-        *,
-        default_k_units: str | None = None,
-    ):
-        self.resolver = resolver
-        self.set_exists = set_exists  # callable: list of names -> set of names in the store
-        self.problems = problems
-        self.default_k_units = default_k_units or ""
-        self.sets: list[MeasurementSetRecord] = []
-        self.by_name: dict[str, int] = {}
-        self._unit_cache: dict[tuple[str, int], float | str] = {}
-
-    def _unit_factor(self, text: str, order: int) -> float | str:
-        from ratebank.science.units import parse_rate_unit
-
-        key = (text, order)
-        if key not in self._unit_cache:
-            try:
-                self._unit_cache[key] = parse_rate_unit(text, order=order).to_si
-            except UnitError as exc:
-                self._unit_cache[key] = str(exc)
-        return self._unit_cache[key]
-
-    def _new_set(self, name: str, row: Mapping[str, str], line: int) -> MeasurementSetRecord:
-        problems = self.problems
-        reaction_text = row["reaction"]
-        unit_text = row["k_units"] or self.default_k_units
-        record = MeasurementSetRecord(
-            name=name,
-            reaction=ReactionRef(-1, reaction_text, 0),
-            k_units=unit_text,
-            reference=row["reference"] or None,
-            method=row["method"] or None,
-            bath_gas=row["bath_gas"] or None,
-            first_line=line,
-            valid=False,
-        )
-        ok = True
-        if reaction_text == "":
-            problems.add(line, "reaction", "is empty; expected a reaction key or equation")
-            ok = False
-        else:
-            resolved = self.resolver.resolve(reaction_text)
-            if isinstance(resolved, ReactionRef):
-                record.reaction = resolved
-            else:
-                problems.add(line, "reaction", resolved)
-                ok = False
-        if unit_text == "":
-            problems.add(line, "k_units", "is empty and no --k-units was given; expected a unit")
-            ok = False
-        elif record.reaction.id != -1:
-            factor = self._unit_factor(unit_text, record.reaction.order)
-            if isinstance(factor, str):
-                problems.add(line, "k_units", factor)
-                ok = False
-            else:
-                record.factor = factor
-        record.valid = ok
-        return record
-
-    def validate_chunk(self, columns: Mapping[str, Sequence[str]], lines: Sequence[int]):
-        """Validate one chunk of rows given column-wise (raw cell texts)."""
-        import numpy as np
-
-        problems = self.problems
-        n = len(lines)
-        empty = [""] * n
-
-        def stripped(name: str) -> list[str]:
-            values = columns.get(name)
-            if values is None:
-                return empty
-            # strip each distinct text once: a million cells hold few distinct ones
-            table = {text: text.strip() for text in dict.fromkeys(values)}
-            if all(text == clean for text, clean in table.items()):
-                return values  # no cell is padded
-            return [table[text] for text in values]
-
-        set_names = stripped("set")
-        reactions = stripped("reaction")
-        units = stripped("k_units")
-        kinds = stripped("uncertainty_kind")
-        references = stripped("reference")
-        methods = stripped("method")
-        baths = stripped("bath_gas")
-
-        temperature = _column_numbers(
-            columns["T_K"],
-            lines,
-            "T_K",
-            problems,
-            required=True,
-            positive=True,
-            what="a temperature in K greater than zero",
-        )
-        rate_constant = _column_numbers(
-            columns["k"],
-            lines,
-            "k",
-            problems,
-            required=True,
-            positive=True,
-            what="a rate constant greater than zero",
-        )
-        uncertainty = _column_numbers(
-            columns.get("k_uncertainty", empty),
-            lines,
-            "k_uncertainty",
-            problems,
-            required=False,
-            positive=True,
-            what="an uncertainty greater than zero",
-        )
-        pressure = _column_numbers(
-            columns.get("pressure_bar", empty),
-            lines,
-            "pressure_bar",
-            problems,
-            required=False,
-            positive=True,
-            what="a pressure in bar greater than zero",
-        )
-
-        # sets: the first row of each new set defines it. Rows of one set are
-        # usually consecutive, so look at the first row of each run only.
-        names_array = np.array(set_names, dtype=object)
-        run_starts = (
-            np.flatnonzero(np.concatenate(([True], names_array[1:] != names_array[:-1]))).tolist()
-            if n
-            else []
-        )
-        first_rows: dict[str, int] = {}
-        for i in run_starts:
-            name = set_names[i]
-            if name not in first_rows:
-                first_rows[name] = i
-        new_sets: list[MeasurementSetRecord] = []
-        if "" in first_rows:
-            for i in (j for j, name in enumerate(set_names) if name == ""):
-                problems.add(lines[i], "set", "is empty; expected the name of the measurement set")
-        for column, values in (("set", set_names), ("bath_gas", baths), ("k_units", units)):
-            limit = TEXT_LIMITS[column]
-            if max(map(len, values), default=0) > limit:
-                for i in first_rows.values():
-                    too_long(problems, lines[i], column, values[i])
-        fresh = [name for name in first_rows if name and name not in self.by_name]
-        existing = self.set_exists(fresh) if fresh else set()
-        self.resolver.prefetch({reactions[first_rows[name]] for name in fresh})
-        resolve = self.resolver.resolve
-        by_key = self.resolver.by_key
-        unit_cache = self._unit_cache
-        default_units = self.default_k_units
-        for name in fresh:
-            i = first_rows[name]
-            # the common case in a few steps: a known reaction, a known unit
-            reaction_text, unit_text = reactions[i], units[i] or default_units
-            resolved = (
-                (by_key.get(reaction_text) or resolve(reaction_text))
-                if reaction_text and unit_text
-                else None
-            )
-            factor = (
-                unit_cache.get((unit_text, resolved.order))
-                if isinstance(resolved, ReactionRef)
-                else None
-            )
-            if isinstance(factor, float):
-                record = MeasurementSetRecord(
-                    name,
-                    resolved,  # type: ignore[arg-type]
-                    unit_text,
-                    references[i] or None,
-                    methods[i] or None,
-                    baths[i] or None,
-                    lines[i],
-                    factor,
-                )
-            else:  # everything else, problems included, the long way
-                row = {
-                    "reaction": reaction_text,
-                    "k_units": units[i],
-                    "reference": references[i],
-                    "method": methods[i],
-                    "bath_gas": baths[i],
-                }
-                record = self._new_set(name, row, lines[i])
-            if name in existing:
-                problems.add(lines[i], "set", f"measurement set {name!r} is already in the store")
-                record.valid = False
-            self.by_name[name] = len(self.sets)
-            self.sets.append(record)
-            new_sets.append(record)
-        by_name = self.by_name
-        run_index = np.array([by_name.get(set_names[i], -1) for i in run_starts], dtype=np.int64)
-        run_lengths = np.diff(np.append(run_starts, n))
-        set_index = np.repeat(run_index, run_lengths)
-        run_first_row = np.repeat(np.asarray(run_starts, dtype=np.int64), run_lengths)
-        run_starts = np.asarray(run_starts, dtype=np.int64)
-        # work on the sets this chunk touches only, so that cost does not grow with the file
-        local_sets, local_index = np.unique(set_index, return_inverse=True)
-        local_index = local_index.reshape(-1)
-        touched = [self.sets[i] if i >= 0 else None for i in local_sets.tolist()]
-        factor_of_set = np.array([r.factor if r is not None else np.nan for r in touched])
-
-        # every row of a set must agree with the set's first row
-        units_filled = [u or self.default_k_units for u in units] if self.default_k_units else units
-        for column, values in (
-            ("reaction", reactions),
-            ("k_units", units_filled),
-            ("reference", references),
-            ("method", methods),
-            ("bath_gas", baths),
-        ):
-            self._check_agreement(
-                touched, local_index, run_starts, run_first_row, set_names, values, column, lines
-            )
-
-        kind_array = np.array(kinds, dtype=object)
-        absolute = kind_array == "absolute"
-        unknown = ~(absolute | (kind_array == "relative") | (kind_array == ""))
-        for i in np.flatnonzero(unknown):
-            problems.add(
-                lines[i], "uncertainty_kind", f"{kinds[i]!r} is not one of relative, absolute"
-            )
-
-        factor = factor_of_set[local_index]
-        rate_si = rate_constant * factor
-        with np.errstate(invalid="ignore", divide="ignore"):
-            relative = np.where(absolute, uncertainty * factor / rate_si, uncertainty)
-        return MeasurementChunk(
-            new_sets=new_sets,
-            set_index=set_index,
-            temperature=temperature,
-            rate_constant=rate_si,
-            relative_uncertainty=relative,
-            pressure=pressure * BAR_PA,
-        )
-
-    def _check_agreement(  # type: ignore[no-untyped-def]
-        self, touched, local_index, run_starts, run_first_row, set_names, values, column, lines
-    ) -> None:
-        import numpy as np
-
-        if column == "reaction":
-            expected = [
-                r.reaction.key if r is not None and r.reaction.id != -1 else None for r in touched
-            ]
-        else:
-            expected = [(getattr(r, column) or "") if r is not None else None for r in touched]
-        expected_array = np.array(expected, dtype=object)
-        n = len(values)
-        # one text in the whole chunk (a unit, an absent column): every row
-        # repeats its run's first cell, so the run starts decide
-        uniform = n == 0 or values.count(values[0]) == n
-        given = (
-            np.array([values[i] for i in run_starts.tolist()], dtype=object)
-            if uniform
-            else np.array(values, dtype=object)
-        )
-
-        def disagree(rows, cells):  # type: ignore[no-untyped-def]
-            reference = expected_array[local_index[rows]]
-            return (cells != reference) & (cells != "") & (reference != None)  # noqa: E711
-
-        # A row's verdict depends only on its cell and its set, so a row that
-        # repeats the first cell of its run shares that row's verdict: when
-        # every run starts clean, only the rows that differ need a look.
-        start_cells = given if uniform else given[run_starts]
-        if not disagree(run_starts, start_cells).any():
-            if uniform:
-                return
-            candidates = np.flatnonzero(given != given[run_first_row])
-            suspects = candidates[disagree(candidates, given[candidates])]
-        else:
-            if uniform:
-                given = np.array(values, dtype=object)
-            suspects = np.flatnonzero(disagree(slice(None), given))
-        for i in suspects:
-            record = touched[local_index[i]]
-            if lines[i] == record.first_line:
-                continue
-            if column == "reaction":
-                resolved = self.resolver.resolve(values[i])
-                if isinstance(resolved, ReactionRef) and resolved.id == record.reaction.id:
+    def prefetch(self, texts: Iterable[str]) -> None:
+        wanted = [t for t in texts if t and t not in self.by_key and t not in self._cache]
+        equations: dict[str, str] = {}
+        for text in wanted:
+            if looks_like_equation(text):
+                try:
+                    equations[text] = parse_equation(text).canonical
+                except EquationError:  # reported when resolved
                     continue
-                self.problems.add(
-                    lines[i],
-                    "reaction",
-                    f"set {set_names[i]!r} was given for reaction {record.reaction.key!r} on "
-                    f"line {record.first_line}; one set belongs to one reaction",
-                )
-            elif column == "k_units":
-                self.problems.add(
-                    lines[i],
-                    "k_units",
-                    f"{values[i]!r} differs from {record.k_units!r} used for set "
-                    f"{set_names[i]!r} on line {record.first_line}; one set uses one unit",
-                )
-            else:
-                self.problems.add(
-                    lines[i],
-                    column,
-                    f"{values[i]!r} differs from {expected[local_index[i]]!r} given for set "
-                    f"{set_names[i]!r} on line {record.first_line}",
-                )
+        keys = [t for t in wanted if t not in equations]
+        canonical = [c for c in set(equations.values()) if c not in self.by_equation]
+        for found in reactions_by_key_or_equation(self.session, keys=keys, equations=canonical):
+            ref = ReactionRef(found.id, found.key, found.order)
+            self.by_key[found.key] = ref
+            self.by_equation[found.equation] = ref
+
+    def resolve(self, text: str) -> ReactionRef | str:
+        if text not in self.by_key and text not in self._cache:
+            self.prefetch([text])
+        return super().resolve(text)
+
+
+def _resolved_reaction(
+    problems: Problems, line: int | None, text: str | None, resolver: ReactionResolver
+) -> ReactionRef | None:
+    if text is None:
+        problems.add(line, "reaction", "is empty; expected a reaction key or equation")
+        return None
+    resolved = resolver.resolve(text)
+    if isinstance(resolved, ReactionRef):
+        return resolved
+    problems.add(line, "reaction", resolved)
+    return None
 
 
 # --------------------------------------------------------------------------- expressions
 
+#: The numbers of a rate expression k = A T^n exp(-Ea/RT): what each must be, and its bound
+#: ("positive", "at least 1" or None).
+EXPRESSION_NUMBERS: dict[str, tuple[str, str | None]] = {
+    "A": ("a pre-exponential factor above zero", "positive"),
+    "n": ("a temperature exponent", None),
+    "Ea": ("an activation energy", None),
+    "T_min": ("a temperature in K", "positive"),
+    "T_max": ("a temperature in K", "positive"),
+    "uncertainty_factor": ("an uncertainty factor of at least 1", "at least 1"),
+}
 
-@dataclass
-class ExpressionRecord:
+
+@dataclass(frozen=True)
+class CheckedExpression:
+    """What :func:`check_expression_values` found.
+
+    ``values`` holds the SI value of each valid number given (record names:
+    ``A``, ``n``, ``Ea``, ``T_min``, ``T_max``, ``uncertainty_factor``);
+    ``problems`` holds (name, message) pairs, in the caller's names.
+    """
+
+    values: dict[str, float]
+    problems: list[tuple[str, str]]
+
+
+def check_expression_values(
+    order: int | None,
+    *,
+    A: float | None = None,
+    k_units: str | None = None,
+    n: float | None = None,
+    Ea: float | None = None,
+    Ea_units: str | None = None,
+    T_min: float | None = None,
+    T_max: float | None = None,
+    uncertainty_factor: float | None = None,
+    stored: Mapping[str, float | None] | None = None,
+    names: Mapping[str, str] | None = None,
+) -> CheckedExpression:
+    """Check the numbers of a rate expression k = A T^n exp(-Ea/RT) and convert them to SI.
+
+    The one validation of an expression's numbers: the expressions import
+    checks a whole expression per row with it, and the edit of a stored
+    expression checks the numbers that change (``stored`` then holds the stored
+    expression's SI ``A``, ``n``, ``T_min`` and ``T_max``, so that the checks
+    across numbers see the expression as it will be).
+
+    Parameters
+    ----------
+    order : int or None
+        The reaction's order, which fixes the dimension of A's unit; None when
+        the reaction is not known (its problem is reported elsewhere) and
+        ``k_units`` is then not checked.
+    A, k_units : float, str, optional
+        Pre-exponential factor in ``k_units`` times K^-n (above zero).
+    n : float, optional
+        Temperature exponent [-]; other than 0 only with an A.
+    Ea, Ea_units : float, str, optional
+        Activation energy in ``Ea_units`` (J/mol, kJ/mol, K for Ea/R, ...).
+    T_min, T_max : float, optional
+        Valid range [K], above zero, T_max not below T_min.
+    uncertainty_factor : float, optional
+        Factor (at least 1) by which k is uncertain.
+    stored : mapping, optional
+        The expression being changed; None for a whole new expression.
+    names : mapping, optional
+        The caller's name of each argument (e.g. ``{"T_min": "T_min_K"}``),
+        used in the problems and their messages.
+
+    Returns
+    -------
+    CheckedExpression
+        The SI values and the problems; None means "not given" throughout.
+
+    Examples
+    --------
+    >>> checked = check_expression_values(1, A=2e13, k_units="s-1", Ea=200, Ea_units="kJ/mol")
+    >>> checked.values, checked.problems
+    ({'A': 20000000000000.0, 'Ea': 200000.0}, [])
+    >>> check_expression_values(2, A=1e-12, Ea=10, Ea_units="kJ/mol").problems
+    [('k_units', 'is empty; A needs its unit (e.g. cm3/molecule/s)')]
+    """
+    check = _ExpressionCheck(names or {}, partial=stored is not None)
+    numbers = {
+        "A": A,
+        "n": n,
+        "Ea": Ea,
+        "T_min": T_min,
+        "T_max": T_max,
+        "uncertainty_factor": uncertainty_factor,
+    }
+    for name, value in numbers.items():
+        if value is not None:
+            check.number(name, value)
+    check.rate_unit(order, A, k_units)
+    check.energy_unit(Ea, Ea_units)
+    check.ordered_range(numbers, stored or {})
+    check.exponent_needs_A(n, stored or {})
+    return CheckedExpression(check.values, check.problems)
+
+
+class _ExpressionCheck:
+    """The steps of :func:`check_expression_values`, collecting values and problems."""
+
+    def __init__(self, names: Mapping[str, str], *, partial: bool):
+        self.names = names
+        self.partial = partial
+        self.values: dict[str, float] = {}
+        self.problems: list[tuple[str, str]] = []
+        self.invalid: set[str] = set()
+
+    def name(self, field_name: str) -> str:
+        return self.names.get(field_name, field_name)
+
+    def problem(self, field_name: str, message: str) -> None:
+        self.invalid.add(field_name)
+        self.problems.append((self.name(field_name), message))
+
+    def number(self, field_name: str, value: float) -> None:
+        what, bound = EXPRESSION_NUMBERS[field_name]
+        if not math.isfinite(value):
+            self.problem(field_name, f"{value:g} is not a finite number; expected {what}")
+        elif bound == "positive" and value <= 0:
+            self.problem(field_name, f"{value:g} must be greater than zero; expected {what}")
+        elif bound == "at least 1" and value < 1:
+            self.problem(field_name, f"{value:g} is below 1; expected {what}")
+        elif field_name in ("T_min", "T_max") and (
+            outside := input_rules.temperature_problem(value)
+        ):
+            self.problem(field_name, f"{outside}; expected {what}")
+        elif field_name not in ("A", "Ea"):  # those two are converted with their unit
+            self.values[field_name] = float(value)
+
+    def rate_unit(self, order: int | None, A: float | None, k_units: str | None) -> None:
+        if A is None:
+            if k_units and self.partial:
+                self.problem("k_units", "is given without A; give the A it is the unit of")
+            elif k_units and order is not None:
+                self._rate_factor(k_units, order)  # checked, though nothing uses it
+            return
+        if not k_units:
+            self.problem("k_units", "is empty; A needs its unit (e.g. cm3/molecule/s)")
+            return
+        factor = self._rate_factor(k_units, order) if order is not None else None
+        if factor is not None and "A" not in self.invalid:
+            self.values["A"] = A * factor
+
+    def _rate_factor(self, k_units: str, order: int) -> float | None:
+        try:
+            return parse_rate_unit(k_units, order=order).to_si
+        except UnitError as exc:
+            self.problem("k_units", str(exc))
+            return None
+
+    def energy_unit(self, Ea: float | None, Ea_units: str | None) -> None:
+        if Ea is None:
+            if Ea_units and self.partial:
+                self.problem("Ea_units", "is given without Ea; give the Ea it is the unit of")
+            elif Ea_units:
+                self._energy_factor(Ea_units)
+            return
+        if not Ea_units:
+            self.problem("Ea_units", "is empty; Ea needs its unit (e.g. kJ/mol or K)")
+            return
+        factor = self._energy_factor(Ea_units)
+        if factor is not None and "Ea" not in self.invalid:
+            self.values["Ea"] = Ea * factor
+
+    def _energy_factor(self, Ea_units: str) -> float | None:
+        try:
+            return parse_energy_unit(Ea_units).to_si
+        except UnitError as exc:
+            self.problem("Ea_units", str(exc))
+            return None
+
+    def ordered_range(
+        self, given: Mapping[str, float | None], stored: Mapping[str, float | None]
+    ) -> None:
+        """T_max not below T_min, the stored bound standing in for one not given."""
+        if {"T_min", "T_max"} & self.invalid:
+            return
+        low = self.values["T_min"] if given["T_min"] is not None else stored.get("T_min")
+        high = self.values["T_max"] if given["T_max"] is not None else stored.get("T_max")
+        if low is not None and high is not None and high < low:
+            self.problem("T_max", f"{high:g} K is below {self.name('T_min')} {low:g} K")
+
+    def exponent_needs_A(self, n: float | None, stored: Mapping[str, float | None]) -> None:
+        """An expression whose A is still to be estimated keeps n at 0."""
+        if n is None or "n" in self.invalid or n == 0.0:
+            return
+        if self.values.get("A") is None and stored.get("A") is None:
+            self.problem(
+                "n",
+                "is given without A; give A with it, or leave n at 0 while A is to be estimated",
+            )
+
+
+@dataclass(frozen=True)
+class ValidExpression:
+    """A valid row of an expressions file, in SI units, with the units it was given in."""
+
     line: int | None
     reaction: ReactionRef
     origin: str
     A: float | None
     n: float
     Ea: float
-    t_min: float | None
-    t_max: float | None
+    T_min: float | None
+    T_max: float | None
     uncertainty_factor: float | None
     reference: str | None
     given_units: dict[str, str]
+    #: g [K] of f(T) = f(298) exp|g (1/T - 1/298 K)|, None for 0
+    uncertainty_g: float | None = None
+
+
+#: The expression file's column of each number of :func:`check_expression_values`.
+_EXPRESSION_CELLS = {
+    "A": "A",
+    "n": "n",
+    "Ea": "Ea",
+    "T_min": "T_min_K",
+    "T_max": "T_max_K",
+    "uncertainty_factor": "uncertainty_factor",
+}
 
 
 def validate_expressions(
-    rows: Iterable[tuple[int | None, Mapping[str, str | None]]],
-    resolver: ReactionResolver,
-    problems: Problems,
-) -> list[ExpressionRecord]:
-    from ratebank.science.units import parse_energy_unit, parse_rate_unit
-
+    rows: Iterable[Row], resolver: ReactionResolver, problems: Problems
+) -> list[ValidExpression]:
+    """The valid rows of an expressions file (EXPRESSION_COLUMNS); every problem goes to
+    ``problems``."""
     rows = list(rows)
     # one batched lookup for the whole file, not a query per row
     resolver.prefetch({text for _, row in rows if (text := cell(row, "reaction")) is not None})
-    records: list[ExpressionRecord] = []
-    for line, row in rows:
-        reaction_text = cell(row, "reaction")
-        reaction: ReactionRef | None = None
-        if reaction_text is None:
-            problems.add(line, "reaction", "is empty; expected a reaction key or equation")
-        else:
-            resolved = resolver.resolve(reaction_text)
-            if isinstance(resolved, ReactionRef):
-                reaction = resolved
-            else:
-                problems.add(line, "reaction", resolved)
-        a_value = _number(
-            problems, line, row, "A", positive=True, what="a pre-exponential factor above zero"
+    found = (_valid_expression(problems, line, row, resolver) for line, row in rows)
+    return [expression for expression in found if expression is not None]
+
+
+def _valid_expression(
+    problems: Problems, line: int | None, row: Mapping[str, str | None], resolver: ReactionResolver
+) -> ValidExpression | None:
+    before = problems.total
+    reaction = _resolved_reaction(problems, line, cell(row, "reaction"), resolver)
+    numbers = {
+        name: _number(problems, line, row, column, what=EXPRESSION_NUMBERS[name][0])
+        for name, column in _EXPRESSION_CELLS.items()
+    }
+    if cell(row, "Ea") is None:
+        problems.add(line, "Ea", "is empty; expected an activation energy (0 if none)")
+    k_units, Ea_units = cell(row, "k_units"), cell(row, "Ea_units")
+    checked = check_expression_values(
+        reaction.order if reaction is not None else None,
+        k_units=k_units,
+        Ea_units=Ea_units,
+        names=_EXPRESSION_CELLS,
+        **numbers,
+    )
+    for column, message in checked.problems:
+        problems.add(line, column, message)
+    origin = cell(row, "origin") or "literature"
+    if origin not in EXPRESSION_ORIGINS:
+        problems.add(line, "origin", f"{origin!r} is not one of {', '.join(EXPRESSION_ORIGINS)}")
+    if problems.total > before or reaction is None:
+        return None
+    units = {"Ea_units": Ea_units or ""}
+    if k_units:
+        units["k_units"] = k_units
+    values = checked.values
+    f298, g = _panel_uncertainty(problems, line, row, values.get("uncertainty_factor"))
+    if problems.total > before:
+        return None
+    return ValidExpression(
+        line=line,
+        reaction=reaction,
+        origin=origin,
+        A=values.get("A"),
+        n=values.get("n", 0.0),
+        Ea=values["Ea"],
+        T_min=values.get("T_min"),
+        T_max=values.get("T_max"),
+        uncertainty_factor=f298,
+        reference=cell(row, "reference"),
+        given_units=units,
+        uncertainty_g=g,
+    )
+
+
+def _panel_uncertainty(
+    problems: Problems, line: int | None, row: Mapping[str, str | None], factor: float | None
+) -> tuple[float | None, float | None]:
+    """f(298) and g of a row: ``f298`` and ``g_K``, or the panels' ``dlogk298`` and
+    ``dE_R_K`` (f298 = 10^dlogk298, g = dE/R), or a plain ``uncertainty_factor`` (g = 0).
+    One of the three ways only."""
+    f298 = _number(problems, line, row, "f298", minimum=1.0, what="a factor of at least 1")
+    g = _number(problems, line, row, "g_K", minimum=0.0, what="g in K, not negative")
+    dlogk = _number(problems, line, row, "dlogk298", minimum=0.0, what="a log10 k uncertainty")
+    de_r = _number(problems, line, row, "dE_R_K", minimum=0.0, what="Δ(E/R) in K, not negative")
+    ways = [
+        name
+        for name, given in (
+            ("uncertainty_factor", factor is not None),
+            ("f298 and g_K", f298 is not None or g is not None),
+            ("dlogk298 and dE_R_K", dlogk is not None or de_r is not None),
         )
-        n_value = _number(problems, line, row, "n", what="a temperature exponent")
-        ea_value = _number(problems, line, row, "Ea", what="an activation energy")
-        if cell(row, "Ea") is None:
-            problems.add(line, "Ea", "is empty; expected an activation energy (0 if none)")
-        ea_units = cell(row, "Ea_units")
-        ea_factor = None
-        if ea_units is None:
-            if cell(row, "Ea") is not None:
-                problems.add(line, "Ea_units", "is empty; expected a unit such as kJ/mol or K")
-        else:
-            try:
-                ea_factor = parse_energy_unit(ea_units).to_si
-            except UnitError as exc:
-                problems.add(line, "Ea_units", str(exc))
-        k_units = cell(row, "k_units")
-        a_factor = None
-        if a_value is not None:
-            if k_units is None:
-                problems.add(line, "k_units", "is empty; A needs its unit (e.g. cm3/molecule/s)")
-            elif reaction is not None:
-                try:
-                    a_factor = parse_rate_unit(k_units, order=reaction.order).to_si
-                except UnitError as exc:
-                    problems.add(line, "k_units", str(exc))
-        elif k_units is not None and reaction is not None:
-            try:
-                parse_rate_unit(k_units, order=reaction.order)
-            except UnitError as exc:
-                problems.add(line, "k_units", str(exc))
-        if a_value is None and n_value not in (None, 0.0):
-            problems.add(line, "n", "is given without A; leave n empty when A is to be estimated")
-        t_min = _number(problems, line, row, "T_min_K", positive=True, what="a temperature in K")
-        t_max = _number(problems, line, row, "T_max_K", positive=True, what="a temperature in K")
-        if t_min is not None and t_max is not None and t_max < t_min:
-            problems.add(line, "T_max_K", f"{t_max:g} K is below T_min_K {t_min:g} K")
-        factor = _number(
-            problems,
-            line,
-            row,
-            "uncertainty_factor",
-            minimum=1.0,
-            what="an uncertainty factor of at least 1",
-        )
-        origin = cell(row, "origin") or "literature"
-        if origin not in EXPRESSION_ORIGINS:
-            problems.add(
-                line, "origin", f"{origin!r} is not one of {', '.join(EXPRESSION_ORIGINS)}"
-            )
-        if reaction is None or ea_value is None or ea_factor is None:
-            continue
-        if a_value is not None and a_factor is None:
-            continue
-        units = {"Ea_units": ea_units or ""}
-        if k_units:
-            units["k_units"] = k_units
-        records.append(
-            ExpressionRecord(
-                line=line,
-                reaction=reaction,
-                origin=origin,
-                A=a_value * a_factor if a_value is not None and a_factor is not None else None,
-                n=n_value or 0.0,
-                Ea=ea_value * ea_factor,
-                t_min=t_min,
-                t_max=t_max,
-                uncertainty_factor=factor,
-                reference=cell(row, "reference"),
-                given_units=units,
-            )
-        )
-    return records
+        if given
+    ]
+    if len(ways) > 1:
+        problems.add(line, "f298", f"give the uncertainty one way, not as {' and '.join(ways)}")
+        return None, None
+    if dlogk is not None or de_r is not None:
+        if dlogk is None:
+            problems.add(line, "dlogk298", "is empty; dE_R_K needs the Δlog10 k at 298 K")
+            return None, None
+        # the columns' own definition (a change of unit, as the evaluation panels tabulate
+        # it): f(298) = 10^dlogk298 and g = Δ(E/R); science.uncertainty's
+        # panel_factor_from_log10_form is the same relation, and a test checks they agree
+        return 10.0**dlogk, de_r or 0.0
+    if g is not None and f298 is None:
+        problems.add(line, "f298", "is empty; g_K needs the factor f(298) it widens")
+        return None, None
+    return (f298, g) if f298 is not None else (factor, None)

@@ -13,24 +13,6 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-#: Column order of raw inserts into ``expression`` (the model's column names).
-EXPRESSION_COLUMNS = (
-    "reaction_id",
-    "origin",
-    "pre_exponential",
-    "temperature_exponent",
-    "activation_energy",
-    "t_min",
-    "t_max",
-    "uncertainty_factor",
-    "reference",
-    "provenance",
-    "recommended",
-    "version",
-    "created_at",
-    "created_by",
-)
-
 
 def insert_rows(
     session: Session, table: str, columns: Sequence[str], rows: Iterable[Sequence[object]]

@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import datetime as dt
 import os
+import re
 import sqlite3
 import time
 from collections.abc import Iterator
@@ -28,7 +29,7 @@ from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
-from urllib.parse import unquote
+from urllib.parse import quote, unquote
 
 from sqlalchemy import Engine, create_engine, event, select
 from sqlalchemy.engine import make_url
@@ -107,23 +108,82 @@ def database_url(db: str | None = None) -> str:
     return _quote_at_in_userinfo(text)
 
 
+#: Query parameters whose value is a secret: named like a password, a key or a token.
+_SECRET_PARAMETER = re.compile(r"pass|pwd|secret|token|key|auth|cred|sig", re.IGNORECASE)
+#: Stands for a hidden query value while SQLAlchemy renders the address (it would
+#: percent-encode "***").
+_MASKED = "ratebankmaskedvalue"
+_QUERY_PAIR = re.compile(r"(?P<name>[^=&;#]*)=(?P<value>[^&;#]*)")
+
+
+def is_secret_parameter(name: str) -> bool:
+    """Whether a query parameter of a store address holds a secret (``password``, ``sslkey``...)."""
+    return bool(_SECRET_PARAMETER.search(name))
+
+
 def mask_url(url: str) -> str:
-    """The URL with any password replaced by ``***``, safe to print or store."""
+    """The URL with its password and every secret query value replaced by ``***``.
+
+    This is the one function that makes an address safe to print or store:
+    messages, the history and the export descriptor all go through it.
+
+    >>> mask_url("postgresql+psycopg://ada:pw@db/kin?sslmode=require&password=s3")
+    'postgresql+psycopg://ada:***@db/kin?password=***&sslmode=require'
+    """
     text = _quote_at_in_userinfo(url)
     try:
-        return make_url(text).render_as_string(hide_password=True)
-    except (ArgumentError, ValueError):
+        parsed = make_url(text)
+        query = {
+            name: ((_MASKED,) * len(value) if isinstance(value, tuple) else _MASKED)
+            if is_secret_parameter(name)
+            else value
+            for name, value in parsed.query.items()
+        }
+        rendered = parsed.set(query=query).render_as_string(hide_password=True)
+        return rendered.replace(_MASKED, "***")
+    except (ArgumentError, ValueError, TypeError):
         # Unparseable (a bad port, say): hide everything between the user name
-        # and the last "@" of the address, which is where a password would be.
+        # and the last "@" of the address, which is where a password would be,
+        # and the value of every secret query parameter.
         scheme, separator, rest = text.partition("://")
         if not separator:
             return text
-        head, question, query = rest.partition("?")
+        head, question, query_text = rest.partition("?")
         at = head.rfind("@")
-        if at < 0 or ":" not in head[:at]:
-            return text
-        user = head[:at].split(":", 1)[0]
-        return f"{scheme}://{user}:***{head[at:]}{question}{query}"
+        if at >= 0 and ":" in head[:at]:
+            user = head[:at].split(":", 1)[0]
+            head = f"{user}:***{head[at:]}"
+        query_text = _QUERY_PAIR.sub(
+            lambda m: f"{m['name']}=***" if is_secret_parameter(unquote(m["name"])) else m[0],
+            query_text,
+        )
+        return f"{scheme}://{head}{question}{query_text}"
+
+
+def url_secrets(url: str | None) -> list[str]:
+    """Every secret written in a store address: the password and secret query values."""
+    if not url or "://" not in url:
+        return []
+    text = _quote_at_in_userinfo(url)
+    found: list[str] = []
+    try:
+        parsed = make_url(text)
+        if parsed.password:
+            found.append(str(parsed.password))
+        for name, value in parsed.query.items():
+            if is_secret_parameter(name):
+                found.extend(value if isinstance(value, tuple) else [value])
+    except (ArgumentError, ValueError, TypeError):
+        head = text.partition("://")[2].partition("?")[0]
+        at = head.rfind("@")
+        userinfo = head[:at] if at >= 0 else ""
+        if ":" in userinfo:
+            found.append(userinfo.split(":", 1)[1])
+    # the raw text too: a value SQLAlchemy could not parse is still in it
+    for match in _QUERY_PAIR.finditer(text.partition("?")[2]):
+        if is_secret_parameter(unquote(match["name"])):
+            found.append(match["value"])
+    return [secret for secret in dict.fromkeys(found) if secret]
 
 
 def url_password(url: str | None) -> str | None:
@@ -142,14 +202,12 @@ def url_password(url: str | None) -> str | None:
 
 
 def redact(text: str, *urls: str | None) -> str:
-    """``text`` with the passwords of ``urls`` (raw and percent-decoded) replaced by ``***``."""
+    """``text`` with the secrets of ``urls`` (raw, percent-decoded and -encoded) as ``***``."""
     for url in urls:
-        password = url_password(url)
-        if not password:
-            continue
-        for form in {password, unquote(password)}:
-            if len(form) >= 3:  # a one- or two-letter password would blank out ordinary words
-                text = text.replace(form, "***")
+        for secret in url_secrets(url):
+            for form in {secret, unquote(secret), quote(secret, safe="")}:
+                if len(form) >= 3:  # a one- or two-letter secret would blank out ordinary words
+                    text = text.replace(form, "***")
     return text
 
 
@@ -248,7 +306,12 @@ def explain_sqlite_error(exc: BaseException, database: str | None) -> StoreError
             f"cannot open the store file {where} ({message}); check that it is a file you may "
             "read and write, in a folder you may write"
         )
-    if "disk i/o error" in lowered or "database or disk is full" in lowered:
+    if "database or disk is full" in lowered:
+        return StoreError(
+            f"No space left on device: writing the store {where}; nothing was written; free "
+            "some space and run the command again"
+        )
+    if "disk i/o error" in lowered:
         return StoreError(f"the disk holding {where} failed ({message}); nothing was written")
     return None
 
@@ -474,10 +537,23 @@ def session_scope(
     except StaleDataError as exc:
         raise stale_conflict(session) from exc
     except BaseException:
-        session.rollback()
+        _roll_back(session)
         raise
     finally:
         session.close()
+
+
+def _roll_back(session: Session) -> None:
+    """Roll back after an error, keeping that error the one reported.
+
+    SQLite ends a transaction itself on a full disk or an I/O error; rolling
+    back to a savepoint then fails ("no such savepoint"), and that second
+    error must not hide the first, which says what happened.
+    """
+    try:
+        session.rollback()
+    except Exception:
+        session.invalidate()
 
 
 def default_author() -> str:

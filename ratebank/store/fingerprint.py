@@ -1,7 +1,10 @@
 """A fingerprint of the store's content: SHA-256 over every curated row.
 
 The audit trail is left out (reading or exporting does not change the
-content), and so are timestamps and lock versions. Tables are read in
+content), and so are timestamps and lock versions. A column that holds no
+value in any row (one a newer schema added, say) carries no content and is
+left out too, so that an upgrade which only adds columns keeps the
+fingerprint, and a store of an older revision can still be fingerprinted. Tables are read in
 primary-key order through the raw driver and hashed a column at a time:
 integers and booleans as 64-bit integers, floats as their exact IEEE-754
 bytes, texts and JSON (its stored text, which backup and restore copy
@@ -16,7 +19,7 @@ import hashlib
 from collections.abc import Sequence
 from typing import Any
 
-from sqlalchemy import JSON, Boolean, Float, Integer
+from sqlalchemy import JSON, Boolean, Float, Integer, inspect
 from sqlalchemy.orm import Session
 
 from ratebank.store.models import (
@@ -30,6 +33,9 @@ from ratebank.store.models import (
 )
 
 _SKIP = {"created_at", "updated_at", "updated_by", "created_by", "version"}
+#: Columns that earlier revisions named differently (revision 0005), by today's name: a store
+#: not yet upgraded hashes the same content under today's names.
+_FORMER_NAMES = {"a": "pre_exponential", "n": "temperature_exponent", "ea": "activation_energy"}
 TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
 #: Rows fetched and hashed at a time.
 _BATCH = 50_000
@@ -85,6 +91,18 @@ def _kind(column: Any) -> str:
     return "text"  # JSON too: read as its stored text
 
 
+def _columns_with_values(
+    cursor: Any, table: str, columns: list[Any], names: dict[str, str]
+) -> list[Any]:
+    """The columns of ``table`` that hold a value in at least one row."""
+    counts = ", ".join(f"COUNT({names[c.name]})" for c in columns)
+    cursor.execute(f"SELECT COUNT(*), {counts} FROM {table}")
+    total, *filled = cursor.fetchone()
+    if not total:
+        return columns
+    return [c for c, n in zip(columns, filled, strict=True) if n]
+
+
 def store_fingerprint(session: Session) -> str:
     """``sha256:<hex>`` of the curated content.
 
@@ -92,18 +110,29 @@ def store_fingerprint(session: Session) -> str:
     curated value changes it.
     """
     digest = hashlib.sha256()
-    raw = session.connection().connection.dbapi_connection
+    connection = session.connection()
+    inspector = inspect(connection)
+    raw = connection.connection.dbapi_connection
     assert raw is not None
     cursor = raw.cursor()
     try:
         for model in TABLES:
             table = model.__table__
-            columns = [c for c in table.columns if c.name not in _SKIP]
+            stored = {c["name"] for c in inspector.get_columns(table.name)}
+            names = {
+                c.name: c.name if c.name in stored else _FORMER_NAMES.get(c.name, c.name)
+                for c in table.columns
+                if c.name not in _SKIP
+            }
+            columns = _columns_with_values(
+                cursor, table.name, [c for c in table.columns if names.get(c.name) in stored], names
+            )
             kinds = [_kind(c) for c in columns]
             digest.update(f"\n#{table.name}:{','.join(c.name for c in columns)}\n".encode())
             order = ", ".join(c.name for c in table.primary_key.columns)
             selected = ", ".join(
-                f"CAST({c.name} AS TEXT)" if isinstance(c.type, JSON) else c.name for c in columns
+                f"CAST({names[c.name]} AS TEXT)" if isinstance(c.type, JSON) else names[c.name]
+                for c in columns
             )
             cursor.execute(f"SELECT {selected} FROM {table.name} ORDER BY {order}")
             while rows := cursor.fetchmany(_BATCH):

@@ -74,6 +74,20 @@ class Species(Base):
         CheckConstraint(
             "boiling_volume IS NULL OR boiling_volume > 0", name="boiling_volume_positive"
         ),
+        CheckConstraint(
+            "dipole_moment IS NULL OR dipole_moment >= 0", name="dipole_moment_non_negative"
+        ),
+        CheckConstraint(
+            "boiling_temperature IS NULL OR boiling_temperature > 0",
+            name="boiling_temperature_positive",
+        ),
+        CheckConstraint(
+            "polarizability IS NULL OR polarizability > 0", name="polarizability_positive"
+        ),
+        CheckConstraint(
+            "ionization_energy IS NULL OR ionization_energy > 0",
+            name="ionization_energy_positive",
+        ),
     )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
@@ -98,6 +112,14 @@ class Species(Base):
     acentric_factor: Mapped[float | None] = mapped_column(Float)
     #: molar volume at the normal boiling point [m3 mol-1]
     boiling_volume: Mapped[float | None] = mapped_column(Float)
+    #: permanent dipole moment [C m]
+    dipole_moment: Mapped[float | None] = mapped_column(Float)
+    #: normal boiling temperature [K]
+    boiling_temperature: Mapped[float | None] = mapped_column(Float)
+    #: polarizability volume [m3]
+    polarizability: Mapped[float | None] = mapped_column(Float)
+    #: first ionization energy [J mol-1]
+    ionization_energy: Mapped[float | None] = mapped_column(Float)
     source: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
 
@@ -220,9 +242,8 @@ class Expression(Base):
 
     __tablename__ = "expression"
     __table_args__ = (
-        CheckConstraint(
-            "pre_exponential IS NULL OR pre_exponential > 0", name="pre_exponential_positive"
-        ),
+        # (constraint names are those of the first revision; the columns were renamed since)
+        CheckConstraint("a IS NULL OR a > 0", name="pre_exponential_positive"),
         CheckConstraint(
             "origin IN ('measured-fit', 'literature', 'collision-estimate', 'manual')",
             name="origin_known",
@@ -233,20 +254,26 @@ class Expression(Base):
             "uncertainty_factor IS NULL OR uncertainty_factor >= 1",
             name="uncertainty_factor_range",
         ),
+        CheckConstraint(
+            "uncertainty_g IS NULL OR uncertainty_g >= 0", name="uncertainty_g_non_negative"
+        ),
     )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     reaction_id: Mapped[int] = mapped_column(ForeignKey("reaction.id"))
     origin: Mapped[str] = mapped_column(String(30))
     #: [SI k unit times K^-n]
-    A: Mapped[float | None] = mapped_column("pre_exponential", Float)
-    n: Mapped[float] = mapped_column("temperature_exponent", Float, default=0.0)
+    A: Mapped[float | None] = mapped_column("a", Float)
+    n: Mapped[float] = mapped_column("n", Float, default=0.0)
     #: [J mol-1]
-    Ea: Mapped[float] = mapped_column("activation_energy", Float)
+    Ea: Mapped[float] = mapped_column("ea", Float)
     #: [K]
-    t_min: Mapped[float | None] = mapped_column(Float)
-    t_max: Mapped[float | None] = mapped_column(Float)
+    T_min: Mapped[float | None] = mapped_column("t_min", Float)
+    T_max: Mapped[float | None] = mapped_column("t_max", Float)
+    #: f(298 K) of f(T) = f(298) exp|g (1/T - 1/298 K)|, one standard deviation of ln k
     uncertainty_factor: Mapped[float | None] = mapped_column(Float)
+    #: g [K] of that form (empty or 0: the same factor at every temperature)
+    uncertainty_g: Mapped[float | None] = mapped_column(Float)
     reference: Mapped[str | None] = mapped_column(Text)
     #: every input behind the numbers (fit covariance, set ids, P rule, ...)
     provenance: Mapped[dict[str, Any]] = mapped_column(JSON, default=dict)
@@ -260,10 +287,6 @@ class Expression(Base):
     reaction: Mapped[Reaction] = relationship(back_populates="expressions")
 
     __mapper_args__ = {"version_id_col": version}  # noqa: RUF012
-
-    @property
-    def is_complete(self) -> bool:
-        return self.A is not None
 
 
 class StericRule(Base):

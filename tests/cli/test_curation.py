@@ -125,9 +125,7 @@ def test_species_add_then_duplicate_is_refused(store):
 def test_species_show_unknown(store):
     outcome = run(store, "species", "show", "XYZ")
     assert outcome.exit_code == 1
-    assert outcome.stderr.strip() == (
-        "Error: no species 'XYZ' in the store (see `ratebank species list`)"
-    )
+    assert outcome.stderr.strip() == "Error: no species 'XYZ' in the store"
 
 
 HEADER = (
@@ -255,7 +253,7 @@ RHEADER = "key,equation\n"
     [
         ("a,OH + XY -> CH4\n", ":2: equation: unknown species 'XY'"),
         ("a,OH + CH4 -> CH3 + H2O2\n", ":2: equation: equation"),
-        ("a,OH + CH4 = CH3 + H2O\n", ":2: equation: "),
+        ("a,OH + CH4 CH3 + H2O\n", ":2: equation: "),
         (
             "a,CH3 + H2O -> CH4 + OH\na,OH + CH3 -> CH4 + O\n",
             ":3: key: reaction key 'a' appears twice",
@@ -313,7 +311,8 @@ def test_reaction_listing_filters(filled):
 
 
 def test_names_with_sql_are_literal(store):
-    name = "X'; DROP TABLE species; --"
+    # a species name is one an equation can hold, quotes and dashes included
+    name = "X'OR'1'--DROP"
     assert run(store, "species", "add", name, "CH4").exit_code == 0
     records = json.loads(run(store, "species", "list", "--json", "--name", "DROP").stdout)
     assert [r["name"] for r in records] == [name]
@@ -380,7 +379,7 @@ MHEADER = (
             ":2: k_units: unit 's-1' is for a rate constant of order 1, but this reaction is of order 2",
         ),
         ("s9,oh-ch4,300,1e-14,furlongs,,,,,,\n", ":2: k_units: "),
-        ("s9,oh-ch4,300,1e-14,,,,,,,\n", ":2: k_units: is empty and no --k-units was given"),
+        ("s9,oh-ch4,300,1e-14,,,,,,,\n", ":2: k_units: is empty and no default k_units was given"),
         ("s1,oh-ch4,300,1e-14,cm3/molecule/s,,,,,,\n", ":2: set: measurement set 's1' is already"),
         (
             "s9,oh-ch4,300,1e-14,cm3/molecule/s,,,,,,\ns9,h2o2-dec,310,1e-14,cm3/molecule/s,,,,,,\n",
@@ -412,7 +411,7 @@ def test_data_import_default_units_option(filled, tmp_path):
     )
     refused = run(filled, "data", "import", str(path))
     assert refused.exit_code == 1
-    assert "no k_units column and no --k-units" in refused.stderr
+    assert "no k_units column and no default k_units" in refused.stderr
     ok = run(filled, "data", "import", str(path), "--k-units", "cm3 molecule-1 s-1")
     assert ok.exit_code == 0, ok.stderr
     assert "imported 2 points in 1 sets" in ok.stdout

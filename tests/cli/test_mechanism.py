@@ -123,6 +123,10 @@ COLUMNS = [
     "steric_factor",
     "uncertainty_factor",
     "references",
+    "uncertainty_f298",
+    "uncertainty_g_K",
+    "linearised_at_K",
+    "linearisation_max_ln_deviation",
 ]
 
 
@@ -204,12 +208,12 @@ def expected_rows() -> dict[str, dict]:
         "oh-oh": dict(
             order=2, law=oh_oh, T=(300.0, 1200.0), origin="collision-estimate",
             steric=OH_OH_STERIC, factor=10.0,  # default factor of 10: common practice
-            references="collision theory (hard-sphere) x steric factor 0.2 (given on the command line)",
+            references="collision theory (hard-sphere) x steric factor 0.2 (given by the user)",
         ),
         "oh-h2": dict(
             order=2, law=oh_h2, T=(250.0, 1000.0), origin="collision-estimate",
             steric=OH_H2_STERIC, factor=10.0,
-            references="collision theory (hard-sphere) x steric factor 0.05 (given on the command line)",
+            references="collision theory (hard-sphere) x steric factor 0.05 (given by the user)",
         ),
         "h2o2-dec": dict(
             order=1, law=(2.0e13, 0.0, 200e3), T=(800.0, 1500.0), origin="literature",
@@ -558,7 +562,8 @@ def test_check_flags_impossible_rate_and_steric_factor(store, tmp_path):
     ratio = 1e-8 * K_TO_SI["cm3/molecule/s"] / float(hard_sphere_z(300.0, "OH", "C2H6"))
     assert above["value"] == pytest.approx(ratio, rel=1e-9)
     assert above["T_K"] == pytest.approx(300.0, rel=1e-12)
-    assert f"is {ratio:.3g} times the hard-sphere collision rate at 300 K" in above["message"]
+    assert f"is {ratio:.3g} times the collision limit (hard-sphere" in above["message"]
+    assert "at 300 K" in above["message"]
     steric = flags[("oh-h2", "steric-above-one")]
     assert steric["value"] == 5.0
     assert "is estimated with a steric factor of 5 > 1" in steric["message"]
@@ -594,7 +599,7 @@ def test_check_flags_an_estimate_resting_on_an_estimated_diameter(store, tmp_pat
 def test_check_passes_on_a_clean_store(fitted):
     outcome = run(fitted, "check")
     assert outcome.exit_code == 0, outcome.stdout
-    assert "Clean: nothing flagged." in outcome.stdout
+    assert "Clean: nothing flagged, everything checked." in outcome.stdout
     report = json.loads(ok(fitted, "check", "--json", "--t-range", "200", "2000").stdout)
     assert report == {
         "clean": True,
@@ -602,6 +607,8 @@ def test_check_passes_on_a_clean_store(fitted):
         "expressions": 1,
         "t_range_K": [200.0, 2000.0],
         "ignored": [],
+        "collision_model": None,
+        "unchecked": [],
         "flags": [],
     }
     wider = run(fitted, "check", "--t-range", "200", "2500", "--json")
@@ -664,7 +671,7 @@ def test_export_with_gaps_writes_nothing(gappy, out):
     assert outcome.exit_code == 1
     assert outcome.stderr.strip() == (
         "Error: 2 reaction(s) have no usable expression, so nothing was written: ch4-o2, "
-        "oh-h2. Fit, estimate or import them, or pass --leave-out-gaps"
+        "oh-h2. Fit, estimate or import them, or leave the gaps out (--leave-out-gaps)"
     )
     assert listing(out) == []
     assert snapshot(gappy) == before
@@ -740,52 +747,43 @@ def test_export_onto_a_folder_writes_nothing(fitted, out):
     assert snapshot(fitted) == before
 
 
-def test_two_parameter_export_refuses_curved_rows_unless_linearised(mechanism, out):
-    before = snapshot(mechanism)
-    refused = run(mechanism, "export", str(out / "lin.csv"), "--form", "arrhenius")
-    assert refused.exit_code == 1
-    assert refused.stderr.strip() == (
-        "Error: 4 expression(s) have n != 0 and cannot be written as two-parameter Arrhenius "
-        "rows: h-o2-m, oh-ch4, oh-h2, oh-oh; pass --linearise-at T to use their local form at "
-        "T, or export --form modified"
-    )
-    assert listing(out) == []
-    assert snapshot(mechanism) == before
-
-    T = 1000.0
+def test_two_parameter_export_linearises_each_row_inside_its_range(mechanism, out):
     ok(mechanism, "export", str(out / "mod.csv"))
-    ok(mechanism, "export", str(out / "lin.csv"), "--form", "arrhenius", "--linearise-at", "1000")
+    ok(mechanism, "export", str(out / "lin.csv"), "--form", "arrhenius")
     _, modified = read_table(out / "mod.csv")
     _, linear = read_table(out / "lin.csv")
     assert list(linear) == list(modified)
-    for key, row in linear.items():
-        base = modified[key]
+    curved = [key for key, row in modified.items() if float(row["n"]) != 0.0]
+    assert curved == ["h-o2-m", "oh-ch4", "oh-h2", "oh-oh"]
+    for key in curved:
+        row, base = linear[key], modified[key]
         n = float(base["n"])
-        assert float(row["n"]) == 0.0
+        t_min, t_max = float(base["T_min_K"]), float(base["T_max_K"])
+        T = float(row["linearised_at_K"])
+        assert T == pytest.approx(math.sqrt(t_min * t_max), rel=1e-12) and float(row["n"]) == 0.0
         # local form at T (from memory): A T^n e^n and Ea + n R T, here in kJ/mol
         assert float(row["A"]) == pytest.approx(float(base["A"]) * T**n * math.exp(n), rel=1e-12)
         assert float(row["Ea"]) == pytest.approx(float(base["Ea"]) + n * R * T / 1e3, rel=1e-12)
-        np.testing.assert_allclose(k_of_row(row, T), k_of_row(base, T), rtol=1e-12)
+        # within its recorded deviation of the modified form at 20 temperatures of its range
+        grid = list(np.geomspace(t_min, t_max, 20))
+        deviation = np.abs(np.log(k_of_row(row, grid) / k_of_row(base, grid)))
+        assert deviation.max() <= float(row["linearisation_max_ln_deviation"]) * (1 + 1e-9)
         for column in ("key", "order", "k_units", "T_min_K", "T_max_K", "origin", "references"):
             assert row[column] == base[column]
     meta = json.loads((out / "lin.resource.json").read_text(encoding="utf-8"))
     assert meta["ratebank"]["form"] == "arrhenius"
-    assert meta["ratebank"]["linearised"] == [
-        {"key": key, "at_K": 1000.0} for key in ("h-o2-m", "oh-ch4", "oh-h2", "oh-oh")
-    ]
+    assert [entry["key"] for entry in meta["ratebank"]["linearised"]] == curved
     assert_valid_resource(out / "lin.resource.json")
 
-    # linearised at its own T_ref the hard-sphere estimate is A = P z(T_ref) e^(1/2) with the
-    # activation energy it was made from (scipy.constants (CODATA))
-    t_ref = math.sqrt(300.0 * 1200.0)
-    ok(mechanism, "export", str(out / "at-ref.csv"), "--form", "arrhenius", "--linearise-at",
-       repr(t_ref))  # fmt: skip
-    row = read_table(out / "at-ref.csv")[1]["oh-oh"]
-    z = float(hard_sphere_z(t_ref, "OH", "OH"))
-    assert float(row["A"]) == pytest.approx(
-        OH_OH_STERIC * z * math.exp(0.5) / K_TO_SI["cm3/mol/s"], rel=1e-9
-    )
-    assert float(row["Ea"]) == pytest.approx(OH_OH_EA / 1e3, rel=1e-9)
+    # a linearisation temperature outside a row's range is refused, naming the rows
+    before = snapshot(mechanism)
+    refused = run(mechanism, "export", str(out / "x.csv"), "--form", "arrhenius",
+                  "--linearise-at", "5000")  # fmt: skip
+    assert refused.exit_code == 1
+    assert refused.stderr.startswith("Error: 4 expression(s) with n != 0 cannot be written")
+    assert "5000 K is outside" in refused.stderr and "(option --linearise-at)" in refused.stderr
+    assert not (out / "x.csv").exists()
+    assert snapshot(mechanism) == before
 
 
 # --------------------------------------------------------------------------- 6: recommend
@@ -983,13 +981,16 @@ def test_weighted_fit_and_its_uncertainty_match_a_hand_least_squares(store, tmp_
         )
         return np.sqrt(np.einsum("ij,jk,ik->i", g, covariance, g))
 
-    # the table's factor is the largest f(T) = exp(sigma_ln_k) over the fitted range
+    # the row's f(T) = f298 exp|g (1/T - 1/298)| (the evaluation panels' form) covers
+    # exp(sigma_ln_k) over the fitted range, and the table's factor is its largest value there
+    f298, g = float(row["uncertainty_f298"]), float(row["uncertainty_g_K"])
     grid = np.geomspace(200.0, 2000.0, 25)
-    assert math.log(float(row["uncertainty_factor"])) == pytest.approx(
-        float(sigma(grid).max()), rel=1e-7
-    )
+    panel = np.log(f298) + np.abs(g * (1.0 / grid - 1.0 / 298.0))
+    assert np.all(panel >= sigma(grid) * (1 - 1e-9))
+    assert math.log(float(row["uncertainty_factor"])) == pytest.approx(panel.max(), rel=1e-9)
     temperatures = [200.0, 632.0, 2000.0]
     args = [text for t in temperatures for text in ("-T", repr(t))]
     record = json.loads(ok(store, "rate", "oh-ch4", *args, "--units", "si", "--json").stdout)
     factors = np.array([r["uncertainty_factor"] for r in record["rates"]])
-    np.testing.assert_allclose(np.log(factors), sigma(temperatures), rtol=1e-7)
+    expected = np.log(f298) + np.abs(g * (1.0 / np.array(temperatures) - 1.0 / 298.0))
+    np.testing.assert_allclose(np.log(factors), expected, rtol=1e-9)

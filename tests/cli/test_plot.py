@@ -224,7 +224,7 @@ def test_steric_plot_svg(db, out_dir):
         (
             ["plot", "nope"],
             "out.png",
-            "Error: no reaction with key 'nope' in the store (see `ratebank reactions list`)",
+            "Error: no reaction with key 'nope' in the store",
         ),
         (
             ["plot", "oh-ch4"],
@@ -257,7 +257,8 @@ def test_steric_plot_svg(db, out_dir):
         (
             ["plot", "oh-ch4", "--t-range", "900", "300"],
             "out.png",
-            "Error: --t-range 900 300 must be two temperatures above 0 K, the lower first",
+            "Error: t_range 900 300 must be two temperatures above 0 K, the lower first "
+            "(option --t-range)",
         ),
         (
             ["plot", "oh-ch4", "--dpi", "0"],
@@ -279,8 +280,8 @@ def test_steric_plot_svg(db, out_dir):
             ["steric", "plot", "--class", "ho2-self"],
             "out.png",
             "Error: no steric factors to plot: no bimolecular reaction of class 'ho2-self' has "
-            "a measured fit and collision data (import measurements and diameters, then run "
-            "`ratebank fit`)",
+            "a measured fit and collision data (import measurements and diameters, then fit "
+            "them)",
         ),
     ],
 )
@@ -325,17 +326,28 @@ def test_folder_without_write_permission_is_refused_before_reading_the_store(
 
 
 def test_a_folder_that_refuses_the_temporary_file(db, out_dir, monkeypatch):
-    real_open = os.open
+    real_open, real_mkdir = os.open, os.mkdir
 
-    def refuse(path, flags, *args, **kwargs):
-        if Path(path).parent == out_dir and flags & os.O_CREAT:
+    def inside(path) -> bool:
+        return out_dir in Path(path).parents
+
+    def refuse_open(path, flags, *args, **kwargs):
+        if inside(path) and flags & os.O_CREAT:
             raise PermissionError(13, "Permission denied")
         return real_open(path, flags, *args, **kwargs)
 
-    monkeypatch.setattr(os, "open", refuse)
-    outcome = run_plot(db, "plot", "oh-ch4", "-o", str(out_dir / "out.png"))
+    def refuse_mkdir(path, *args, **kwargs):
+        if inside(path):
+            raise PermissionError(13, "Permission denied")
+        return real_mkdir(path, *args, **kwargs)
+
+    monkeypatch.setattr(os, "open", refuse_open)
+    monkeypatch.setattr(os, "mkdir", refuse_mkdir)
+    out = out_dir / "out.png"
+    outcome = run_plot(db, "plot", "oh-ch4", "-o", str(out))
     assert outcome.exit_code == 1
-    assert outcome.stderr == f"Error: cannot write to folder '{out_dir}': Permission denied\n"
+    # the path is named, whatever the operating system refused
+    assert outcome.stderr == f"Error: Permission denied: writing {out}; nothing was written\n"
     assert list(out_dir.iterdir()) == []
 
 
@@ -351,7 +363,7 @@ def test_a_failure_while_writing_leaves_nothing(db, out_dir, monkeypatch):
     out.write_bytes(b"the earlier plot")
     outcome = run_plot(db, "plot", "oh-ch4", "-o", str(out))
     assert outcome.exit_code == 1
-    assert outcome.stderr == "Error: No space left on device\n"
+    assert outcome.stderr == f"Error: No space left on device: writing {out}; nothing was written\n"
     # the earlier file is untouched and no temporary file is left beside it
     assert out.read_bytes() == b"the earlier plot"
     assert sorted(p.name for p in out_dir.iterdir()) == ["full.png"]

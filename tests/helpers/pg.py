@@ -36,3 +36,22 @@ def scratch_schema() -> Iterator[str]:
         with admin.connect() as connection:
             connection.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
         admin.dispose()
+
+
+@contextmanager
+def scratch_database() -> Iterator[str]:
+    """The address of a fresh, empty database on the test server; dropped on exit."""
+    base = pg_base_url()
+    assert base, "RATEBANK_TEST_PG_URL is not set"
+    name = "rbtest_" + uuid.uuid4().hex[:12]
+    admin = create_engine(base, isolation_level="AUTOCOMMIT")
+    with admin.connect() as connection:
+        connection.execute(text(f'CREATE DATABASE "{name}"'))
+    head, _, query = base.partition("?")
+    url = head.rsplit("/", 1)[0] + "/" + name + (f"?{query}" if query else "")
+    try:
+        yield url
+    finally:
+        with admin.connect() as connection:
+            connection.execute(text(f'DROP DATABASE "{name}" WITH (FORCE)'))
+        admin.dispose()

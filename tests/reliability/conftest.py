@@ -1,54 +1,26 @@
-"""Shared pieces of the reliability tests: the command line with every command attached.
-
-``ratebank.cli.admin.register`` attaches ``expressions edit``, ``backup`` and
-``restore``. Until ``ratebank/cli/app.py`` calls it, these tests attach it to a
-copy of the application, leaving the shared one (and the help and README
-checks that walk it) untouched.
-"""
+"""Shared pieces of the reliability tests: the command line, every command of it, and a
+PostgreSQL schema of their own."""
 
 from __future__ import annotations
 
-import copy
 from collections.abc import Callable, Iterator
 from pathlib import Path
 
 import pytest
 from helpers.cli import Outcome
 from helpers.pg import pg_base_url, scratch_schema
+from typer.main import get_command
 from typer.testing import CliRunner
+
+from ratebank.cli.app import app
 
 HERE = Path(__file__).resolve().parent
 WORKERS = HERE / "workers.py"
 
 
-def full_app():  # type: ignore[no-untyped-def]
-    """The ratebank application with the admin commands attached."""
-    from ratebank.cli import admin
-    from ratebank.cli.app import app
-
-    if any(info.name == "backup" for info in app.registered_commands):
-        return app
-    whole = copy.copy(app)
-    whole.registered_commands = list(app.registered_commands)
-    whole.registered_groups = []
-    expressions = None
-    for group in app.registered_groups:
-        group = copy.copy(group)
-        if group.name == "expressions":
-            group.typer_instance = copy.copy(group.typer_instance)
-            group.typer_instance.registered_commands = list(
-                group.typer_instance.registered_commands
-            )
-            expressions = group.typer_instance
-        whole.registered_groups.append(group)
-    assert expressions is not None
-    admin.register(whole, expressions)
-    return whole
-
-
 def invoke(db: str | None, *args: str, env: dict[str, str] | None = None) -> Outcome:
-    """Run ``ratebank --db DB ARGS`` in-process (every command attached; no --db for None)."""
-    result = CliRunner(env=env).invoke(full_app(), [*(["--db", db] if db else []), *args])
+    """Run ``ratebank --db DB ARGS`` in-process (no ``--db`` for None)."""
+    result = CliRunner(env=env).invoke(app, [*(["--db", db] if db else []), *args])
     if result.exception is not None and not isinstance(result.exception, SystemExit):
         raise result.exception
     return Outcome(result.exit_code, result.stdout, result.stderr)
@@ -63,8 +35,6 @@ def cli() -> Callable[..., Outcome]:
 @pytest.fixture
 def all_commands() -> list[str]:
     """Every command of the application, as typed (``species add``)."""
-    from typer.main import get_command
-
     found: list[str] = []
 
     def walk(command, path):  # type: ignore[no-untyped-def]
@@ -75,7 +45,7 @@ def all_commands() -> list[str]:
         else:
             found.append(" ".join(path))
 
-    walk(get_command(full_app()), [])
+    walk(get_command(app), [])
     return found
 
 

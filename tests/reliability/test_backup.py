@@ -16,8 +16,7 @@ from helpers.cli import snapshot, write
 from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
 from sqlalchemy import func, select, text
 
-from ratebank.services import curate
-from ratebank.services.store_access import open_store
+from ratebank.services.store_access import open_store, store_counts
 from ratebank.store.engine import create_store_engine, database_url
 from ratebank.store.fingerprint import store_fingerprint
 from ratebank.store.models import AuditEntry, MeasurementSet, Point
@@ -46,7 +45,7 @@ def _content(db):
     store = open_store(db)
     try:
         with store.session() as session:
-            return curate.store_counts(session), store_fingerprint(session)
+            return store_counts(session), store_fingerprint(session)
     finally:
         store.close()
 
@@ -142,7 +141,7 @@ def test_backup_refuses_to_overwrite_unless_forced(sqlite_url, cli, tmp_path):
     refused = cli(sqlite_url, "backup", str(target))
     assert refused.exit_code == 1
     assert refused.stderr.strip() == (
-        f"Error: {target} already exists; choose another name, or give --force to replace it"
+        f"Error: {target} already exists; choose another name, or allow it to be replaced (force)"
     )
     assert target.read_bytes() == b"an older backup"
     forced = cli(sqlite_url, "backup", str(target), "--force")
@@ -280,7 +279,7 @@ def test_restore_refuses_a_store_that_holds_data(db_url, cli, backup_file, tmp_p
     assert outcome.exit_code == 1
     assert outcome.stderr.strip().endswith(
         "is not empty (1 species); restore only into an empty store: a new file, or a new "
-        "database after `ratebank init`"
+        "database initialised as a ratebank store"
     )
     assert snapshot(db_url) == before
 

@@ -23,8 +23,7 @@ from helpers.cli import snapshot, write
 from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
 from sqlalchemy import create_engine, text
 
-from ratebank.services import curate
-from ratebank.services.store_access import open_store
+from ratebank.services.store_access import open_store, store_counts
 from ratebank.store.fingerprint import store_fingerprint
 
 WORKERS = Path(__file__).with_name("workers.py")
@@ -65,7 +64,7 @@ def _state(db):
     try:
         with store.session() as session:
             fingerprint = store_fingerprint(session)
-            counts = curate.store_counts(session)
+            counts = store_counts(session)
     finally:
         store.close()
     return fingerprint, counts, snapshot(db)
@@ -163,7 +162,15 @@ def test_ctrl_c_mid_import_is_one_line_and_writes_nothing(filled, big_csv):
 
 
 def _temporaries(folder: Path, name: str) -> list[Path]:
-    return [p for p in folder.iterdir() if re.fullmatch(rf"\.{re.escape(name)}\..*\.tmp", p.name)]
+    """The files staged by an export of ``name`` (inside its staging folder)."""
+    stages = [
+        p
+        for p in folder.iterdir()
+        if re.fullmatch(
+            rf"\.{re.escape(name)}\.ratebank-[0-9a-f]{{8}}-[0-9]+-[0-9a-f]{{16}}", p.name
+        )
+    ]
+    return [f for stage in stages for f in stage.iterdir()]
 
 
 @pytest.mark.parametrize("previous", [False, True], ids=["first-export", "over-previous"])
@@ -206,9 +213,11 @@ def test_sigkill_mid_export_leaves_no_half_written_file(filled, cli, tmp_path, p
         assert not descriptor.exists()
     visible = sorted(p.name for p in folder.iterdir() if not p.name.startswith("."))
     assert visible == [name for name in listing if not name.startswith(".")]
-    # What the kill leaves is at most the hidden temporary file, never a half target.
+    # What the kill leaves is at most the hidden staging folder, never a half target.
     assert len(_temporaries(folder, table.name)) <= 1
 
     again = cli(filled, "export", str(table), "--leave-out-gaps")
     assert again.exit_code == 0, again.stderr
     assert table.read_text(encoding="utf-8").startswith("key,equation,order,A,n,Ea,")
+    # the next export cleared what the killed one left (its process is gone)
+    assert sorted(p.name for p in folder.iterdir()) == ["mechanism.csv", "mechanism.resource.json"]

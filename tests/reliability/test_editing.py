@@ -12,9 +12,9 @@ from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECI
 from scipy import constants
 from sqlalchemy import select, update
 
-from ratebank.errors import ConflictError
+from ratebank.errors import ConflictError, StaleEditError
 from ratebank.services import steric
-from ratebank.services.editing import StaleEditError, edit_expression
+from ratebank.services.expressions import edit_expression
 from ratebank.services.store_access import open_store
 from ratebank.store.engine import ConcurrentEditError, session_scope
 from ratebank.store.models import Expression, StericRule
@@ -109,7 +109,7 @@ def test_edit_converts_to_si_and_bumps_the_version(filled, cli):
     assert row.version == 2
     assert row.A == pytest.approx(3.5e13, rel=1e-12)  # s-1 is already SI
     assert row.Ea == pytest.approx(48 * 4184.0, rel=1e-12)  # thermochemical calorie
-    assert (row.t_min, row.t_max, row.uncertainty_factor) == (700.0, 1600.0, 2.0)
+    assert (row.T_min, row.T_max, row.uncertainty_factor) == (700.0, 1600.0, 2.0)
     assert row.reference == "second review"
     assert row.updated_by == "ada"
     assert row.provenance["edited"]["by"] == "ada"
@@ -206,7 +206,10 @@ def test_fits_and_estimates_are_regenerated_not_edited(filled, cli):
     fit = next(r["id"] for r in records if r["origin"] == "measured-fit")
     estimate = next(r["id"] for r in records if r["origin"] == "collision-estimate")
     before = snapshot(filled)
-    for expression_id, command in ((fit, "`ratebank fit`"), (estimate, "`ratebank estimate`")):
+    for expression_id, command in (
+        (fit, "a new fit of its measurements"),
+        (estimate, "a new estimate from its inputs"),
+    ):
         outcome = cli(
             filled, "expressions", "edit", str(expression_id), "--n", "1", "--expect-version", "1"
         )
@@ -222,18 +225,18 @@ def test_fits_and_estimates_are_regenerated_not_edited(filled, cli):
 @pytest.mark.parametrize(
     ("args", "expected"),
     [
-        (["--A", "1e13"], "A: needs its unit (--k-units, e.g. cm3/molecule/s)"),
-        (["--A", "-1e13", "--k-units", "s-1"], "A: -1e+13 must be a finite number greater than"),
-        (["--A", "nan", "--k-units", "s-1"], "A: nan must be a finite number greater than zero"),
+        (["--A", "1e13"], "k_units: is empty; A needs its unit (e.g. cm3/molecule/s)"),
+        (["--A", "-1e13", "--k-units", "s-1"], "A: -1e+13 must be greater than zero"),
+        (["--A", "nan", "--k-units", "s-1"], "A: nan is not a finite number"),
         (["--A", "1e13", "--k-units", "cm3/molecule/s"], "k_units: unit 'cm3/molecule/s' is for a"),
-        (["--k-units", "s-1"], "k_units: is given without --A"),
-        (["--Ea", "12"], "Ea: needs its unit (--Ea-units, e.g. kJ/mol or K)"),
+        (["--k-units", "s-1"], "k_units: is given without A"),
+        (["--Ea", "12"], "Ea_units: is empty; Ea needs its unit (e.g. kJ/mol or K)"),
         (["--Ea", "12", "--Ea-units", "kJ"], "Ea_units: "),
-        (["--Ea", "inf", "--Ea-units", "kJ/mol"], "Ea: inf must be a finite number"),
-        (["--Ea-units", "K"], "Ea_units: is given without --Ea"),
-        (["--t-max", "500"], "t_max: 500 K is below t_min 800 K"),
-        (["--t-min", "0"], "t_min: 0 K must be a finite temperature above zero"),
-        (["--uncertainty-factor", "0.5"], "uncertainty_factor: 0.5 must be a finite number of at"),
+        (["--Ea", "inf", "--Ea-units", "kJ/mol"], "Ea: inf is not a finite number"),
+        (["--Ea-units", "K"], "Ea_units: is given without Ea"),
+        (["--t-max", "500"], "T_max: 500 K is below T_min 800 K"),
+        (["--t-min", "0"], "T_min: 0 must be greater than zero; expected a temperature in K"),
+        (["--uncertainty-factor", "0.5"], "uncertainty_factor: 0.5 is below 1"),
         ([], "nothing to change in expression"),
     ],
 )
@@ -252,13 +255,11 @@ def test_invalid_edits_write_nothing(filled_sqlite, cli, args, expected):
 def test_unknown_expression_and_n_without_a(filled, cli):
     unknown = cli(filled, "expressions", "edit", "9999", "--n", "1", "--expect-version", "1")
     assert unknown.exit_code == 1
-    assert unknown.stderr.strip() == (
-        "Error: no expression 9999 in the store (see `ratebank expressions list`)"
-    )
+    assert unknown.stderr.strip() == "Error: no expression 9999 in the store"
     ea_only = _literature_id(cli, filled, "ho2-ho2")
     outcome = cli(filled, "expressions", "edit", str(ea_only), "--n", "1", "--expect-version", "1")
     assert outcome.exit_code == 1
-    assert "n: the expression has no A yet" in outcome.stderr
+    assert "n: is given without A" in outcome.stderr
     # ... but giving it an A (with its unit) completes it
     complete = cli(
         filled,
@@ -387,7 +388,7 @@ def test_the_edit_service_names_a_concurrent_bump(sqlite_url, cli, tmp_path, mon
 def test_a_stale_error_reaching_the_command_line_is_one_line(filled, cli, monkeypatch):
     from sqlalchemy.orm.exc import StaleDataError
 
-    import ratebank.services.editing as editing
+    import ratebank.services.expressions as editing
 
     def racing(*_args, **_kwargs):
         raise StaleDataError("UPDATE statement on table 'expression' expected to update 1 row(s)")

@@ -304,12 +304,12 @@ def test_ctrl_c_is_one_line_and_writes_nothing(store, cli, tmp_path, monkeypatch
 
 
 def test_ctrl_c_with_traceback_shows_where(store, cli, monkeypatch):
-    import ratebank.services.curate as curate
+    import ratebank.services.species as species_service
 
     def interrupted(*_args, **_kwargs):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(curate, "list_species", interrupted)
+    monkeypatch.setattr(species_service, "list_species", interrupted)
     result = cli(store, "--traceback", "species", "list")
     assert result.exit_code == 130
     assert "Traceback (most recent call last)" in result.stderr
@@ -325,7 +325,7 @@ def test_ctrl_c_with_traceback_shows_where(store, cli, monkeypatch):
 def test_traceback_shows_the_trace_of_a_domain_error(store):
     plain = _ratebank("--db", store, "species", "show", "XYZ")
     assert plain.returncode == 1
-    assert plain.stderr == "Error: no species 'XYZ' in the store (see `ratebank species list`)\n"
+    assert plain.stderr == "Error: no species 'XYZ' in the store\n"
     traced = _ratebank("--traceback", "--db", store, "species", "show", "XYZ")
     assert traced.returncode == 1
     assert "Traceback (most recent call last)" in traced.stderr

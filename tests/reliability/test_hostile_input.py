@@ -16,6 +16,7 @@ import csv
 import io
 import json
 import re
+import uuid
 
 import pytest
 from helpers.cli import snapshot, write
@@ -58,6 +59,10 @@ NUMBERS = [
     "1,5",
     "１２３",
     "٣",
+    "٣٠٠",
+    "３００",
+    "1e-320",
+    "-4.9e-324",
     "1e",
     ".",
     "+",
@@ -86,7 +91,7 @@ HUGE = st.sampled_from(["x" * 5_000, "y" * 120_000])  # the second is longer tha
 # Values that are valid in their column for the store the tests seed (bimolecular
 # k units go with the bimolecular reactions used); "{n}" makes a name new to the store.
 VALID = {
-    "name": ["S{n}-{i}", "S{n}-{i}'; DROP TABLE species; --", "CH2(S){n}-{i}", "x%_{n}-{i}"],
+    "name": ["S{n}-{i}", "S{n}-{i}'OR'1'-'1", "CH2(S){n}-{i}", "x_{n}-{i}"],
     "formula": ["CH4", "HO", "H2O2", "CH2", "C2H6"],
     "diameter_angstrom": ["3.7", ""],
     "well_depth_K": ["100", ""],
@@ -139,7 +144,7 @@ INVALID = [
     "0.5",
     "-2",
     "s-1",
-    "OH + CH4 = CH3 + H2O",
+    "OH + CH4 CH3 + H2O",
     "2OH -> H2O2",
 ]
 
@@ -421,7 +426,7 @@ SQL_KEY = "oh';DROP--"
 def test_names_with_sql_are_stored_and_found_as_literal_text(db_url, cli, tmp_path):
     assert cli(db_url, "init").exit_code == 0
     rows = "".join(f'"{name}",{formula}\n' for name, formula in SQL_SPECIES.items())
-    rows += '"X\'); DROP TABLE species; --",CH4\n"100% _sure_\\",O2\n'
+    rows += "\"X'--DROP'TABLE\",CH4\nx_sure_,O2\n"
     outcome, _, _ = _check(
         cli, db_url, "species", write(tmp_path / "s.csv", "name,formula\n" + rows)
     )
@@ -458,21 +463,18 @@ def test_names_with_sql_are_stored_and_found_as_literal_text(db_url, cli, tmp_pa
     assert as_json("reactions", "list", "--class", "x' OR '1'='1") == []
     assert as_json("data", "list", "--reaction", SQL_KEY)[0]["points"] == 2
     assert as_json("history", "--target", "' OR '1'='1") == []
-    # LIKE wildcards in a filter are literal
-    names = {r["name"] for r in as_json("species", "list", "--name", "%")}
-    assert names == {"100% _sure_\\"}
-    assert {r["name"] for r in as_json("species", "list", "--name", "_")} == {"100% _sure_\\"}
-    assert {r["name"] for r in as_json("species", "list", "--name", "\\")} == {"100% _sure_\\"}
+    # LIKE wildcards in a filter are literal (no species name can hold % or \\)
+    assert as_json("species", "list", "--name", "%") == []
+    assert {r["name"] for r in as_json("species", "list", "--name", "_")} == {"x_sure_"}
+    assert as_json("species", "list", "--name", "\\") == []
     assert {r["name"] for r in as_json("species", "list", "--name", "--")} == {
         "C'H4--",
         "H2O'--*",
-        "X'); DROP TABLE species; --",
+        "X'--DROP'TABLE",
     }
     unknown = cli(db_url, "species", "show", "' OR '1'='1")
     assert unknown.exit_code == 1
-    assert unknown.stderr.strip() == (
-        "Error: no species \"' OR '1'='1\" in the store (see `ratebank species list`)"
-    )
+    assert unknown.stderr.strip() == "Error: no species \"' OR '1'='1\" in the store"
 
 
 def test_name_filters_are_case_sensitive_on_both_backends(db_url, cli):
@@ -496,8 +498,13 @@ def test_name_filters_are_case_sensitive_on_both_backends(db_url, cli):
 NAME_TEXT = st.text(
     alphabet=st.characters(codec="utf-8", exclude_categories=("Cs", "Cc")), min_size=1, max_size=40
 )
+#: Names an equation can hold, with the quotes and dashes SQL is made of.
+PARSER_NAMES = st.from_regex(r"[A-Za-z(][A-Za-z0-9_',*-]{0,24}", fullmatch=True)
 NAMES = st.one_of(
-    st.sampled_from(SQL), NAME_TEXT, st.tuples(st.sampled_from(SQL), NAME_TEXT).map("".join)
+    st.sampled_from(SQL),
+    NAME_TEXT,
+    st.tuples(st.sampled_from(SQL), NAME_TEXT).map("".join),
+    PARSER_NAMES,
 )
 FRAGMENTS = st.one_of(
     st.sampled_from(["%", "_", "\\", "'", '"', "--", ";", "a", "A", "s", "S"]), NAME_TEXT
@@ -505,10 +512,17 @@ FRAGMENTS = st.one_of(
 
 
 def _any_name(db, cli, name, fragment):
+    from ratebank.services.input_rules import species_name_problem
+
     stored = name.strip()
     assume(stored)
     outcome = cli(db, "species", "add", "--", name, "CH4")
     assert "Traceback" not in outcome.stderr
+    rule = species_name_problem(stored)
+    if rule is not None:  # refused, with the reason, and nothing written
+        assert outcome.exit_code == 1
+        assert f"command line: name: {rule}" in outcome.stderr
+        return
     if outcome.exit_code != 0:  # e.g. a name drawn again: it is in the store already
         assert outcome.stderr.startswith("Error: ")
         assume(f"species {stored!r} is already in the store" in outcome.stderr)
@@ -567,3 +581,201 @@ def test_a_name_longer_than_the_store_holds_is_refused_by_validation(store, cli,
     outcome, _, _ = _check(cli, store, "species", path)
     assert outcome.exit_code == 1
     assert f"{path}:2: name:" in outcome.stderr
+
+
+# --------------------------------------------------------------------------- loose numbers
+
+#: A valid row of each importer for the seeded store ("{n}" makes names new).
+CLEAN_ROWS = {
+    "species": {
+        "name": "Z{n}",
+        "formula": "CH4",
+        "molar_mass_g_per_mol": "16.04",
+        "diameter_angstrom": "3.7",
+        "well_depth_K": "100",
+        "critical_temperature_K": "190.6",
+        "critical_pressure_bar": "46",
+        "acentric_factor": "0.011",
+        "boiling_volume_cm3_per_mol": "37.9",
+    },
+    "data": {
+        "set": "loose{n}",
+        "reaction": "oh-ch4",
+        "T_K": "300",
+        "k": "1e-14",
+        "k_units": "cm3/molecule/s",
+        "k_uncertainty": "0.1",
+        "pressure_bar": "1",
+    },
+    "expressions": {
+        "reaction": "oh-ch4",
+        "A": "1e-12",
+        "n": "0.5",
+        "Ea": "10",
+        "Ea_units": "kJ/mol",
+        "k_units": "cm3/molecule/s",
+        "T_min_K": "200",
+        "T_max_K": "2000",
+        "uncertainty_factor": "2",
+    },
+}
+NUMBER_COLUMNS = [
+    (kind, column)
+    for kind, row in CLEAN_ROWS.items()
+    for column, value in row.items()
+    if value[:1].isdigit()
+]
+OTHER_DIGITS = st.characters(categories=["Nd"]).filter(lambda c: not c.isascii())
+#: Numbers Python's float would read but the accepted syntax does not, and values too
+#: close to zero to be stored at full precision.
+LOOSE_NUMBERS = st.one_of(
+    st.sampled_from(["1_000", "3_00.5", "1e1_0", "٣٠٠", "３００", "1e-320", "4.9e-324"]),
+    st.tuples(st.integers(1, 999), st.integers(0, 999)).map(lambda p: f"{p[0]}_{p[1]:03d}"),
+    st.text(OTHER_DIGITS, min_size=1, max_size=4),
+    st.tuples(st.integers(10, 9999), OTHER_DIGITS).map(
+        lambda p: str(p[0])[:1] + p[1] + str(p[0])[1:]
+    ),
+    st.integers(309, 323).map(lambda e: f"2.5e-{e}"),
+)
+
+
+def _one_row_file(path, row):
+    buffer = io.StringIO()
+    csv.writer(buffer, lineterminator="\n").writerows([list(row), list(row.values())])
+    path.write_text(buffer.getvalue(), encoding="utf-8")
+    return path
+
+
+@pytest.mark.parametrize(("kind", "column"), NUMBER_COLUMNS)
+@settings(HYPOTHESIS, max_examples=8)
+@given(loose=LOOSE_NUMBERS)
+def test_loose_numbers_are_refused_in_every_number_column(
+    seeded, cli, tmp_path, kind, column, loose
+):
+    n = uuid.uuid4().hex  # names new to the store in every example
+    row = {name: value.format(n=n) for name, value in CLEAN_ROWS[kind].items()}
+    row[column] = loose
+    path = _one_row_file(tmp_path / "loose.csv", row)
+    outcome, _, _ = _check(cli, seeded, kind, path)
+    assert outcome.exit_code == 1, (column, loose)
+    assert f"{path}:2: {column}: " in outcome.stderr
+    assert (
+        "is not a number written with the digits 0-9" in outcome.stderr
+        or "too close to zero to be stored at full precision" in outcome.stderr
+    ), outcome.stderr
+
+
+@pytest.mark.parametrize("kind", list(CLEAN_ROWS))
+def test_the_clean_rows_import(seeded, cli, tmp_path, kind):
+    row = {name: value.format(n=7) for name, value in CLEAN_ROWS[kind].items()}
+    outcome, _, _ = _check(cli, seeded, kind, _one_row_file(tmp_path / "clean.csv", row))
+    assert outcome.exit_code == 0, outcome.stderr
+
+
+@pytest.mark.parametrize("option", ["--molar-mass", "--tc", "--diameter"])
+@settings(HYPOTHESIS, max_examples=8)
+@given(loose=LOOSE_NUMBERS)
+def test_loose_numbers_are_refused_on_the_command_line(seeded, cli, option, loose):
+    before = snapshot(seeded)
+    outcome = cli(seeded, "species", "add", "CH3OH", "CH3OH", option, loose)
+    assert outcome.exit_code != 0
+    assert "Traceback" not in outcome.stderr
+    assert f"Invalid value for '{option}'" in outcome.stderr
+    assert snapshot(seeded) == before
+
+
+@pytest.mark.parametrize(("column", "value"), [("T_K", "5"), ("T_K", "20000"), ("T_K", "1e-300")])
+def test_temperatures_outside_10_to_10000_k_are_refused(seeded, cli, tmp_path, column, value):
+    row = {name: v.format(n=3) for name, v in CLEAN_ROWS["data"].items()}
+    row[column] = value
+    path = _one_row_file(tmp_path / "t.csv", row)
+    outcome, _, _ = _check(cli, seeded, "data", path)
+    assert outcome.exit_code == 1
+    assert f"{path}:2: T_K: {float(value):g} K is outside 10 to 10000 K" in outcome.stderr
+
+
+# --------------------------------------------------------------------------- identifiers
+
+#: Characters that are invisible or control text: zero-width spaces and joiners, the
+#: byte-order mark, bidirectional overrides and isolates, and every other control or
+#: format character (except the line ends and NUL, which end a CSV row or are refused
+#: as binary before any name is read).
+INVISIBLE = st.one_of(
+    st.sampled_from(
+        ["\u200b", "\u200c", "\u200d", "\u2060", "\ufeff", "\u202e", "\u202d", "\u2066", "\u2069"]
+    ),
+    st.characters(categories=["Cc", "Cf"]).filter(lambda c: c not in "\n\r\x00"),
+)
+#: (importer, column, clean value) of every name, key and set name a file carries.
+IDENTIFIER_CELLS = [
+    ("species", "name", "Zq{n}"),
+    ("reactions", "key", "rk{n}"),
+    ("reactions", "class", "cls{n}"),
+    ("data", "set", "loose{n}"),
+]
+REACTION_ROW = {"key": "rk{n}", "equation": "H + O3 -> O2 + OH", "class": "cls{n}"}
+
+
+@pytest.mark.parametrize(("kind", "column", "clean"), IDENTIFIER_CELLS)
+@settings(HYPOTHESIS, max_examples=10)
+@given(char=INVISIBLE, at=st.integers(1, 2))
+def test_invisible_characters_in_names_keys_and_sets_are_refused(
+    seeded, cli, tmp_path, kind, column, clean, char, at
+):
+    n = uuid.uuid4().hex
+    template = REACTION_ROW if kind == "reactions" else CLEAN_ROWS[kind]
+    row = {name: value.format(n=n) for name, value in template.items()}
+    value = clean.format(n=n)
+    row[column] = value[:at] + char + value[at:]
+    path = _one_row_file(tmp_path / "names.csv", row)
+    outcome, _, _ = _check(cli, seeded, kind, path)
+    assert outcome.exit_code == 1, repr(row[column])
+    assert f"{path}:2: {column}: " in outcome.stderr
+    # the reason: the character by its code point, or the space rule of keys and species
+    assert f"U+{ord(char):04X}" in outcome.stderr or "space" in outcome.stderr, outcome.stderr
+
+
+@given(char=INVISIBLE)
+@settings(HYPOTHESIS, max_examples=10)
+def test_invisible_characters_in_a_steric_class_are_refused(seeded, cli, char):
+    before = snapshot(seeded)
+    outcome = cli(seeded, "steric", "set-class", f"h{char}abstraction", "0.1")
+    assert outcome.exit_code == 1
+    assert outcome.stderr.startswith("Error: reaction class ")
+    assert f"U+{ord(char):04X}" in outcome.stderr
+    assert snapshot(seeded) == before
+
+
+@pytest.mark.parametrize(
+    ("name", "reason"),
+    [
+        ("=1+1 x", "'+' separates species in an equation"),
+        ("\u041e\u041d", "U+041E CYRILLIC CAPITAL LETTER O"),
+        ("M", "M is the third body"),
+        ("@SUM(1)", "unexpected character '@'"),
+        ("a b", "a space"),
+    ],
+)
+def test_species_names_an_equation_cannot_hold_are_refused(seeded, cli, tmp_path, name, reason):
+    path = write(tmp_path / "s.csv", f'name,formula\n"{name}",HO\n')
+    outcome, _, _ = _check(cli, seeded, "species", path)
+    assert outcome.exit_code == 1
+    assert f"{path}:2: name: " in outcome.stderr
+    assert reason in outcome.stderr
+
+
+@settings(HYPOTHESIS, max_examples=10)
+@given(
+    side=st.lists(st.sampled_from(["OH", "CH4", "H2O", "HO2", "O2", "H"]), min_size=1, max_size=3),
+    third_body=st.booleans(),
+    n=st.integers(0, 10**9),
+)
+def test_a_reaction_whose_two_sides_are_the_same_is_refused(
+    seeded, cli, tmp_path, side, third_body, n
+):
+    text = " + ".join(side + (["M"] if third_body else []))
+    shuffled = " + ".join(reversed(side)) + (" + M" if third_body else "")
+    path = write(tmp_path / "r.csv", f"key,equation\nsame{n},{text} -> {shuffled}\n")
+    outcome, _, _ = _check(cli, seeded, "reactions", path)
+    assert outcome.exit_code == 1
+    assert f"{path}:2: equation: both sides of " in outcome.stderr

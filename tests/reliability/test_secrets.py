@@ -168,3 +168,76 @@ def test_connection_errors_do_not_show_the_password(cli, tmp_path, address):
     assert from_env.exit_code == 1
     seen.extend([from_env.stdout, from_env.stderr])
     _assert_nowhere(seen, tmp_path, PASSWORD, "Sec@")
+
+
+QUERY_SECRET = "S3cr3tPa55"
+
+
+@needs_postgres
+def test_a_password_in_the_query_string_is_never_shown_or_stored(cli, tmp_path):
+    # libpq takes "password" as a connection parameter; the test server trusts local
+    # connections and ignores it
+    schema = "rbsecret_" + uuid.uuid4().hex[:12]
+    admin_url = "postgresql+psycopg://" + PG_URL.split("://", 1)[1]
+    admin = create_engine(admin_url, isolation_level="AUTOCOMMIT")
+    with admin.connect() as connection:
+        connection.execute(text(f'CREATE SCHEMA "{schema}"'))
+    separator = "&" if "?" in PG_URL else "?"
+    url = f"{PG_URL}{separator}password={QUERY_SECRET}&options=-csearch_path%3D{schema}"
+    seen: list[str] = []
+    try:
+        created = cli(url, "init")
+        assert created.exit_code == 0, created.stderr
+        assert "password=***" in created.stdout
+        seen += [created.stdout, created.stderr]
+        source = str(tmp_path / "source.db")
+        assert cli(source, "init").exit_code == 0
+        assert cli(source, "backup", str(tmp_path / "b.db")).exit_code == 0
+        restored = cli(url, "restore", str(tmp_path / "b.db"))
+        assert restored.exit_code == 0, restored.stderr
+        assert "password=***" in restored.stdout
+        refused = cli(url, "backup", str(tmp_path / "pg.db"))
+        assert refused.exit_code == 1
+        assert "password=***" in refused.stderr
+        (tmp_path / "out").mkdir()
+        exported = cli(url, "export", str(tmp_path / "out" / "m.csv"), "--leave-out-gaps")
+        assert exported.exit_code == 0, exported.stderr
+        descriptor = (tmp_path / "out" / "m.resource.json").read_text(encoding="utf-8")
+        assert "password=***" in descriptor
+        history = cli(url, "history", "--json")
+        seen += [restored.stdout, refused.stderr, exported.stdout, history.stdout]
+        traced = _ratebank("--traceback", "--db", url, "species", "show", "XYZ")
+        seen += [traced.stdout, traced.stderr]
+        unreachable = url.replace("127.0.0.1:5432", "127.0.0.1:1")
+        for command in (["init"], ["species", "list"]):
+            failed = cli(unreachable, *command)
+            assert failed.exit_code == 1
+            seen += [failed.stdout, failed.stderr]
+        with admin.connect() as connection:
+            rows = connection.execute(text(f'SELECT * FROM "{schema}".audit')).all()
+        seen.extend(repr(row) for row in rows)
+        _assert_nowhere(seen, tmp_path, QUERY_SECRET)
+    finally:
+        with admin.connect() as connection:
+            connection.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
+        admin.dispose()
+
+
+@pytest.mark.parametrize(
+    "address",
+    [
+        "postgresql://curator@db.example/kin?password={pw}",
+        "postgresql://curator@db.example/kin?sslmode=require&sslpassword={pw}",
+        "postgresql://curator@db.example:notaport/kin?password={pw}",
+        "postgresql://curator@db.example/kin?api_token={pw}&password={pw}",
+    ],
+    ids=["password", "sslpassword", "unparseable", "token"],
+)
+def test_query_secrets_are_masked_everywhere_an_address_is_shown(address):
+    from ratebank.store.engine import database_url, mask_url, redact
+
+    url = address.format(pw=QUERY_SECRET)
+    masked = mask_url(database_url(url))
+    assert QUERY_SECRET not in masked
+    assert "=***" in masked
+    assert redact(f"connection failed for {url}", url).count(QUERY_SECRET) == 0

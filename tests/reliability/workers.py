@@ -15,6 +15,11 @@ writer DB SECONDS OUT
 slow-export DB OUT_CSV
     Run ``ratebank export`` on a disk that never finishes syncing (``os.fsync``
     sleeps), so that the test can kill it while the temporary files exist.
+kill-init STEP DB
+    Run ``ratebank init`` and kill the process (SIGKILL) right after STEP: ``locked``,
+    ``migrated``, ``recorded`` (inside the one init transaction), ``history`` (before a
+    separate history write, if init makes one) or ``committed`` (after the schema change
+    is committed).
 unprivileged WARM_DB UID ARGS...
     Run ``ratebank ARGS`` as user UID (from root), after loading every module it
     needs by running the same command on the scratch store WARM_DB.
@@ -53,9 +58,9 @@ def curate_worker(
     from sqlalchemy import select
 
     from ratebank.errors import ConflictError
-    from ratebank.services import curate
-    from ratebank.services.editing import edit_expression
+    from ratebank.services.expressions import edit_expression
     from ratebank.services.fitting import fit_reactions
+    from ratebank.services.measurement_import import import_measurements
     from ratebank.services.steric import set_class_rule
     from ratebank.services.store_access import open_store
     from ratebank.store.models import Expression, StericRule
@@ -77,7 +82,7 @@ def curate_worker(
             name = f"w{worker}-set{i}"
             columns, lines = _points(name, "oh-ch4", SET_POINTS, seed=worker * 100_000 + i)
             with store.session(write=True) as session:
-                summary = curate.import_measurements(session, columns, lines, source=name)
+                summary = import_measurements(session, columns, lines, source=name)
             report["sets"].append(name)
             report["points"] += summary.added
 
@@ -124,7 +129,7 @@ def curate_worker(
 
 
 def writer(db: str, seconds: float, out: Path) -> None:
-    from ratebank.services import curate
+    from ratebank.services.measurement_import import import_measurements
     from ratebank.services.store_access import open_store
 
     store = open_store(db, author="writer")
@@ -136,7 +141,7 @@ def writer(db: str, seconds: float, out: Path) -> None:
             name = f"live-{committed}"
             columns, lines = _points(name, "oh-ch4", 50, seed=committed)
             with store.session(write=True) as session:
-                curate.import_measurements(session, columns, lines, source=name)
+                import_measurements(session, columns, lines, source=name)
             committed += 1
             # replaced whole, so that the test never reads a half-written number
             Path(f"{out}.progress.tmp").write_text(str(committed), encoding="utf-8")
@@ -154,6 +159,50 @@ def slow_export(db: str, out_csv: str) -> None:
     from ratebank.cli.app import app
 
     app(["--db", db, "export", out_csv, "--leave-out-gaps"], prog_name="ratebank")
+
+
+def kill_init(step: str, db: str) -> None:
+    import signal
+
+    from ratebank.services import store_access
+    from ratebank.store import audit, schema
+
+    def kill() -> None:
+        os.kill(os.getpid(), signal.SIGKILL)
+
+    def after(module, name: str, at: str) -> None:  # type: ignore[no-untyped-def]
+        function = getattr(module, name, None)
+        if function is None:
+            return
+
+        def wrapped(*args, **kwargs):  # type: ignore[no-untyped-def]
+            result = function(*args, **kwargs)
+            if step == at:
+                kill()
+            return result
+
+        setattr(module, name, wrapped)
+
+    for name, at in (
+        ("_lock_for_init", "locked"),
+        ("_migrate", "migrated"),
+        ("_record_init", "recorded"),
+    ):
+        after(schema, name, at)
+    # the whole creation or upgrade, committed (whichever function init uses for it)
+    for name in ("initialise_store", "upgrade_store"):
+        after(store_access, name, "committed")
+    record = audit.record
+
+    def record_or_kill(session, action, target, **detail):  # type: ignore[no-untyped-def]
+        if step == "history" and action.startswith("store."):
+            kill()
+        return record(session, action, target, **detail)
+
+    audit.record = record_or_kill
+    from ratebank.cli.app import app
+
+    app(["--db", db, "init"], prog_name="ratebank")
 
 
 def unprivileged(warm_db: str, uid: int, args: list[str]) -> None:
@@ -203,6 +252,8 @@ def main(argv: list[str]) -> None:
         writer(db, float(seconds), Path(out))
     elif mode == "slow-export":
         slow_export(*args)
+    elif mode == "kill-init":
+        kill_init(*args)
     elif mode == "unprivileged":
         warm_db, uid, *rest = args
         unprivileged(warm_db, int(uid), rest)

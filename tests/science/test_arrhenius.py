@@ -574,3 +574,61 @@ def test_compare_forms_batch_agrees_with_compare_forms_group_by_group():
         assert bool(choice.supported[label]) == single.supported
         assert choice.reason[label] == single.reason
     assert choice.supported[0] and not choice.supported[1] and not choice.supported[2]
+
+
+# --------------------------------------------------------------------------- fit_groups
+
+
+def _two_sets_a_factor_two_apart():
+    """Synthetic: two sets of 6 points at 250-400 K, the second 2x the first, each at 5 %."""
+    T = np.tile(np.linspace(250.0, 400.0, 6), 2)
+    k = 1.0e9 * np.exp(-1200.0 / T) * np.repeat([1.0, 2.0], 6)
+    return T, k, np.full(12, 0.05), np.zeros(12, dtype=int), np.repeat([1, 2], 6)
+
+
+def test_fit_groups_pools_disagreeing_sets_with_their_between_set_variance():
+    from ratebank.science.uncertainty import uncertainty_factor_from_covariance
+
+    T, k, sigma, group, sets = _two_sets_a_factor_two_apart()
+    fits = arrhenius.fit_groups(T, k, sigma, group, sets=sets, form="arrhenius")
+    # DerSimonian-Laird on the two set offsets (+-ln2/2, variance 0.05^2/6 each):
+    # tau^2 = (ln 2)^2/2 - 0.05^2/6 (hand calculation, DerSimonian & Laird 1986)
+    assert fits.between_set_variance[0] == pytest.approx(np.log(2) ** 2 / 2 - 0.05**2 / 6, rel=1e-6)
+    f298 = uncertainty_factor_from_covariance(298.0, fits.covariance[0])
+    assert f298 >= 1.4  # the issue's target: two sets 2x apart at +-5 % give f(298) >= 1.4
+    assert fits.n_sets.tolist() == [2]
+
+
+def test_fit_groups_without_sets_admits_the_scatter():
+    """One set whose points scatter 30 % with 5 % stated: the covariance is scaled by the
+    reduced chi-square, and equals scipy.optimize.curve_fit(..., absolute_sigma=False)."""
+    from scipy.optimize import curve_fit
+
+    rng = np.random.default_rng(7)  # synthetic data
+    T = np.linspace(300.0, 800.0, 20)
+    ln_k = np.log(3.0e8) - 1500.0 / T + rng.normal(0.0, 0.3, T.size)
+    sigma = np.full(T.size, 0.05)
+    fits = arrhenius.fit_groups(T, np.exp(ln_k), sigma, np.zeros(T.size), form="arrhenius")
+    assert fits.covariance_scale[0] == pytest.approx(fits.reduced_chi_square[0])
+    assert "scatter-above-stated" in {w.code for w in fits.warnings[0]}
+
+    def model(T, ln_A, Ea):
+        return ln_A - Ea / (R * T)
+
+    popt, pcov = curve_fit(model, T, ln_k, p0=[20.0, 1e4], sigma=sigma, absolute_sigma=False)
+    assert fits.Ea[0] == pytest.approx(popt[1], rel=1e-8)
+    cov = fits.covariance[0][np.ix_([0, 2], [0, 2])]
+    assert cov == pytest.approx(pcov, rel=1e-6)
+
+
+def test_fit_groups_leaves_consistent_data_alone():
+    """Exact data stated at 5 %: no between-set variance, no scaling; the scatter is far
+    below the stated uncertainty, which is said."""
+    T = np.tile(np.linspace(300.0, 600.0, 5), 2)
+    k = 2.0e8 * np.exp(-900.0 / T)
+    fits = arrhenius.fit_groups(
+        T, k, np.full(10, 0.05), np.zeros(10), sets=np.repeat([0, 1], 5), form="arrhenius"
+    )
+    assert fits.between_set_variance[0] == 0.0 and fits.covariance_scale[0] == 1.0
+    assert [w.code for w in fits.warnings[0]] == ["scatter-below-stated"]
+    assert fits.A[0] == pytest.approx(2.0e8, rel=1e-10)

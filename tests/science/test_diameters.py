@@ -224,21 +224,48 @@ def test_non_positive_input_is_refused():
             "REFERENCE-CHECKS s6 (+22-42 % error); README, Estimates and steric factors",
         ),
         ("D2", "quantum gas", "common practice"),
-        ("H2O", "strongly polar", "REFERENCE-CHECKS s6 (+19-33 % error); common practice"),
-        ("NH3", "strongly polar", "common practice"),
-        ("HCl", "strongly polar", "common practice"),
     ],
 )
-def test_species_outside_the_correlations_are_refused(formula, reason, source):
+def test_quantum_gases_are_refused(formula, reason, source):
     assert reason in outside_correlations(formula)
     with pytest.raises(
         DiameterError,
-        match=f"The diameter correlations do not apply: {formula} is (a|strongly).*; "
+        match=f"The diameter correlations do not apply: {formula} is a quantum gas.*; "
         "enter a measured or tabulated diameter instead.",
     ):
         estimate_diameter(Tc=33.145, Pc=1296400.0, formula=formula)
     with pytest.raises(DiameterError, match="enter a measured or tabulated well depth"):
         estimate_well_depth(Tc=33.145, formula=formula)
+
+
+#: Dipole moments [D], CRC Handbook of Chemistry and Physics, "Dipole moments" table
+#: (from memory, +-0.05 D); polarity is decided by the value, not the name.
+DIPOLES = [
+    ("H2O", 1.85, "REFERENCE-CHECKS s6 (+19-33 % error); CRC (from memory)"),
+    ("NH3", 1.47, "CRC (from memory)"),
+    ("HCl", 1.11, "CRC (from memory)"),
+    ("SO2", 1.63, "CRC (from memory); a name list used to let it pass"),
+    ("CH2O", 2.33, "CRC (from memory); a name list used to let it pass"),
+]
+
+
+@pytest.mark.parametrize(("formula", "debye", "source"), DIPOLES)
+def test_strongly_polar_molecules_are_refused_by_their_dipole_moment(formula, debye, source):
+    from ratebank.science.diameters import DEBYE
+
+    assert "strongly polar" in outside_correlations(formula, debye * DEBYE)
+    with pytest.raises(DiameterError, match="strongly polar"):
+        estimate_diameter(Tc=400.0, Pc=6e6, formula=formula, dipole_moment=debye * DEBYE)
+    with pytest.raises(DiameterError, match="strongly polar"):
+        estimate_well_depth(Tc=400.0, formula=formula, dipole_moment=debye * DEBYE)
+
+
+def test_one_debye_is_exact():
+    """1 D = 1e-21 / c C m = 3.33564095e-30 C m (exact, IUPAC Green Book)."""
+    from ratebank.science.diameters import DEBYE
+
+    assert DEBYE == pytest.approx(3.33564095e-30, rel=1e-9)
+    assert outside_correlations("CO", 0.11 * DEBYE) is None  # CRC (from memory): 0.11 D
 
 
 @pytest.mark.parametrize("formula", ["N2", "CH4", "C3H8", None])

@@ -16,7 +16,7 @@ import pytest
 from helpers.cli import run, write
 from scipy import constants
 
-from ratebank.errors import NotFoundError, RatebankError, UnitError
+from ratebank.errors import BadInputError, NotFoundError, RatebankError, UnitError
 from ratebank.services.plot_data import (
     GRID_POINTS,
     SPAN_MARGIN,
@@ -209,23 +209,28 @@ def test_fit_line_is_the_stored_measured_fit(db, session):
     assert chosen.inside.any() and not chosen.inside.all()
 
 
-def test_band_contains_the_line_and_widens_outside_the_measured_range(db, session):
+def test_band_is_the_panels_factor_and_covers_the_fit(db, session):
     (data,) = arrhenius_plot_data(session, ["oh-ch4"], preset="combustion")
     chosen = data.chosen
     assert np.all(chosen.k_low < chosen.k) and np.all(chosen.k < chosen.k_high)
     ratio = chosen.k_high / chosen.k
     np.testing.assert_allclose(chosen.k / chosen.k_low, ratio, rtol=1e-12)
-    middle = np.argmin(np.abs(chosen.T - math.sqrt(300.0 * 1200.0)))
-    assert ratio[0] > ratio[middle] and ratio[-1] > ratio[middle]
+    assert np.all(np.diff(ratio[chosen.T >= 298.0]) >= -1e-12)  # never narrows above 298 K
     assert data.t_span[0] < 300.0 and data.t_span[1] > 1200.0
 
-    # independent: f = exp(sqrt(g C g)), g = (1, ln T, -1/RT), C the stored covariance
+    # the band is f(T) = f298 exp|g (1/T - 1/298)| (the evaluation panels' form) ...
     fit = next(e for e in stored_expressions(db, "oh-ch4") if e["origin"] == "measured-fit")
-    covariance = np.array(fit["provenance"]["covariance"])
     T = chosen.T
+    panel = fit["uncertainty_factor"] * np.exp(
+        np.abs((fit["uncertainty_g_K"] or 0.0) * (1 / T - 1 / 298.0))
+    )
+    np.testing.assert_allclose(ratio, panel, rtol=1e-9)
+    # ... which covers f = exp(sqrt(g C g)), g = (1, ln T, -1/RT), over the fitted range
+    covariance = np.array(fit["provenance"]["covariance"])
+    inside = (T >= 300.0) & (T <= 1200.0)
     gradient = np.stack([np.ones_like(T), np.log(T), -1 / (constants.R * T)], axis=1)
     f = np.exp(np.sqrt(np.einsum("ti,ij,tj->t", gradient, covariance, gradient)))
-    np.testing.assert_allclose(ratio, f, rtol=1e-9)
+    assert np.all(ratio[inside] >= f[inside] * (1 - 1e-9))
 
 
 def test_other_expressions_are_listed_with_their_own_range(session):
@@ -382,6 +387,16 @@ def test_steric_data_refuse_when_nothing_was_derived(session):
         steric_plot_data(session, "hard-sphere", reaction_class="ho2-self")
     assert str(raised.value) == (
         "no steric factors to plot: no bimolecular reaction of class 'ho2-self' has a "
-        "measured fit and collision data (import measurements and diameters, then run "
-        "`ratebank fit`)"
+        "measured fit and collision data (import measurements and diameters, then fit them)"
+    )
+
+
+def test_bad_input_names_its_argument(session):
+    with pytest.raises(BadInputError) as no_keys:
+        arrhenius_plot_data(session, [])
+    with pytest.raises(BadInputError) as backwards:
+        arrhenius_plot_data(session, ["oh-ch4"], t_range=(1000.0, 300.0))
+    assert (no_keys.value.argument, backwards.value.argument) == ("keys", "t_range")
+    assert str(backwards.value) == (
+        "t_range 1000 300 must be two temperatures above 0 K, the lower first"
     )

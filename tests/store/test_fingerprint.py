@@ -3,13 +3,15 @@
 from __future__ import annotations
 
 import json
+import os
 import sqlite3
 
 import numpy as np
 import pytest
 from helpers.cli import run, write
-from helpers.data import EXPRESSIONS_CSV, REACTIONS_CSV, SPECIES_CSV
+from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
 
+from ratebank.services.steric import set_class_rule
 from ratebank.services.store_access import open_store
 from ratebank.store.fingerprint import _column_bytes, store_fingerprint
 
@@ -23,7 +25,10 @@ def filled(sqlite_url, tmp_path):
         ("expressions", "expressions.csv", EXPRESSIONS_CSV),
     ):
         assert run(sqlite_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
-    assert run(sqlite_url, "estimate", "--keep-going", "--steric", "0.2").exit_code == 0
+    assert (
+        run(sqlite_url, "estimate", "--keep-going", "--steric", "0.2", "--t-ref", "300").exit_code
+        == 0
+    )
     return sqlite_url
 
 
@@ -100,3 +105,40 @@ def test_values_of_an_unexpected_type_still_hash():
     assert _column_bytes("text", ["a", 5]).startswith(b"t")
     assert _column_bytes("float", [1.0, "abc"]).startswith(b"t")
     assert _column_bytes("integer", [1, b"\x00"]) != _column_bytes("integer", [1, 0])
+
+
+def test_fingerprint_follows_content_not_reads(filled):
+    store = open_store(filled)
+    with store.session() as session:
+        first = store_fingerprint(session)
+        again = store_fingerprint(session)
+    assert first == again and first.startswith("sha256:")
+    with store.session(write=True) as session:
+        set_class_rule(session, "x", 0.1)
+    with store.session() as session:
+        assert store_fingerprint(session) != first
+    store.close()
+
+
+@pytest.mark.skipif(not os.environ.get("RATEBANK_TEST_PG_URL"), reason="needs PostgreSQL")
+def test_fingerprint_is_the_same_on_sqlite_and_postgresql(tmp_path):
+    """The same imports into both dialects give the same content fingerprint."""
+    from helpers.pg import scratch_schema
+
+    prints = []
+    with scratch_schema() as pg_url:
+        for url in (str(tmp_path / "fp.db"), pg_url):
+            assert run(url, "init").exit_code == 0
+            for command, name, content in (
+                ("species", "s.csv", SPECIES_CSV),
+                ("reactions", "r.csv", REACTIONS_CSV),
+                ("data", "m.csv", MEASUREMENTS_CSV),
+                ("expressions", "e.csv", EXPRESSIONS_CSV),
+            ):
+                path = write(tmp_path / name, content)
+                assert run(url, command, "import", str(path)).exit_code == 0
+            handle = open_store(url)
+            with handle.session() as session:
+                prints.append(store_fingerprint(session))
+            handle.close()
+    assert prints[0] == prints[1]

@@ -1,0 +1,655 @@
+"""The front door: ``ratebank.open(path_or_url)`` and the :class:`Store` it returns.
+
+Every command of the ``ratebank`` command line is a thin call of one method of
+:class:`Store`, or of one of the module's functions for what works on a store
+that cannot be opened yet (:func:`init`, :func:`backup`, :func:`restore`,
+:func:`demo`), so the library and the command line cannot drift apart.
+Methods take and return plain typed values (dataclasses, named tuples, numpy
+arrays) in SI units unless a unit is named, and raise the errors of
+:mod:`ratebank.errors`.
+
+>>> import ratebank
+>>> with ratebank.open("group.db") as store:          # doctest: +SKIP
+...     report = store.fit(form="auto")
+...     k = store.rate("oh-ch4", [298.0, 1000.0], k_units="cm3/molecule/s")
+
+Start-up stays fast: a method loads the modules it needs when it is first
+called (:func:`_service` and :func:`_module`, the one place of lazy loading),
+so that a listing does not import the numerics it does not use.
+"""
+
+from __future__ import annotations
+
+import importlib
+import numbers
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
+from dataclasses import dataclass
+from pathlib import Path
+from types import ModuleType
+from typing import TYPE_CHECKING, Any, Generic, TypeVar
+
+from sqlalchemy.orm import Session
+
+from ratebank.errors import BadInputError
+from ratebank.services.progress import Progress
+from ratebank.services.store_access import StoreHandle, init_store, open_store
+
+if TYPE_CHECKING:
+    from ratebank.io.demo import DemoResult
+    from ratebank.io.export import ExportResult
+    from ratebank.report.plots import PlotFile
+    from ratebank.services.backup import BackupResult, RestoreResult
+    from ratebank.services.checks import CheckReport
+    from ratebank.services.estimation import EstimateReport
+    from ratebank.services.expressions import ExpressionEdit
+    from ratebank.services.fitting import FitReport
+    from ratebank.services.mechanism import MechanismTable, RateReport
+    from ratebank.services.overview import ReactionOverview
+    from ratebank.services.plot_data import ReactionPlotData, StericPlotData
+    from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
+    from ratebank.services.validate import ImportSummary
+    from ratebank.store.listings import (
+        ExpressionSummary,
+        HistoryEntry,
+        ReactionDetail,
+        ReactionSummary,
+        SetSummary,
+        SpeciesDetail,
+        SpeciesSummary,
+    )
+    from ratebank.store.queries import ExpressionRow
+    from ratebank.store.schema import InitResult
+
+__all__ = ["PlotResult", "Store", "backup", "demo", "init", "open", "restore"]
+
+
+def _service(name: str) -> ModuleType:
+    """The service module ``ratebank.services.<name>``, imported on first use."""
+    return importlib.import_module(f"ratebank.services.{name}")
+
+
+def _module(name: str) -> ModuleType:
+    """A module of ``ratebank`` imported on first use (io and report, for the same reason)."""
+    return importlib.import_module(f"ratebank.{name}")
+
+
+def _keys(keys: Sequence[str] | None) -> list[str] | None:
+    # A lone string is one key, not a sequence of one-letter keys.
+    if isinstance(keys, str):
+        return [keys]
+    return list(keys) if keys else None
+
+
+def _cell(value: object) -> str | None:
+    """A keyword value as the species file would hold it (numbers at full precision)."""
+    if value is None or isinstance(value, str):
+        return value
+    if isinstance(value, numbers.Real) and not isinstance(value, bool):
+        return repr(float(value))
+    raise BadInputError(f"{value!r} is neither a number nor text")
+
+
+Data = TypeVar("Data")
+
+
+@dataclass(frozen=True)
+class PlotResult(Generic[Data]):
+    """A written plot and the numbers drawn in it.
+
+    Attributes
+    ----------
+    file : ratebank.report.plots.PlotFile
+        The file written: path, format and size.
+    data : list of ReactionPlotData, or StericPlotData
+        What was drawn, as :meth:`Store.arrhenius_plot_data` or
+        :meth:`Store.steric_plot_data` give it.
+    """
+
+    file: PlotFile
+    data: Data
+
+
+class Store:
+    """An open ratebank store (a SQLite file or a PostgreSQL database).
+
+    Use :func:`ratebank.open` to get one; close it with :meth:`close` or a
+    ``with`` block. Each method runs in one transaction of its own: a method
+    that writes either writes everything or nothing.
+    """
+
+    def __init__(self, handle: StoreHandle):
+        self._handle = handle
+
+    # ------------------------------------------------------------------ the store
+
+    @property
+    def address(self) -> str:
+        """The store's path or URL, with any password masked."""
+        return self._handle.display_url
+
+    @property
+    def author(self) -> str:
+        """The name recorded in the history for this store's changes."""
+        return self._handle.author
+
+    def close(self) -> None:
+        """Release the store's connections; the object cannot be used afterwards."""
+        self._handle.close()
+
+    def __enter__(self) -> Store:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def __repr__(self) -> str:
+        return f"<ratebank.Store {self.address}>"
+
+    @contextmanager
+    def session(self, *, write: bool = False) -> Iterator[Session]:
+        """One transaction on the store, for code that composes the services itself."""
+        with self._handle.session(write=write) as session:
+            yield session
+
+    def _read(self, service: str, function: str, *args: Any, **kwargs: Any) -> Any:
+        with self._handle.session() as session:
+            return getattr(_service(service), function)(session, *args, **kwargs)
+
+    def _write(self, service: str, function: str, *args: Any, **kwargs: Any) -> Any:
+        with self._handle.session(write=True) as session:
+            return getattr(_service(service), function)(session, *args, **kwargs)
+
+    def _import(self, function: str, path: str | Path, *, dry_run: bool, **kwargs: Any) -> Any:
+        """An import file read by ``ratebank.io.csv_import.<function>``; a dry run writes
+        nothing and takes no write lock."""
+        reader = getattr(_module("io.csv_import"), function)
+        with self._handle.session(write=not dry_run) as session:
+            summary = reader(session, Path(path), dry_run=dry_run, **kwargs)
+            if dry_run:
+                session.rollback()
+        return summary
+
+    # ------------------------------------------------------------------ species
+
+    def import_species(
+        self, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+    ) -> ImportSummary:
+        """Import species from a CSV file, all or nothing; an ImportSummary.
+
+        ImportValidationError lists every problem of the file (nothing is written).
+        """
+        return self._import("import_species_file", path, dry_run=dry_run, progress=progress)
+
+    def add_species(self, name: str, formula: str, **fields: float | str | None) -> ImportSummary:
+        """Add one species, checked exactly as an imported one; an ImportSummary.
+
+        ``fields`` are the species file's columns, whose names carry the unit
+        (``molar_mass_g_per_mol``, ``diameter_angstrom``, ``diameter_kind``,
+        ``well_depth_K``, ``critical_temperature_K``, ``critical_pressure_bar``,
+        ``acentric_factor``, ``boiling_volume_cm3_per_mol``, ``source``).
+        """
+        columns = [c for c in _service("validate").SPECIES_COLUMNS if c not in ("name", "formula")]
+        unknown = sorted(set(fields) - set(columns))
+        if unknown:
+            expected = ", ".join(columns)
+            raise BadInputError(
+                f"unknown species field {unknown[0]!r}; expected some of {expected}",
+                argument=unknown[0],
+            )
+        cells = {column: _cell(value) for column, value in fields.items()}
+        return self._write("species", "add_species", name=name, formula=formula, **cells)
+
+    def species(
+        self, *, missing_diameter: bool | None = None, name_contains: str | None = None
+    ) -> list[SpeciesSummary]:
+        """Species by name; only those without (True) or with (False) a diameter, or whose
+        name contains ``name_contains``, when given; a list of SpeciesSummary (SI units)."""
+        return self._read(
+            "species", "list_species",
+            missing_diameter=missing_diameter, name_contains=name_contains,
+        )  # fmt: skip
+
+    def species_detail(self, name: str) -> SpeciesDetail:
+        """One species and the reactions it takes part in; a SpeciesDetail.
+
+        For a species without a diameter, its ``estimated_diameter`` is the
+        estimate collision theory would use (not stored).
+        """
+        return self._read("partners", "species_detail", name)
+
+    # ------------------------------------------------------------------ reactions
+
+    def import_reactions(
+        self, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+    ) -> ImportSummary:
+        """Import reactions from a CSV file, all or nothing; an ImportSummary."""
+        return self._import("import_reactions_file", path, dry_run=dry_run, progress=progress)
+
+    def add_reaction(
+        self,
+        key: str,
+        equation: str,
+        *,
+        reaction_class: str | None = None,
+        notes: str | None = None,
+    ) -> ImportSummary:
+        """Add one reaction, checked for known species and element balance; an ImportSummary."""
+        return self._write(
+            "reactions", "add_reaction", key, equation, reaction_class=reaction_class, notes=notes
+        )
+
+    def reactions(
+        self,
+        *,
+        species: str | None = None,
+        reaction_class: str | None = None,
+        status: str | None = None,
+    ) -> list[ReactionSummary]:
+        """Reactions by key, with what the store knows of each; only those involving
+        ``species``, of ``reaction_class``, or of ``status`` (``measured``, ``complete``,
+        ``ea-only``, ``nothing``), when given; a list of ReactionSummary."""
+        return self._read(
+            "reactions", "list_reactions",
+            species=species, reaction_class=reaction_class, status=status,
+        )  # fmt: skip
+
+    def reaction(self, key_or_equation: str) -> ReactionDetail:
+        """One reaction, found by its key or any spelling of its equation, with its
+        participants, measurement sets, expressions and recent history; a ReactionDetail."""
+        return self._read("reactions", "show_reaction", key_or_equation)
+
+    def reaction_overview(
+        self, key_or_equation: str, *, temperatures: Sequence[float] | None = None
+    ) -> ReactionOverview:
+        """One reaction with k [SI] of each complete expression at ``temperatures`` [K]
+        (default: a grid over its ranges), its steric factors and check flags; a
+        ReactionOverview."""
+        return self._read(
+            "overview", "reaction_overview", key_or_equation,
+            temperatures=None if temperatures is None else list(temperatures),
+        )  # fmt: skip
+
+    # ------------------------------------------------------------------ measurements
+
+    def import_measurements(
+        self,
+        path: str | Path,
+        *,
+        k_units: str | None = None,
+        dry_run: bool = False,
+        progress: Progress | None = None,
+    ) -> ImportSummary:
+        """Import measured k(T) points from a CSV file, all or nothing; an ImportSummary.
+
+        ``k_units`` is the unit of k for rows whose ``k_units`` cell is empty.
+        """
+        return self._import(
+            "import_measurements_file", path, dry_run=dry_run, k_units=k_units, progress=progress
+        )
+
+    def measurement_sets(self, *, reaction: str | None = None) -> list[SetSummary]:
+        """Measurement sets with their point counts and temperature ranges [K]; only those of
+        ``reaction`` (a key or equation) when given; a list of SetSummary."""
+        return self._read("measurements", "list_sets", reaction=reaction)
+
+    # ------------------------------------------------------------------ expressions
+
+    def import_expressions(
+        self, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+    ) -> ImportSummary:
+        """Import literature or hand-entered expressions from a CSV file, all or nothing;
+        an ImportSummary."""
+        return self._import("import_expressions_file", path, dry_run=dry_run, progress=progress)
+
+    def expressions(
+        self, *, reaction: str | None = None, origin: str | None = None
+    ) -> list[ExpressionSummary]:
+        """Stored expressions in SI units; only those of ``reaction`` (a key or equation) or of
+        ``origin`` (``measured-fit``, ``literature``, ``collision-estimate``, ``manual``) when
+        given; a list of ExpressionSummary."""
+        return self._read("expressions", "list_expressions", reaction=reaction, origin=origin)
+
+    def edit_expression(
+        self,
+        expression_id: int,
+        *,
+        expected_version: int,
+        A: float | None = None,
+        k_units: str | None = None,
+        n: float | None = None,
+        Ea: float | None = None,
+        Ea_units: str | None = None,
+        T_min: float | None = None,
+        T_max: float | None = None,
+        uncertainty_factor: float | None = None,
+        reference: str | None = None,
+    ) -> ExpressionEdit:
+        """Change a literature or hand-entered expression; None leaves a field as it is.
+
+        ``A`` is in ``k_units`` times K^-n, ``Ea`` in ``Ea_units``, ``T_min`` and
+        ``T_max`` in K. Refused with StaleEditError unless ``expected_version`` is
+        the version read. Returns an ExpressionEdit: the new version and each
+        changed field's (before, after) in SI units.
+        """
+        return self._write(
+            "expressions", "edit_expression", expression_id,
+            expected_version=expected_version, A=A, n=n, Ea=Ea, Ea_units=Ea_units,
+            k_units=k_units, T_min=T_min, T_max=T_max,
+            uncertainty_factor=uncertainty_factor, reference=reference,
+        )  # fmt: skip
+
+    def history(
+        self, *, limit: int = 50, target: str | None = None, author: str | None = None
+    ) -> list[HistoryEntry]:
+        """The newest ``limit`` audit entries, newest first; only those about ``target`` (a file
+        or key) or by ``author`` when given; a list of HistoryEntry."""
+        return self._read("history", "list_history", limit=limit, target=target, author=author)
+
+    # ------------------------------------------------------------------ kinetics
+
+    def fit(
+        self,
+        keys: Sequence[str] | None = None,
+        *,
+        form: str = "auto",
+        fixed_n: float | None = None,
+        progress: Progress | None = None,
+    ) -> FitReport:
+        """Fit the measured sets of the reactions (all measured ones by default) and store each
+        fit; a FitReport (SI units)."""
+        return self._write(
+            "fitting", "fit_reactions", _keys(keys),
+            form=form, fixed_n=fixed_n, progress=progress,
+        )  # fmt: skip
+
+    def estimate(
+        self,
+        keys: Sequence[str] | None = None,
+        *,
+        steric: float | None = None,
+        T_ref: float | None = None,
+        collision: str = "hard-sphere",
+        reaction_class: str | None = None,
+        fallback_steric: float | None = None,
+        uncertainty_factor: float | None = None,
+        T_range: tuple[float, float] | None = None,
+        keep_going: bool = False,
+        progress: Progress | None = None,
+    ) -> EstimateReport:
+        """Fill missing A factors from collision theory times a steric factor; an
+        EstimateReport (RefusedEstimateError when some cannot be estimated, unless
+        ``keep_going``).
+
+        ``T_ref`` [K] is where the activation energies hold; without it, the middle of
+        each activation energy's stated range.
+        """
+        return self._write(
+            "estimation", "estimate", _keys(keys),
+            steric=steric, T_ref=T_ref, collision=collision, reaction_class=reaction_class,
+            fallback_steric=fallback_steric, uncertainty_factor=uncertainty_factor,
+            T_range=T_range, keep_going=keep_going, progress=progress,
+        )  # fmt: skip
+
+    def check(
+        self,
+        keys: Sequence[str] | None = None,
+        *,
+        T_range: tuple[float, float] | None = None,
+        ignore: Sequence[str] | None = None,
+        collision: str | None = None,
+    ) -> CheckReport:
+        """Check the expressions (of ``keys``, default all) against physical limits; a
+        CheckReport (``clean`` when nothing is flagged and everything was checked)."""
+        return self._read(
+            "checks", "check_store",
+            T_range=T_range, ignore=list(ignore) if ignore else None,
+            keys=_keys(keys), collision=collision,
+        )  # fmt: skip
+
+    def rate(
+        self,
+        key: str,
+        temperatures: Sequence[float],
+        *,
+        k_units: str | None = None,
+        preset: str = "combustion",
+    ) -> RateReport:
+        """k at the temperatures [K] from the expression that would be exported, in
+        ``k_units`` (default: the preset's unit for the reaction's order); a RateReport."""
+        return self._read(
+            "mechanism", "rate", key, list(temperatures),
+            k_units=k_units, preset=preset,
+        )  # fmt: skip
+
+    def recommend(self, key: str, expression_id: int) -> ExpressionRow:
+        """Mark the expression the export should use for a reaction; the ExpressionRow."""
+        return self._write("selection", "recommend", key, expression_id)
+
+    def mechanism_table(
+        self,
+        *,
+        preset: str | None = "combustion",
+        k_units: str | None = None,
+        e_units: str | None = None,
+        form: str = "modified",
+        linearise_at: float | None = None,
+        leave_out_gaps: bool = False,
+    ) -> MechanismTable:
+        """The rows the export would write, in the chosen units (nothing is written); a
+        MechanismTable."""
+        units = _service("mechanism").export_units(preset, k_units, e_units)
+        return self._read(
+            "mechanism", "mechanism_table",
+            units=units, form=form, linearise_at=linearise_at, leave_out_gaps=leave_out_gaps,
+        )  # fmt: skip
+
+    def export(
+        self,
+        out: str | Path,
+        *,
+        preset: str | None = "combustion",
+        k_units: str | None = None,
+        e_units: str | None = None,
+        form: str = "modified",
+        linearise_at: float | None = None,
+        leave_out_gaps: bool = False,
+    ) -> ExportResult:
+        """Write the mechanism table ``out`` (CSV) and its ``.resource.json`` descriptor, and
+        record the export in the history; an ExportResult (ExportGapsError when a reaction has
+        no usable expression, unless ``leave_out_gaps``)."""
+        export = _module("io.export")
+        with self._handle.session(write=True) as session:
+            return export.export_mechanism(
+                session,
+                Path(out),
+                preset=preset,
+                k_units=k_units,
+                e_units=e_units,
+                form=form,
+                linearise_at=linearise_at,
+                leave_out_gaps=leave_out_gaps,
+                store_label=self._handle.display_url,
+            )
+
+    # ------------------------------------------------------------------ steric factors
+
+    def steric_rules(self) -> tuple[list[RuleView], list[ReactionStericView]]:
+        """The stored steric factors: (class rules, per-reaction values)."""
+        return self._read("steric", "list_rules")
+
+    def set_class_steric(
+        self,
+        reaction_class: str,
+        steric_factor: float,
+        *,
+        uncertainty_factor: float | None = None,
+        source: str | None = None,
+        note: str | None = None,
+        expected_version: int | None = None,
+        definition: str = "local",
+    ) -> RuleView:
+        """Create or change a reaction class's steric factor; the stored rule.
+
+        ``definition`` is ``local`` (ratebank's P) or ``textbook`` (A / z, converted
+        to the local P). With ``expected_version``, a rule changed since is refused
+        (StaleEditError).
+        """
+        return self._write(
+            "steric", "set_class_rule", reaction_class, steric_factor,
+            uncertainty_factor=uncertainty_factor, source=source, note=note,
+            expected_version=expected_version, definition=definition,
+        )  # fmt: skip
+
+    def clear_class_steric(self, reaction_class: str) -> None:
+        """Remove a reaction class's steric factor."""
+        self._write("steric", "remove_class_rule", reaction_class)
+
+    def set_reaction_steric(
+        self,
+        key: str,
+        steric_factor: float,
+        *,
+        source: str | None = None,
+        definition: str = "local",
+    ) -> ReactionStericView | None:
+        """Store a steric factor on one reaction (it takes precedence over its class); the
+        stored value."""
+        return self._write(
+            "steric", "set_reaction_steric", key, steric_factor,
+            source=source, definition=definition,
+        )  # fmt: skip
+
+    def clear_reaction_steric(self, key: str) -> None:
+        """Remove the steric factor stored on one reaction."""
+        self._write("steric", "set_reaction_steric", key, None)
+
+    def derived_steric_factors(
+        self, *, collision: str = "hard-sphere", reaction_class: str | None = None
+    ) -> list[ClassSteric]:
+        """Steric factors implied by the measured fits, by class (geometric mean, spread,
+        count); a list of ClassSteric."""
+        return self._read(
+            "steric", "derived_steric_factors", model=collision, reaction_class=reaction_class
+        )
+
+    # ------------------------------------------------------------------ plots
+
+    def arrhenius_plot_data(
+        self,
+        keys: Sequence[str],
+        *,
+        preset: str = "combustion",
+        k_units: str | None = None,
+        T_range: tuple[float, float] | None = None,
+    ) -> list[ReactionPlotData]:
+        """The numbers of an Arrhenius plot of each reaction, in the display unit (numpy
+        arrays); a list of ReactionPlotData."""
+        return self._read(
+            "plot_data", "arrhenius_plot_data", _keys(keys) or [],
+            preset=preset, k_units=k_units, t_range=T_range,
+        )  # fmt: skip
+
+    def steric_plot_data(
+        self, *, collision: str = "hard-sphere", reaction_class: str | None = None
+    ) -> StericPlotData:
+        """The steric factors implied by the measured fits as arrays, by class; a
+        StericPlotData."""
+        return self._read("plot_data", "steric_plot_data", collision, reaction_class=reaction_class)
+
+    def plot(
+        self,
+        keys: Sequence[str],
+        out: str | Path,
+        *,
+        preset: str = "combustion",
+        k_units: str | None = None,
+        T_range: tuple[float, float] | None = None,
+        panels: bool = False,
+        width: float = 7.0,
+        height: float = 5.0,
+        dpi: float = 150.0,
+    ) -> PlotResult[list[ReactionPlotData]]:
+        """Write an Arrhenius plot (log10 k against 1000/T) of the reactions to ``out``
+        (``.png``, ``.svg`` or ``.pdf``); a PlotResult (the file and the plotted data).
+
+        ``width`` and ``height`` are in inches; the target is checked before the
+        store is read.
+        """
+        plots = _module("report.plots")
+        plots.check_plot_target(out, width, height, dpi)
+        data = self.arrhenius_plot_data(keys, preset=preset, k_units=k_units, T_range=T_range)
+        written = plots.render_arrhenius(
+            data, out, panels=panels, width=width, height=height, dpi=dpi
+        )
+        return PlotResult(written, data)
+
+    def steric_plot(
+        self,
+        out: str | Path,
+        *,
+        collision: str = "hard-sphere",
+        reaction_class: str | None = None,
+        width: float = 7.0,
+        height: float = 5.0,
+        dpi: float = 150.0,
+    ) -> PlotResult[StericPlotData]:
+        """Write the derived steric factors per class on a log scale to ``out``; a PlotResult
+        (the file and the plotted data)."""
+        plots = _module("report.plots")
+        plots.check_plot_target(out, width, height, dpi)
+        data = self.steric_plot_data(collision=collision, reaction_class=reaction_class)
+        written = plots.render_steric(data, out, width=width, height=height, dpi=dpi)
+        return PlotResult(written, data)
+
+    # ------------------------------------------------------------------ keeping it safe
+
+    def backup(self, target: str | Path, *, force: bool = False) -> BackupResult:
+        """Write a consistent copy of this SQLite store to ``target``; a BackupResult (see
+        :func:`backup`)."""
+        return _service("backup").backup_store(self._handle.url, target, force=force)
+
+
+def open(db: str | Path | None = None, *, author: str | None = None) -> Store:
+    """Open the store at ``db`` (a SQLite path or a database URL); a :class:`Store`.
+
+    Without ``db``, the store named by ``RATEBANK_DB`` is used, or else
+    ``./ratebank.db``. ``author`` is the name the history records (default:
+    ``RATEBANK_AUTHOR``, else the login name). A store whose schema is not this
+    ratebank's is refused with StoreRevisionError (:func:`init` upgrades it).
+    """
+    return Store(open_store(None if db is None else str(db), author=author))
+
+
+def init(db: str | Path | None = None, *, author: str | None = None) -> tuple[Store, InitResult]:
+    """Create the store, or upgrade it to this ratebank's schema (a no-op when up to date);
+    (the open :class:`Store`, an InitResult saying what was done)."""
+    handle, result = init_store(None if db is None else str(db), author=author)
+    return Store(handle), result
+
+
+def backup(db: str | Path | None, target: str | Path, *, force: bool = False) -> BackupResult:
+    """Write a consistent copy of the SQLite store ``db`` to ``target``, safe while others use
+    it; a BackupResult (path, size, revision, counts, content fingerprint).
+
+    A store of an earlier schema revision is backed up as it is (before an upgrade is
+    the time for it), which is why this takes an address rather than an open Store.
+    PostgreSQL stores are refused (use the server's pg_dump); an existing ``target`` is
+    refused unless ``force``.
+    """
+    return _service("backup").backup_store(None if db is None else str(db), target, force=force)
+
+
+def restore(
+    db: str | Path | None, source: str | Path, *, author: str | None = None
+) -> RestoreResult:
+    """Copy the backup ``source`` into the empty store ``db`` (a new file, or a database
+    after :func:`init`); a RestoreResult. A store that holds data is refused."""
+    return _service("backup").restore_store(None if db is None else str(db), source, author=author)
+
+
+def demo(db: str | Path, out: str | Path, *, author: str | None = None) -> DemoResult:
+    """Build the demo store at ``db`` from the invented scenario (every rate number in it is
+    synthetic), fit, estimate, check and export it into the folder ``out``; a DemoResult.
+    Only an earlier demo store is replaced."""
+    return _module("io.demo").run_demo(Path(db), Path(out), author=author)

@@ -1,0 +1,239 @@
+"""The one write path for rate expressions.
+
+Fits, estimates, imports and edits all write expressions through here: the
+caller hands over :class:`ExpressionRecord` objects (origin, parameters, range,
+uncertainty, provenance); this module fills the defaults, encodes the
+provenance, writes every record in one bulk insert and records one history
+entry per record. Edits and removals of stored expressions go through here
+too, so that an expression's columns are written in exactly one place.
+
+A record's ``form`` names its rate law. ``arrhenius`` (k = A T^n exp(-Ea/RT))
+is what the store holds today; the record already carries what the other
+forms need (further terms of a ``sum``, a low-pressure limit and a broadening
+function for ``falloff`` and ``activated``, a reverse direction), so that they
+arrive through this same path.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from sqlalchemy import delete, update
+from sqlalchemy.orm import Session
+
+from ratebank.errors import BadInputError
+from ratebank.store import audit
+from ratebank.store.bulk import db_timestamp, insert_returning_ids, json_adapter
+from ratebank.store.models import ORIGINS, Expression, utc_now
+
+#: Rate-law forms a stored expression can have.
+FORMS = ("arrhenius",)
+
+#: Column order of the bulk insert (the model's column names).
+_COLUMNS = (
+    "reaction_id",
+    "origin",
+    "A",
+    "n",
+    "Ea",
+    "T_min",
+    "T_max",
+    "uncertainty_factor",
+    "uncertainty_g",
+    "reference",
+    "provenance",
+    "recommended",
+    "version",
+    "created_at",
+    "created_by",
+)
+
+
+@dataclass(frozen=True)
+class ArrheniusTerm:
+    """One modified-Arrhenius term k = A T^n exp(-Ea/RT) (SI units), with its own range."""
+
+    A: float
+    n: float
+    Ea: float
+    T_min: float | None = None
+    T_max: float | None = None
+
+
+@dataclass
+class ExpressionRecord:
+    """A rate expression to be stored (SI units; ``A`` in the SI k unit times K^-n).
+
+    Its uncertainty is f(T) = f(298 K) exp|g (1/T - 1/298 K)|, one standard
+    deviation of ln k: ``uncertainty_factor`` is f(298 K), ``uncertainty_g`` is
+    g [K] (empty means 0: the same factor at every temperature).
+
+    ``A`` may be None: an activation energy whose pre-exponential factor is
+    still to be estimated. ``terms`` holds the further terms of a ``sum``,
+    ``low_pressure`` the low-pressure limit k0 of a ``falloff`` or
+    ``activated`` expression (whose ``A``, ``n``, ``Ea`` are then k_inf),
+    ``broadening`` the broadening function's parameters, and ``reverse`` the
+    reverse direction's rule.
+    """
+
+    reaction_id: int
+    origin: str
+    A: float | None
+    n: float
+    Ea: float
+    T_min: float | None = None
+    T_max: float | None = None
+    uncertainty_factor: float | None = None
+    uncertainty_g: float | None = None
+    reference: str | None = None
+    provenance: dict[str, Any] = field(default_factory=dict)
+    form: str = "arrhenius"
+    terms: tuple[ArrheniusTerm, ...] = ()
+    low_pressure: ArrheniusTerm | None = None
+    broadening: Mapping[str, Any] | None = None
+    reverse: str | None = None
+
+
+def _refuse_unstorable(record: ExpressionRecord) -> None:
+    if record.origin not in ORIGINS:
+        raise BadInputError(
+            f"unknown origin {record.origin!r}; expected one of {', '.join(ORIGINS)}",
+            argument="origin",
+        )
+    if record.form not in FORMS or record.terms or record.low_pressure or record.broadening:
+        raise BadInputError(
+            f"this store holds {', '.join(FORMS)} expressions only; a {record.form!r} "
+            "expression cannot be stored in it",
+            argument="form",
+        )
+
+
+def write_expressions(
+    session: Session,
+    records: Sequence[ExpressionRecord],
+    *,
+    action: str,
+    history: Sequence[tuple[str | None, dict[str, Any]]] = (),
+) -> list[int]:
+    """Insert ``records`` in one bulk write and return their new ids, in order.
+
+    ``history`` gives, for each record, the history target (a reaction key or
+    a file) and the details to record under ``action``; each entry also gets
+    the new expression's id. With no ``history``, no entries are written (the
+    caller records one for the whole batch).
+    """
+    if not records:
+        return []
+    for record in records:
+        _refuse_unstorable(record)
+    now = db_timestamp(session)
+    encode = json_adapter(session)
+    author = session.info.get("author")
+    ids = insert_returning_ids(
+        session,
+        "expression",
+        _COLUMNS,
+        [
+            (
+                r.reaction_id,
+                r.origin,
+                r.A,
+                r.n,
+                r.Ea,
+                r.T_min,
+                r.T_max,
+                r.uncertainty_factor,
+                r.uncertainty_g,
+                r.reference,
+                encode(r.provenance),
+                False,
+                1,
+                now,
+                author,
+            )
+            for r in records
+        ],
+    )
+    if history:
+        audit.record_many(
+            session,
+            action,
+            [
+                (target, {"expression": new_id, **detail})
+                for (target, detail), new_id in zip(history, ids, strict=True)
+            ],
+        )
+    return ids
+
+
+def remove_expressions(session: Session, expression_ids: Sequence[int]) -> None:
+    """Delete these expressions (the caller records why)."""
+    ids = list(expression_ids)
+    for start in range(0, len(ids), 500):
+        session.execute(delete(Expression).where(Expression.id.in_(ids[start : start + 500])))
+
+
+#: Fields :func:`update_expression` may change, by record name.
+UPDATABLE = (
+    "A",
+    "n",
+    "Ea",
+    "T_min",
+    "T_max",
+    "uncertainty_factor",
+    "uncertainty_g",
+    "reference",
+    "provenance",
+)
+
+
+def update_expression(session: Session, expression: Expression, changes: Mapping[str, Any]) -> None:
+    """Write ``changes`` (record names, SI units) onto a loaded expression and flush.
+
+    The expression's version rises by one (optimistic locking); a concurrent
+    change since it was loaded raises SQLAlchemy's ``StaleDataError``, which
+    the caller turns into its own message.
+    """
+    unknown = sorted(set(changes) - set(UPDATABLE))
+    if unknown:
+        raise BadInputError(f"expression fields {', '.join(unknown)} cannot be changed")
+    for name, value in changes.items():
+        setattr(expression, name, value)
+    expression.updated_at = utc_now()
+    expression.updated_by = session.info.get("author")
+    session.flush()
+
+
+def set_recommended(session: Session, reaction_id: int, expression_id: int) -> list[int]:
+    """Mark one expression as its reaction's recommended one; return those unmarked.
+
+    Which expression is exported changes; no expression's numbers do, so no
+    version rises.
+    """
+    previous = list(
+        session.scalars(
+            Expression.__table__.select()
+            .with_only_columns(Expression.__table__.c.id)
+            .where(
+                Expression.__table__.c.reaction_id == reaction_id,
+                Expression.__table__.c.recommended.is_(True),
+                Expression.__table__.c.id != expression_id,
+            )
+        )
+    )
+    now = utc_now()
+    author = session.info.get("author")
+    if previous:
+        session.execute(
+            update(Expression.__table__)
+            .where(Expression.__table__.c.id.in_(previous))
+            .values(recommended=False, updated_at=now, updated_by=author)
+        )
+    session.execute(
+        update(Expression.__table__)
+        .where(Expression.__table__.c.id == expression_id)
+        .values(recommended=True, updated_at=now, updated_by=author)
+    )
+    return previous

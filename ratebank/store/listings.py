@@ -1,0 +1,433 @@
+"""The listing and detail reads of the curation commands, as typed rows.
+
+Species, reactions with their status, measurement sets, expressions, the
+history and the store's counts; and the detail of one species or one
+reaction. Values are SI-molar, as stored.
+
+A listing command must start fast, so nothing here imports numpy. A
+reaction or species named by a listing is found with
+:func:`ratebank.store.queries.find_reaction` and ``find_species``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from sqlalchemy import and_, case, exists, func, select
+from sqlalchemy.orm import Session
+
+from ratebank.store.models import (
+    AuditEntry,
+    Expression,
+    MeasurementSet,
+    Participant,
+    Point,
+    Reaction,
+    Species,
+)
+from ratebank.store.queries import find_reaction, find_species
+
+# --------------------------------------------------------------------------- rows
+
+
+@dataclass(frozen=True)
+class SpeciesSummary:
+    name: str
+    formula: str
+    molar_mass: float  # kg/mol
+    molar_mass_source: str
+    diameter: float | None  # m
+    diameter_kind: str | None
+    diameter_method: str | None
+    well_depth: float | None  # K
+    critical_temperature: float | None  # K
+    critical_pressure: float | None  # Pa
+    acentric_factor: float | None
+    boiling_volume: float | None  # m3/mol
+    source: str | None
+    dipole_moment: float | None  # C m
+    boiling_temperature: float | None  # K
+    polarizability: float | None  # m3
+    ionization_energy: float | None  # J/mol
+
+    @property
+    def diameter_is_estimated(self) -> bool:
+        return self.diameter is not None and self.diameter_method not in (None, "given")
+
+
+_SPECIES_FIELDS = tuple(SpeciesSummary.__dataclass_fields__)
+#: The model's columns of the same names.
+_SPECIES_COLUMNS = tuple(getattr(Species, name) for name in _SPECIES_FIELDS)
+
+
+@dataclass(frozen=True)
+class SpeciesDetail:
+    species: SpeciesSummary
+    reactions: list[tuple[str, str, str]]  # (key, equation, role)
+    #: for a species without a diameter: the estimate collision theory would use
+    #: (a ``science.diameters.DiameterEstimate``, not stored, filled in by
+    #: ``services.partners.species_detail``), else None
+    estimated_diameter: Any = None
+
+
+@dataclass(frozen=True)
+class ReactionSummary:
+    key: str
+    equation: str
+    order: int
+    third_body: bool
+    reaction_class: str | None
+    sets: int
+    points: int
+    expressions: int
+    status: str
+
+
+@dataclass(frozen=True)
+class ParticipantInfo:
+    role: str
+    coefficient: int
+    species: SpeciesSummary
+
+
+@dataclass(frozen=True)
+class SetSummary:
+    id: int
+    name: str
+    reaction_key: str
+    reference: str | None
+    method: str | None
+    bath_gas: str | None
+    k_units: str
+    points: int
+    T_min: float | None
+    T_max: float | None
+
+
+@dataclass(frozen=True)
+class ExpressionSummary:
+    id: int
+    reaction_key: str
+    reaction_order: int
+    origin: str
+    A: float | None
+    n: float
+    Ea: float
+    T_min: float | None
+    T_max: float | None
+    uncertainty_factor: float | None
+    uncertainty_g: float | None
+    reference: str | None
+    recommended: bool
+    created_at: Any
+    created_by: str | None
+    provenance: dict[str, Any]
+    version: int = 1
+
+
+@dataclass(frozen=True)
+class HistoryEntry:
+    at: Any
+    author: str
+    action: str
+    target: str | None
+    detail: dict[str, Any]
+
+
+@dataclass(frozen=True)
+class ReactionDetail:
+    key: str
+    equation: str
+    order: int
+    third_body: bool
+    reaction_class: str | None
+    notes: str | None
+    steric_factor: float | None
+    steric_source: str | None
+    participants: list[ParticipantInfo]
+    sets: list[SetSummary]
+    expressions: list[ExpressionSummary]
+    history: list[HistoryEntry]
+
+
+# --------------------------------------------------------------------------- species
+
+
+def species_summaries(
+    session: Session, *, missing_diameter: bool | None = None, name_contains: str | None = None
+) -> list[SpeciesSummary]:
+    """Species by name: those without (True) or with (False) a diameter, or whose name
+    contains ``name_contains`` (literally)."""
+    query = select(*_SPECIES_COLUMNS).order_by(Species.name)
+    if missing_diameter is True:
+        query = query.where(Species.diameter.is_(None))
+    elif missing_diameter is False:
+        query = query.where(Species.diameter.is_not(None))
+    if name_contains:
+        query = query.where(Species.name.contains(name_contains, autoescape=True))
+    return [SpeciesSummary(*row) for row in session.execute(query)]
+
+
+def species_detail(session: Session, name: str) -> SpeciesDetail:
+    """One species and the reactions it takes part in (NotFoundError if it is not stored)."""
+    species = find_species(session, name)
+    reactions = session.execute(
+        select(Reaction.key, Reaction.equation, Participant.role)
+        .join(Participant, Participant.reaction_id == Reaction.id)
+        .where(Participant.species_id == species.id)
+        .order_by(Reaction.key)
+    ).all()
+    summary = SpeciesSummary(*(getattr(species, field) for field in _SPECIES_FIELDS))
+    return SpeciesDetail(summary, [tuple(r) for r in reactions])
+
+
+# --------------------------------------------------------------------------- reactions
+
+
+def _status_expression():  # type: ignore[no-untyped-def]
+    """The status of each reaction: measured, complete, ea-only or nothing, in that precedence."""
+    has_set = exists().where(MeasurementSet.reaction_id == Reaction.id)
+    has_complete = exists().where(
+        and_(Expression.reaction_id == Reaction.id, Expression.A.is_not(None))
+    )
+    has_any = exists().where(Expression.reaction_id == Reaction.id)
+    return case(
+        (has_set, "measured"),
+        (has_complete, "complete"),
+        (has_any, "ea-only"),
+        else_="nothing",
+    )
+
+
+def _reaction_counts():  # type: ignore[no-untyped-def]
+    """The number of sets, points and expressions of each reaction (correlated subqueries)."""
+    n_sets = (
+        select(func.count(MeasurementSet.id))
+        .where(MeasurementSet.reaction_id == Reaction.id)
+        .scalar_subquery()
+    )
+    n_points = (
+        select(func.count(Point.id))
+        .join(MeasurementSet, Point.set_id == MeasurementSet.id)
+        .where(MeasurementSet.reaction_id == Reaction.id)
+        .scalar_subquery()
+    )
+    n_expressions = (
+        select(func.count(Expression.id))
+        .where(Expression.reaction_id == Reaction.id)
+        .scalar_subquery()
+    )
+    return n_sets, n_points, n_expressions
+
+
+def reaction_summaries(
+    session: Session,
+    *,
+    species: str | None = None,
+    reaction_class: str | None = None,
+    status: str | None = None,
+) -> list[ReactionSummary]:
+    """Reactions by key with their counts and status; only those involving the species named
+    ``species``, of ``reaction_class``, or of ``status`` when given."""
+    query = select(
+        Reaction.key,
+        Reaction.equation,
+        Reaction.reaction_order,
+        Reaction.third_body,
+        Reaction.reaction_class,
+        *_reaction_counts(),
+        _status_expression().label("status"),
+    ).order_by(Reaction.key)
+    if species is not None:
+        species_id = find_species(session, species).id
+        query = query.where(
+            exists().where(
+                and_(Participant.reaction_id == Reaction.id, Participant.species_id == species_id)
+            )
+        )
+    if reaction_class is not None:
+        query = query.where(Reaction.reaction_class == reaction_class)
+    if status is not None:
+        query = query.where(_status_expression() == status)
+    return [ReactionSummary(*row) for row in session.execute(query).all()]
+
+
+def reaction_detail(
+    session: Session, key_or_equation: str, *, history_limit: int = 10
+) -> ReactionDetail:
+    """One reaction (by key or any spelling of its equation) with its participants, sets,
+    expressions and newest history entries."""
+    reaction = find_reaction(session, key_or_equation)
+    participants = session.execute(
+        select(Participant.role, Participant.coefficient, *_SPECIES_COLUMNS)
+        .join(Species, Species.id == Participant.species_id)
+        .where(Participant.reaction_id == reaction.id)
+        .order_by(Participant.id)
+    ).all()
+    return ReactionDetail(
+        key=reaction.key,
+        equation=reaction.equation,
+        order=reaction.order,
+        third_body=reaction.third_body,
+        reaction_class=reaction.reaction_class,
+        notes=reaction.notes,
+        steric_factor=reaction.steric_factor,
+        steric_source=reaction.steric_source,
+        participants=[
+            ParticipantInfo(role, coefficient, SpeciesSummary(*species))
+            for role, coefficient, *species in participants
+        ],
+        sets=_set_summaries(session, reaction.id),
+        expressions=_expression_summaries(session, reaction.id, None),
+        history=history(session, target=reaction.key, limit=history_limit),
+    )
+
+
+# --------------------------------------------------------------------------- sets
+
+
+def set_summaries(session: Session, *, reaction: str | None = None) -> list[SetSummary]:
+    """Measurement sets by reaction key and name, with their point counts and temperature
+    ranges; only those of ``reaction`` (a key or equation) when given."""
+    reaction_id = None if reaction is None else find_reaction(session, reaction).id
+    return _set_summaries(session, reaction_id)
+
+
+def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary]:
+    stats = (
+        select(
+            Point.set_id,
+            func.count(Point.id).label("n"),
+            func.min(Point.temperature).label("T_min"),
+            func.max(Point.temperature).label("T_max"),
+        )
+        .group_by(Point.set_id)
+        .subquery()
+    )
+    query = (
+        select(
+            MeasurementSet.id,
+            MeasurementSet.name,
+            Reaction.key,
+            MeasurementSet.reference,
+            MeasurementSet.method,
+            MeasurementSet.bath_gas,
+            MeasurementSet.original_k_units,
+            func.coalesce(stats.c.n, 0),
+            stats.c.T_min,
+            stats.c.T_max,
+        )
+        .join(Reaction, Reaction.id == MeasurementSet.reaction_id)
+        .outerjoin(stats, stats.c.set_id == MeasurementSet.id)
+        .order_by(Reaction.key, MeasurementSet.name)
+    )
+    if reaction_id is not None:
+        query = query.where(MeasurementSet.reaction_id == reaction_id)
+    return [SetSummary(*row) for row in session.execute(query).all()]
+
+
+def set_sources(session: Session, set_ids: list[int]) -> dict[int, tuple[str, str | None]]:
+    """(name, reference) of each measurement set, by id."""
+    if not set_ids:
+        return {}
+    query = select(MeasurementSet.id, MeasurementSet.name, MeasurementSet.reference).where(
+        MeasurementSet.id.in_(set_ids)
+    )
+    return {set_id: (name, reference) for set_id, name, reference in session.execute(query)}
+
+
+# --------------------------------------------------------------------------- expressions
+
+_EXPRESSION_COLUMNS = (
+    Expression.id,
+    Reaction.key,
+    Reaction.reaction_order,
+    Expression.origin,
+    Expression.A,
+    Expression.n,
+    Expression.Ea,
+    Expression.T_min,
+    Expression.T_max,
+    Expression.uncertainty_factor,
+    Expression.uncertainty_g,
+    Expression.reference,
+    Expression.recommended,
+    Expression.created_at,
+    Expression.created_by,
+    Expression.provenance,
+    Expression.version,
+)
+
+
+def expression_summaries(
+    session: Session, *, reaction: str | None = None, origin: str | None = None
+) -> list[ExpressionSummary]:
+    """Expressions by reaction key and id; only those of ``reaction`` (a key or equation) or
+    of ``origin`` when given."""
+    reaction_id = None if reaction is None else find_reaction(session, reaction).id
+    return _expression_summaries(session, reaction_id, origin)
+
+
+def _expression_summaries(
+    session: Session, reaction_id: int | None, origin: str | None
+) -> list[ExpressionSummary]:
+    query = (
+        select(*_EXPRESSION_COLUMNS)
+        .join(Reaction, Reaction.id == Expression.reaction_id)
+        .order_by(Reaction.key, Expression.id)
+    )
+    if reaction_id is not None:
+        query = query.where(Expression.reaction_id == reaction_id)
+    if origin is not None:
+        query = query.where(Expression.origin == origin)
+    summaries = []
+    for row in session.execute(query):
+        *head, provenance, version = row
+        summaries.append(ExpressionSummary(*head, dict(provenance or {}), version))
+    return summaries
+
+
+# --------------------------------------------------------------------------- history
+
+
+def history(
+    session: Session, *, limit: int = 50, target: str | None = None, author: str | None = None
+) -> list[HistoryEntry]:
+    """The newest audit entries first; only those about ``target`` or by ``author``."""
+    query = (
+        select(
+            AuditEntry.at,
+            AuditEntry.author,
+            AuditEntry.action,
+            AuditEntry.target,
+            AuditEntry.detail,
+        )
+        .order_by(AuditEntry.id.desc())
+        .limit(limit)
+    )
+    if target is not None:
+        query = query.where(AuditEntry.target == target)
+    if author is not None:
+        query = query.where(AuditEntry.author == author)
+    return [
+        HistoryEntry(at, who, action, about, dict(detail or {}))
+        for at, who, action, about, detail in session.execute(query)
+    ]
+
+
+# --------------------------------------------------------------------------- counts
+
+
+def store_counts(session: Session) -> dict[str, int]:
+    """How many species, reactions, measurement sets, points and expressions the store holds."""
+    return {
+        name: session.scalar(select(func.count(column))) or 0
+        for name, column in (
+            ("species", Species.id),
+            ("reactions", Reaction.id),
+            ("measurement_sets", MeasurementSet.id),
+            ("points", Point.id),
+            ("expressions", Expression.id),
+        )
+    }

@@ -1,0 +1,64 @@
+"""Measured points read as numpy columns, for fits and plots."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from ratebank.store.bulk import fetch_all
+from ratebank.store.models import MeasurementSet, Point
+
+
+@dataclass(frozen=True)
+class PointColumns:
+    """Measured points as columns (SI units), ordered by reaction, set and point.
+
+    ``relative_uncertainty`` and ``pressure`` hold NaN where none was given.
+    """
+
+    reaction_id: np.ndarray
+    set_id: np.ndarray
+    T: np.ndarray
+    k: np.ndarray
+    relative_uncertainty: np.ndarray
+    pressure: np.ndarray
+
+    @property
+    def size(self) -> int:
+        return int(self.T.size)
+
+
+def points(session: Session, reaction_ids: Sequence[int] | None = None) -> PointColumns:
+    """The measured points of the reactions (all when ``reaction_ids`` is None) as columns."""
+    query = (
+        select(
+            MeasurementSet.reaction_id,
+            Point.set_id,
+            Point.temperature,
+            Point.rate_constant,
+            Point.relative_uncertainty,
+            Point.pressure,
+        )
+        .join(MeasurementSet, MeasurementSet.id == Point.set_id)
+        .order_by(MeasurementSet.reaction_id, Point.set_id, Point.id)
+    )
+    if reaction_ids is not None:
+        query = query.where(MeasurementSet.reaction_id.in_(list(reaction_ids)))
+    rows = fetch_all(session, query)  # ids only: safe to inline
+    if not rows:
+        empty = np.zeros(0)
+        ids = empty.astype(np.int64)
+        return PointColumns(ids, ids, empty, empty, empty, empty)
+    reaction_id, set_id, T, k, u, p = zip(*rows, strict=True)
+    return PointColumns(
+        np.asarray(reaction_id, dtype=np.int64),
+        np.asarray(set_id, dtype=np.int64),
+        np.asarray(T, dtype=float),
+        np.asarray(k, dtype=float),
+        np.array(u, dtype=float),  # None becomes NaN
+        np.array(p, dtype=float),
+    )

@@ -1,0 +1,323 @@
+"""Reading the store: typed rows and the queries the services need.
+
+Every read a service makes goes through here (or through the listing queries
+of :mod:`ratebank.store.listings`), so no SQL lives above ``store/``. Rows are
+plain named tuples in SI units, not ORM objects: fitting, estimating or
+exporting a whole mechanism reads tens of thousands of them, and building an
+ORM object per row would cost more than the query. Measured points come back
+as numpy columns (:mod:`ratebank.store.points`, apart so that listings need no
+numpy).
+
+The vocabulary is the rate law's own: ``A`` [SI k unit times K^-n], ``n``
+[-], ``Ea`` [J mol^-1], ``T_min`` and ``T_max`` [K].
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from typing import Any, NamedTuple
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from ratebank.errors import NotFoundError
+from ratebank.science.equation import looks_like_equation, parse_equation
+from ratebank.store.bulk import fetch_all, fetch_in
+from ratebank.store.json_codec import loads
+from ratebank.store.models import (
+    Expression,
+    Reaction,
+    Species,
+    StericRule,
+)
+
+
+class ReactionRow(NamedTuple):
+    """A stored reaction."""
+
+    id: int
+    key: str
+    equation: str
+    order: int
+    third_body: bool
+    reaction_class: str | None
+    notes: str | None
+    steric_factor: float | None
+    steric_source: str | None
+
+    @property
+    def bimolecular(self) -> bool:
+        """True for an A + B reaction without a third body (collision theory applies)."""
+        return self.order == 2 and not self.third_body
+
+
+_REACTION_COLUMNS = (
+    Reaction.id,
+    Reaction.key,
+    Reaction.equation,
+    Reaction.reaction_order,
+    Reaction.third_body,
+    Reaction.reaction_class,
+    Reaction.notes,
+    Reaction.steric_factor,
+    Reaction.steric_source,
+)
+
+
+class SpeciesRow(NamedTuple):
+    """A stored species (SI units: kg/mol, m, K, Pa, m3/mol)."""
+
+    id: int
+    name: str
+    formula: str
+    molar_mass: float
+    molar_mass_source: str
+    diameter: float | None
+    diameter_kind: str | None
+    diameter_method: str | None
+    well_depth: float | None
+    well_depth_method: str | None
+    critical_temperature: float | None
+    critical_pressure: float | None
+    acentric_factor: float | None
+    boiling_volume: float | None
+    source: str | None
+    dipole_moment: float | None
+    boiling_temperature: float | None
+    polarizability: float | None
+    ionization_energy: float | None
+
+    @property
+    def diameter_is_estimated(self) -> bool:
+        return self.diameter is not None and self.diameter_method not in (None, "given")
+
+
+_SPECIES_COLUMNS = tuple(getattr(Species, name) for name in SpeciesRow._fields)
+
+
+class ExpressionRow(NamedTuple):
+    """A stored rate expression k = A T^n exp(-Ea/RT) and where it came from."""
+
+    id: int
+    reaction_id: int
+    origin: str
+    A: float | None
+    n: float
+    Ea: float
+    T_min: float | None
+    T_max: float | None
+    uncertainty_factor: float | None
+    uncertainty_g: float | None
+    reference: str | None
+    provenance: dict[str, Any]
+    recommended: bool
+    version: int
+    created_at: Any
+    created_by: str | None
+    updated_at: Any
+    updated_by: str | None
+
+    @property
+    def complete(self) -> bool:
+        """True when A is known (an expression without A awaits an estimate)."""
+        return self.A is not None
+
+
+_EXPRESSION_COLUMNS = (
+    Expression.id,
+    Expression.reaction_id,
+    Expression.origin,
+    Expression.A,
+    Expression.n,
+    Expression.Ea,
+    Expression.T_min,
+    Expression.T_max,
+    Expression.uncertainty_factor,
+    Expression.uncertainty_g,
+    Expression.reference,
+    Expression.provenance,
+    Expression.recommended,
+    Expression.version,
+    Expression.created_at,
+    Expression.created_by,
+    Expression.updated_at,
+    Expression.updated_by,
+)
+
+
+def _expression_row(row: Sequence[Any]) -> ExpressionRow:
+    values = list(row)
+    where = ExpressionRow._fields.index("provenance")
+    provenance = values[where]
+    # PostgreSQL's driver decodes JSON already; SQLite hands over text
+    values[where] = (loads(provenance) if isinstance(provenance, str | bytes) else provenance) or {}
+    return ExpressionRow(*values)
+
+
+# --------------------------------------------------------------------------- lookups
+
+
+def find_reaction(session: Session, key_or_equation: str) -> ReactionRow:
+    """The reaction with this key, or whose equation is any spelling of this one."""
+    query = select(*_REACTION_COLUMNS)
+    row = session.execute(query.where(Reaction.key == key_or_equation)).first()
+    if row is not None:
+        return ReactionRow(*row)
+    if looks_like_equation(key_or_equation):
+        canonical = parse_equation(key_or_equation).canonical
+        row = session.execute(query.where(Reaction.equation == canonical)).first()
+        if row is not None:
+            return ReactionRow(*row)
+        raise NotFoundError(f"no reaction {canonical!r} in the store")
+    raise NotFoundError(f"no reaction with key {key_or_equation!r} in the store")
+
+
+def find_reactions(session: Session, keys_or_equations: Iterable[str]) -> list[ReactionRow]:
+    """:func:`find_reaction` of each, in the order given."""
+    return [find_reaction(session, text) for text in keys_or_equations]
+
+
+def find_species(session: Session, name: str) -> SpeciesRow:
+    row = session.execute(select(*_SPECIES_COLUMNS).where(Species.name == name)).first()
+    if row is None:
+        raise NotFoundError(f"no species {name!r} in the store")
+    return SpeciesRow(*row)
+
+
+def reactions(
+    session: Session,
+    *,
+    ids: Sequence[int] | None = None,
+    reaction_class: str | None = None,
+) -> list[ReactionRow]:
+    """Reactions by key: those of ``ids``, or of ``reaction_class``, or all of them."""
+    if ids is not None:
+        columns = ", ".join(column.name for column in _REACTION_COLUMNS)
+        found = fetch_in(session, f"SELECT {columns} FROM reaction WHERE id IN ({{marks}})", ids)
+        return sorted((ReactionRow(*row) for row in found), key=lambda r: r.key)
+    query = select(*_REACTION_COLUMNS).order_by(Reaction.key)
+    if reaction_class is not None:
+        query = query.where(Reaction.reaction_class == reaction_class)
+        return [ReactionRow(*row) for row in session.execute(query)]
+    # the whole store: plain rows through the driver
+    return [ReactionRow(*row) for row in fetch_all(session, query)]
+
+
+def reactants(session: Session, reaction_ids: Sequence[int]) -> dict[int, list[tuple[int, int]]]:
+    """(species id, coefficient) of each reaction's reactants, in the order written."""
+    found: dict[int, list[tuple[int, int]]] = {i: [] for i in reaction_ids}
+    for reaction_id, species_id, coefficient in fetch_in(
+        session,
+        "SELECT reaction_id, species_id, coefficient FROM participant "
+        "WHERE role = 'reactant' AND reaction_id IN ({marks}) ORDER BY reaction_id, id",
+        list(reaction_ids),
+    ):
+        found[reaction_id].append((species_id, coefficient))
+    return found
+
+
+def species_by_id(session: Session, species_ids: Iterable[int]) -> dict[int, SpeciesRow]:
+    columns = ", ".join(column.name for column in _SPECIES_COLUMNS)
+    query = f"SELECT {columns} FROM species WHERE id IN ({{marks}})"
+    return {row[0]: SpeciesRow(*row) for row in fetch_in(session, query, sorted(set(species_ids)))}
+
+
+def species_by_name(session: Session, names: Iterable[str]) -> dict[str, SpeciesRow]:
+    columns = ", ".join(column.name for column in _SPECIES_COLUMNS)
+    query = f"SELECT {columns} FROM species WHERE name IN ({{marks}})"
+    return {row[1]: SpeciesRow(*row) for row in fetch_in(session, query, sorted(set(names)))}
+
+
+def expression(session: Session, expression_id: int) -> ExpressionRow:
+    row = session.execute(
+        select(*_EXPRESSION_COLUMNS).where(Expression.id == expression_id)
+    ).first()
+    if row is None:
+        raise NotFoundError(f"no expression {expression_id} in the store")
+    return _expression_row(row)
+
+
+def expressions_of(
+    session: Session, reaction_ids: Sequence[int] | None = None
+) -> dict[int, list[ExpressionRow]]:
+    """Every expression of each reaction (all reactions when ``reaction_ids`` is None), oldest
+    first."""
+    query = select(*_EXPRESSION_COLUMNS).order_by(Expression.id)
+    if reaction_ids is None:
+        found: dict[int, list[ExpressionRow]] = {}
+        for row in fetch_all(session, query):
+            found.setdefault(row[1], []).append(_expression_row(row))
+        return found
+    found = {i: [] for i in reaction_ids}
+    wanted = list(found)
+    if len(wanted) > 5000:  # most of the store: one pass beats thousands of IN lists
+        for row in fetch_all(session, query):
+            if row[1] in found:
+                found[row[1]].append(_expression_row(row))
+        return found
+    for start in range(0, len(wanted), 500):
+        chunk = wanted[start : start + 500]
+        for row in session.execute(query.where(Expression.reaction_id.in_(chunk))):
+            found[row[1]].append(_expression_row(row))
+    return found
+
+
+def newest_fits(session: Session, reaction_ids: Sequence[int]) -> dict[int, ExpressionRow]:
+    """The newest measured fit of each reaction that has one."""
+    columns = ", ".join(_sql_column(c) for c in _EXPRESSION_COLUMNS)
+    query = (
+        f"SELECT {columns} FROM expression WHERE id IN (SELECT MAX(id) FROM expression "
+        "WHERE origin = 'measured-fit' AND reaction_id IN ({marks}) GROUP BY reaction_id)"
+    )
+    return {row[1]: _expression_row(row) for row in fetch_in(session, query, list(reaction_ids))}
+
+
+def _sql_column(column: Any) -> str:
+    return str(column.key)  # the rate law's names: SQL reads A, n, Ea, T_min unquoted
+
+
+def measured_fits(session: Session, *, reaction_class: str | None = None) -> list[ExpressionRow]:
+    """Every measured fit of a bimolecular reaction (of ``reaction_class``), oldest first."""
+    query = (
+        select(*_EXPRESSION_COLUMNS)
+        .join(Reaction, Reaction.id == Expression.reaction_id)
+        .where(
+            Expression.origin == "measured-fit",
+            Reaction.reaction_order == 2,
+            Reaction.third_body.is_(False),
+        )
+        .order_by(Expression.id)
+    )
+    if reaction_class is not None:
+        query = query.where(Reaction.reaction_class == reaction_class)
+    return [_expression_row(row) for row in session.execute(query)]
+
+
+def set_labels(session: Session, set_ids: Iterable[int]) -> dict[int, str]:
+    """'set name: reference' of each measurement set, by id (the references behind a fit)."""
+    query = "SELECT id, name, reference FROM measurement_set WHERE id IN ({marks})"
+    return {
+        set_id: f"{name}: {reference}" if reference else name
+        for set_id, name, reference in fetch_in(session, query, sorted(set(set_ids)))
+    }
+
+
+class StericRuleRow(NamedTuple):
+    """A steric factor the curator set for a reaction class."""
+
+    id: int
+    reaction_class: str
+    steric_factor: float
+    uncertainty_factor: float | None
+    source: str | None
+    note: str | None
+    version: int
+    updated_at: Any
+    updated_by: str | None
+
+
+def steric_rules(session: Session) -> dict[str, StericRuleRow]:
+    """Every class rule, by class."""
+    columns = tuple(getattr(StericRule, name) for name in StericRuleRow._fields)
+    query = select(*columns).order_by(StericRule.reaction_class)
+    return {row[1]: StericRuleRow(*row) for row in session.execute(query)}

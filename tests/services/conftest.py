@@ -1,0 +1,32 @@
+"""Fixtures of the service tests: a store filled with the small test data set."""
+
+from __future__ import annotations
+
+import pytest
+from helpers.cli import run, write
+from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+
+from ratebank.services.store_access import open_store
+
+
+@pytest.fixture
+def filled(db_url, tmp_path):
+    """The address of a store holding tests/helpers/data.py's species, reactions, points and
+    expressions."""
+    assert run(db_url, "init").exit_code == 0
+    for command, name, text in (
+        ("species", "species.csv", SPECIES_CSV),
+        ("reactions", "reactions.csv", REACTIONS_CSV),
+        ("data", "points.csv", MEASUREMENTS_CSV),
+        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
+    ):
+        assert run(db_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
+    return db_url
+
+
+@pytest.fixture
+def store(filled):
+    """The filled store, opened as the author 'tester'."""
+    handle = open_store(filled, author="tester")
+    yield handle
+    handle.close()
