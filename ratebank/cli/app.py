@@ -17,6 +17,7 @@ from ratebank.cli import common
 from ratebank.cli import mechanism as mechanism_commands
 from ratebank.cli import plot as plot_commands
 from ratebank.cli import review as review_commands
+from ratebank.cli import thermo as thermo_commands
 from ratebank.cli.common import STATE, RatebankGroup, number, print_json, say, show, store_session
 from ratebank.cli.progress import progress_bar
 
@@ -61,6 +62,7 @@ mechanism_commands.register(app)
 plot_commands.register(app, mechanism_commands.steric_app)
 admin_commands.register(app, expressions_app)
 review_commands.register(app)
+thermo_commands.register(app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")
@@ -318,21 +320,27 @@ def species_list(
 @species_app.command("show")
 def species_show(
     name: str = typer.Argument(..., help="Species name."),
+    temperatures: list[float] = typer.Option(
+        None, "-T", "--temperature", help="Temperatures [K] for Cp°, H° and S° (repeatable)."
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
-    """Everything about one species and the reactions it takes part in.
+    """Everything about one species, its thermochemistry and the reactions it takes part in.
 
-    Example: ratebank species show OH
+    Example: ratebank species show OH -T 300 -T 1000
     """
     from ratebank.report import tables
     from ratebank.services.partners import species_detail
 
     with store_session() as session:
         detail = species_detail(session, name)
+        thermo_record, thermo_table = thermo_commands.species_thermo_output(
+            session, name, temperatures
+        )
     if as_json:
-        print_json(tables.species_detail_record(detail))
+        print_json({**tables.species_detail_record(detail), "thermochemistry": thermo_record})
     else:
-        show(*tables.species_detail_tables(detail))
+        show(*tables.species_detail_tables(detail), thermo_table)
 
 
 # --------------------------------------------------------------------------- reactions

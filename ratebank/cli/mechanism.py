@@ -188,7 +188,9 @@ def check(
     """Check every expression against physical limits; exit 1 when anything is flagged.
 
     Checks: above-collision-limit, steric-above-one, collinear-fit, extrapolation
-    (with --t-range), estimated-diameter, nothing-usable.
+    (with --t-range), estimated-diameter, nothing-usable; with thermochemistry:
+    ea-below-reaction-enthalpy, reverse-above-collision-limit, directions-disagree,
+    reverse-without-thermochemistry, thermo-midpoint-jump.
 
     Example: ratebank check --t-range 300 2000
     """
@@ -219,21 +221,44 @@ def rate(
     ),
     k_units: str = typer.Option(None, "--k-units", help="Unit of k (default: from --units)."),
     preset: str = PRESET_OPTION,
+    reverse: bool = typer.Option(
+        False, "--reverse", help="The reverse rate k_f / Kc (needs the species' thermochemistry)."
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """k at given temperatures from the expression that would be exported.
+
+    With --reverse, the reverse reaction's k_r = k_f / Kc by detailed balance, in the
+    units of its own order.
 
     Example: ratebank rate oh-ch4 -T 298 -T 1000 --k-units cm3/molecule/s
     """
     from ratebank.report.mechanism import rate_records, rate_table
     from ratebank.services.mechanism import rate as rate_of
 
+    if reverse:
+        _reverse_rate(key, temperatures, k_units, preset, as_json)
+        return
     with store_session() as session:
         report = rate_of(session, key, temperatures, k_units=k_units, preset=preset)
     if as_json:
         print_json(rate_records(report))
     else:
         show(rate_table(report))
+
+
+def _reverse_rate(
+    key: str, temperatures: list[float], k_units: str | None, preset: str, as_json: bool
+) -> None:
+    from ratebank.report.thermo import reverse_rate_records, reverse_rate_table
+    from ratebank.services.reverse import reverse_rate
+
+    with store_session() as session:
+        report = reverse_rate(session, key, temperatures, k_units=k_units, preset=preset)
+    if as_json:
+        print_json(reverse_rate_records(report))
+    else:
+        show(reverse_rate_table(report))
 
 
 def recommend(
@@ -274,6 +299,12 @@ def export(
     leave_out_gaps: bool = typer.Option(
         False, "--leave-out-gaps", help="Export even if some reactions have no expression."
     ),
+    reverse_as_fit: bool = typer.Option(
+        False,
+        "--reverse-as-fit",
+        help="Write the reverse of each reversible reaction as its own modified-Arrhenius "
+        "row (fitted to k_f / Kc over the row's range).",
+    ),
 ) -> None:
     """Write the mechanism table (CSV) and its descriptor (OUT.resource.json).
 
@@ -295,6 +326,7 @@ def export(
                 linearise_at=linearise_at,
                 leave_out_gaps=leave_out_gaps,
                 store_label=store.display_url,
+                reverse_as_fit=reverse_as_fit,
             )
     finally:
         store.close()

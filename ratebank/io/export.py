@@ -35,6 +35,7 @@ from ratebank import __version__, safe_output
 from ratebank.errors import RatebankError
 from ratebank.services import mechanism
 from ratebank.services.memory import paused_garbage_collection
+from ratebank.services.reverse import REVERSE_ORIGIN, descriptor_block
 from ratebank.store import json_codec
 from ratebank.store.fingerprint import store_fingerprint
 
@@ -58,7 +59,7 @@ def descriptor_path_for(out: Path) -> Path:
 
 
 def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
-    origins = ["measured-fit", "literature", "collision-estimate", "manual"]
+    origins = ["measured-fit", "literature", "collision-estimate", "manual", REVERSE_ORIGIN]
     return [
         {
             "name": "key",
@@ -146,6 +147,25 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
             "description": "the largest |ln(k_row / k_expression)| over the row's range; it is "
             "included in uncertainty_f298",
         },
+        {
+            "name": "reverse",
+            "type": "string",
+            "description": "the reverse of the reaction: none (irreversible as written), "
+            "detailed-balance (reversible: the modeller computes k_r = k_f / Kc from the "
+            "thermochemistry, see ratebank.reverse) or fitted-row (reversible, and its reverse "
+            "is the next row, key '<key>:reverse', origin detailed-balance-fit)",
+            "constraints": {
+                "required": True,
+                "enum": ["none", "detailed-balance", "fitted-row"],
+            },
+        },
+        {
+            "name": "reverse_max_relative_deviation",
+            "type": "number",
+            "description": "for a detailed-balance-fit row: the largest |k_row / (k_f / Kc) - 1| "
+            "over the row's range; its uncertainty factors are the forward row's times "
+            "(1 + this deviation), the thermochemistry's own uncertainty not included",
+        },
     ]
 
 
@@ -218,8 +238,10 @@ def export_mechanism(
     linearise_at: float | None = None,
     leave_out_gaps: bool = False,
     store_label: str | None = None,
+    reverse_as_fit: bool = False,
 ) -> ExportResult:
-    """Write ``out`` (CSV) and its ``.resource.json`` descriptor."""
+    """Write ``out`` (CSV) and its ``.resource.json`` descriptor; with ``reverse_as_fit``,
+    the reverse of each reversible reaction as a row of its own."""
     out = Path(out)
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():
@@ -233,7 +255,12 @@ def export_mechanism(
         safe_output.check_target(target, store_path=store_file)
     units = mechanism.export_units(preset, k_units, e_units)
     table = mechanism.mechanism_table(
-        session, units=units, form=form, linearise_at=linearise_at, leave_out_gaps=leave_out_gaps
+        session,
+        units=units,
+        form=form,
+        linearise_at=linearise_at,
+        leave_out_gaps=leave_out_gaps,
+        reverse_as_fit=reverse_as_fit,
     )
     fingerprint = store_fingerprint(session)
     descriptor_path = descriptor_path_for(out)
@@ -282,6 +309,7 @@ def export_mechanism(
             },
             "caution": mechanism.CAUTION,
             "text_cells": TEXT_CELL_RULE,
+            "reverse": descriptor_block(table.reverse),
         },
     }
     safe_output.write_files(

@@ -258,6 +258,7 @@ def estimate_records(report: EstimateReport, preset: str) -> dict[str, Any]:
                 "max_fit_deviation": r.max_fit_deviation,
                 "expression_id": r.expression_id,
                 "replaced": r.replaced,
+                "activation_energy_from": r.activation_energy_rule or "stored expression",
             }
         )
     return {
@@ -301,6 +302,11 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
             f"E0 held at 0 for {', '.join(held[:10])}{' ...' if len(held) > 10 else ''}: "
             "the given Ea is below the collision rate's own, so the estimate is P z(T)"
         )
+    related = [
+        r["key"] for r in data["estimated"] if r["activation_energy_from"] != "stored expression"
+    ]
+    if related:
+        notes.append(f"Ea from an Evans-Polanyi relation for {', '.join(related[:10])}")
     if notes:
         done.caption = "\n".join(notes)
     for r in estimated:

@@ -1530,15 +1530,22 @@ def _set_counts(inverse: np.ndarray, sets: np.ndarray, m: int) -> np.ndarray:
     return np.bincount(pairs[0], minlength=m)
 
 
-def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n):
-    """sigma(ln k) widened by each pooled group's between-set variance; tau^2 and the
-    heterogeneity p-value (Cochran's Q against chi-square with sets - 1 degrees of freedom)
-    per group."""
+def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n, systematic, weighted):
+    """sigma(ln k) widened by each set's own systematic variance and then by each pooled
+    group's between-set variance; tau^2 and the heterogeneity p-value (Cochran's Q against
+    chi-square with sets - 1 degrees of freedom) per group."""
     from scipy.special import chdtrc
 
     tau2 = np.zeros(pooled.size)
     p_value = np.full(pooled.size, np.nan)
     widened = sigma.copy()
+    own = weighted[inverse] & np.isfinite(systematic) & (systematic > 0)
+    if own.any():
+        # a set's scale uncertainty s is a known offset variance s^2 of ln k (first order)
+        widened[own] = uncertainty.random_effects_sigma_ln_k(
+            sigma[own], sets[own], systematic[own] ** 2
+        )
+        sigma = widened.copy()
     for row in np.flatnonzero(pooled).tolist():
         mask = inverse == row
         fit_form = (
@@ -1565,6 +1572,7 @@ def fit_groups(
     group,
     *,
     sets=None,
+    systematic=None,
     form: str = "auto",
     fixed_n: float | None = None,
     significance: float = 0.05,
@@ -1599,6 +1607,9 @@ def fit_groups(
         Group label of each point.
     sets : array_like, shape (N,), optional
         Measurement-set label of each point.
+    systematic : array_like, shape (N,), optional
+        The systematic (scale) uncertainty of each point's set, as a fraction
+        of k [-] (NaN for none): a known offset variance of the set's ln k.
 
     Returns
     -------
@@ -1638,9 +1649,13 @@ def fit_groups(
     sets = np.zeros(T.size, dtype=np.int64) if sets is None else np.asarray(sets)
     n_sets = _set_counts(inverse, sets, m) if T.size else np.zeros(m, dtype=np.int64)
     weighted_group = np.bincount(inverse, weights=np.isnan(sigma), minlength=m) == 0
-    sigma, tau2, heterogeneity = _with_set_offsets(
-        T, k, sigma, inverse, sets, weighted_group & (n_sets > 1), form, fixed_n
+    systematic = (
+        np.full(T.size, np.nan) if systematic is None else np.asarray(systematic, dtype=float)
     )
+    sigma, tau2, heterogeneity = _with_set_offsets(
+        T, k, sigma, inverse, sets, weighted_group & (n_sets > 1), form, fixed_n,
+        systematic, weighted_group,
+    )  # fmt: skip
     out = {name: np.full(m, np.nan) for name in _GROUP_COLUMNS}
     out["covariance"] = np.full((m, 3, 3), np.nan)
     out.update(

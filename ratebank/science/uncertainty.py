@@ -819,8 +819,10 @@ def random_effects_sigma_ln_k(sigma_ln_k, set_index, tau_squared):
         Stated standard deviation of each ln k [-]; positive.
     set_index : array_like, shape (N,)
         Label of the measurement set of each point.
-    tau_squared : float
-        Between-set variance of ln k [-]; not negative.
+    tau_squared : float or array_like, shape (N,)
+        Variance of each set's offset in ln k [-]; not negative. One value for
+        every set (a between-set variance), or one per point, the same for
+        the points of a set (a set's own systematic variance, say).
 
     Returns
     -------
@@ -854,7 +856,7 @@ def random_effects_sigma_ln_k(sigma_ln_k, set_index, tau_squared):
         raise ScienceInputError("sigma_ln_k and set_index must be one-dimensional, one per point.")
     if not np.all(np.isfinite(sigma) & (sigma > 0)):
         raise ScienceInputError("Every sigma_ln_k must be positive and finite [-].")
-    tau2 = float(_non_negative("tau_squared", tau_squared, "-"))
+    tau2 = np.broadcast_to(_non_negative("tau_squared", tau_squared, "-"), sigma.shape)
     _, index = np.unique(labels, return_inverse=True)
     sum_w = np.bincount(index.reshape(-1), weights=sigma**-2.0)
     return sigma * np.sqrt(1.0 + tau2 * sum_w[index.reshape(-1)])

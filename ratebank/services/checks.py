@@ -19,6 +19,10 @@ Flags (each with a stable code):
   temperature range the mechanism will be used over (``t_range``).
 - ``estimated-diameter``: the exported estimate rests on an estimated diameter.
 - ``nothing-usable``: a reaction with no complete expression.
+- ``ea-below-reaction-enthalpy``, ``reverse-above-collision-limit``,
+  ``directions-disagree``, ``reverse-without-thermochemistry``,
+  ``thermo-midpoint-jump``: what species thermochemistry makes checkable
+  (:mod:`ratebank.services.thermo_checks`).
 
 A bimolecular expression whose partners lack what the collision model needs
 is listed as unchecked, with the reason; a report is clean only when nothing
@@ -39,8 +43,18 @@ from ratebank.science.capture import london_capture_rate_constant
 from ratebank.science.collision import collision_limit_ratio, collision_rate
 from ratebank.services.partners import CollisionPair, PairColumns, check_model, collision_pairs
 from ratebank.services.selection import Chosen, chosen_expressions
+from ratebank.services.thermo import reaction_thermo_inputs
+from ratebank.services.thermo_checks import (
+    THERMO_CODES,
+    direction_findings,
+    endothermic_findings,
+    midpoint_findings,
+    missing_thermo_findings,
+    reverse_limit_findings,
+)
 from ratebank.store import queries
 from ratebank.store.queries import ExpressionRow, ReactionRow
+from ratebank.store.thermo import any_thermo, reverse_rules, stoichiometry, thermo_of
 
 CHECK_CODES = (
     "above-collision-limit",
@@ -50,6 +64,7 @@ CHECK_CODES = (
     "extrapolation",
     "estimated-diameter",
     "nothing-usable",
+    *THERMO_CODES,
 )
 #: Range checked for the collision limit when an expression states none [K].
 DEFAULT_LIMIT_RANGE = (200.0, 3000.0)
@@ -133,12 +148,43 @@ def check_store(
         *_expression_flags(expressions, by_id),
         *_gap_flags(gaps),
         *_chosen_flags(chosen, T_range),
+        *_thermochemistry_flags(session, reactions, by_reaction, chosen, collision, unchecked),
     ]
     flags = [f for f in flags if f.code not in ignore]
     flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
     return CheckReport(
         flags, len(reactions), len(expressions), T_range, ignore, unchecked, collision
     )
+
+
+def _thermochemistry_flags(
+    session: Session,
+    reactions: list[ReactionRow],
+    by_reaction: dict[int, list[ExpressionRow]],
+    chosen: list[Chosen],
+    collision: str | None,
+    unchecked: list[Unchecked],
+) -> list[Flag]:
+    """The checks species thermochemistry makes possible (:mod:`.thermo_checks`)."""
+    declared = reverse_rules(session, [r.id for r in reactions])
+    if not declared and not any_thermo(session):
+        return []
+    participants = stoichiometry(session, [r.id for r in reactions])
+    thermo = thermo_of(session, {p.species_id for ps in participants.values() for p in ps})
+    inputs, missing = reaction_thermo_inputs(session, reactions)
+    reversible = [c for c in chosen if c.reaction.id in declared]
+    limit, not_checked = reverse_limit_findings(
+        session, reversible, inputs, collision or "hard-sphere"
+    )
+    unchecked.extend(Unchecked(*u) for u in not_checked)
+    findings = [
+        *endothermic_findings(inputs, by_reaction),
+        *limit,
+        *direction_findings(session, chosen, inputs, set(declared)),
+        *missing_thermo_findings([r for r in reactions if r.id in declared], missing),
+        *midpoint_findings(list(thermo.values())),
+    ]
+    return [Flag(*finding) for finding in findings]
 
 
 def _model_of(expression: ExpressionRow, chosen: str | None) -> str:

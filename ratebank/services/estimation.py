@@ -11,6 +11,10 @@ P comes from the first of: the value given by the caller; the value stored
 on the reaction; the rule stored for its class; the geometric mean of the
 steric factors derived from measured reactions of the class; a fallback the
 caller gives. A reaction with none of these is reported, never guessed.
+
+A reaction of a class with an Evans-Polanyi relation that has no expression of
+its own gets its activation energy from the relation first
+(:func:`ratebank.services.evans_polanyi.relation_activation_energies`).
 """
 
 from __future__ import annotations
@@ -25,6 +29,10 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError, RefusedEstimateError
 from ratebank.science.collision import CollisionEstimate, collision_theory_estimate
+from ratebank.services.evans_polanyi import (
+    combined_uncertainty_factor,
+    relation_activation_energies,
+)
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import (
     CollisionPair,
@@ -70,6 +78,8 @@ class EstimateRow:
     max_fit_deviation: float | None = None
     expression_id: int | None = None
     replaced: list[int] = field(default_factory=list)
+    #: the Evans-Polanyi relation that gave the activation energy, if one did
+    activation_energy_rule: str | None = None
 
 
 @dataclass
@@ -216,6 +226,9 @@ def estimate(
     else:
         reactions = queries.reactions(session, reaction_class=reaction_class)
     expressions = queries.expressions_of(session, [r.id for r in reactions])
+    filled, refused = relation_activation_energies(session, reactions, expressions)
+    for reaction_id, partial in filled.items():
+        expressions[reaction_id] = [*expressions[reaction_id], partial]
     sources = StericSources(
         steric,
         queries.steric_rules(session),
@@ -227,6 +240,8 @@ def estimate(
     candidates, skipped = _candidates(
         session, reactions, expressions, bool(keys), sources, collision, T_ref, T_range
     )
+    named = {r.key: refused[r.id] for r in reactions if r.id in refused}
+    skipped = [s for s in skipped if s.key not in named] + [Skipped(*i) for i in named.items()]
     progress.start("estimating", len(candidates))
     rows = _estimate_rows(candidates, collision, skipped)
     progress.advance(len(candidates))
@@ -383,7 +398,9 @@ def _estimate_rows_of(
                 T_max=T_max,
                 steric_factor=float(c.choice.value),
                 steric_rule=c.choice.rule,
-                uncertainty_factor=float(c.choice.uncertainty_factor),
+                uncertainty_factor=combined_uncertainty_factor(
+                    float(c.choice.uncertainty_factor), c.partial, c.T_ref
+                ),
                 collision_model=model,
                 collision_rate_at_T_ref=lists["collision_rate_at_T_ref"][i],
                 threshold_energy=lists["threshold_energy"][i],
@@ -391,6 +408,7 @@ def _estimate_rows_of(
                 estimated_diameters=c.pair.estimated_diameters,
                 threshold_shortfall=lists["threshold_shortfall"][i],
                 max_fit_deviation=deviation,
+                activation_energy_rule=c.partial.provenance.get("evans_polanyi", {}).get("rule"),
             )
         )
     return rows
@@ -406,6 +424,7 @@ def _provenance(c: _Candidate, row: EstimateRow, partners: dict) -> dict[str, An
         "uncertainty_factor": row.uncertainty_factor,
         "activation_energy_J_per_mol": row.activation_energy,
         "activation_energy_expression_id": c.partial.id,
+        "activation_energy_from_relation": c.partial.provenance.get("evans_polanyi"),
         "threshold_energy_J_per_mol": row.threshold_energy,
         "threshold_energy_held_at_zero": row.threshold_shortfall > 0,
         "activation_energy_below_collision_rate_J_per_mol": row.threshold_shortfall,

@@ -103,6 +103,7 @@ def fit_reactions(
         points.relative_uncertainty,
         points.reaction_id,
         sets=points.set_id,
+        systematic=points.systematic_uncertainty,
         form=form,
         fixed_n=fixed_n,
         significance=significance,

@@ -82,7 +82,15 @@ class MeasurementImporter:
             set_ids = insert_sets(
                 self.session,
                 [
-                    NewSet(s.name, s.reaction.id, s.reference, s.method, s.bath_gas, s.k_units)
+                    NewSet(
+                        s.name,
+                        s.reaction.id,
+                        s.reference,
+                        s.method,
+                        s.bath_gas,
+                        s.k_units,
+                        s.systematic_uncertainty,
+                    )
                     for s in chunk.new_sets
                 ],
                 source=self.source,

@@ -24,6 +24,7 @@ from ratebank.services.validate import (
     Problems,
     ReactionRef,
     ReactionResolver,
+    parse_number,
     too_long,
 )
 
@@ -43,6 +44,9 @@ class MeasurementSetRecord:
     factor: float = float("nan")
     valid: bool = True
     id: int | None = None
+    #: one standard deviation of the set's scale, a fraction of k (its text, for agreement)
+    systematic_text: str = ""
+    systematic_uncertainty: float | None = None
     #: points seen so far with and without a stated uncertainty
     with_uncertainty: int = 0
     without_uncertainty: int = 0
@@ -76,6 +80,7 @@ class _TextColumns:
     references: Sequence[str]
     methods: Sequence[str]
     baths: Sequence[str]
+    systematic: Sequence[str]
 
     @classmethod
     def of(cls, columns: Mapping[str, Sequence[str]], n: int) -> _TextColumns:
@@ -91,6 +96,7 @@ class _TextColumns:
                     "reference",
                     "method",
                     "bath_gas",
+                    "systematic_uncertainty",
                 )
             )
         )
@@ -285,6 +291,26 @@ class MeasurementValidator:
 
     # ------------------------------------------------------------------ sets
 
+    def _set_systematic(self, record: MeasurementSetRecord, text: str, line: int) -> None:
+        """The set's systematic uncertainty from its first row (a fraction of k, below 1)."""
+        record.systematic_text = text
+        if not text:
+            return
+        what = "a systematic uncertainty as a fraction of k (0.1 for 10 %)"
+        try:
+            value = parse_number(text, minimum=0.0, what=what)
+        except ValueError as exc:
+            self.problems.add(line, "systematic_uncertainty", str(exc))
+            return
+        if value >= 1.0:
+            self.problems.add(
+                line,
+                "systematic_uncertainty",
+                f"{value:g} is {value * 100:g} % of k; expected {what}",
+            )
+            return
+        record.systematic_uncertainty = value
+
     def _check_set_names(self, texts: _TextColumns, runs: _Runs, lines: Sequence[int]) -> None:
         """Empty set names, and set, bath gas or unit texts longer than the store keeps."""
         if "" in runs.first_rows:
@@ -315,6 +341,7 @@ class MeasurementValidator:
             record = self._new_set_quickly(name, texts, i, lines[i]) or self._new_set(
                 name, texts, i, lines[i]
             )
+            self._set_systematic(record, texts.systematic[i], lines[i])
             if name in existing:
                 self.problems.add(
                     lines[i], "set", f"measurement set {name!r} is already in the store"
@@ -436,6 +463,7 @@ class MeasurementValidator:
             ("reference", texts.references),
             ("method", texts.methods),
             ("bath_gas", texts.baths),
+            ("systematic_text", texts.systematic),
         ):
             self._check_agreement(rows, texts.set_names, values, column, lines)
 
@@ -510,9 +538,10 @@ class MeasurementValidator:
                 f"line {first}; one set uses one unit",
             )
         else:
+            shown = "systematic_uncertainty" if column == "systematic_text" else column
             self.problems.add(
                 line,
-                column,
+                shown,
                 f"{value!r} differs from {(getattr(record, column) or '')!r} given for set "
                 f"{set_name!r} on line {first}",
             )
@@ -551,7 +580,8 @@ class MeasurementValidator:
             low, high, said = input_rules.rate_constant_bounds_si(order)
             with np.errstate(invalid="ignore"):
                 outside = (orders == order) & ~((rate_si >= low) & (rate_si <= high))
-            for i in np.flatnonzero(outside & ~np.isnan(rate_si)):
+            # a k of zero or less is already reported as such
+            for i in np.flatnonzero(outside & ~np.isnan(rate_si) & (given > 0)):
                 self.problems.add(
                     lines[i],
                     "k",

@@ -34,6 +34,7 @@ from ratebank.science.units import (
     parse_rate_unit,
     rate_from_si,
 )
+from ratebank.services.reverse import ReverseInfo, with_reverse
 from ratebank.services.selection import (
     ChosenRow,
     chosen_expressions,
@@ -62,6 +63,8 @@ COLUMNS = (
     "uncertainty_g_K",
     "linearised_at_K",
     "linearisation_max_ln_deviation",
+    "reverse",
+    "reverse_max_relative_deviation",
 )
 FORMS = ("modified", "arrhenius")
 RATE_LAW_CONVENTION = (
@@ -163,6 +166,8 @@ class MechanismRow(NamedTuple):
     uncertainty_g_K: float | None
     linearised_at_K: float | None
     linearisation_max_ln_deviation: float | None
+    reverse: str
+    reverse_max_relative_deviation: float | None
     expression_id: int
     chosen_by: str
 
@@ -177,6 +182,7 @@ class MechanismTable:
     form: str
     gaps: list[str]
     left_out: list[str] = field(default_factory=list)
+    reverse: ReverseInfo = field(default_factory=ReverseInfo)
 
 
 def _check_form_options(form: str, linearise_at: float | None) -> None:
@@ -242,6 +248,7 @@ def mechanism_table(
     form: str = "modified",
     linearise_at: float | None = None,
     leave_out_gaps: bool = False,
+    reverse_as_fit: bool = False,
 ) -> MechanismTable:
     """Build the rows of the mechanism table (nothing is written here).
 
@@ -250,7 +257,9 @@ def mechanism_table(
     ``linearise_at`` when given (refused for a row whose range does not hold
     it), else at the geometric middle of the range. The row records the
     temperature and the largest |ln k| deviation over its range, and its
-    uncertainty factor includes that deviation.
+    uncertainty factor includes that deviation. The reverse of a reversible
+    reaction is described, or with ``reverse_as_fit`` written as a row of its
+    own (:func:`ratebank.services.reverse.with_reverse`).
     """
     _check_form_options(form, linearise_at)
     chosen, gaps = chosen_rows(session)
@@ -278,7 +287,9 @@ def mechanism_table(
     }
     energy_factor = float(energy_from_si(1.0, units.e_units))
     rows = [_row(c, linear.get(c.expression_id), units, factors, energy_factor) for c in chosen]
-    return MechanismTable(rows, units, form, gaps, left_out=gaps if leave_out_gaps else [])
+    rows, reverse = with_reverse(session, rows, units, as_fit=reverse_as_fit)
+    left_out = gaps if leave_out_gaps else []
+    return MechanismTable(rows, units, form, gaps, left_out=left_out, reverse=reverse)
 
 
 def _row(
@@ -312,6 +323,8 @@ def _row(
         uncertainty_g_K=(c.uncertainty_g or 0.0) if f298 is not None else None,
         linearised_at_K=linear.T_lin if linear is not None else None,
         linearisation_max_ln_deviation=linear.max_ln_deviation if linear is not None else None,
+        reverse="none",  # filled by services.reverse
+        reverse_max_relative_deviation=None,
         expression_id=c.expression_id,
         chosen_by=c.rule,
     )

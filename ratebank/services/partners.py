@@ -347,3 +347,23 @@ def store_estimated_partners(session: Session, pairs: Sequence[CollisionPair]) -
             )
         if changed:
             store_species_estimates(session, species.id, name, changed)
+
+
+def species_pair(
+    reaction_id: int,
+    key: str,
+    a: SpeciesRow,
+    b: SpeciesRow,
+    *,
+    model: str = "hard-sphere",
+) -> CollisionPair | str:
+    """The collision pair of two given species (the products of a reaction's reverse, say),
+    with a missing diameter estimated as for reactants; or why there is none."""
+    check_model(model)
+    first = _completed(a, model)
+    second = first if b.id == a.id else _completed(b, model)
+    problem = next((p for p in (first, second) if isinstance(p, str)), None)
+    if problem is not None:
+        return problem
+    assert isinstance(first, PartnerData) and isinstance(second, PartnerData)
+    return CollisionPair(reaction_id, key, first, second, b.id == a.id)

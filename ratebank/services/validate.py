@@ -49,8 +49,10 @@ SPECIES_COLUMNS = (
 )
 SPECIES_REQUIRED = ("name", "formula")
 
-REACTION_COLUMNS = ("key", "equation", "class", "notes")
+REACTION_COLUMNS = ("key", "equation", "class", "notes", "reverse")
 REACTION_REQUIRED = ("key", "equation")
+#: How a reaction's reverse is obtained: ``none`` (the default) or by detailed balance.
+REVERSE_RULES = ("none", "detailed-balance")
 
 MEASUREMENT_COLUMNS = (
     "set",
@@ -64,6 +66,7 @@ MEASUREMENT_COLUMNS = (
     "method",
     "pressure_bar",
     "bath_gas",
+    "systematic_uncertainty",
 )
 MEASUREMENT_REQUIRED = ("set", "reaction", "T_K", "k")
 
@@ -476,6 +479,9 @@ def validate_reactions(
     seen_equations: dict[str, int | None] = {}
     for line, row in rows:
         key = _reaction_key(problems, line, row, existing_keys, seen_keys)
+        reverse = cell(row, "reverse") or "none"
+        if reverse not in REVERSE_RULES:
+            problems.add(line, "reverse", f"{reverse!r} is not one of {', '.join(REVERSE_RULES)}")
         equation = _reaction_equation(problems, line, row, species_formulas)
         if equation is None:
             continue
@@ -508,6 +514,7 @@ def validate_reactions(
                 product_counts=dict(equation.product_counts),
                 reaction_class=cell(row, "class"),
                 notes=cell(row, "notes"),
+                reverse=None if reverse == "none" else reverse,
             )
         )
     return reactions

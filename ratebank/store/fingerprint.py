@@ -23,12 +23,14 @@ from sqlalchemy import JSON, Boolean, Float, Integer, inspect
 from sqlalchemy.orm import Session
 
 from ratebank.store.models import (
+    EvansPolanyiRule,
     Expression,
     MeasurementSet,
     Participant,
     Point,
     Reaction,
     Species,
+    SpeciesThermo,
     StericRule,
 )
 
@@ -37,6 +39,9 @@ _SKIP = {"created_at", "updated_at", "updated_by", "created_by", "version"}
 #: not yet upgraded hashes the same content under today's names.
 _FORMER_NAMES = {"a": "pre_exponential", "n": "temperature_exponent", "ea": "activation_energy"}
 TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
+#: Tables a later revision added: hashed only when they hold a row, so that an upgrade which
+#: adds them empty keeps the fingerprint (as for columns, above).
+LATER_TABLES = (SpeciesThermo, EvansPolanyiRule)
 #: Rows fetched and hashed at a time.
 _BATCH = 50_000
 
@@ -103,6 +108,13 @@ def _columns_with_values(
     return [c for c, n in zip(columns, filled, strict=True) if n]
 
 
+def _has_rows(cursor: Any, table: str, present: set[str]) -> bool:
+    if table not in present:
+        return False
+    cursor.execute(f"SELECT 1 FROM {table} LIMIT 1")
+    return cursor.fetchone() is not None
+
+
 def store_fingerprint(session: Session) -> str:
     """``sha256:<hex>`` of the curated content.
 
@@ -116,8 +128,11 @@ def store_fingerprint(session: Session) -> str:
     assert raw is not None
     cursor = raw.cursor()
     try:
-        for model in TABLES:
+        present = set(inspector.get_table_names())
+        for model in (*TABLES, *LATER_TABLES):
             table = model.__table__
+            if model in LATER_TABLES and not _has_rows(cursor, table.name, present):
+                continue
             stored = {c["name"] for c in inspector.get_columns(table.name)}
             names = {
                 c.name: c.name if c.name in stored else _FORMER_NAMES.get(c.name, c.name)

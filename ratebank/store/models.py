@@ -45,6 +45,11 @@ NAMING_CONVENTION = {
 ORIGINS = ("measured-fit", "literature", "collision-estimate", "manual")
 DIAMETER_KINDS = ("hard-sphere", "lennard-jones")
 PARTICIPANT_ROLES = ("reactant", "product")
+#: How a reaction's reverse is obtained: NULL means none (irreversible as written).
+REVERSE_RULES = ("detailed-balance",)
+#: The seven coefficients of each polynomial range, as the columns and import file name them.
+LOW_COEFFICIENTS = tuple(f"low_{i}" for i in range(1, 8))
+HIGH_COEFFICIENTS = tuple(f"high_{i}" for i in range(1, 8))
 
 
 def utc_now() -> dt.datetime:
@@ -151,6 +156,12 @@ class Reaction(Base):
     steric_factor: Mapped[float | None] = mapped_column(Float)
     steric_source: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    #: "detailed-balance" when k_r = k_f / Kc; empty (the default) when the reaction is
+    #: irreversible as written
+    reverse: Mapped[str | None] = mapped_column(
+        String(30),
+        CheckConstraint("reverse IS NULL OR reverse IN ('detailed-balance')", name="reverse_known"),
+    )
 
     participants: Mapped[list[Participant]] = relationship(
         back_populates="reaction", cascade="all, delete-orphan", order_by="Participant.id"
@@ -187,6 +198,12 @@ class MeasurementSet(Base):
     """One measured k(T) data set of one reaction, from one source."""
 
     __tablename__ = "measurement_set"
+    __table_args__ = (
+        CheckConstraint(
+            "systematic_uncertainty IS NULL OR systematic_uncertainty >= 0",
+            name="systematic_uncertainty_non_negative",
+        ),
+    )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     name: Mapped[str] = mapped_column(String(200), unique=True)
@@ -196,6 +213,8 @@ class MeasurementSet(Base):
     bath_gas: Mapped[str | None] = mapped_column(String(200))
     #: the k unit the data were given in (values are stored in SI)
     original_k_units: Mapped[str] = mapped_column(String(100))
+    #: one standard deviation of the whole set's scale, as a fraction of k
+    systematic_uncertainty: Mapped[float | None] = mapped_column(Float)
     source_file: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
 
@@ -307,6 +326,84 @@ class StericRule(Base):
     uncertainty_factor: Mapped[float | None] = mapped_column(Float)
     source: Mapped[str | None] = mapped_column(Text)
     note: Mapped[str | None] = mapped_column(Text)
+    version: Mapped[int] = mapped_column(Integer, default=1)
+    updated_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    updated_by: Mapped[str | None] = mapped_column(String(200))
+
+    __mapper_args__ = {"version_id_col": version}  # noqa: RUF012
+
+
+class SpeciesThermo(Base):
+    """A species' standard-state (1 bar) thermochemistry as two seven-coefficient polynomials.
+
+    Cp°/R = a1 + a2 T + a3 T^2 + a4 T^3 + a5 T^4, H°/RT and S°/R as in
+    McBride, Gordon & Reno (NASA TM-4513, 1993), T in K; ``low_1..low_7`` hold
+    for T_low..T_mid and ``high_1..high_7`` for T_mid..T_high.
+    """
+
+    __tablename__ = "species_thermo"
+    __table_args__ = (
+        CheckConstraint("t_low > 0 AND t_low < t_mid AND t_mid < t_high", name="range_ordered"),
+        CheckConstraint(
+            "max_cp_deviation IS NULL OR max_cp_deviation >= 0", name="cp_deviation_non_negative"
+        ),
+        CheckConstraint(
+            "max_h_deviation IS NULL OR max_h_deviation >= 0", name="h_deviation_non_negative"
+        ),
+        CheckConstraint(
+            "max_s_deviation IS NULL OR max_s_deviation >= 0", name="s_deviation_non_negative"
+        ),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    species_id: Mapped[int] = mapped_column(ForeignKey("species.id"), unique=True)
+    #: [K]
+    t_low: Mapped[float] = mapped_column(Float)
+    t_mid: Mapped[float] = mapped_column(Float)
+    t_high: Mapped[float] = mapped_column(Float)
+    low_1: Mapped[float] = mapped_column(Float)
+    low_2: Mapped[float] = mapped_column(Float)
+    low_3: Mapped[float] = mapped_column(Float)
+    low_4: Mapped[float] = mapped_column(Float)
+    low_5: Mapped[float] = mapped_column(Float)
+    low_6: Mapped[float] = mapped_column(Float)
+    low_7: Mapped[float] = mapped_column(Float)
+    high_1: Mapped[float] = mapped_column(Float)
+    high_2: Mapped[float] = mapped_column(Float)
+    high_3: Mapped[float] = mapped_column(Float)
+    high_4: Mapped[float] = mapped_column(Float)
+    high_5: Mapped[float] = mapped_column(Float)
+    high_6: Mapped[float] = mapped_column(Float)
+    high_7: Mapped[float] = mapped_column(Float)
+    #: "given coefficients", "fitted to tabulated Cp" or "NIST-JANAF table <index> (<name>)"
+    method: Mapped[str] = mapped_column(String(200))
+    source: Mapped[str | None] = mapped_column(Text)
+    #: largest |Cp_fit / Cp - 1| over the fitted points [-] (fitted polynomials only)
+    max_cp_deviation: Mapped[float | None] = mapped_column(Float)
+    #: largest |H_fit - H| [J mol-1] over tabulated H (a NIST-JANAF fit)
+    max_h_deviation: Mapped[float | None] = mapped_column(Float)
+    #: largest |S_fit - S| [J mol-1 K-1] over tabulated S (a NIST-JANAF fit)
+    max_s_deviation: Mapped[float | None] = mapped_column(Float)
+    #: number of Cp points fitted
+    fit_points: Mapped[int | None] = mapped_column(Integer)
+    updated_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    updated_by: Mapped[str | None] = mapped_column(String(200))
+
+
+class EvansPolanyiRule(Base):
+    """The Evans-Polanyi relation Ea = E0 + alpha ΔrH°(298.15 K) a curator set for a class."""
+
+    __tablename__ = "evans_polanyi_rule"
+    __table_args__ = (CheckConstraint("spread IS NULL OR spread >= 0", name="spread_non_negative"),)
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    reaction_class: Mapped[str] = mapped_column(String(200), unique=True)
+    #: [J mol-1]
+    E0: Mapped[float] = mapped_column("intrinsic_barrier", Float)
+    alpha: Mapped[float] = mapped_column(Float)
+    #: one standard deviation of Ea about the line [J mol-1], when the curator knows it
+    spread: Mapped[float | None] = mapped_column(Float)
+    source: Mapped[str | None] = mapped_column(Text)
     version: Mapped[int] = mapped_column(Integer, default=1)
     updated_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
     updated_by: Mapped[str | None] = mapped_column(String(200))

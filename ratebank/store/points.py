@@ -26,6 +26,8 @@ class PointColumns:
     k: np.ndarray
     relative_uncertainty: np.ndarray
     pressure: np.ndarray
+    #: the systematic (scale) uncertainty of each point's set, NaN where none
+    systematic_uncertainty: np.ndarray
 
     @property
     def size(self) -> int:
@@ -42,6 +44,7 @@ def points(session: Session, reaction_ids: Sequence[int] | None = None) -> Point
             Point.rate_constant,
             Point.relative_uncertainty,
             Point.pressure,
+            MeasurementSet.systematic_uncertainty,
         )
         .join(MeasurementSet, MeasurementSet.id == Point.set_id)
         .order_by(MeasurementSet.reaction_id, Point.set_id, Point.id)
@@ -52,8 +55,8 @@ def points(session: Session, reaction_ids: Sequence[int] | None = None) -> Point
     if not rows:
         empty = np.zeros(0)
         ids = empty.astype(np.int64)
-        return PointColumns(ids, ids, empty, empty, empty, empty)
-    reaction_id, set_id, T, k, u, p = zip(*rows, strict=True)
+        return PointColumns(ids, ids, empty, empty, empty, empty, empty)
+    reaction_id, set_id, T, k, u, p, systematic = zip(*rows, strict=True)
     return PointColumns(
         np.asarray(reaction_id, dtype=np.int64),
         np.asarray(set_id, dtype=np.int64),
@@ -61,4 +64,5 @@ def points(session: Session, reaction_ids: Sequence[int] | None = None) -> Point
         np.asarray(k, dtype=float),
         np.array(u, dtype=float),  # None becomes NaN
         np.array(p, dtype=float),
+        np.array(systematic, dtype=float),
     )

@@ -131,6 +131,8 @@ class NewReaction:
     product_counts: Mapping[str, int] = field(default_factory=dict)
     reaction_class: str | None = None
     notes: str | None = None
+    #: "detailed-balance", or None when irreversible as written
+    reverse: str | None = None
 
 
 class ReactionKeyRow(NamedTuple):
@@ -197,9 +199,10 @@ def insert_reactions(session: Session, reactions: Sequence[NewReaction]) -> None
             "reaction_class",
             "notes",
             "created_at",
+            "reverse",
         ),
         [
-            (r.key, r.equation, r.order, r.third_body, r.reaction_class, r.notes, now)
+            (r.key, r.equation, r.order, r.third_body, r.reaction_class, r.notes, now, r.reverse)
             for r in reactions
         ],
     )
@@ -232,6 +235,8 @@ class NewSet(NamedTuple):
     bath_gas: str | None
     #: the unit the points were given in, kept for the record
     k_units: str
+    #: one standard deviation of the set's scale, a fraction of k
+    systematic_uncertainty: float | None = None
 
 
 #: The point columns :func:`insert_points` writes; ``set_id``, ``temperature`` and
@@ -259,6 +264,7 @@ def insert_sets(session: Session, sets: Sequence[NewSet], *, source: str) -> lis
             "method",
             "bath_gas",
             "original_k_units",
+            "systematic_uncertainty",
             "source_file",
             "created_at",
         ),

@@ -65,11 +65,27 @@ def ratebank(db: Path, *args: str) -> list[str]:
     return [PYTHON, "-m", "ratebank", "--db", str(db), "--quiet", *args]
 
 
+def _at_head(store: Path) -> bool:
+    """True when a cached template is at this ratebank's schema revision (else rebuilt)."""
+    import sqlite3
+
+    from ratebank.store.schema import HEAD_REVISION
+
+    connection = sqlite3.connect(store)
+    try:
+        row = connection.execute("SELECT version_num FROM alembic_version").fetchone()
+    except sqlite3.Error:
+        return False
+    finally:
+        connection.close()
+    return bool(row) and row[0] == HEAD_REVISION
+
+
 def build_templates(files: Files, folder: Path) -> tuple[Path, Path]:
     """(store with species and reactions, the same with the fit data and activation energies)."""
     base = folder / "template-base.db"
     full = folder / "template-full.db"
-    if base.exists() and full.exists():
+    if base.exists() and full.exists() and _at_head(base) and _at_head(full):
         return base, full
     for path in (base, full):
         for suffix in ("", "-wal", "-shm"):
@@ -206,7 +222,7 @@ for rid, sid, c in connection.execute(
         "SELECT reaction_id, species_id, coefficient FROM participant WHERE role = 'reactant'"):
     reactants.setdefault(rid, []).extend([sid] * c)
 ea = dict(connection.execute(
-    "SELECT reaction_id, activation_energy FROM expression WHERE pre_exponential IS NULL"))
+    "SELECT reaction_id, Ea FROM expression WHERE A IS NULL"))
 keys = dict(connection.execute("SELECT id, key FROM reaction"))
 ids = sorted(r for r in ea if len(reactants.get(r, [])) == 2)
 a = np.array([reactants[r][0] for r in ids]); b = np.array([reactants[r][1] for r in ids])

@@ -127,6 +127,8 @@ COLUMNS = [
     "uncertainty_g_K",
     "linearised_at_K",
     "linearisation_max_ln_deviation",
+    "reverse",
+    "reverse_max_relative_deviation",
 ]
 
 

@@ -119,3 +119,33 @@ def test_literature_uncertainty_in_the_panels_forms(store, tmp_path):
     panel = panel_factor_from_log10_form(0.1, 100.0)
     assert listed["ho2-ho2"]["uncertainty_factor"] == pytest.approx(float(panel.f298), rel=1e-12)
     assert listed["ho2-ho2"]["uncertainty_g_K"] == pytest.approx(float(panel.g), rel=1e-12)
+
+
+def test_a_sets_systematic_uncertainty_is_read_once_per_set(store, tmp_path):
+    header = "set,reaction,T_K,k,k_units,k_uncertainty,systematic_uncertainty\n"
+    good = header + "".join(
+        f"a,oh-ch4,{T},{3e-11 * 2.718281828 ** (-1100 / T):.6e},cm3/molecule/s,0.01,0.1\n"
+        for T in (250, 300, 350, 400)
+    )
+    assert run(store, "data", "import", str(write(tmp_path / "g.csv", good))).exit_code == 0
+    assert run(store, "fit", "oh-ch4", "--form", "arrhenius").exit_code == 0
+    (fit,) = [
+        e
+        for e in json.loads(run(store, "expressions", "list", "--json").stdout)
+        if e["origin"] == "measured-fit"
+    ]
+    assert fit["uncertainty_factor"] >= 1.1  # the 10 % scale is not averaged away
+    before = snapshot(store)
+    bad = (
+        header
+        + "b,oh-ch4,300,6e-15,cm3/molecule/s,0.1,0.1\nb,oh-ch4,400,2e-14,cm3/molecule/s,0.1,0.2\n"
+    )
+    refused = run(store, "data", "import", str(write(tmp_path / "b.csv", bad)))
+    assert refused.exit_code == 1
+    assert (
+        ":3: systematic_uncertainty: '0.2' differs from '0.1' given for set 'b'" in refused.stderr
+    )
+    too_big = header + "c,oh-ch4,300,6e-15,cm3/molecule/s,0.1,1.5\n"
+    refused = run(store, "data", "import", str(write(tmp_path / "c.csv", too_big)))
+    assert ":2: systematic_uncertainty: 1.5 is 150 % of k" in refused.stderr
+    assert snapshot(store) == before

@@ -378,6 +378,15 @@ ARGUMENTS = {
     "steric clear-reaction": ["oh-ch4"],
     "steric derived": [],
     "steric plot": ["-o", "{tmp}/s.png"],
+    "thermo import": ["{csv}"],
+    "thermo janaf": ["OH=H-038"],
+    "thermo list": [],
+    "thermo reaction": ["oh-ch4", "-T", "300"],
+    "thermo set-reverse": ["oh-ch4", "none"],
+    "evans-polanyi derived": [],
+    "evans-polanyi set-class": ["c", "40", "0.3"],
+    "evans-polanyi list": [],
+    "evans-polanyi clear-class": ["c"],
 }
 
 

@@ -632,3 +632,23 @@ def test_fit_groups_leaves_consistent_data_alone():
     assert fits.between_set_variance[0] == 0.0 and fits.covariance_scale[0] == 1.0
     assert [w.code for w in fits.warnings[0]] == ["scatter-below-stated"]
     assert fits.A[0] == pytest.approx(2.0e8, rel=1e-10)
+
+
+def test_a_sets_systematic_uncertainty_cannot_be_averaged_away():
+    """One synthetic set of 20 exact points at 1 % each with a 10 % scale uncertainty: the
+    fitted level is uncertain by the 10 % (its offset variance s^2 is added to the set mean,
+    DerSimonian & Laird's random-offset form), not by 1 %/sqrt(20)."""
+    from ratebank.science.uncertainty import uncertainty_factor_from_covariance
+
+    T = np.linspace(300.0, 600.0, 20)
+    k = 4.0e8 * np.exp(-1500.0 / T)
+    plain = arrhenius.fit_groups(T, k, np.full(20, 0.01), np.zeros(20), form="arrhenius")
+    scaled = arrhenius.fit_groups(
+        T, k, np.full(20, 0.01), np.zeros(20), systematic=np.full(20, 0.1), form="arrhenius"
+    )
+    T_mid = np.exp(np.mean(np.log(T)))
+    f_plain = uncertainty_factor_from_covariance(T_mid, plain.covariance[0])
+    f_scaled = uncertainty_factor_from_covariance(T_mid, scaled.covariance[0])
+    assert f_plain < 1.01
+    assert np.log(f_scaled) == pytest.approx(np.hypot(0.1, 0.01 / np.sqrt(20)), rel=0.02)
+    assert scaled.A[0] == pytest.approx(4.0e8, rel=1e-9)

@@ -34,9 +34,21 @@ def test_constant_equals_scipy(ours, theirs):
     assert getattr(constants, ours) == getattr(sc, theirs)
 
 
+# (ratebank name, the same quantity from scipy.constants, source)
+DERIVED = [
+    ("DEBYE", 1e-21 / sc.c, "IUPAC Green Book: 1 D = 1e-21/c C m (exact)"),
+    ("ELECTRONVOLT_MOLAR", sc.e * sc.N_A, "e N_A, REFERENCE-CHECKS section 2: 96485.33212 J/mol"),
+]
+
+
+@pytest.mark.parametrize(("ours", "value", "source"), DERIVED)
+def test_derived_constant_equals_scipy(ours, value, source):
+    assert getattr(constants, ours) == pytest.approx(value, rel=1e-15)
+
+
 def test_every_constant_is_checked():
     public = {name for name in vars(constants) if name.isupper()}
-    assert public == {ours for ours, _ in PAIRS}
+    assert public == {ours for ours, _ in PAIRS} | {ours for ours, *_ in DERIVED}
 
 
 def test_importing_constants_does_not_import_scipy():

@@ -156,6 +156,18 @@ def test_reactions_are_canonical_balanced_and_counted():
     assert (oh_ch4.order, oh_ch4.third_body, oh_ch4.reaction_class) == (2, False, "h-abstraction")
     assert ho2.reactant_counts == {"HO2": 2}
     assert (recombination.order, recombination.third_body) == (3, True)
+    assert oh_ch4.reverse is None  # the reverse column defaults to none
+
+
+def test_a_reversible_reaction_is_declared_in_its_reverse_column():
+    rows = [
+        (2, {"key": "a", "equation": "OH + CH4 -> CH3 + H2O", "reverse": "detailed-balance"}),
+        (3, {"key": "b", "equation": "H + O2 + M -> HO2 + M", "reverse": "none"}),
+    ]
+    problems = Problems()
+    declared, plain = validate_reactions(rows, FORMULAS, set(), {}, problems)
+    assert not problems
+    assert (declared.reverse, plain.reverse) == ("detailed-balance", None)
 
 
 @pytest.mark.parametrize(
@@ -170,6 +182,10 @@ def test_reactions_are_canonical_balanced_and_counted():
             "equation: 'CH4 + OH -> CH3 + H2O' is already in the store as 'stored'",
         ),
         ([{"key": "a", "equation": "H + H + H + H -> H2O"}], "equation: "),
+        (
+            [{"key": "a", "equation": "OH + CH4 -> CH3 + H2O", "reverse": "both"}],
+            "reverse: 'both' is not one of none, detailed-balance",
+        ),
     ],
 )
 def test_reaction_problems(rows, expected):
