@@ -38,6 +38,7 @@ from ratebank.services.store_access import StoreHandle, init_store, open_store
 if TYPE_CHECKING:
     from ratebank.io.demo import DemoResult
     from ratebank.io.export import ExportResult
+    from ratebank.report.book import BookFiles
     from ratebank.report.plots import PlotFile
     from ratebank.services.backup import BackupResult, RestoreResult
     from ratebank.services.checks import CheckReport
@@ -229,10 +230,12 @@ class Store:
         self, name: str, *, temperatures: Sequence[float] | None = None
     ) -> SpeciesPage:
         """One species, the reactions it takes part in, and its thermochemistry (Cp°, H°, S°
-        at ``temperatures`` [K], or the usual ones); a SpeciesPage."""
+        at ``temperatures`` [K], or the usual ones); a SpeciesPage. For a species without a
+        diameter, ``species.estimated_diameter`` is the estimate collision theory would use
+        (not stored)."""
         with self._handle.session() as session:
             return SpeciesPage(
-                _service("species").show_species(session, name),
+                _service("partners").species_detail(session, name),
                 _service("thermo").species_thermo(session, name, temperatures),
             )
 
@@ -509,6 +512,39 @@ class Store:
                 reverse_as_fit=reverse_as_fit,
             )
 
+    # ------------------------------------------------------------------ review book
+
+    def review(
+        self,
+        out_dir: str | Path,
+        *,
+        keys: Sequence[str] | None = None,
+        reaction_class: str | None = None,
+        species: str | None = None,
+        preset: str = "combustion",
+        progress: Progress | None = None,
+    ) -> BookFiles:
+        """Write the review book, a static HTML site of the store (or of the reactions
+        selected by ``keys``, ``reaction_class`` or ``species``), into the folder ``out_dir``;
+        a BookFiles (the folder, its index and the page count).
+
+        The folder must be new, empty or an earlier review book (replaced whole); it is
+        checked before the store is read, and written whole, then moved into place.
+        """
+        book_files = _module("report.book")
+        book_files.check_book_target(out_dir)
+        with self._handle.session() as session:
+            book = _service("review").gather_book(
+                session,
+                keys=None if keys is None else list(keys),
+                reaction_class=reaction_class,
+                species=species,
+                preset=preset,
+                store_label=self._handle.display_url,
+                progress=progress,
+            )
+        return book_files.render_book(book, out_dir, progress=progress, store_path=self._store_file)
+
     # ------------------------------------------------------------------ steric factors
 
     def steric_rules(self) -> tuple[list[RuleView], list[ReactionStericView]]:
@@ -603,18 +639,19 @@ class Store:
         k_units: str | None = None,
         T_range: tuple[float, float] | None = None,
         panels: bool = False,
-        width: float = 7.0,
-        height: float = 5.0,
+        width: float | None = None,
+        height: float | None = None,
         dpi: float = 150.0,
     ) -> PlotResult[list[ReactionPlotData]]:
         """Write an Arrhenius plot (log10 k against 1000/T) of the reactions to ``out``
         (``.png``, ``.svg`` or ``.pdf``); a PlotResult (the file and the plotted data).
 
-        ``width`` and ``height`` are in inches; the target is checked before the
-        store is read.
+        ``width`` and ``height`` are in inches (default: 7 by 5, or a grid of panels that
+        grows with the count); the target is checked before the store is read.
         """
         plots = _module("report.plots")
-        plots.check_plot_target(out, width, height, dpi, self._store_file)
+        size = plots.arrhenius_figure_size(len(set(keys)), panels, width, height)
+        plots.check_plot_target(out, *size, dpi, self._store_file)
         data = self.arrhenius_plot_data(keys, preset=preset, k_units=k_units, T_range=T_range)
         written = plots.render_arrhenius(
             data, out, panels=panels, width=width, height=height, dpi=dpi,
@@ -628,14 +665,17 @@ class Store:
         *,
         collision: str = "hard-sphere",
         reaction_class: str | None = None,
-        width: float = 7.0,
-        height: float = 5.0,
+        width: float | None = None,
+        height: float | None = None,
         dpi: float = 150.0,
     ) -> PlotResult[StericPlotData]:
         """Write the derived steric factors per class on a log scale to ``out``; a PlotResult
-        (the file and the plotted data)."""
+        (the file and the plotted data). The width [in] grows with the classes unless given."""
         plots = _module("report.plots")
-        plots.check_plot_target(out, width, height, dpi, self._store_file)
+        default_width, default_height = plots.DEFAULT_SIZE
+        plots.check_plot_target(
+            out, width or default_width, height or default_height, dpi, self._store_file
+        )
         data = self.steric_plot_data(collision=collision, reaction_class=reaction_class)
         written = plots.render_steric(
             data, out, width=width, height=height, dpi=dpi, store_path=self._store_file
@@ -760,8 +800,24 @@ def restore(
     return _service("backup").restore_store(None if db is None else str(db), source, author=author)
 
 
-def demo(db: str | Path, out: str | Path, *, author: str | None = None) -> DemoResult:
+def demo(
+    db: str | Path,
+    out: str | Path,
+    *,
+    author: str | None = None,
+    book: bool = True,
+    progress: Progress | None = None,
+) -> DemoResult:
     """Build the demo store at ``db`` from the invented scenario (every rate number in it is
-    synthetic), fit, estimate, check and export it into the folder ``out``; a DemoResult.
-    Only an earlier demo store is replaced."""
-    return _module("io.demo").run_demo(Path(db), Path(out), author=author)
+    synthetic), fit, estimate, check and export it into the folder ``out``, and write its
+    review book to ``out/review`` unless ``book`` is False; a DemoResult (``book`` holds the
+    BookFiles). Only an earlier demo store, and an earlier book, are replaced."""
+    out = Path(out)
+    book_folder = out / "review"
+    if book and out.is_dir():
+        _module("report.book").check_book_target(book_folder)
+    result = _module("io.demo").run_demo(Path(db), out, author=author)
+    if book:
+        with open(result.db, author=author) as store:
+            result.book = store.review(book_folder, progress=progress)
+    return result

@@ -1,4 +1,4 @@
-"""Every file ratebank writes goes through here: exports, plots, backups.
+"""Every file ratebank writes goes through here: exports, plots, backups, the review book.
 
 One routine decides how a file reaches the disk, so that every output makes the
 same promises:
@@ -22,13 +22,13 @@ same promises:
     marker beside them. The next write to the same target finishes that
     replacement first (roll forward), so a mix never outlives the next run;
     a kill before the marker leaves the old files untouched;
-  - a folder (a data package): staged whole and swapped with the old folder in
-    one atomic exchange of the two names (Linux ``renameat2``), so a reader
-    that opens the folder sees the old set or the new set, never a mix. Where
-    the exchange is not available the old folder is moved aside and the new
-    one moved in, after a commit marker: between those two renames the folder
-    is briefly absent (never mixed), and a kill there is finished by the next
-    run.
+  - a folder (a data package; the review book, with its subfolders): staged
+    whole and swapped with the old folder in one atomic exchange of the two
+    names (Linux ``renameat2``), so a reader that opens the folder sees the
+    old set or the new set, never a mix. Where the exchange is not available
+    the old folder is moved aside and the new one moved in, after a commit
+    marker: between those two renames the folder is briefly absent (never
+    mixed), and a kill there is finished by the next run.
 * **Permissions as for any file the user makes.** New files are created with
   mode ``0o666`` and new folders with ``0o777``, less the umask. A file that
   replaces an existing one keeps the old one's permission bits. A caller may
@@ -205,32 +205,37 @@ def write_folder(
 ) -> Path:
     """Write a folder of files as one unit (see the module docstring); return its path.
 
-    An existing ``target`` is replaced only if it is a folder holding nothing
-    but regular files named in ``contents`` or ``replaceable``; anything else
-    in it is the user's, and the write is refused.
+    A name in ``contents`` may lie in subfolders (``"pages/a.html"``, with
+    ``/`` between the parts); the subfolders are made as needed. An existing
+    ``target`` is replaced only if it is a folder holding nothing but regular
+    files and subfolders named in ``contents`` or ``replaceable`` (or holding
+    such files); anything else in it is the user's, and the write is refused.
     """
     target = Path(target).expanduser().absolute()
     folder = _checked_folder(target)
     _refuse_store(target, store_path)
     names = list(contents)
     for name in names:
-        if not name or "/" in name or name in (".", ".."):
-            raise OutputError(f"{name!r} is not a file name inside {target}")
+        _check_inner_name(name, target)
         _refuse_store(target / name, store_path)
-    _check_replaceable_folder(target, set(names) | set(replaceable))
+    allowed = set(names) | set(replaceable)
+    _check_replaceable_folder(target, allowed)
     with _folder_lock(folder):
         _recover_leftovers(folder, target.name)
     stage = _make_stage(folder, target.name, 0o700)
     try:
         new = stage / STAGED_FOLDER
         _os(os.mkdir, new, 0o777, doing="creating", path=target)
+        made = {new}
         for name, content in contents.items():
+            _make_folders(new, name, made, shown=target)
             _write_new(new / name, content, 0o666, shown=target / name)
             _reached(f"written:{name}")
-        _fsync_folder(new, shown=target)
+        for made_folder in sorted(made, key=lambda p: len(p.parts), reverse=True):
+            _fsync_folder(made_folder, shown=target)
         _fsync_folder(stage, shown=target)
         with _folder_lock(folder):
-            _check_replaceable_folder(target, set(names) | set(replaceable))
+            _check_replaceable_folder(target, allowed)
             if _lstat(target) is None:
                 _os(os.rename, new, target, doing="writing", path=target)
                 _reached("moved:" + target.name)
@@ -426,23 +431,53 @@ def _write_stream(handle: int, content: Content, *, shown: Path) -> None:
 # --------------------------------------------------------------------------- folders
 
 
+def _check_inner_name(name: str, target: Path) -> None:
+    """Refuse a name that would not stay inside the folder (empty parts, ``..``, absolute)."""
+    if not name or any(part in ("", ".", "..") for part in name.split("/")):
+        raise OutputError(f"{name!r} is not a file name inside {target}")
+
+
+def _make_folders(new: Path, name: str, made: set[Path], *, shown: Path) -> None:
+    """The subfolders of ``name`` inside the staged folder ``new`` (0o777 less the umask)."""
+    folder = new
+    for part in name.split("/")[:-1]:
+        folder = folder / part
+        if folder not in made:
+            _os(os.mkdir, folder, 0o777, doing="creating", path=shown)
+            made.add(folder)
+
+
 def _check_replaceable_folder(target: Path, allowed: set[str]) -> None:
     info = _lstat(target)
     if info is None:
         return
     if not stat.S_ISDIR(info.st_mode):
         raise OutputError(f"{target} is {_kind(info.st_mode)}, not a folder; {_ADVICE}")
-    foreign = []
-    with _os(os.scandir, target, doing="reading", path=target) as entries:
-        for entry in entries:
-            if entry.name not in allowed or not entry.is_file(follow_symlinks=False):
-                foreign.append(entry.name)
+    # a subfolder may stay when it is named, or when a named file lies inside it
+    folders = set(allowed)
+    for name in allowed:
+        parts = name.split("/")
+        folders.update("/".join(parts[:end]) for end in range(1, len(parts)))
+    foreign = _foreign_entries(target, "", allowed, folders)
     if foreign:
         shown = ", ".join(sorted(foreign)[:5])
         raise OutputError(
             f"{target} holds files that ratebank did not write ({shown}); nothing was written; "
             "choose another folder"
         )
+
+
+def _foreign_entries(folder: Path, prefix: str, allowed: set[str], folders: set[str]) -> list[str]:
+    """Names under ``folder`` that are neither allowed regular files nor allowed subfolders."""
+    foreign = []
+    with _os(os.scandir, folder, doing="reading", path=folder) as entries:
+        for entry in entries:
+            name = prefix + entry.name
+            if entry.is_dir(follow_symlinks=False) and name in folders:
+                foreign.extend(_foreign_entries(Path(entry.path), name + "/", allowed, folders))
+            elif name not in allowed or not entry.is_file(follow_symlinks=False):
+                foreign.append(name)
+    return foreign
 
 
 def _finish_folder(stage: Path, target: Path) -> None:

@@ -32,9 +32,11 @@ from ratebank.errors import (
     RatebankError,
     RefusedEstimateError,
     StaleEditError,
+    StoreError,
     StoreRevisionError,
     UnitError,
 )
+from ratebank.numbers import round_significant
 from ratebank.services.store_access import StoreHandle
 from ratebank.store.schema import HEAD_REVISION
 
@@ -96,6 +98,12 @@ def test_init_creates_a_store_then_changes_nothing(db_url):
 
 
 def test_open_refuses_a_database_that_is_not_a_store_yet(db_url):
+    if "://" not in db_url:
+        # a missing SQLite file is refused without making one
+        with pytest.raises(StoreError, match=r"there is no store at .* \(no such file\)"):
+            ratebank.open(db_url)
+        assert not Path(db_url).exists()
+        Path(db_url).touch()  # an empty file: a database that is not a store yet
     with pytest.raises(StoreRevisionError, match="not a ratebank store yet"):
         ratebank.open(db_url)
 
@@ -532,8 +540,9 @@ def test_the_readme_example_gives_the_command_lines_numbers(tmp_path, monkeypatc
     assert outcome.exit_code == 0, outcome.stderr
     cli = json.loads(outcome.stdout)
     assert (cli["expression_id"], cli["k_units"]) == (report.expression_id, report.k_units)
+    # the command line's JSON rounds every number to 15 significant digits
     assert [(r["T_K"], r["k"], r["uncertainty_factor"]) for r in cli["rates"]] == [
-        (r.T, r.k, r.uncertainty_factor) for r in report.rows
+        tuple(round_significant(v) for v in (r.T, r.k, r.uncertainty_factor)) for r in report.rows
     ]
     assert printed == [
         f"{r['T_K']:g} K: k = {r['k']:.3e} {cli['k_units']}, factor {r['uncertainty_factor']:.2f}"

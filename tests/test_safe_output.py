@@ -293,6 +293,74 @@ def test_a_folder_target_that_is_a_file_or_would_replace_the_store_is_refused(tm
     assert store.read_bytes().startswith(b"SQLite format 3")
 
 
+def _tree(folder: Path) -> dict[str, str]:
+    return {
+        p.relative_to(folder).as_posix(): p.read_text() for p in folder.rglob("*") if p.is_file()
+    }
+
+
+@pytest.mark.parametrize("mask", [0o022, 0o077])
+def test_a_folder_with_subfolders_is_written_with_the_umask_modes(tmp_path, mask):
+    old = os.umask(mask)
+    try:
+        safe_output.write_folder(
+            tmp_path / "book", {"index.html": "i", "pages/a.html": "a", "pages/deep/b.html": "b"}
+        )
+    finally:
+        os.umask(old)
+    book = tmp_path / "book"
+    assert _tree(book) == {"index.html": "i", "pages/a.html": "a", "pages/deep/b.html": "b"}
+    for folder in (book, book / "pages", book / "pages" / "deep"):
+        assert folder.stat().st_mode & 0o777 == 0o777 & ~mask
+    assert (book / "pages" / "deep" / "b.html").stat().st_mode & 0o777 == 0o666 & ~mask
+    assert [p.name for p in tmp_path.iterdir()] == ["book"]
+
+
+@pytest.mark.parametrize("exchange", [True, False], ids=["exchange", "move-aside"])
+def test_a_folder_with_subfolders_is_replaced_only_when_everything_in_it_is_named(
+    tmp_path, monkeypatch, exchange
+):
+    monkeypatch.setattr(
+        safe_output, "EXCHANGE_AVAILABLE", exchange and safe_output.EXCHANGE_AVAILABLE
+    )
+    book = tmp_path / "book"
+    safe_output.write_folder(book, {"index.html": "1", "pages/a.html": "a", "old/x.html": "x"})
+    (book / "empty").mkdir()
+    # "old/x.html" and the empty folder are not in the new book: named as replaceable
+    safe_output.write_folder(
+        book,
+        {"index.html": "2", "pages/b.html": "b"},
+        replaceable=["pages/a.html", "old/x.html", "empty"],
+    )
+    assert _tree(book) == {"index.html": "2", "pages/b.html": "b"}
+    assert sorted(p.name for p in book.iterdir()) == ["index.html", "pages"]
+    (book / "pages" / "notes.txt").write_text("mine")
+    with pytest.raises(OutputError, match=r"did not write \(pages/notes.txt\)"):
+        safe_output.write_folder(book, {"index.html": "3", "pages/b.html": "c"})
+    assert _tree(book) == {"index.html": "2", "pages/b.html": "b", "pages/notes.txt": "mine"}
+    assert [p.name for p in tmp_path.iterdir()] == ["book"]
+
+
+def test_a_link_inside_a_subfolder_is_not_replaced(tmp_path):
+    book = tmp_path / "book"
+    safe_output.write_folder(book, {"index.html": "1", "pages/a.html": "a"})
+    elsewhere = tmp_path / "elsewhere.html"
+    elsewhere.write_text("keep")
+    (book / "pages" / "a.html").unlink()
+    (book / "pages" / "a.html").symlink_to(elsewhere)
+    with pytest.raises(OutputError, match=r"did not write \(pages/a.html\)"):
+        safe_output.write_folder(book, {"index.html": "2", "pages/a.html": "new"})
+    assert elsewhere.read_text() == "keep"
+    assert (book / "pages" / "a.html").is_symlink()
+
+
+@pytest.mark.parametrize("name", ["", "../x.html", "a//b.html", "a/./b.html", "/abs.html", "a/"])
+def test_a_name_that_would_leave_the_folder_is_refused(tmp_path, name):
+    with pytest.raises(OutputError, match="is not a file name inside"):
+        safe_output.write_folder(tmp_path / "book", {name: "x"})
+    assert list(tmp_path.iterdir()) == []
+
+
 # --------------------------------------------------------------------------- killed folder writes
 
 _FOLDER_WRITER = """

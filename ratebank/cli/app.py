@@ -16,6 +16,7 @@ from ratebank.cli import admin as admin_commands
 from ratebank.cli import common
 from ratebank.cli import kinetics as kinetics_commands
 from ratebank.cli import plot as plot_commands
+from ratebank.cli import review as review_commands
 from ratebank.cli import thermo as thermo_commands
 from ratebank.cli.common import (
     STATE,
@@ -28,6 +29,7 @@ from ratebank.cli.common import (
     show,
 )
 from ratebank.cli.progress import progress_bar
+from ratebank.errors import BadInputError
 from ratebank.report import tables
 from ratebank.report.demo import demo_summary
 from ratebank.report.tables import import_message
@@ -73,6 +75,7 @@ app.add_typer(expressions_app, name="expressions")
 kinetics_commands.register(app)
 plot_commands.register(app, kinetics_commands.steric_app)
 admin_commands.register(app, expressions_app)
+review_commands.register(app)
 thermo_commands.register(app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
@@ -168,20 +171,39 @@ def history(
 @app.command()
 @calls("api.demo")
 def demo(
+    ctx: typer.Context,
     db: Path = typer.Option(
-        Path("ratebank-demo.db"), "--db", help="Where to build the demo store."
+        None,
+        "--db",
+        help="Where to build the demo store (default: the global --db, else ratebank-demo.db).",
+        show_default=False,
     ),
     out: Path = typer.Option(Path("demo-out"), "--out", help="Folder for the demo's outputs."),
 ) -> None:
     """Build a fresh store from the invented demo scenario and summarise it.
 
     Every rate number in the demo is synthetic. The demo store file is
-    replaced only if it is an earlier demo store.
+    replaced only if it is an earlier demo store. The review book of the demo
+    store is written to OUT/review; the last line is the path of its index.
 
     Example: ratebank demo --db /tmp/demo.db
     """
-    result = api.demo(db, out, author=STATE.author)
+    if db is None:
+        # a --db typed before the command names the demo store; RATEBANK_DB, which
+        # names the group's own store, does not
+        given = ctx.parent.get_parameter_source("db") if ctx.parent else None
+        typed = given is not None and given.name == "COMMANDLINE" and STATE.db
+        if typed and "://" in str(STATE.db):
+            raise BadInputError(
+                "the demo builds a SQLite file: give --db a file path, not a database address",
+                argument="db",
+            )
+        db = Path(STATE.db) if typed else Path("ratebank-demo.db")
+    with progress_bar(STATE.quiet) as progress:
+        result = api.demo(db, out, author=STATE.author, progress=progress)
     show(*demo_summary(result))
+    say(f"Review book of the demo store ({result.book.pages} pages); open its index:")
+    say(str(result.book.index))
 
 
 # --------------------------------------------------------------------------- species

@@ -8,8 +8,10 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import sqlite3
 import sys
+import warnings
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -67,7 +69,11 @@ def reset_consoles() -> None:
 
 
 def print_json(data: Any) -> None:
-    sys.stdout.write(json.dumps(data, indent=2, ensure_ascii=False, default=str) + "\n")
+    """``data`` as JSON on stdout, every float rounded to 15 significant digits."""
+    from ratebank.numbers import rounded
+
+    text = json.dumps(rounded(data), indent=2, ensure_ascii=False, default=str)
+    sys.stdout.write(text + "\n")
 
 
 def say(message: str) -> None:
@@ -153,6 +159,65 @@ def report_error(message: str) -> None:
 INTERRUPTED_EXIT = 130
 
 
+class CommandLineError(RatebankError):
+    """The command line is written wrongly (exit status 2, as for other usage errors)."""
+
+    exit_code = 2
+
+
+#: Options of the ``ratebank`` command itself, which go before the command's name.
+GLOBAL_OPTIONS = ("--db", "--author", "--quiet", "-q", "--traceback", "--version")
+#: A negative number, which is a value, not an option (``steric set-class ozone -0.1``).
+_NEGATIVE_NUMBER = re.compile(r"^-(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?$")
+
+
+def prepare_arguments(command: Any, args: list[str], path: str = "") -> list[str]:
+    """The arguments of a (leaf) command, made ready for its parser.
+
+    - A negative number where an argument is expected is passed as that
+      argument: every argument from it on goes after ``--`` (in order), which
+      the parser reads as values, not options.
+    - A global option written after the command is refused with a message
+      saying that global options come first.
+    """
+    params = getattr(command, "params", [])
+    own = {name for p in params for name in (*p.opts, *p.secondary_opts)}
+    takes_value = {
+        name: max(p.nargs, 1)
+        for p in params
+        if getattr(p, "param_type_name", "") == "option" and not getattr(p, "is_flag", False)
+        for name in p.opts
+    }
+    before: list[str] = []
+    after: list[str] = []
+    index = 0
+    while index < len(args):
+        arg = args[index]
+        if arg == "--":
+            after.extend(args[index + 1 :])
+            break
+        name = arg.split("=", 1)[0]
+        if name in takes_value and "=" not in arg:
+            before.extend(args[index : index + 1 + takes_value[name]])
+            index += 1 + takes_value[name]
+            continue
+        if name in GLOBAL_OPTIONS and name not in own:
+            value = " VALUE" if name in ("--db", "--author") else ""
+            raise CommandLineError(
+                f"{name} is an option of ratebank itself: global options come before the "
+                f"command, as in `ratebank {name}{value} {path or command.name} ...`"
+            )
+        if after or _NEGATIVE_NUMBER.match(arg):
+            if arg.startswith("-") and not _NEGATIVE_NUMBER.match(arg):
+                before.append(arg)  # an option after a moved number stays an option
+            else:
+                after.append(arg)
+        else:
+            before.append(arg)
+        index += 1
+    return [*before, "--", *after] if after else before
+
+
 #: The option that lets a refused command go ahead, by error type.
 _WAY_AROUND = {ExportGapsError: "--leave-out-gaps", RefusedEstimateError: "--keep-going"}
 
@@ -188,9 +253,26 @@ def with_option_names(exc: RatebankError, command: Any) -> str:
 class RatebankGroup(TyperGroup):
     """A command group that turns every error into one line and an exit code."""
 
+    def resolve_command(self, ctx: Any, args: list[str]) -> Any:
+        name, command, rest = super().resolve_command(ctx, args)
+        # the leaf command's arguments, wherever it sits in the tree of groups
+        depth = 0
+        leaf = command
+        while leaf is not None and hasattr(leaf, "commands"):
+            leaf = leaf.commands.get(rest[depth]) if depth < len(rest) else None
+            depth += 1
+        if leaf is not None:
+            path = " ".join([name, *rest[:depth]])
+            rest = [*rest[:depth], *prepare_arguments(leaf, rest[depth:], path)]
+        return name, command, rest
+
     def invoke(self, ctx: Any) -> Any:
         try:
-            return super().invoke(ctx)
+            with warnings.catch_warnings():
+                # what a library says (a plot layout it could not apply, a deprecation)
+                # is not the user's business; errors still come through as errors
+                warnings.simplefilter("ignore")
+                return super().invoke(ctx)
         except RatebankError as exc:
             if STATE.traceback:
                 raise

@@ -128,6 +128,11 @@ def estimate(
     else the class's measured reactions, else --fallback-steric. Nothing is written if
     any requested reaction cannot be estimated, unless --keep-going.
 
+    Exit status: 0 when every estimate that could be made is stored (with
+    --keep-going the reactions left out are listed, each with the reason); 1 when
+    nothing was written (a reaction cannot be estimated without --keep-going, or
+    any other error).
+
     Example: ratebank estimate --class h-abstraction --collision hard-sphere
     """
     try:
@@ -156,8 +161,7 @@ def estimate(
             f"{len(report.rows)} estimate(s) stored; {len(report.skipped)} reaction(s) "
             "not estimated."
         )
-    if report.skipped:
-        raise typer.Exit(1)
+    # with --keep-going, reactions left out (listed above) are not a failure
 
 
 def _check_summary(report) -> str:  # type: ignore[no-untyped-def]

@@ -15,8 +15,21 @@ from ratebank.cli.common import calls, number, opened_store, say
 OUT_OPTION = typer.Option(
     ..., "--out", "-o", help="Output file; .png, .svg or .pdf (the suffix names the format)."
 )
-WIDTH_OPTION = typer.Option(7.0, "--width", help="Figure width in inches.", parser=number)
-HEIGHT_OPTION = typer.Option(5.0, "--height", help="Figure height in inches.", parser=number)
+WIDTH_OPTION = typer.Option(
+    None,
+    "--width",
+    help="Figure width in inches (default 7; with --panels 4.6 per column; the steric plot "
+    "widens with its classes).",
+    show_default=False,
+    parser=number,
+)
+HEIGHT_OPTION = typer.Option(
+    None,
+    "--height",
+    help="Figure height in inches (default 5; with --panels 3.7 per row).",
+    show_default=False,
+    parser=number,
+)
 DPI_OPTION = typer.Option(
     150.0, "--dpi", help="Resolution; a PNG is width*dpi by height*dpi pixels.", parser=number
 )

@@ -10,6 +10,7 @@ whole file is valid.
 from __future__ import annotations
 
 import csv
+import difflib
 from collections.abc import Sequence
 from dataclasses import dataclass
 from itertools import islice, repeat
@@ -60,7 +61,53 @@ def _open_check(path: str | Path, columns: Sequence[str]) -> Path:
         raise CsvFileError(
             f"{name}: is empty; expected a header row with the columns {', '.join(columns)}"
         )
+    encoding = _wide_encoding(file)
+    if encoding:
+        raise CsvFileError(
+            f"{name}: is {encoding} text; expected UTF-8 (save it as UTF-8, in a spreadsheet "
+            'as "CSV UTF-8", and import it again)'
+        )
     return file
+
+
+def _wide_encoding(file: Path) -> str | None:
+    """ "UTF-16" or "UTF-32" for a file in one of them (with or without a byte-order mark)."""
+    try:
+        with file.open("rb") as handle:
+            head = handle.read(64)
+    except OSError:
+        return None  # reported when the text is read
+    if head.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")):
+        return "UTF-32"
+    if head.startswith((b"\xff\xfe", b"\xfe\xff")):
+        return "UTF-16"
+    # no mark: ASCII text in UTF-16 has a NUL byte beside every letter
+    pairs = head[: len(head) // 2 * 2]
+    if len(pairs) >= 4 and (
+        pairs[1::2].count(0) == len(pairs) // 2 or pairs[::2].count(0) == len(pairs) // 2
+    ):
+        return "UTF-16"
+    return None
+
+
+def _separator_error(name: str, header: list[str]) -> CsvFileError | None:
+    """A file separated by semicolons or tabs, named as such (its header is one cell)."""
+    if len(header) != 1:
+        return None
+    for mark, word in ((";", "semicolons (;)"), ("\t", "tabs")):
+        if mark in header[0]:
+            return CsvFileError(
+                f"{name}:1: the columns are separated by {word}; expected commas (save the "
+                "file as comma-separated CSV and import it again)"
+            )
+    return None
+
+
+def _closest_column(name: str, columns: Sequence[str]) -> str:
+    """ " (did you mean 'x'?)" for the known column nearest to ``name``, or ""."""
+    by_lower = {c.lower(): c for c in columns}
+    found = difflib.get_close_matches(name.lower(), list(by_lower), n=1, cutoff=0.6)
+    return f" (did you mean {by_lower[found[0]]!r}?)" if found else ""
 
 
 def _decode_error(name: str, file: Path) -> CsvFileError:
@@ -216,7 +263,12 @@ def _check_header(
         elif h in seen:
             problems.add(line, h, "appears twice in the header")
         elif h not in columns:
-            problems.add(line, h, f"unknown column; expected columns are {', '.join(columns)}")
+            problems.add(
+                line,
+                h,
+                f"unknown column{_closest_column(h, columns)}; expected columns are "
+                f"{', '.join(columns)}",
+            )
         seen.add(h)
     for r in required:
         if r not in seen:
@@ -258,6 +310,9 @@ def iter_table(
                 raise CsvFileError(
                     f"{name}: is empty; expected a header row with the columns {', '.join(columns)}"
                 ) from None
+            separated = _separator_error(name, header)
+            if separated is not None:
+                raise separated
             _check_header(name, header, reader.line_num, columns, required)
             yield header
             width = len(header)

@@ -9,6 +9,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
+from typing import Any
 
 from ratebank.errors import RatebankError
 from ratebank.io import csv_import
@@ -57,6 +58,8 @@ class DemoResult:
     check: CheckReport | None = None
     exports: list[ExportResult] = field(default_factory=list)
     origins: dict[str, int] = field(default_factory=dict)
+    #: the demo store's review book (a report.book.BookFiles), once written
+    book: Any = None
 
 
 def _is_demo_store(db: Path) -> bool:

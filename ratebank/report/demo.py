@@ -4,9 +4,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from rich.table import Table
-
 from ratebank.caution import CAUTION
+from ratebank.report.layout import ReportTable
 from ratebank.report.tables import import_message
 
 if TYPE_CHECKING:  # types only: a report module must stay light to import
@@ -19,7 +18,7 @@ def demo_summary(result: DemoResult) -> list[Any]:
         "is synthetic."
     ]
     parts += [import_message(s) for s in result.imports]
-    steps = Table(title="What the demo did")
+    steps = ReportTable(title="What the demo did")
     steps.add_column("step")
     steps.add_column("result", overflow="fold")
     if result.fit is not None:
@@ -55,7 +54,7 @@ def demo_summary(result: DemoResult) -> list[Any]:
         )
     parts.append(steps)
     if result.exports:
-        origins = Table(title="Where the exported numbers come from")
+        origins = ReportTable(title="Where the exported numbers come from")
         origins.add_column("origin")
         origins.add_column("reactions")
         for origin, count in sorted(result.origins.items()):
@@ -65,7 +64,7 @@ def demo_summary(result: DemoResult) -> list[Any]:
         )
         parts.append(origins)
     if result.estimate is not None and result.estimate.skipped:
-        skipped = Table(title="Not estimated, and why")
+        skipped = ReportTable(title="Not estimated, and why")
         skipped.add_column("reaction")
         skipped.add_column("reason", overflow="fold")
         for s in result.estimate.skipped:

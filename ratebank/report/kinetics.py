@@ -8,6 +8,7 @@ from typing import TYPE_CHECKING, Any
 from rich.table import Table
 
 from ratebank.report.format import shown, sig, trange
+from ratebank.report.layout import ReportTable
 
 if TYPE_CHECKING:  # types only: a report module must stay light to import
     from ratebank.services.checks import CheckReport
@@ -75,7 +76,10 @@ def fit_records(report: FitReport, preset: str) -> list[dict[str, Any]]:
 def fit_table(report: FitReport, preset: str) -> Table:
     records = fit_records(report, preset)
     e_unit = _units(2, preset)[1]
-    table = Table(title=f"Fits ({report.stored} stored, {report.failed} failed), {preset} units")
+    table = ReportTable(
+        title=f"Fits ({report.stored} stored, {report.failed} failed), {preset} units",
+        drop=("note", "P", "χ²/dof", "points/sets"),
+    )
     for header in (
         "reaction",
         "form",
@@ -154,7 +158,7 @@ def steric_rule_records(
 def steric_rule_tables(
     rules: Sequence[RuleView], reactions: Sequence[ReactionStericView]
 ) -> list[Table]:
-    first = Table(title=f"Steric factors by class ({len(rules)})")
+    first = ReportTable(title=f"Steric factors by class ({len(rules)})")
     for header in ("class", "P", "f", "source", "note", "version", "changed by"):
         first.add_column(header, overflow="fold")
     for r in rules:
@@ -167,7 +171,7 @@ def steric_rule_tables(
             str(r.version),
             r.updated_by or "",
         )
-    second = Table(title=f"Steric factors stored on reactions ({len(reactions)})")
+    second = ReportTable(title=f"Steric factors stored on reactions ({len(reactions)})")
     for header in ("reaction", "class", "P", "source"):
         second.add_column(header, overflow="fold")
     for r in reactions:
@@ -204,7 +208,7 @@ MEMBERS_SHOWN = 12
 
 
 def derived_table(groups: Sequence[ClassSteric], model: str) -> Table:
-    table = Table(title=f"Steric factors implied by measured fits ({model} collision rate)")
+    table = ReportTable(title=f"Steric factors implied by measured fits ({model} collision rate)")
     for header in ("class", "reactions", "geometric mean P", "spread (×/÷)", "range", "members"):
         table.add_column(header, overflow="fold")
     for g in groups:
@@ -271,7 +275,10 @@ def estimate_records(report: EstimateReport, preset: str) -> dict[str, Any]:
 def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
     data = estimate_records(report, preset)
     k_unit, e_unit = _units(2, preset)
-    done = Table(title=f"Estimates ({len(data['estimated'])}), {preset} units")
+    done = ReportTable(
+        title=f"Estimates ({len(data['estimated'])}), {preset} units",
+        drop=("estimated d", "T_ref (K)", "P from"),
+    )
     for header in (
         "reaction",
         "A (k units·K^-n)",
@@ -321,7 +328,7 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
         )
     tables = [done]
     if data["not_estimated"]:
-        missing = Table(title=f"Not estimated ({len(data['not_estimated'])})")
+        missing = ReportTable(title=f"Not estimated ({len(data['not_estimated'])})")
         missing.add_column("reaction")
         missing.add_column("reason", overflow="fold")
         not_estimated, more_missing = shown(data["not_estimated"])
@@ -363,7 +370,9 @@ def check_records(report: CheckReport) -> dict[str, Any]:
 
 
 def check_table(report: CheckReport) -> Table:
-    table = Table(title=f"Check: {len(report.flags)} flag(s) over {report.reactions} reactions")
+    table = ReportTable(
+        title=f"Check: {len(report.flags)} flag(s) over {report.reactions} reactions"
+    )
     for header in ("reaction", "check", "finding"):
         table.add_column(header, overflow="fold")
     flags, more = shown(report.flags)
@@ -402,7 +411,7 @@ def rate_records(report: RateReport) -> dict[str, Any]:
 
 
 def rate_table(report: RateReport) -> Table:
-    table = Table(
+    table = ReportTable(
         title=f"{report.key}: {report.equation} ({report.origin}, expression "
         f"{report.expression_id}, {report.chosen_by})"
     )

@@ -12,6 +12,8 @@ from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 
+from ratebank.report.layout import ReportTable
+
 if TYPE_CHECKING:  # the overview pulls in the checks; a listing should not pay for them
     from ratebank.services.overview import ReactionOverview
 
@@ -28,6 +30,8 @@ from ratebank.store.listings import (
     SpeciesSummary,
 )
 
+#: The one meaning of ★ in every table.
+RECOMMENDED_LEGEND = "★ recommended by the curator"
 G_PER_KG = 1e3
 ANGSTROM_PER_M = 1e10
 BAR_PER_PA = 1e-5
@@ -68,7 +72,9 @@ def species_records(rows: Sequence[SpeciesSummary]) -> list[dict[str, Any]]:
 
 
 def species_table(rows: Sequence[SpeciesSummary]) -> Table:
-    table = Table(title=f"Species ({len(rows)})")
+    table = ReportTable(
+        title=f"Species ({len(rows)})", drop=("source", "Pc (bar)", "Tc (K)", "ε/k (K)")
+    )
     for header in (
         "name",
         "formula",
@@ -104,6 +110,17 @@ def species_table(rows: Sequence[SpeciesSummary]) -> Table:
 
 def species_detail_record(detail: SpeciesDetail) -> dict[str, Any]:
     record = species_records([detail.species])[0]
+    guess = detail.estimated_diameter
+    record["diameter_estimate"] = (
+        None
+        if guess is None
+        else {
+            "diameter_angstrom": guess.diameter * ANGSTROM_PER_M,
+            "method": guess.method,
+            "source": guess.source,
+            "stored": False,
+        }
+    )
     record["reactions"] = [
         {"key": key, "equation": equation, "role": role} for key, equation, role in detail.reactions
     ]
@@ -112,7 +129,7 @@ def species_detail_record(detail: SpeciesDetail) -> dict[str, Any]:
 
 def species_detail_tables(detail: SpeciesDetail) -> list[Table]:
     record = species_detail_record(detail)
-    facts = Table(title=f"Species {detail.species.name}", show_header=False)
+    facts = ReportTable(title=f"Species {detail.species.name}", show_header=False)
     facts.add_column("property")
     facts.add_column("value", overflow="fold")
     labels = {
@@ -131,8 +148,17 @@ def species_detail_tables(detail: SpeciesDetail) -> list[Table]:
     }
     for key, label in labels.items():
         value = record[key]
-        facts.add_row(label, sig(value) if isinstance(value, float) else str(value or ""))
-    reactions = Table(title=f"Reactions of {detail.species.name} ({len(detail.reactions)})")
+        text = sig(value) if isinstance(value, float) else str(value or "")
+        if key == "diameter_angstrom" and record["diameter_estimated"]:
+            text += " (estimated)"
+        guess = record["diameter_estimate"]
+        if key == "diameter_angstrom" and guess is not None:
+            # what collision theory would use: shown, marked, and not stored
+            text = f"{sig(guess['diameter_angstrom'])} (estimated, not stored)"
+        if key == "diameter_method" and guess is not None:
+            text = f"{guess['method']} ({guess['source']})"
+        facts.add_row(label, text)
+    reactions = ReportTable(title=f"Reactions of {detail.species.name} ({len(detail.reactions)})")
     for header in ("key", "equation", "role"):
         reactions.add_column(header, overflow="fold")
     for key, equation, role in detail.reactions:
@@ -161,7 +187,9 @@ def reaction_records(rows: Sequence[ReactionSummary]) -> list[dict[str, Any]]:
 
 
 def reactions_table(rows: Sequence[ReactionSummary]) -> Table:
-    table = Table(title=f"Reactions ({len(rows)})")
+    table = ReportTable(
+        title=f"Reactions ({len(rows)})", drop=("expressions", "order", "sets", "points")
+    )
     for header in ("key", "equation", "order", "class", "sets", "points", "expressions", "status"):
         table.add_column(header, overflow="fold")
     for r in rows:
@@ -199,7 +227,7 @@ def set_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
 
 
 def sets_table(rows: Sequence[SetSummary]) -> Table:
-    table = Table(title=f"Measurement sets ({len(rows)})")
+    table = ReportTable(title=f"Measurement sets ({len(rows)})")
     for header in ("set", "reaction", "points", "T (K)", "k given in", "method", "reference"):
         table.add_column(header, overflow="fold")
     for s in rows:
@@ -258,7 +286,10 @@ def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[d
 def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
     records = expression_records(rows, preset)
     e_units = records[0]["Ea_units"] if records else ""
-    table = Table(title=f"Expressions ({len(rows)}), k = A T^n exp(-Ea/RT), {preset} units")
+    table = ReportTable(
+        title=f"Expressions ({len(rows)}), k = A T^n exp(-Ea/RT), {preset} units",
+        drop=("v", "reference", "f", "T (K)", "origin"),
+    )
     for header in (
         "id",
         "reaction",
@@ -287,7 +318,8 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
             r["reference"] or "",
             str(r["version"]),
         )
-    table.caption = "★ recommended by the curator; v: version (for edits with --expect-version)"
+    legend = [RECOMMENDED_LEGEND] if any(r["recommended"] for r in records) else []
+    table.caption = "; ".join([*legend, "v: version (for edits with --expect-version)"])
     return table
 
 
@@ -315,7 +347,7 @@ def reaction_detail_record(detail: ReactionDetail, preset: str) -> dict[str, Any
 
 
 def reaction_detail_tables(detail: ReactionDetail, preset: str) -> list[Table]:
-    facts = Table(title=f"Reaction {detail.key}", show_header=False)
+    facts = ReportTable(title=f"Reaction {detail.key}", show_header=False)
     facts.add_column("property")
     facts.add_column("value", overflow="fold")
     facts.add_row("equation", detail.equation)
@@ -330,7 +362,7 @@ def reaction_detail_tables(detail: ReactionDetail, preset: str) -> list[Table]:
         )
     if detail.notes:
         facts.add_row("notes", detail.notes)
-    participants = Table(title="Participants")
+    participants = ReportTable(title="Participants")
     for header in ("role", "species", "coefficient", "M (g/mol)", "d (Å)", "ε/k (K)"):
         participants.add_column(header)
     for p in detail.participants:
@@ -379,7 +411,7 @@ def _detail_text(detail: dict[str, Any]) -> str:
 
 
 def history_table(rows: Sequence[HistoryEntry], title: str = "History") -> Table:
-    table = Table(title=f"{title} ({len(rows)}, newest first)")
+    table = ReportTable(title=f"{title} ({len(rows)}, newest first)")
     for header in ("when (UTC)", "who", "what", "target", "detail"):
         table.add_column(header, overflow="fold")
     for h in rows:
@@ -457,28 +489,35 @@ def reaction_overview_tables(overview: ReactionOverview, preset: str) -> list[Ta
     history = tables.pop() if detail.history else None
     unit = rate_unit_for(preset, detail.order)
     origin = {e.id: e.origin for e in detail.expressions}
-    rates = Table(title=f"k at a temperature grid ({unit})")
+    recommended = {e.id for e in detail.expressions if e.recommended}
+    rates = ReportTable(title=f"k at a temperature grid ({unit})")
     rates.add_column("T (K)")
     ids = list(overview.rates)
     for eid in ids:
-        mark = " ★" if eid == overview.chosen_id else ""
+        # ★ means recommended by the curator here too; the exported one is named
+        mark = (" ★" if eid in recommended else "") + (
+            " (exported)" if eid == overview.chosen_id else ""
+        )
         rates.add_column(f"{eid} {origin[eid]}{mark}")
     for i, t in enumerate(overview.temperatures):
         rates.add_row(
             sig(t),
             *[sig(float(rate_from_si(overview.rates[eid][i], unit, detail.order))) for eid in ids],
         )
+    legend = [RECOMMENDED_LEGEND] if recommended & set(ids) else []
     if overview.chosen_id is not None:
-        rates.caption = f"★ exported ({overview.chosen_rule})"
+        legend.append(f"exported: the expression the export uses ({overview.chosen_rule})")
+    if legend:
+        rates.caption = "; ".join(legend)
     tables.append(rates)
     if overview.steric_factors:
-        steric = Table(title="Steric factors")
+        steric = ReportTable(title="Steric factors")
         for header in ("expression", "origin", "P"):
             steric.add_column(header)
         for eid, kind, p in overview.steric_factors:
             steric.add_row(str(eid), kind, sig(p, 3))
         tables.append(steric)
-    flags = Table(title=f"Check flags ({len(overview.flags)})")
+    flags = ReportTable(title=f"Check flags ({len(overview.flags)})")
     flags.add_column("check")
     flags.add_column("finding", overflow="fold")
     for f in overview.flags:

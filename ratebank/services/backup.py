@@ -128,7 +128,7 @@ def backup_store(db: str | None, target: str | Path, *, force: bool = False) -> 
     StoreRevisionError
         The store is not a ratebank store, or is from a newer ratebank.
     """
-    store = open_store(db, check=False)
+    store = open_store(db, check=False, must_exist=True)
     try:
         return _backup(store, Path(target), force=force)
     finally:

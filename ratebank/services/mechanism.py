@@ -19,6 +19,7 @@ import numpy as np
 from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError, ExportGapsError, NotFoundError, UnitError
+from ratebank.numbers import round_significant
 from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
 from ratebank.science.uncertainty import (
     linearize_modified_arrhenius,
@@ -299,10 +300,11 @@ def _row(
         key=c.reaction_key,
         equation=c.equation,
         order=c.order,
-        # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged)
-        A=A * factors[c.order],
+        # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged),
+        # rounded to 15 digits so that a value given in these units reads back as given
+        A=round_significant(A * factors[c.order]),
         n=float(n),
-        Ea=Ea * energy_factor,
+        Ea=round_significant(Ea * energy_factor),
         k_units=units.k_unit(c.order),
         Ea_units=units.e_units,
         T_min_K=c.T_min,

@@ -19,7 +19,8 @@ from sqlalchemy.orm import Session
 from ratebank.errors import BadInputError, DiameterError
 from ratebank.science import diameters
 from ratebank.science.collision import COLLISION_MODELS
-from ratebank.store import queries
+from ratebank.store import listings, queries
+from ratebank.store.listings import SpeciesDetail, SpeciesSummary
 from ratebank.store.partner_data import store_species_estimates
 from ratebank.store.queries import ReactionRow, SpeciesRow
 
@@ -179,6 +180,18 @@ def _partner(species: SpeciesRow) -> PartnerData:
     )
 
 
+def _diameter_estimate(species: SpeciesRow | SpeciesSummary) -> diameters.DiameterEstimate:
+    """The correlation's diameter for ``species`` (DiameterError when it has no data)."""
+    return diameters.estimate_diameter(
+        Tc=species.critical_temperature,
+        Pc=species.critical_pressure,
+        omega=species.acentric_factor,
+        boiling_volume=species.boiling_volume,
+        formula=species.formula,
+        dipole_moment=species.dipole_moment,
+    )
+
+
 def _with_diameter(partner: PartnerData, species: SpeciesRow) -> PartnerData | str:
     if partner.diameter is not None:
         return partner
@@ -186,20 +199,42 @@ def _with_diameter(partner: PartnerData, species: SpeciesRow) -> PartnerData | s
     if reason:
         return f"{species.name} has no diameter, and {reason}"
     try:
-        estimate = diameters.estimate_diameter(
-            Tc=species.critical_temperature,
-            Pc=species.critical_pressure,
-            omega=species.acentric_factor,
-            boiling_volume=species.boiling_volume,
-            formula=species.formula,
-            dipole_moment=species.dipole_moment,
-        )
+        estimate = _diameter_estimate(species)
     except DiameterError:
         return (
             f"{species.name} has no collision diameter and no critical constants or "
             "boiling-point volume to estimate one"
         )
     return replace(partner, diameter=estimate.diameter, diameter_method=estimate.method)
+
+
+def estimated_diameter(
+    species: SpeciesRow | SpeciesSummary,
+) -> diameters.DiameterEstimate | None:
+    """The diameter estimate collision theory would use for a species that has none.
+
+    Returns the :class:`ratebank.science.diameters.DiameterEstimate` that
+    :func:`collision_pairs` would make, or None when the species has a
+    diameter or none can be estimated. Nothing is stored.
+    """
+    if species.diameter is not None:
+        return None
+    if diameters.outside_correlations(species.formula, species.dipole_moment):
+        return None
+    try:
+        return _diameter_estimate(species)
+    except DiameterError:
+        return None
+
+
+def species_detail(session: Session, name: str) -> SpeciesDetail:
+    """One species, the reactions it takes part in, and the diameter estimate it would get.
+
+    For a species without a diameter, ``estimated_diameter`` is what
+    :func:`estimated_diameter` gives (not stored); otherwise None.
+    """
+    detail = listings.species_detail(session, name)
+    return replace(detail, estimated_diameter=estimated_diameter(detail.species))
 
 
 def _with_well_depth(partner: PartnerData, species: SpeciesRow) -> PartnerData | str:

@@ -11,10 +11,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, field
+from pathlib import Path
 
 from sqlalchemy import Engine
 from sqlalchemy.orm import Session
 
+from ratebank.errors import StoreError
 from ratebank.store.engine import (
     create_store_engine,
     database_url,
@@ -49,14 +51,23 @@ class StoreHandle:
 
 
 def open_store(
-    db: str | None = None, *, author: str | None = None, check: bool = True
+    db: str | None = None,
+    *,
+    author: str | None = None,
+    check: bool = True,
+    must_exist: bool | None = None,
 ) -> StoreHandle:
     """Open the store named by ``db`` (path or URL), ``RATEBANK_DB`` or ``./ratebank.db``.
 
     With ``check`` (the default) a store whose schema revision is not this
-    ratebank's head is refused with a message saying what to run.
+    ratebank's head is refused with a message saying what to run. A SQLite
+    file that does not exist is refused before anything touches the disk
+    (so no empty file is left behind) when ``must_exist``, which defaults to
+    ``check``; ``init`` and ``restore`` create it.
     """
     url = database_url(db)
+    if check if must_exist is None else must_exist:
+        _refuse_missing_file(url)
     engine = create_store_engine(url)
     if check:
         try:
@@ -65,6 +76,18 @@ def open_store(
             engine.dispose()
             raise
     return StoreHandle(url=url, engine=engine, author=author or default_author())
+
+
+def _refuse_missing_file(url: str) -> None:
+    if not url.startswith("sqlite:///"):
+        return
+    path = url[len("sqlite:///") :]
+    if path in ("", ":memory:") or Path(path).exists():
+        return
+    raise StoreError(
+        f"there is no store at {path} (no such file); nothing was created; make one with "
+        f"`ratebank --db {path} init`, or name the store you meant with --db"
+    )
 
 
 def init_store(

@@ -41,6 +41,12 @@ from ratebank.errors import ConflictError, StoreError
 from ratebank.store import json_codec
 
 DEFAULT_DB = "ratebank.db"
+#: Database backends a store can live in, and how to name them.
+SUPPORTED_BACKENDS = ("sqlite", "postgresql")
+SUPPORTED_ADDRESSES = (
+    "a SQLite file path (or sqlite:///PATH) or postgresql://USER@HOST:PORT/DATABASE "
+    "(also postgres:// or postgresql+psycopg://)"
+)
 #: How long a SQLite writer waits for another writer's lock by default [s].
 DEFAULT_BUSY_TIMEOUT_S = 30.0
 BUSY_TIMEOUT_VARIABLE = "RATEBANK_BUSY_TIMEOUT"
@@ -353,7 +359,14 @@ def create_store_engine(url: str) -> Engine:
         raise StoreError(
             f"cannot read the store address {mask_url(url)!r}: {redact(str(exc), url)}"
         ) from None
-    if parsed.get_backend_name() == "sqlite":
+    backend, driver = parsed.get_backend_name(), parsed.get_driver_name()
+    if backend not in SUPPORTED_BACKENDS or (backend == "postgresql" and driver != "psycopg"):
+        scheme = url.split("://", 1)[0]
+        raise StoreError(
+            f"cannot open the store {mask_url(url)}: the address scheme {scheme!r} is not "
+            f"supported; use {SUPPORTED_ADDRESSES}"
+        )
+    if backend == "sqlite":
         database = parsed.database
         timeout_s = busy_timeout_seconds()
         if database and database != ":memory:":

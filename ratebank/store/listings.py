@@ -65,6 +65,10 @@ _SPECIES_COLUMNS = tuple(getattr(Species, name) for name in _SPECIES_FIELDS)
 class SpeciesDetail:
     species: SpeciesSummary
     reactions: list[tuple[str, str, str]]  # (key, equation, role)
+    #: for a species without a diameter: the estimate collision theory would use
+    #: (a ``science.diameters.DiameterEstimate``, not stored, filled in by
+    #: ``services.partners.species_detail``), else None
+    estimated_diameter: Any = None
 
 
 @dataclass(frozen=True)

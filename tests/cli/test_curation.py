@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+from pathlib import Path
 
 import pytest
 from helpers.cli import run, snapshot, write
@@ -65,9 +66,13 @@ def test_init_upgrades_a_store_from_the_first_revision(db_url):
 def test_commands_refuse_a_store_that_was_never_initialised(db_url):
     outcome = run(db_url, "reactions", "list")
     assert outcome.exit_code == 1
-    assert outcome.stderr.strip() == (
-        "Error: this database is not a ratebank store yet: run `ratebank init` to create it"
-    )
+    if "://" in db_url:  # a database server: the database exists, the store does not
+        assert outcome.stderr.strip() == (
+            "Error: this database is not a ratebank store yet: run `ratebank init` to create it"
+        )
+    else:  # a SQLite file that does not exist is not created by a read
+        assert outcome.stderr.strip().startswith(f"Error: there is no store at {db_url} ")
+        assert not Path(db_url).exists()
     assert "Traceback" not in outcome.stderr + outcome.stdout
 
 
@@ -135,7 +140,7 @@ HEADER = (
         ("formula,source\nCH4,x\n", ":1: name: required column is missing from the header"),
         (
             "name,formula,diameter_angstorm\nCH4,CH4,3.7\n",
-            ":1: diameter_angstorm: unknown column; expected columns are name, formula",
+            ":1: diameter_angstorm: unknown column (did you mean 'diameter_angstrom'?); expected columns are name, formula",
         ),
         (HEADER + "CH4,CH4,,abc,,,,,,\n", ":2: diameter_angstrom: 'abc' is not a number"),
         (HEADER + "CH4,CH4,,nan,,,,,,\n", ":2: diameter_angstrom: 'nan' is not a finite number"),
@@ -527,7 +532,9 @@ def test_reaction_show_has_everything_on_one_screen(filled):
         "Recent history",
     ):
         assert heading in text, heading
-    assert "exported (newest measured fit)" in text
+    assert "exported: the expression the export uses (newest measured fit)" in " ".join(
+        text.split()
+    )
     record = json.loads(
         run(filled, "reactions", "show", "oh-ch4", "--json", "-T", "300", "-T", "1000").stdout
     )

@@ -347,7 +347,7 @@ def test_traceback_shows_the_trace_of_a_library_error(tmp_path):
 ARGUMENTS = {
     "init": [],
     "history": [],
-    "demo": None,  # builds its own store from its own --db option
+    "demo": None,  # builds its own store (a --db that is not a demo store is refused)
     "backup": ["{tmp}/b.db"],
     "restore": ["{backup}"],
     "fit": [],
@@ -357,6 +357,7 @@ ARGUMENTS = {
     "recommend": ["oh-ch4", "1"],
     "export": ["{tmp}/m.csv"],
     "plot": ["oh-ch4", "-o", "{tmp}/p.png"],
+    "review": ["{tmp}/book"],
     "species add": ["O2", "O2"],
     "species import": ["{csv}"],
     "species list": [],

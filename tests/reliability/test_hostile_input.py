@@ -398,7 +398,7 @@ def test_a_cell_longer_than_the_limit_is_one_message(seeded, cli, tmp_path):
 
 @pytest.mark.parametrize(
     ("encoding", "expected"),
-    [("latin-1", "is not UTF-8"), ("utf-16", "is not UTF-8"), ("cp1252", "is not UTF-8")],
+    [("latin-1", "is not UTF-8"), ("utf-16", "is UTF-16 text"), ("cp1252", "is not UTF-8")],
 )
 def test_wrong_encodings_are_named(seeded, cli, tmp_path, encoding, expected):
     path = tmp_path / "enc.csv"

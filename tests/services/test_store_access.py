@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pytest
 
-from ratebank.errors import StoreRevisionError
+from ratebank.errors import StoreError, StoreRevisionError
 from ratebank.services.species import add_species
 from ratebank.services.store_access import init_store, open_store, store_counts
 from ratebank.store.listings import history
@@ -12,6 +14,12 @@ from ratebank.store.schema import HEAD_REVISION
 
 
 def test_init_creates_once_and_records_it(db_url):
+    if "://" not in db_url:
+        # a missing SQLite file is refused, and none is made
+        with pytest.raises(StoreError, match=r"there is no store at .* \(no such file\)"):
+            open_store(db_url)
+        assert not Path(db_url).exists()
+        Path(db_url).touch()  # an empty file: a database that is not a store yet
     with pytest.raises(StoreRevisionError, match="not a ratebank store yet"):
         open_store(db_url)
     store, created = init_store(db_url, author="ada")
