@@ -42,8 +42,15 @@ from ratebank.services.plot_data import (
 )
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.services.reactions import list_reactions, show_reaction
+from ratebank.services.reverse import ReverseRateReport, reverse_rate
 from ratebank.services.selection import Chosen, chosen_expressions, uncertainty_factor
 from ratebank.services.steric import ClassSteric, RuleView, derived_steric_factors, list_rules
+from ratebank.services.thermo import (
+    DEFAULT_TEMPERATURES,
+    SpeciesThermoView,
+    inputs_of,
+    species_thermo,
+)
 from ratebank.store import queries
 from ratebank.store.listings import (
     ExpressionSummary,
@@ -54,6 +61,7 @@ from ratebank.store.listings import (
     SpeciesSummary,
 )
 from ratebank.store.queries import ExpressionRow
+from ratebank.store.thermo import reverse_rules
 
 #: Status words of the book, in the order the index counts them.
 BOOK_STATUSES = ("measured", "literature", "estimated", "gap")
@@ -131,6 +139,10 @@ class BookReaction:
     plot_note: str | None
     #: expressions ``check`` could not hold to the collision limit, and why
     unchecked: list[Unchecked] = field(default_factory=list)
+    #: the reverse rate by detailed balance, for a reaction declared reversible
+    reverse: ReverseRateReport | None = None
+    #: why a reversible reaction's reverse rate cannot be shown (e.g. thermochemistry lacking)
+    reverse_note: str | None = None
 
     @property
     def points(self) -> int:
@@ -146,6 +158,8 @@ class BookSpecies:
     estimated_diameter: Any
     #: (key, equation, role) of every reaction it takes part in
     reactions: list[tuple[str, str, str]]
+    #: Cp°, H°, S° at the book's temperatures; None without stored thermochemistry
+    thermo: SpeciesThermoView | None = None
 
 
 @dataclass(frozen=True)
@@ -390,11 +404,36 @@ class _Findings:
         return cls(flags, unchecked)
 
 
+def _book_reverse(
+    session: Session, key: str, chosen: Chosen | None, preset: str
+) -> tuple[ReverseRateReport | None, str | None]:
+    """The reverse rate of a reaction declared reversible, at those of the book's
+    temperatures inside its thermochemistry's range, or why it cannot be given."""
+    reaction = queries.find_reaction(session, key)
+    if reverse_rules(session, [reaction.id]).get(reaction.id) != "detailed-balance":
+        return None, None
+    if chosen is None:
+        return None, "declared reversible, but the forward reaction has no usable expression yet"
+    try:
+        inputs = inputs_of(session, reaction)
+        inside = [t for t in DEFAULT_TEMPERATURES if inputs.T_low <= t <= inputs.T_high]
+        if not inside:
+            return None, (
+                f"declared reversible; none of {', '.join(f'{t:g}' for t in DEFAULT_TEMPERATURES)}"
+                f" K lies in its thermochemistry's common range {inputs.T_low:g}-"
+                f"{inputs.T_high:g} K"
+            )
+        return reverse_rate(session, key, inside, preset=preset), None
+    except RatebankError as exc:
+        return None, f"declared reversible, but {exc}"
+
+
 def _book_reaction(
     session: Session, key: str, chosen: Chosen | None, findings: _Findings, preset: str
 ) -> BookReaction:
     detail = show_reaction(session, key)
     plot, plot_note = _plot(session, key, preset)
+    reverse, reverse_note = _book_reverse(session, key, chosen, preset)
     exported = None if chosen is None else chosen.expression
     return BookReaction(
         key=detail.key,
@@ -421,6 +460,8 @@ def _book_reaction(
         plot=plot,
         plot_note=plot_note,
         unchecked=findings.unchecked.get(detail.key, []),
+        reverse=reverse,
+        reverse_note=reverse_note,
     )
 
 
@@ -458,7 +499,14 @@ def _book_species(
     found = []
     for name in names:
         detail = species_detail(session, name)
-        found.append(BookSpecies(detail.species, detail.estimated_diameter, detail.reactions))
+        found.append(
+            BookSpecies(
+                detail.species,
+                detail.estimated_diameter,
+                detail.reactions,
+                species_thermo(session, name),
+            )
+        )
         progress.advance()
     return found
 

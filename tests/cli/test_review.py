@@ -257,3 +257,64 @@ def test_review_refuses_a_folder_that_is_not_a_book(store, tmp_path):
     outcome = run(store, "review", str(tmp_path / "missing" / "book"))
     assert outcome.exit_code == 1
     assert "does not exist; create it first" in outcome.stderr
+
+
+REVERSIBLE_REACTIONS = """key,equation,class,reverse
+h-o2,H + O2 -> OH + O,branching,detailed-balance
+oh-h2,OH + H2 -> H2O + H,abstraction,
+"""
+#: synthetic rate parameters
+REVERSIBLE_EXPRESSIONS = """reaction,A,n,Ea,Ea_units,k_units,T_min_K,T_max_K,reference
+h-o2,3.5e15,-0.4,72,kJ/mol,cm3/mol/s,300,2500,synthetic
+oh-h2,2.2e8,1.5,14.4,kJ/mol,cm3/mol/s,300,2500,synthetic
+"""
+
+
+def _table_row(page: str, first_cell: str) -> list[str]:
+    """The cells of the table row whose first cell reads ``first_cell``."""
+    for row in re.findall(r"<tr>(.*?)</tr>", page, flags=re.S):
+        cells = [re.sub(r"<[^>]+>", "", c).strip() for c in re.findall(r"<td[^>]*>(.*?)</td>", row)]
+        if cells and cells[0] == first_cell:
+            return cells
+    raise AssertionError(f"no row starting {first_cell!r}")
+
+
+def test_the_book_shows_reverse_rates_and_thermochemistry(db_url, tmp_path):
+    """The reverse rate on the page is the one `rate --reverse` gives, and the species page
+    holds the Cp°, H°, S° `species show` gives (thermochemistry fitted to the NIST-JANAF
+    tables of the janaf package)."""
+    from helpers.thermo import thermo_store
+
+    db = thermo_store(db_url, tmp_path, REVERSIBLE_REACTIONS, REVERSIBLE_EXPRESSIONS)
+    outcome = run(db, "review", str(tmp_path / "book"))
+    assert outcome.exit_code == 0, outcome.stderr
+    page = (tmp_path / "book" / "reactions" / "h-o2.html").read_text(encoding="utf-8")
+    assert "Reverse rate by detailed balance" in page
+    rate = json.loads(run(db, "rate", "h-o2", "-T", "1000", "--reverse", "--json").stdout)
+    (row,) = rate["rates"]
+    cells = _table_row(page, "1000")
+    assert float(cells[2]) == pytest.approx(row["k_reverse"], rel=1e-3)
+    assert cells[3] == "yes"
+    irreversible = (tmp_path / "book" / "reactions" / "oh-h2.html").read_text(encoding="utf-8")
+    assert "Reverse rate" not in irreversible
+    oh = (tmp_path / "book" / "species" / "OH.html").read_text(encoding="utf-8")
+    shown = json.loads(run(db, "species", "show", "OH", "-T", "1000", "--json").stdout)
+    (props,) = shown["thermochemistry"]["values"]
+    cells = _table_row(oh, "1000")
+    assert float(cells[1]) == pytest.approx(props["Cp_J_per_mol_K"], rel=1e-3)
+    assert float(cells[2]) == pytest.approx(props["H_kJ_per_mol"], rel=1e-3)
+    assert float(cells[3]) == pytest.approx(props["S_J_per_mol_K"], rel=1e-3)
+
+
+def test_a_reversible_reaction_without_thermochemistry_says_why(db_url, tmp_path):
+    from helpers.thermo import thermo_store
+
+    db = thermo_store(db_url, tmp_path, REVERSIBLE_REACTIONS, REVERSIBLE_EXPRESSIONS, species=())
+    outcome = run(db, "review", str(tmp_path / "book"))
+    assert outcome.exit_code == 0, outcome.stderr
+    page = (tmp_path / "book" / "reactions" / "h-o2.html").read_text(encoding="utf-8")
+    assert "declared reversible, but" in page
+    assert "thermochemistry" in page.split("Reverse rate by detailed balance")[1]
+    assert "Thermochemistry" not in (tmp_path / "book" / "species" / "OH.html").read_text(
+        encoding="utf-8"
+    )
