@@ -12,14 +12,15 @@ from typing import TYPE_CHECKING, Any
 
 from rich.table import Table
 
-from ratebank.report.layout import ReportTable
-
-if TYPE_CHECKING:  # the overview pulls in the checks; a listing should not pay for them
-    from ratebank.services.overview import ReactionOverview
-
 from ratebank.report.format import sig, trange
+from ratebank.report.layout import ReportTable
 from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
-from ratebank.services.validate import ImportSummary
+
+if TYPE_CHECKING:  # types only: the overview pulls in the checks, the import summary the
+    # validators; a listing should not pay for them
+    from ratebank.services.overview import ReactionOverview
+    from ratebank.services.validate import ImportSummary
+
 from ratebank.store.listings import (
     ExpressionSummary,
     HistoryEntry,
