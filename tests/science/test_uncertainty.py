@@ -622,3 +622,22 @@ def test_doctests():
     result = doctest.testmod(uncertainty, optionflags=doctest.ELLIPSIS)
     assert result.attempted > 0
     assert result.failed == 0
+
+
+def test_covering_a_batch_in_chunks_gives_the_same_factors_as_one_batch(monkeypatch):
+    """Chunking is an implementation detail: 1000 synthetic covariances give the same
+    (f(298), g) whether their grid pairs are formed all at once or 7 rows at a time."""
+    module = uncertainty
+    rng = np.random.default_rng(7)
+    scale = np.array([0.1, 0.02, 300.0])[None, :, None]
+    half = rng.normal(size=(1000, 3, 3)) * scale
+    covariance = half @ half.transpose(0, 2, 1)
+    T_min = rng.uniform(200.0, 400.0, 1000)
+    T_max = T_min * rng.uniform(1.5, 5.0, 1000)
+    monkeypatch.setattr(module, "_PAIR_CHUNK", 10**9)
+    whole = module.panel_factor_from_covariance(covariance, T_min, T_max)
+    monkeypatch.setattr(module, "_PAIR_CHUNK", 7 * 42**2)
+    chunked = module.panel_factor_from_covariance(covariance, T_min, T_max)
+    assert np.array_equal(whole.f298, chunked.f298)
+    assert np.array_equal(whole.g, chunked.g)
+    assert np.all(whole.f298 >= 1.0) and np.all(whole.g >= 0.0)
