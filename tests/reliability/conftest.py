@@ -7,7 +7,8 @@ from collections.abc import Callable, Iterator
 from pathlib import Path
 
 import pytest
-from helpers.cli import Outcome
+from helpers.cli import Outcome, write
+from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
 from helpers.pg import pg_base_url, scratch_schema
 from typer.main import get_command
 from typer.testing import CliRunner
@@ -60,3 +61,18 @@ def postgres_url() -> Iterator[str]:
         pytest.skip("needs RATEBANK_TEST_PG_URL")
     with scratch_schema() as url:
         yield url
+
+
+@pytest.fixture
+def filled(db_url, cli, tmp_path):
+    """A store with the tests' species, reactions, points and expressions (synthetic)."""
+    assert cli(db_url, "init").exit_code == 0
+    for command, name, content in (
+        ("species", "species.csv", SPECIES_CSV),
+        ("reactions", "reactions.csv", REACTIONS_CSV),
+        ("data", "points.csv", MEASUREMENTS_CSV),
+        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
+    ):
+        outcome = cli(db_url, command, "import", str(write(tmp_path / name, content)))
+        assert outcome.exit_code == 0, outcome.stderr
+    return db_url

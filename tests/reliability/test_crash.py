@@ -19,12 +19,9 @@ import time
 from pathlib import Path
 
 import pytest
-from helpers.cli import snapshot, write
-from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+from helpers.cli import write
+from helpers.state import store_state as _state
 from sqlalchemy import create_engine, text
-
-from ratebank.services.store_access import open_store, store_counts
-from ratebank.store.fingerprint import store_fingerprint
 
 WORKERS = Path(__file__).with_name("workers.py")
 BIG_POINTS = 300_000
@@ -42,32 +39,6 @@ def big_csv(tmp_path_factory) -> Path:
     ]
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
     return path
-
-
-@pytest.fixture
-def filled(db_url, cli, tmp_path):
-    assert cli(db_url, "init").exit_code == 0
-    for command, name, content in (
-        ("species", "species.csv", SPECIES_CSV),
-        ("reactions", "reactions.csv", REACTIONS_CSV),
-        ("data", "points.csv", MEASUREMENTS_CSV),
-        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
-    ):
-        outcome = cli(db_url, command, "import", str(write(tmp_path / name, content)))
-        assert outcome.exit_code == 0, outcome.stderr
-    return db_url
-
-
-def _state(db):
-    """Content fingerprint, row counts and every row (audit included)."""
-    store = open_store(db)
-    try:
-        with store.session() as session:
-            fingerprint = store_fingerprint(session)
-            counts = store_counts(session)
-    finally:
-        store.close()
-    return fingerprint, counts, snapshot(db)
 
 
 def _ratebank(db, *args, env=None) -> subprocess.Popen:

@@ -31,14 +31,11 @@ import sys
 from pathlib import Path
 
 import pytest
-from helpers.cli import snapshot, write
-from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+from helpers.state import store_state as _state
 from sqlalchemy import text
 
 from ratebank import safe_output
-from ratebank.services.store_access import open_store, store_counts
 from ratebank.store.engine import create_store_engine, database_url
-from ratebank.store.fingerprint import store_fingerprint
 from ratebank.store.schema import HEAD_REVISION, KNOWN_REVISIONS, current_revision, upgrade_store
 
 WORKERS = Path(__file__).with_name("workers.py")
@@ -55,31 +52,6 @@ EXPORT_STEPS = [
 ]
 COMMIT_STEP = EXPORT_STEPS.index("committed")
 STAGING = re.compile(r"\.mechanism\.csv\.ratebank-[0-9a-f]{8}-[0-9]+-[0-9a-f]{16}")
-
-
-@pytest.fixture
-def filled(db_url, cli, tmp_path):
-    assert cli(db_url, "init").exit_code == 0
-    for command, name, content in (
-        ("species", "species.csv", SPECIES_CSV),
-        ("reactions", "reactions.csv", REACTIONS_CSV),
-        ("data", "points.csv", MEASUREMENTS_CSV),
-        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
-    ):
-        outcome = cli(db_url, command, "import", str(write(tmp_path / name, content)))
-        assert outcome.exit_code == 0, outcome.stderr
-    return db_url
-
-
-def _state(db):
-    store = open_store(db)
-    try:
-        with store.session() as session:
-            fingerprint = store_fingerprint(session)
-            counts = store_counts(session)
-    finally:
-        store.close()
-    return fingerprint, counts, snapshot(db)
 
 
 def _ratebank(db, *args, env=None):
