@@ -29,6 +29,12 @@ JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) in
 PRESET_OPTION = typer.Option(
     "combustion", "--units", help="Unit preset for the table: combustion, atmospheric or si."
 )
+DEFINITION_OPTION = typer.Option(
+    "local",
+    "--definition",
+    help="How P is defined: local (ratebank's, k / (z exp(-E0/RT))) or textbook (A / z, "
+    "converted to the local P = e^(-1/2) A / z).",
+)
 COLLISION_OPTION = typer.Option(
     "hard-sphere", "--collision", help="Collision rate model: hard-sphere or lennard-jones."
 )
@@ -344,12 +350,7 @@ def steric_set_class(
     expect_version: int = typer.Option(
         None, "--expect-version", help="Refuse if the rule changed since you read this version."
     ),
-    definition: str = typer.Option(
-        "local",
-        "--definition",
-        help="How P is defined: local (ratebank's, k / (z exp(-E0/RT))) or textbook (A / z, "
-        "converted to the local P = e^(-1/2) A / z).",
-    ),
+    definition: str = DEFINITION_OPTION,
 ) -> None:
     """Set the (local) steric factor of a reaction class.
 
@@ -386,12 +387,7 @@ def steric_set_reaction(
     key: str = typer.Argument(..., help="Reaction key or equation."),
     value: float = typer.Argument(..., help="Steric factor P.", parser=number),
     source: str = typer.Option(None, "--source", help="Where the value comes from."),
-    definition: str = typer.Option(
-        "local",
-        "--definition",
-        help="How P is defined: local (ratebank's, k / (z exp(-E0/RT))) or textbook (A / z, "
-        "converted to the local P = e^(-1/2) A / z).",
-    ),
+    definition: str = DEFINITION_OPTION,
 ) -> None:
     """Store a (local) steric factor on one reaction (it takes precedence over its class).
 
