@@ -47,6 +47,7 @@ References
 from __future__ import annotations
 
 import functools
+import math
 import numbers
 from dataclasses import dataclass
 from typing import Any
@@ -791,6 +792,68 @@ def si_rate_unit(order: int) -> str:
     if n == 0:
         return "s-1"
     return f"m{3 * n}/mol{'' if n == 1 else n}/s"
+
+
+_VOLUMES = {"cm3": "cm6", "dm3": "dm6", "L": "L2", "m3": "m6"}
+_AMOUNTS = ("molecule", "mol")
+
+
+def rate_units_by_order(unit: str) -> dict[int, str]:
+    """The k units of orders 1-3 with the same volume and amount as ``unit``.
+
+    A unit of order n is (volume/amount)^(n-1) s^-1, so one bimolecular or
+    termolecular unit fixes every order's (IUPAC Green Book, 3rd ed., 2007,
+    section 2.12: k has dimension concentration^(1-n) time^-1). The user's own
+    spelling is kept for the order of ``unit``.
+
+    Parameters
+    ----------
+    unit : str
+        A rate-constant unit of order 2 or 3 built from cm3, dm3, L or m3 with
+        molecule or mol, per second.
+
+    Returns
+    -------
+    dict
+        {1: 's-1', 2: bimolecular unit, 3: termolecular unit}.
+
+    Raises
+    ------
+    UnitError
+        For a first-order unit (it says nothing about volume or amount) or a
+        unit not built from those volumes and amounts.
+
+    Examples
+    --------
+    >>> rate_units_by_order("cm3/molecule/s")[3]
+    'cm6/molecule2/s'
+    >>> rate_units_by_order("cm6 mol-2 s-1")[2]
+    'cm3/mol/s'
+    """
+    given = parse_rate_unit(unit)
+    if given.order == 1:
+        raise UnitError(
+            f"{unit!r} is a first-order unit and says nothing about volume or amount; give a "
+            "bimolecular unit such as cm3/molecule/s"
+        )
+    # dm3 and L are the same volume: try first the symbol the user wrote
+    for volume in sorted(_VOLUMES, key=lambda v: v.rstrip("3") not in unit):
+        for amount in _AMOUNTS:
+            candidate = parse_rate_unit(f"{volume}/{amount}/s")
+            expected = candidate.to_si ** (given.order - 1)
+            if math.isclose(given.to_si, expected, rel_tol=1e-12):
+                derived = {
+                    1: "s-1",
+                    2: f"{volume}/{amount}/s",
+                    3: f"{_VOLUMES[volume]}/{amount}2/s",
+                }
+                derived[given.order] = unit  # keep the user's own spelling for its order
+                return derived
+    raise UnitError(
+        f"cannot derive the units of other reaction orders from {unit!r}: give a bimolecular "
+        "unit built from cm3, dm3, L or m3 with molecule or mol, per second "
+        "(e.g. cm3/molecule/s)"
+    )
 
 
 _SUPERSCRIPT_TEXT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")

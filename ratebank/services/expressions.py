@@ -106,6 +106,11 @@ def _record(expression: ValidExpression, source: str) -> ExpressionRecord:
             "line": expression.line,
             "given_units": expression.given_units,
         },
+        form=expression.form,
+        terms=expression.terms,
+        low_pressure=expression.low_pressure,
+        broadening=expression.broadening,
+        third_body=expression.reaction.third_body,
     )
 
 

@@ -33,6 +33,7 @@ from ratebank.science.units import (
     parse_energy_unit,
     parse_rate_unit,
     rate_from_si,
+    rate_units_by_order,
 )
 from ratebank.services.reverse import ReverseInfo, with_reverse
 from ratebank.services.selection import (
@@ -73,9 +74,6 @@ RATE_LAW_CONVENTION = (
     "d[A]/dt = -2 r; a code that writes d[A]/dt = -k[A]^2 needs twice this k."
 )
 
-_VOLUMES = {"cm3": ("cm6", 1e-6), "dm3": ("dm6", 1e-3), "L": ("L2", 1e-3), "m3": ("m6", 1.0)}
-_AMOUNTS = ("molecule", "mol")
-
 
 @dataclass(frozen=True)
 class ExportUnits:
@@ -92,35 +90,6 @@ class ExportUnits:
             raise UnitError(f"no k unit for reactions of order {order}") from None
 
 
-def _derive_orders(unit: str) -> dict[int, str]:
-    """k units for orders 1-3 with the same volume and amount as ``unit``."""
-    given = parse_rate_unit(unit)
-    if given.order == 1:
-        raise UnitError(
-            f"{unit!r} is a first-order unit and says nothing about volume or amount; give a "
-            "bimolecular unit such as cm3/molecule/s"
-        )
-    # dm3 and L are the same volume: try first the symbol the user wrote
-    for volume in sorted(_VOLUMES, key=lambda v: v.rstrip("3") not in unit):
-        for amount in _AMOUNTS:
-            candidate = parse_rate_unit(f"{volume}/{amount}/s")
-            expected = candidate.to_si ** (given.order - 1)
-            if math.isclose(given.to_si, expected, rel_tol=1e-12):
-                sixth, _ = _VOLUMES[volume]
-                derived = {
-                    1: "s-1",
-                    2: f"{volume}/{amount}/s",
-                    3: f"{sixth}/{amount}2/s",
-                }
-                derived[given.order] = unit  # keep the user's own spelling for its order
-                return derived
-    raise UnitError(
-        f"cannot derive the units of other reaction orders from {unit!r}: give a bimolecular "
-        "unit built from cm3, dm3, L or m3 with molecule or mol, per second "
-        "(e.g. cm3/molecule/s)"
-    )
-
-
 def export_units(
     preset: str | None = "combustion", k_units: str | None = None, e_units: str | None = None
 ) -> ExportUnits:
@@ -131,7 +100,7 @@ def export_units(
     k_map = dict(PRESETS[base])
     e = ENERGY_PRESETS[base]
     if k_units:
-        k_map = _derive_orders(k_units)
+        k_map = rate_units_by_order(k_units)
     if e_units:
         parse_energy_unit(e_units)
         e = canonical_energy_unit(e_units)

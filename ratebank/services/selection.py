@@ -17,9 +17,10 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import ConflictError
 from ratebank.science.arrhenius import modified_arrhenius
+from ratebank.science.rate_laws import pressure_free_rate, rate_law
 from ratebank.science.uncertainty import panel_uncertainty_factor
 from ratebank.store import audit, queries
-from ratebank.store.expressions import set_recommended
+from ratebank.store.expressions import form_of, set_recommended
 from ratebank.store.queries import ExpressionRow, ReactionRow
 
 #: Why an expression was chosen, in order of precedence.
@@ -72,10 +73,62 @@ def chosen_expressions(
     return found, gaps
 
 
-def evaluate(expression: ExpressionRow, T):  # type: ignore[no-untyped-def]
-    """k(T) of a complete expression [SI]."""
+def arrhenius_terms(expression: ExpressionRow) -> list[tuple[float, float, float]]:
+    """The (A, n, Ea) terms of an expression: its own, then a ``sum``'s further terms."""
     assert expression.A is not None
-    return modified_arrhenius(T, expression.A, expression.n, expression.Ea)
+    first = (expression.A, expression.n, expression.Ea)
+    return [first, *((t.A, t.n, t.Ea) for t in expression.terms)]
+
+
+def low_pressure_limit(expression: ExpressionRow) -> tuple[float, float, float] | None:
+    """k0 (A, n, Ea) of a ``falloff`` or ``activated`` expression, else None."""
+    if expression.A_low is None:
+        return None
+    return (expression.A_low, expression.n_low or 0.0, expression.Ea_low or 0.0)
+
+
+def broadening_of(expression: ExpressionRow):  # type: ignore[no-untyped-def]
+    """The science object of an expression's broadening (None for Lindemann or none)."""
+    from ratebank.science.falloff import FixedCentreBroadening, TroeBroadening
+
+    if expression.broadening == "troe":
+        return TroeBroadening(
+            expression.troe_alpha,  # type: ignore[arg-type]
+            expression.troe_T3,  # type: ignore[arg-type]
+            expression.troe_T1,  # type: ignore[arg-type]
+            expression.troe_T2,
+        )
+    if expression.broadening == "fixed-fc":
+        return FixedCentreBroadening(expression.Fc, expression.N)  # type: ignore[arg-type]
+    return None
+
+
+def evaluate(expression: ExpressionRow, T):  # type: ignore[no-untyped-def]
+    """k(T) a complete expression states without a pressure [SI]: the plain k, the
+    coefficient k0 of a third-body expression, k_inf of a fall-off and k0 of a chemically
+    activated one (:func:`ratebank.science.rate_laws.pressure_free_rate`)."""
+    if expression.form is None and not expression.terms:
+        assert expression.A is not None
+        return modified_arrhenius(T, expression.A, expression.n, expression.Ea)
+    return pressure_free_rate(
+        T,
+        expression.form or "arrhenius",
+        arrhenius_terms(expression),
+        low=low_pressure_limit(expression),
+    )
+
+
+def rate_at(expression: ExpressionRow, third_body: bool, T, M=None):  # type: ignore[no-untyped-def]
+    """k(T, [M]_eff) of a complete expression with its parts
+    (:func:`ratebank.science.rate_laws.rate_law`); ``M`` [mol m-3] or None."""
+    return rate_law(
+        T,
+        form_of(expression.form, third_body),
+        arrhenius_terms(expression),
+        low=low_pressure_limit(expression),
+        broadening=broadening_of(expression),
+        M=M,
+    )
 
 
 def uncertainty_factor(expression: ExpressionRow, T):  # type: ignore[no-untyped-def]

@@ -18,6 +18,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
+from dataclasses import replace as dataclass_replace
 from typing import NamedTuple
 
 from sqlalchemy.orm import Session
@@ -28,6 +29,13 @@ from ratebank.science.equation import check_element_balance, looks_like_equation
 from ratebank.science.formula import molar_mass, parse_formula
 from ratebank.science.units import parse_energy_unit, parse_rate_unit
 from ratebank.services import input_rules
+from ratebank.services.form_validation import (
+    FORM_COLUMNS,
+    FormCheck,
+    RowForm,
+    high_pressure_order,
+)
+from ratebank.store.expressions import ArrheniusTerm, Broadening
 from ratebank.store.records import NewReaction, NewSpecies, reactions_by_key_or_equation
 
 SPECIES_COLUMNS = (
@@ -86,6 +94,7 @@ EXPRESSION_COLUMNS = (
     "dE_R_K",
     "reference",
     "origin",
+    *FORM_COLUMNS,
 )
 EXPRESSION_REQUIRED = ("reaction", "Ea")
 EXPRESSION_ORIGINS = ("literature", "manual")
@@ -607,6 +616,8 @@ class ReactionRef(NamedTuple):
     id: int
     key: str
     order: int
+    #: written with M
+    third_body: bool = False
 
 
 class ReactionResolver:
@@ -662,7 +673,7 @@ class LazyReactionResolver(ReactionResolver):
         keys = [t for t in wanted if t not in equations]
         canonical = [c for c in set(equations.values()) if c not in self.by_equation]
         for found in reactions_by_key_or_equation(self.session, keys=keys, equations=canonical):
-            ref = ReactionRef(found.id, found.key, found.order)
+            ref = ReactionRef(found.id, found.key, found.order, bool(found.third_body))
             self.by_key[found.key] = ref
             self.by_equation[found.equation] = ref
 
@@ -901,6 +912,14 @@ class ValidExpression:
     given_units: dict[str, str]
     #: g [K] of f(T) = f(298) exp|g (1/T - 1/298 K)|, None for 0
     uncertainty_g: float | None = None
+    form: str = "arrhenius"
+    #: the term number of a ``sum`` row (1 for every other form)
+    term: int = 1
+    #: further terms of a ``sum`` (filled when its rows are grouped)
+    terms: tuple[ArrheniusTerm, ...] = ()
+    #: k0 (A, n, Ea in SI) of ``falloff`` and ``activated``
+    low_pressure: ArrheniusTerm | None = None
+    broadening: Broadening | None = None
 
 
 #: The expression file's column of each number of :func:`check_expression_values`.
@@ -923,7 +942,38 @@ def validate_expressions(
     # one batched lookup for the whole file, not a query per row
     resolver.prefetch({text for _, row in rows if (text := cell(row, "reaction")) is not None})
     found = (_valid_expression(problems, line, row, resolver) for line, row in rows)
-    return [expression for expression in found if expression is not None]
+    return _grouped_sums([expression for expression in found if expression is not None], problems)
+
+
+def _grouped_sums(valid: list[ValidExpression], problems: Problems) -> list[ValidExpression]:
+    """One expression per ``sum``: rows of one reaction, reference and origin are its terms,
+    numbered 1, 2, ... without a gap; term 1 carries the expression, the others its terms."""
+    groups: dict[tuple[int, str | None, str], list[ValidExpression]] = {}
+    out: list[ValidExpression] = []
+    for expression in valid:
+        if expression.form != "sum":
+            out.append(expression)
+        else:
+            key = (expression.reaction.id, expression.reference, expression.origin)
+            groups.setdefault(key, []).append(expression)
+    for rows in groups.values():
+        numbers = sorted(r.term for r in rows)
+        where = rows[0].line
+        if numbers != list(range(1, len(rows) + 1)) or len(rows) < 2:
+            problems.add(
+                where,
+                "term",
+                f"the sum of {rows[0].reaction.key!r} ({rows[0].reference or 'no reference'}) "
+                f"has terms {', '.join(map(str, numbers))}; expected 1, 2, ... (at least two)",
+            )
+            continue
+        ordered = sorted(rows, key=lambda r: r.term)
+        if any(r.A is None for r in ordered):
+            problems.add(where, "A", "every term of a sum needs its A")
+            continue
+        further = tuple(ArrheniusTerm(r.A, r.n, r.Ea, r.T_min, r.T_max) for r in ordered[1:])  # type: ignore[arg-type]
+        out.append(dataclass_replace(ordered[0], terms=further))
+    return sorted(out, key=lambda e: e.line or 0)
 
 
 def _valid_expression(
@@ -931,6 +981,7 @@ def _valid_expression(
 ) -> ValidExpression | None:
     before = problems.total
     reaction = _resolved_reaction(problems, line, cell(row, "reaction"), resolver)
+    shape = _row_form(problems, line, row, reaction)
     numbers = {
         name: _number(problems, line, row, column, what=EXPRESSION_NUMBERS[name][0])
         for name, column in _EXPRESSION_CELLS.items()
@@ -939,7 +990,7 @@ def _valid_expression(
         problems.add(line, "Ea", "is empty; expected an activation energy (0 if none)")
     k_units, Ea_units = cell(row, "k_units"), cell(row, "Ea_units")
     checked = check_expression_values(
-        reaction.order if reaction is not None else None,
+        high_pressure_order(shape.form, reaction.order) if reaction and shape else None,
         k_units=k_units,
         Ea_units=Ea_units,
         names=_EXPRESSION_CELLS,
@@ -957,8 +1008,10 @@ def _valid_expression(
         units["k_units"] = k_units
     values = checked.values
     f298, g = _panel_uncertainty(problems, line, row, values.get("uncertainty_factor"))
-    if problems.total > before:
+    if problems.total > before or shape is None:
         return None
+    if shape.k_low_units:
+        units["k_low_units"] = shape.k_low_units
     return ValidExpression(
         line=line,
         reaction=reaction,
@@ -972,7 +1025,37 @@ def _valid_expression(
         reference=cell(row, "reference"),
         given_units=units,
         uncertainty_g=g,
+        form=shape.form,
+        term=shape.term,
+        low_pressure=ArrheniusTerm(*shape.low) if shape.low else None,
+        broadening=shape.broadening,
     )
+
+
+def _row_form(
+    problems: Problems, line: int | None, row: Mapping[str, str | None], reaction
+) -> RowForm | None:  # type: ignore[no-untyped-def]
+    """The form columns of a row (None, with problems, when they cannot be used)."""
+    check = FormCheck(
+        row,
+        lambda column, what, bound: _number(
+            problems, line, row, column, positive=bound == "positive", what=what
+        ),
+    )
+    if reaction is None:
+        return None
+    form = check.form(reaction.third_body)
+    shape = None
+    if form is not None:
+        term = check.term(form)
+        low, low_units = check.low_pressure(
+            form, reaction.order, cell(row, "k_units"), cell(row, "Ea_units")
+        )
+        broadening = check.broadening(form)
+        shape = RowForm(form, term, low, broadening, low_units)
+    for column, message in check.problems:
+        problems.add(line, column, message)
+    return shape if not check.problems else None
 
 
 def _panel_uncertainty(

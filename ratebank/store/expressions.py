@@ -7,11 +7,13 @@ provenance, writes every record in one bulk insert and records one history
 entry per record. Edits and removals of stored expressions go through here
 too, so that an expression's columns are written in exactly one place.
 
-A record's ``form`` names its rate law. ``arrhenius`` (k = A T^n exp(-Ea/RT))
-is what the store holds today; the record already carries what the other
-forms need (further terms of a ``sum``, a low-pressure limit and a broadening
-function for ``falloff`` and ``activated``, a reverse direction), so that they
-arrive through this same path.
+A record's ``form`` names its rate law (:data:`FORMS`): ``arrhenius``
+(k = A T^n exp(-Ea/RT)), ``sum`` (further terms in ``terms``), ``third-body``
+(A, n, Ea are k0 of k = k0 [M]_eff), ``falloff`` and ``activated`` (A, n, Ea are
+the high-pressure limit, ``low_pressure`` the low-pressure limit, ``broadening``
+the broadening function). The plain form of a reaction (``arrhenius``, or
+``third-body`` for one written with M) is stored as an empty form, which is
+how every expression stored before the forms existed reads.
 """
 
 from __future__ import annotations
@@ -25,11 +27,18 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError
 from ratebank.store import audit
-from ratebank.store.bulk import db_timestamp, insert_returning_ids, json_adapter
-from ratebank.store.models import ORIGINS, Expression, utc_now
+from ratebank.store.bulk import db_timestamp, insert_returning_ids, insert_rows, json_adapter
+from ratebank.store.models import (
+    BROADENINGS,
+    FORMS,
+    ORIGINS,
+    Expression,
+    ExpressionTerm,
+    utc_now,
+)
 
-#: Rate-law forms a stored expression can have.
-FORMS = ("arrhenius",)
+#: Forms with a low- and a high-pressure limit and a broadening function.
+LIMIT_FORMS = ("falloff", "activated")
 
 #: Column order of the bulk insert (the model's column names).
 _COLUMNS = (
@@ -48,7 +57,30 @@ _COLUMNS = (
     "version",
     "created_at",
     "created_by",
+    "form",
+    "a_low",
+    "n_low",
+    "ea_low",
+    "broadening",
+    "fc",
+    "fc_width",
+    "troe_alpha",
+    "troe_t3",
+    "troe_t1",
+    "troe_t2",
 )
+_TERM_COLUMNS = ("expression_id", "term", "A", "n", "Ea", "T_min", "T_max")
+
+
+def plain_form(third_body: bool) -> str:
+    """The form an expression of a reaction has when it names none: ``third-body`` for a
+    reaction written with M, else ``arrhenius``."""
+    return "third-body" if third_body else "arrhenius"
+
+
+def form_of(stored_form: str | None, third_body: bool) -> str:
+    """The rate-law form of a stored expression (an empty form is the plain form)."""
+    return stored_form or plain_form(third_body)
 
 
 @dataclass(frozen=True)
@@ -60,6 +92,24 @@ class ArrheniusTerm:
     Ea: float
     T_min: float | None = None
     T_max: float | None = None
+
+
+@dataclass(frozen=True)
+class Broadening:
+    """The broadening function F of a ``falloff`` or ``activated`` expression.
+
+    ``kind`` is ``none`` (Lindemann, F = 1), ``troe`` (``alpha`` [-], ``T3`` = T***,
+    ``T1`` = T*, ``T2`` = T** [K], T** optional) or ``fixed-fc`` (``Fc`` [-] and the
+    width ``N`` [-], empty for N = 0.75 - 1.27 log10 Fc).
+    """
+
+    kind: str = "none"
+    Fc: float | None = None
+    N: float | None = None
+    alpha: float | None = None
+    T3: float | None = None
+    T1: float | None = None
+    T2: float | None = None
 
 
 @dataclass
@@ -92,8 +142,9 @@ class ExpressionRecord:
     form: str = "arrhenius"
     terms: tuple[ArrheniusTerm, ...] = ()
     low_pressure: ArrheniusTerm | None = None
-    broadening: Mapping[str, Any] | None = None
-    reverse: str | None = None
+    broadening: Broadening | None = None
+    #: True when the reaction is written with M (its plain form is then ``third-body``)
+    third_body: bool = False
 
 
 def _refuse_unstorable(record: ExpressionRecord) -> None:
@@ -102,12 +153,44 @@ def _refuse_unstorable(record: ExpressionRecord) -> None:
             f"unknown origin {record.origin!r}; expected one of {', '.join(ORIGINS)}",
             argument="origin",
         )
-    if record.form not in FORMS or record.terms or record.low_pressure or record.broadening:
+    if record.form not in FORMS:
         raise BadInputError(
-            f"this store holds {', '.join(FORMS)} expressions only; a {record.form!r} "
-            "expression cannot be stored in it",
+            f"unknown form {record.form!r}; expected one of {', '.join(FORMS)}", argument="form"
+        )
+    limits = record.form in LIMIT_FORMS
+    if limits != (record.low_pressure is not None) or (record.terms and record.form != "sum"):
+        raise BadInputError(
+            f"a {record.form!r} expression "
+            + ("needs a low-pressure limit" if limits else "has no low-pressure limit")
+            + ("" if record.form == "sum" or not record.terms else " and no further terms"),
             argument="form",
         )
+    if record.broadening is not None and record.broadening.kind not in BROADENINGS:
+        raise BadInputError(
+            f"unknown broadening {record.broadening.kind!r}; expected one of "
+            f"{', '.join(BROADENINGS)}",
+            argument="broadening",
+        )
+
+
+def _form_columns(record: ExpressionRecord) -> tuple[Any, ...]:
+    """The form's own columns of a record (empty for the reaction's plain form)."""
+    stored_form = None if record.form == plain_form(record.third_body) else record.form
+    low = record.low_pressure
+    b = record.broadening or (Broadening() if low is not None else None)
+    return (
+        stored_form,
+        low.A if low else None,
+        low.n if low else None,
+        low.Ea if low else None,
+        b.kind if b else None,
+        b.Fc if b else None,
+        b.N if b else None,
+        b.alpha if b else None,
+        b.T3 if b else None,
+        b.T1 if b else None,
+        b.T2 if b else None,
+    )
 
 
 def write_expressions(
@@ -152,10 +235,18 @@ def write_expressions(
                 1,
                 now,
                 author,
+                *_form_columns(r),
             )
             for r in records
         ],
     )
+    terms = [
+        (new_id, number, t.A, t.n, t.Ea, t.T_min, t.T_max)
+        for r, new_id in zip(records, ids, strict=True)
+        for number, t in enumerate(r.terms, start=2)
+    ]
+    if terms:
+        insert_rows(session, "expression_term", _TERM_COLUMNS, terms)
     if history:
         audit.record_many(
             session,
@@ -172,7 +263,9 @@ def remove_expressions(session: Session, expression_ids: Sequence[int]) -> None:
     """Delete these expressions (the caller records why)."""
     ids = list(expression_ids)
     for start in range(0, len(ids), 500):
-        session.execute(delete(Expression).where(Expression.id.in_(ids[start : start + 500])))
+        chunk = ids[start : start + 500]
+        session.execute(delete(ExpressionTerm).where(ExpressionTerm.expression_id.in_(chunk)))
+        session.execute(delete(Expression).where(Expression.id.in_(chunk)))
 
 
 #: Fields :func:`update_expression` may change, by record name.

@@ -25,6 +25,7 @@ from sqlalchemy.orm import Session
 from ratebank.store.models import (
     EvansPolanyiRule,
     Expression,
+    ExpressionTerm,
     MeasurementSet,
     Participant,
     Point,
@@ -32,6 +33,7 @@ from ratebank.store.models import (
     Species,
     SpeciesThermo,
     StericRule,
+    ThirdBodyEfficiency,
 )
 
 _SKIP = {"created_at", "updated_at", "updated_by", "created_by", "version"}
@@ -41,7 +43,7 @@ _FORMER_NAMES = {"a": "pre_exponential", "n": "temperature_exponent", "ea": "act
 TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
 #: Tables a later revision added: hashed only when they hold a row, so that an upgrade which
 #: adds them empty keeps the fingerprint (as for columns, above).
-LATER_TABLES = (SpeciesThermo, EvansPolanyiRule)
+LATER_TABLES = (SpeciesThermo, EvansPolanyiRule, ExpressionTerm, ThirdBodyEfficiency)
 #: Rows fetched and hashed at a time.
 _BATCH = 50_000
 

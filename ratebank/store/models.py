@@ -47,6 +47,12 @@ DIAMETER_KINDS = ("hard-sphere", "lennard-jones")
 PARTICIPANT_ROLES = ("reactant", "product")
 #: How a reaction's reverse is obtained: NULL means none (irreversible as written).
 REVERSE_RULES = ("detailed-balance",)
+#: Rate-law forms a stored expression can have. An empty form is the reaction's plain form:
+#: ``arrhenius``, or ``third-body`` for a reaction written with M (so that every expression
+#: stored before the forms existed keeps its meaning and its content).
+FORMS = ("arrhenius", "sum", "third-body", "falloff", "activated")
+#: Broadening functions of a ``falloff`` or ``activated`` expression.
+BROADENINGS = ("none", "troe", "fixed-fc")
 #: The seven coefficients of each polynomial range, as the columns and import file name them.
 LOW_COEFFICIENTS = tuple(f"low_{i}" for i in range(1, 8))
 HIGH_COEFFICIENTS = tuple(f"high_{i}" for i in range(1, 8))
@@ -303,9 +309,87 @@ class Expression(Base):
     updated_at: Mapped[dt.datetime | None] = mapped_column(DateTime(timezone=True))
     updated_by: Mapped[str | None] = mapped_column(String(200))
 
+    #: the rate law (FORMS); empty for the reaction's plain form (revision 0008)
+    form: Mapped[str | None] = mapped_column(
+        String(20),
+        CheckConstraint(
+            "form IS NULL OR form IN ('arrhenius', 'sum', 'third-body', 'falloff', 'activated')",
+            name="form_known",
+        ),
+    )
+    #: low-pressure limit k0 of ``falloff`` and ``activated`` [SI k unit of the reaction's
+    #: order times K^-n_low]; ``A``, ``n``, ``Ea`` are then the high-pressure limit
+    A_low: Mapped[float | None] = mapped_column(
+        "a_low", Float, CheckConstraint("a_low IS NULL OR a_low > 0", name="a_low_positive")
+    )
+    n_low: Mapped[float | None] = mapped_column("n_low", Float)
+    #: [J mol-1]
+    Ea_low: Mapped[float | None] = mapped_column("ea_low", Float)
+    #: BROADENINGS; empty for forms without one
+    broadening: Mapped[str | None] = mapped_column(
+        String(20),
+        CheckConstraint(
+            "broadening IS NULL OR broadening IN ('none', 'troe', 'fixed-fc')",
+            name="broadening_known",
+        ),
+    )
+    #: centre broadening factor of ``fixed-fc`` [-] and its width N [-] (empty: 0.75 - 1.27
+    #: log10 Fc)
+    Fc: Mapped[float | None] = mapped_column("fc", Float)
+    N: Mapped[float | None] = mapped_column("fc_width", Float)
+    #: Troe's alpha [-] and T***, T*, T** [K] (T** optional)
+    troe_alpha: Mapped[float | None] = mapped_column(Float)
+    troe_T3: Mapped[float | None] = mapped_column("troe_t3", Float)
+    troe_T1: Mapped[float | None] = mapped_column("troe_t1", Float)
+    troe_T2: Mapped[float | None] = mapped_column("troe_t2", Float)
+
     reaction: Mapped[Reaction] = relationship(back_populates="expressions")
 
     __mapper_args__ = {"version_id_col": version}  # noqa: RUF012
+
+
+class ExpressionTerm(Base):
+    """A further Arrhenius term (2, 3, ...) of a ``sum`` expression; term 1 is the
+    expression's own A, n, Ea and range."""
+
+    __tablename__ = "expression_term"
+    __table_args__ = (
+        UniqueConstraint("expression_id", "term", name="uq_expression_term_term"),
+        CheckConstraint("term >= 2", name="term_after_first"),
+        CheckConstraint("a > 0", name="a_positive"),
+        CheckConstraint("t_min IS NULL OR t_min > 0", name="t_min_positive"),
+        CheckConstraint("t_min IS NULL OR t_max IS NULL OR t_max >= t_min", name="t_range_ordered"),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    expression_id: Mapped[int] = mapped_column(ForeignKey("expression.id", ondelete="CASCADE"))
+    term: Mapped[int] = mapped_column(Integer)
+    #: [SI k unit times K^-n]
+    A: Mapped[float] = mapped_column("a", Float)
+    n: Mapped[float] = mapped_column("n", Float)
+    #: [J mol-1]
+    Ea: Mapped[float] = mapped_column("ea", Float)
+    T_min: Mapped[float | None] = mapped_column("t_min", Float)
+    T_max: Mapped[float | None] = mapped_column("t_max", Float)
+
+
+class ThirdBodyEfficiency(Base):
+    """How much more (or less) than an average collider a species counts in [M]_eff of one
+    reaction; species without a row count 1."""
+
+    __tablename__ = "third_body_efficiency"
+    __table_args__ = (
+        UniqueConstraint("reaction_id", "species_id", name="uq_third_body_efficiency_pair"),
+        CheckConstraint("efficiency >= 0", name="efficiency_non_negative"),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    reaction_id: Mapped[int] = mapped_column(ForeignKey("reaction.id"))
+    species_id: Mapped[int] = mapped_column(ForeignKey("species.id"))
+    efficiency: Mapped[float] = mapped_column(Float)
+    source: Mapped[str | None] = mapped_column(Text)
+    updated_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    updated_by: Mapped[str | None] = mapped_column(String(200))
 
 
 class StericRule(Base):
@@ -432,3 +516,5 @@ Index("ix_measurement_set_reaction_id", MeasurementSet.reaction_id)
 Index("ix_expression_reaction_id", Expression.reaction_id)
 Index("ix_reaction_reaction_class", Reaction.reaction_class)
 Index("ix_audit_at", AuditEntry.at)
+Index("ix_expression_term_expression_id", ExpressionTerm.expression_id)
+Index("ix_third_body_efficiency_reaction_id", ThirdBodyEfficiency.reaction_id)

@@ -96,7 +96,14 @@ _SPECIES_COLUMNS = tuple(getattr(Species, name) for name in SpeciesRow._fields)
 
 
 class ExpressionRow(NamedTuple):
-    """A stored rate expression k = A T^n exp(-Ea/RT) and where it came from."""
+    """A stored rate expression and where it came from.
+
+    ``A``, ``n``, ``Ea`` are the single term of ``arrhenius``, term 1 of ``sum``
+    (further terms in ``terms``), k0 of ``third-body`` and the high-pressure
+    limit of ``falloff`` and ``activated`` (whose low-pressure limit is
+    ``A_low``, ``n_low``, ``Ea_low``). ``form`` is as stored: empty for the
+    reaction's plain form (:func:`ratebank.store.expressions.form_of`).
+    """
 
     id: int
     reaction_id: int
@@ -116,11 +123,38 @@ class ExpressionRow(NamedTuple):
     created_by: str | None
     updated_at: Any
     updated_by: str | None
+    form: str | None = None
+    A_low: float | None = None
+    n_low: float | None = None
+    Ea_low: float | None = None
+    broadening: str | None = None
+    Fc: float | None = None
+    N: float | None = None
+    troe_alpha: float | None = None
+    troe_T3: float | None = None
+    troe_T1: float | None = None
+    troe_T2: float | None = None
+    #: the further terms (2, 3, ...) of a ``sum``
+    terms: tuple[TermRow, ...] = ()
 
     @property
     def complete(self) -> bool:
-        """True when A is known (an expression without A awaits an estimate)."""
+        """True when A is known (an expression without A awaits an estimate), and k0 too
+        for a form with two limits."""
+        if self.form in ("falloff", "activated"):
+            return self.A is not None and self.A_low is not None
         return self.A is not None
+
+
+class TermRow(NamedTuple):
+    """A further term of a ``sum`` expression (SI units)."""
+
+    term: int
+    A: float
+    n: float
+    Ea: float
+    T_min: float | None
+    T_max: float | None
 
 
 _EXPRESSION_COLUMNS = (
@@ -142,6 +176,17 @@ _EXPRESSION_COLUMNS = (
     Expression.created_by,
     Expression.updated_at,
     Expression.updated_by,
+    Expression.form,
+    Expression.A_low,
+    Expression.n_low,
+    Expression.Ea_low,
+    Expression.broadening,
+    Expression.Fc,
+    Expression.N,
+    Expression.troe_alpha,
+    Expression.troe_T3,
+    Expression.troe_T1,
+    Expression.troe_T2,
 )
 
 
@@ -234,7 +279,7 @@ def expression(session: Session, expression_id: int) -> ExpressionRow:
     ).first()
     if row is None:
         raise NotFoundError(f"no expression {expression_id} in the store")
-    return _expression_row(row)
+    return with_terms(session, [_expression_row(row)])[0]
 
 
 def expressions_of(
@@ -242,6 +287,16 @@ def expressions_of(
 ) -> dict[int, list[ExpressionRow]]:
     """Every expression of each reaction (all reactions when ``reaction_ids`` is None), oldest
     first."""
+    found = _expressions_by_reaction(session, reaction_ids)
+    if any(row.form == "sum" for rows in found.values() for row in rows):
+        for reaction_id, rows in found.items():
+            found[reaction_id] = with_terms(session, rows)
+    return found
+
+
+def _expressions_by_reaction(
+    session: Session, reaction_ids: Sequence[int] | None
+) -> dict[int, list[ExpressionRow]]:
     query = select(*_EXPRESSION_COLUMNS).order_by(Expression.id)
     if reaction_ids is None:
         found: dict[int, list[ExpressionRow]] = {}
@@ -269,11 +324,30 @@ def newest_fits(session: Session, reaction_ids: Sequence[int]) -> dict[int, Expr
         f"SELECT {columns} FROM expression WHERE id IN (SELECT MAX(id) FROM expression "
         "WHERE origin = 'measured-fit' AND reaction_id IN ({marks}) GROUP BY reaction_id)"
     )
-    return {row[1]: _expression_row(row) for row in fetch_in(session, query, list(reaction_ids))}
+    rows = with_terms(
+        session, [_expression_row(row) for row in fetch_in(session, query, list(reaction_ids))]
+    )
+    return {row.reaction_id: row for row in rows}
 
 
 def _sql_column(column: Any) -> str:
-    return str(column.key)  # the rate law's names: SQL reads A, n, Ea, T_min unquoted
+    return str(column.expression.name)  # the column's own name (``N`` is ``fc_width``)
+
+
+def with_terms(session: Session, rows: list[ExpressionRow]) -> list[ExpressionRow]:
+    """``rows`` with the further terms of each ``sum`` filled in (one query, none without
+    a sum)."""
+    sums = [row.id for row in rows if row.form == "sum"]
+    if not sums:
+        return rows
+    query = (
+        "SELECT expression_id, term, a, n, ea, t_min, t_max FROM expression_term "
+        "WHERE expression_id IN ({marks}) ORDER BY expression_id, term"
+    )
+    terms: dict[int, list[TermRow]] = {}
+    for expression_id, *term in fetch_in(session, query, sums):
+        terms.setdefault(expression_id, []).append(TermRow(*term))
+    return [row._replace(terms=tuple(terms.get(row.id, ()))) for row in rows]
 
 
 def measured_fits(session: Session, *, reaction_class: str | None = None) -> list[ExpressionRow]:
@@ -290,7 +364,7 @@ def measured_fits(session: Session, *, reaction_class: str | None = None) -> lis
     )
     if reaction_class is not None:
         query = query.where(Reaction.reaction_class == reaction_class)
-    return [_expression_row(row) for row in session.execute(query)]
+    return with_terms(session, [_expression_row(row) for row in session.execute(query)])
 
 
 def set_labels(session: Session, set_ids: Iterable[int]) -> dict[int, str]:

@@ -143,6 +143,7 @@ class ReactionKeyRow(NamedTuple):
     key: str
     equation: str
     order: int
+    third_body: bool
 
 
 def reaction_keys(session: Session) -> set[str]:
@@ -166,7 +167,7 @@ def reactions_by_key_or_equation(
             ReactionKeyRow(*row)
             for row in fetch_in(
                 session,
-                "SELECT id, key, equation, reaction_order FROM reaction "
+                "SELECT id, key, equation, reaction_order, third_body FROM reaction "
                 f"WHERE {column} IN ({{marks}})",
                 values,
             )
