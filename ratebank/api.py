@@ -294,6 +294,18 @@ class Store:
             temperatures=None if temperatures is None else list(temperatures),
         )  # fmt: skip
 
+    # ------------------------------------------------------------------ efficiencies
+
+    def import_efficiencies(self, path: str | Path, *, dry_run: bool = False) -> ImportSummary:
+        """Import third-body efficiencies (reaction, species, efficiency, source) from a CSV
+        file, all or nothing; a stated pair replaces its earlier value; an ImportSummary."""
+        return self._import("import_efficiencies_file", path, dry_run=dry_run)
+
+    def efficiencies(self, *, reaction: str | None = None) -> list[Any]:
+        """The stated third-body efficiencies (a species not listed counts 1), by reaction and
+        species; those of ``reaction`` when given; a list of EfficiencyRow."""
+        return self._read("efficiencies", "list_efficiencies", reaction=reaction)
+
     # ------------------------------------------------------------------ measurements
 
     def import_measurements(

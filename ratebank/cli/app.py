@@ -14,6 +14,7 @@ import typer
 from ratebank import __version__, api
 from ratebank.cli import admin as admin_commands
 from ratebank.cli import common
+from ratebank.cli import efficiencies as efficiencies_commands
 from ratebank.cli import kinetics as kinetics_commands
 from ratebank.cli import plot as plot_commands
 from ratebank.cli import review as review_commands
@@ -77,6 +78,7 @@ plot_commands.register(app, kinetics_commands.steric_app)
 admin_commands.register(app, expressions_app)
 review_commands.register(app)
 thermo_commands.register(app)
+efficiencies_commands.register(app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")

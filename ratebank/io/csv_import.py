@@ -427,3 +427,16 @@ def import_measurements_file(
     if importer.rows == 0 and not problems:
         raise CsvFileError(f"{name}: has a header but no data rows")
     return importer.finish()
+
+
+def import_efficiencies_file(
+    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+) -> ImportSummary:
+    from ratebank.services.efficiencies import (
+        EFFICIENCY_COLUMNS,
+        EFFICIENCY_REQUIRED,
+        import_efficiencies,
+    )
+
+    table = read_table(path, EFFICIENCY_COLUMNS, EFFICIENCY_REQUIRED)
+    return import_efficiencies(session, _row_dicts(table), source=table.path, dry_run=dry_run)

@@ -253,35 +253,79 @@ def _display_units(order: int, preset: str) -> tuple[str, str]:
     return rate_unit_for(preset, order), energy_unit_for(preset)
 
 
+#: Forms whose A, n, Ea are the high-pressure limit, one concentration fewer than the equation.
+_LIMIT_FORMS = ("falloff", "activated")
+
+
 def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[dict[str, Any]]:
     from ratebank.science.units import energy_from_si, rate_from_si
 
     records = []
     for e in rows:
-        k_units, e_units = _display_units(e.reaction_order, preset)
-        records.append(
-            {
-                "id": e.id,
-                "reaction": e.reaction_key,
-                "origin": e.origin,
-                "A": None if e.A is None else float(rate_from_si(e.A, k_units, e.reaction_order)),
-                "n": e.n,
-                "Ea": float(energy_from_si(e.Ea, e_units)),
-                "k_units": k_units,
-                "Ea_units": e_units,
-                "T_min_K": e.T_min,
-                "T_max_K": e.T_max,
-                "uncertainty_factor": e.uncertainty_factor,
-                "uncertainty_g_K": e.uncertainty_g,
-                "reference": e.reference,
-                "recommended": e.recommended,
-                "version": e.version,
-                "created_at": e.created_at.isoformat() if e.created_at else None,
-                "created_by": e.created_by,
-                "provenance": e.provenance,
-            }
-        )
+        order = e.reaction_order - 1 if e.form in _LIMIT_FORMS else e.reaction_order
+        k_units, e_units = _display_units(order, preset)
+        record = {
+            "id": e.id,
+            "reaction": e.reaction_key,
+            "origin": e.origin,
+            "form": e.form,
+            "A": None if e.A is None else float(rate_from_si(e.A, k_units, order)),
+            "n": e.n,
+            "Ea": float(energy_from_si(e.Ea, e_units)),
+            "k_units": k_units,
+            "Ea_units": e_units,
+            "T_min_K": e.T_min,
+            "T_max_K": e.T_max,
+            "uncertainty_factor": e.uncertainty_factor,
+            "uncertainty_g_K": e.uncertainty_g,
+            "reference": e.reference,
+            "recommended": e.recommended,
+            "version": e.version,
+            "created_at": e.created_at.isoformat() if e.created_at else None,
+            "created_by": e.created_by,
+            "provenance": e.provenance,
+        }
+        if e.low is not None:
+            low_units, _ = _display_units(e.reaction_order, preset)
+            record["A_low"] = float(rate_from_si(e.low[0], low_units, e.reaction_order))
+            record["n_low"] = e.low[1]
+            record["Ea_low"] = float(energy_from_si(e.low[2], e_units))
+            record["k_low_units"] = low_units
+            record["broadening"] = e.broadening
+        if e.terms:
+            record["terms"] = [
+                {
+                    "term": term,
+                    "A": float(rate_from_si(A, k_units, order)),
+                    "n": n,
+                    "Ea": float(energy_from_si(Ea, e_units)),
+                    "T_min_K": t_min,
+                    "T_max_K": t_max,
+                }
+                for term, A, n, Ea, t_min, t_max in e.terms
+            ]
+        records.append(record)
     return records
+
+
+def _form_text(r: dict[str, Any]) -> str:
+    """The form cell: its name, and what the A, n, Ea columns do not show."""
+    if "A_low" in r:
+        b = r["broadening"] or {"kind": "none"}
+        shown = ", ".join(f"{k} {sig(v)}" for k, v in b.items() if k != "kind")
+        return (
+            f"{r['form']} (A,n,Ea: k∞); k0 {sig(r['A_low'])} {r['k_low_units']}, "
+            f"n {sig(r['n_low'])}, Ea {sig(r['Ea_low'])}; F {b['kind']}"
+            + (f" ({shown})" if shown else "")
+        )
+    if "terms" in r:
+        more = "; ".join(
+            f"+ {sig(t['A'])} T^{sig(t['n'])} Ea {sig(t['Ea'])} "
+            f"{trange(t['T_min_K'], t['T_max_K'])}"
+            for t in r["terms"]
+        )
+        return f"sum: {more}"
+    return r["form"]
 
 
 def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
@@ -289,12 +333,13 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
     e_units = records[0]["Ea_units"] if records else ""
     table = ReportTable(
         title=f"Expressions ({len(rows)}), k = A T^n exp(-Ea/RT), {preset} units",
-        drop=("v", "reference", "f", "T (K)", "origin"),
+        drop=("v", "reference", "f", "T (K)", "origin", "form"),
     )
     for header in (
         "id",
         "reaction",
         "origin",
+        "form",
         "A",
         "k units (A: ×K^-n)",
         "n",
@@ -310,6 +355,7 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
             str(r["id"]) + (" ★" if r["recommended"] else ""),
             r["reaction"],
             r["origin"],
+            _form_text(r),
             sig(r["A"]) if r["A"] is not None else "(to estimate)",
             r["k_units"],
             sig(r["n"]),
@@ -343,6 +389,10 @@ def reaction_detail_record(detail: ReactionDetail, preset: str) -> dict[str, Any
         ],
         "sets": set_records(detail.sets),
         "expressions": expression_records(detail.expressions, preset),
+        "efficiencies": [
+            {"species": species, "efficiency": value, "source": source}
+            for species, value, source in detail.efficiencies
+        ],
         "history": history_records(detail.history),
     }
 
@@ -380,9 +430,24 @@ def reaction_detail_tables(detail: ReactionDetail, preset: str) -> list[Table]:
         )
     tables = [facts, participants, sets_table(detail.sets)]
     tables.append(expressions_table(detail.expressions, preset))
+    if detail.third_body or detail.efficiencies:
+        tables.append(_reaction_efficiencies_table(detail))
     if detail.history:
         tables.append(history_table(detail.history, title="Recent history"))
     return tables
+
+
+def _reaction_efficiencies_table(detail: ReactionDetail) -> Table:
+    table = ReportTable(
+        title=f"Third-body efficiencies ({len(detail.efficiencies)}); "
+        "a species not listed counts 1",
+        drop=("source",),
+    )
+    for header in ("species", "efficiency", "source"):
+        table.add_column(header)
+    for species, value, source in detail.efficiencies:
+        table.add_row(species, f"{value:g}", source or "")
+    return table
 
 
 # --------------------------------------------------------------------------- history
@@ -430,6 +495,7 @@ def import_message(summary: ImportSummary) -> str:
         "reactions": "reactions",
         "measurements": "points",
         "expressions": "expressions",
+        "efficiencies": "efficiencies",
     }[summary.kind]
     extra = ""
     if summary.kind == "measurements":
@@ -438,6 +504,9 @@ def import_message(summary: ImportSummary) -> str:
         if filled:
             verb = "would fill" if summary.dry_run else "filled"
             extra += f"; {verb} the missing uncertainties of {filled} sets with the set's median"
+    elif summary.kind == "efficiencies" and summary.details.get("replaced"):
+        verb = "would replace" if summary.dry_run else "replaced"
+        extra = f" ({verb} {summary.details['replaced']} stated before)"
     elif summary.kind == "expressions":
         extra = (
             f" ({summary.details.get('complete', 0)} complete, "
@@ -508,6 +577,8 @@ def reaction_overview_tables(overview: ReactionOverview, preset: str) -> list[Ta
     legend = [RECOMMENDED_LEGEND] if recommended & set(ids) else []
     if overview.chosen_id is not None:
         legend.append(f"exported: the expression the export uses ({overview.chosen_rule})")
+    if any(e.form in _LIMIT_FORMS for e in detail.expressions if e.id in overview.rates):
+        legend.append("fall-off forms at 1 bar, every collider counting 1 (see ratebank rate -P)")
     if legend:
         rates.caption = "; ".join(legend)
     tables.append(rates)
@@ -527,3 +598,30 @@ def reaction_overview_tables(overview: ReactionOverview, preset: str) -> list[Ta
     if history is not None:
         tables.append(history)
     return tables
+
+
+# --------------------------------------------------------------------------- efficiencies
+
+
+def efficiency_records(rows: Sequence[Any]) -> list[dict[str, Any]]:
+    return [
+        {
+            "reaction": r.reaction_key,
+            "species": r.species,
+            "efficiency": r.efficiency,
+            "source": r.source,
+        }
+        for r in rows
+    ]
+
+
+def efficiencies_table(rows: Sequence[Any]) -> ReportTable:
+    table = ReportTable(
+        title=f"Third-body efficiencies ({len(rows)}); a species not listed counts 1",
+        drop=("source",),
+    )
+    for header in ("reaction", "species", "efficiency", "source"):
+        table.add_column(header, justify="right" if header == "efficiency" else "left")
+    for r in rows:
+        table.add_row(r.reaction_key, r.species, f"{r.efficiency:g}", r.source or "")
+    return table

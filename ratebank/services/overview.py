@@ -10,7 +10,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.services.checks import Flag, check_store
 from ratebank.services.reactions import show_reaction
-from ratebank.services.selection import choose, evaluate
+from ratebank.services.selection import choose, own_order_rate
 from ratebank.store.listings import ReactionDetail
 from ratebank.store.queries import expressions_of, find_reaction
 
@@ -22,7 +22,8 @@ DEFAULT_GRID = (300.0, 500.0, 1000.0, 1500.0, 2000.0)
 class ReactionOverview:
     detail: ReactionDetail
     temperatures: list[float]
-    #: expression id -> k at each temperature [SI]
+    #: expression id -> k at each temperature [SI], in the reaction's own order (a fall-off
+    #: form at 1 bar: services.selection.own_order_rate)
     rates: dict[int, list[float]] = field(default_factory=dict)
     chosen_id: int | None = None
     chosen_rule: str | None = None
@@ -56,7 +57,7 @@ def reaction_overview(
     expressions = expressions_of(session, [reaction.id])[reaction.id]
     for e in expressions:
         if e.complete:
-            overview.rates[e.id] = [float(x) for x in evaluate(e, grid)]
+            overview.rates[e.id] = [float(x) for x in own_order_rate(e, reaction.third_body, grid)]
         p = e.provenance.get("steric_factor")
         if p is not None:
             overview.steric_factors.append((e.id, e.origin, float(p)))

@@ -37,7 +37,7 @@ from ratebank.science.unit_presets import rate_unit_for
 from ratebank.science.units import parse_rate_unit, rate_from_si, rate_unit_label
 from ratebank.services.mechanism import export_units
 from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
-from ratebank.services.selection import choose, evaluate, uncertainty_factor
+from ratebank.services.selection import choose, own_order_rate, uncertainty_factor
 from ratebank.services.steric import derived_steric_factors
 from ratebank.store.listings import set_sources
 from ratebank.store.points import points
@@ -457,7 +457,7 @@ def _reaction_plot(
         measured_range = (float(all_T.min()), float(all_T.max()))
 
     def curve(e: ExpressionRow, chosen_by: str | None, fallback_range) -> ExpressionCurve:  # type: ignore[no-untyped-def]
-        k = shown(evaluate(e, T))
+        k = shown(own_order_rate(e, reaction.third_body, T))
         factor = np.asarray(uncertainty_factor(e, T), dtype=float)
         valid = _expression_range(e) or fallback_range
         return ExpressionCurve(

@@ -17,6 +17,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import ConflictError
 from ratebank.science.arrhenius import modified_arrhenius
+from ratebank.science.pressure import bath_gas_concentration
 from ratebank.science.rate_laws import pressure_free_rate, rate_law
 from ratebank.science.uncertainty import panel_uncertainty_factor
 from ratebank.store import audit, queries
@@ -116,6 +117,27 @@ def evaluate(expression: ExpressionRow, T):  # type: ignore[no-untyped-def]
         arrhenius_terms(expression),
         low=low_pressure_limit(expression),
     )
+
+
+#: The pressure at which the reaction's own-order k of a fall-off form is shown [Pa].
+SHOWN_PRESSURE_PA = 1.0e5
+
+
+def own_order_rate(expression: ExpressionRow, third_body: bool, T):  # type: ignore[no-untyped-def]
+    """k(T) [SI] in the reaction's own order, the unit its measured points are stored in.
+
+    Forms that need no pressure give their plain k (a third-body expression its
+    coefficient). ``falloff`` and ``activated`` give k at 1 bar of a bath gas
+    of efficiency 1 (:data:`SHOWN_PRESSURE_PA`), divided by [M] = P/RT for a
+    reaction written with M, as a point measured there is stored.
+    """
+    form = form_of(expression.form, third_body)
+    if form not in ("falloff", "activated"):
+        return evaluate(expression, T)
+    T = np.asarray(T, dtype=float)
+    M = bath_gas_concentration(SHOWN_PRESSURE_PA, T)
+    k = rate_at(expression, third_body, T, M).k
+    return k / M if third_body else k
 
 
 def rate_at(expression: ExpressionRow, third_body: bool, T, M=None):  # type: ignore[no-untyped-def]

@@ -683,7 +683,7 @@ class LazyReactionResolver(ReactionResolver):
         return super().resolve(text)
 
 
-def _resolved_reaction(
+def resolved_reaction(
     problems: Problems, line: int | None, text: str | None, resolver: ReactionResolver
 ) -> ReactionRef | None:
     if text is None:
@@ -980,7 +980,7 @@ def _valid_expression(
     problems: Problems, line: int | None, row: Mapping[str, str | None], resolver: ReactionResolver
 ) -> ValidExpression | None:
     before = problems.total
-    reaction = _resolved_reaction(problems, line, cell(row, "reaction"), resolver)
+    reaction = resolved_reaction(problems, line, cell(row, "reaction"), resolver)
     shape = _row_form(problems, line, row, reaction)
     numbers = {
         name: _number(problems, line, row, column, what=EXPRESSION_NUMBERS[name][0])

@@ -11,15 +11,17 @@ reaction or species named by a listing is found with
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 from sqlalchemy import and_, case, exists, func, select
 from sqlalchemy.orm import Session
 
+from ratebank.store.efficiencies import efficiencies
 from ratebank.store.models import (
     AuditEntry,
     Expression,
+    ExpressionTerm,
     MeasurementSet,
     Participant,
     Point,
@@ -124,6 +126,15 @@ class ExpressionSummary:
     created_by: str | None
     provenance: dict[str, Any]
     version: int = 1
+    #: the rate-law form (the reaction's plain form when none is stored)
+    form: str = "arrhenius"
+    #: k0 (A [SI k unit of the reaction's order times K^-n], n, Ea [J mol-1]) of falloff and
+    #: activated, whose A, n, Ea are k_inf
+    low: tuple[float, float, float] | None = None
+    #: the broadening: {"kind": ..., "Fc": ..., "N": ..., "alpha": ..., "T3": ..., ...}
+    broadening: dict[str, Any] | None = None
+    #: further terms of a sum: (term, A, n, Ea, T_min, T_max)
+    terms: tuple[tuple[Any, ...], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -149,6 +160,8 @@ class ReactionDetail:
     sets: list[SetSummary]
     expressions: list[ExpressionSummary]
     history: list[HistoryEntry]
+    #: stated third-body efficiencies (species, efficiency, source); others count 1
+    efficiencies: list[tuple[str, float, str | None]] = field(default_factory=list)
 
 
 # --------------------------------------------------------------------------- species
@@ -178,7 +191,7 @@ def species_detail(session: Session, name: str) -> SpeciesDetail:
         .where(Participant.species_id == species.id)
         .order_by(Reaction.key)
     ).all()
-    summary = SpeciesSummary(*(getattr(species, field) for field in _SPECIES_FIELDS))
+    summary = SpeciesSummary(*(getattr(species, name) for name in _SPECIES_FIELDS))
     return SpeciesDetail(summary, [tuple(r) for r in reactions])
 
 
@@ -281,6 +294,9 @@ def reaction_detail(
         sets=_set_summaries(session, reaction.id),
         expressions=_expression_summaries(session, reaction.id, None),
         history=history(session, target=reaction.key, limit=history_limit),
+        efficiencies=[
+            (e.species, e.efficiency, e.source) for e in efficiencies(session, [reaction.id])
+        ],
     )
 
 
@@ -357,7 +373,20 @@ _EXPRESSION_COLUMNS = (
     Expression.created_by,
     Expression.provenance,
     Expression.version,
+    Reaction.third_body,
+    Expression.form,
+    Expression.A_low,
+    Expression.n_low,
+    Expression.Ea_low,
+    Expression.broadening,
+    Expression.Fc,
+    Expression.N,
+    Expression.troe_alpha,
+    Expression.troe_T3,
+    Expression.troe_T1,
+    Expression.troe_T2,
 )
+_BROADENING_FIELDS = ("Fc", "N", "alpha", "T3", "T1", "T2")
 
 
 def expression_summaries(
@@ -381,11 +410,52 @@ def _expression_summaries(
         query = query.where(Expression.reaction_id == reaction_id)
     if origin is not None:
         query = query.where(Expression.origin == origin)
+    rows = session.execute(query).all()
+    terms = _sum_terms(session, [row[0] for row in rows if row[18] == "sum"])
     summaries = []
-    for row in session.execute(query):
-        *head, provenance, version = row
-        summaries.append(ExpressionSummary(*head, dict(provenance or {}), version))
+    for row in rows:
+        head, (provenance, version, third_body, form, A_low, n_low, Ea_low, kind, *b) = (
+            row[:15],
+            row[15:],
+        )
+        broadening = None
+        if kind is not None:
+            given = dict(zip(_BROADENING_FIELDS, b, strict=True))
+            broadening = {"kind": kind, **{k: v for k, v in given.items() if v is not None}}
+        summaries.append(
+            ExpressionSummary(
+                *head,
+                dict(provenance or {}),
+                version,
+                form=form or ("third-body" if third_body else "arrhenius"),
+                low=None if A_low is None else (A_low, n_low or 0.0, Ea_low or 0.0),
+                broadening=broadening,
+                terms=tuple(terms.get(row[0], ())),
+            )
+        )
     return summaries
+
+
+def _sum_terms(session: Session, expression_ids: list[int]) -> dict[int, list[tuple[Any, ...]]]:
+    if not expression_ids:
+        return {}
+    query = (
+        select(
+            ExpressionTerm.expression_id,
+            ExpressionTerm.term,
+            ExpressionTerm.A,
+            ExpressionTerm.n,
+            ExpressionTerm.Ea,
+            ExpressionTerm.T_min,
+            ExpressionTerm.T_max,
+        )
+        .where(ExpressionTerm.expression_id.in_(expression_ids))
+        .order_by(ExpressionTerm.expression_id, ExpressionTerm.term)
+    )
+    found: dict[int, list[tuple[Any, ...]]] = {}
+    for expression_id, *term in session.execute(query):
+        found.setdefault(expression_id, []).append(tuple(term))
+    return found
 
 
 # --------------------------------------------------------------------------- history
