@@ -460,17 +460,31 @@ class Store:
         k_units: str | None = None,
         preset: str = "combustion",
         reverse: bool = False,
+        pressure: float | None = None,
+        pressure_units: str = "bar",
+        bath: str | None = None,
+        mixture: str | None = None,
     ) -> Any:
         """k at the temperatures [K] from the expression that would be exported, in
-        ``k_units`` (default: the preset's unit for the reaction's order); a RateReport.
+        ``k_units`` (default: the preset's unit for the order of k); a RateReport.
+
+        At ``pressure`` (in ``pressure_units``: Pa, kPa, bar, atm, Torr, mbar, ...) of the
+        ``bath`` gas or the ``mixture`` ("N2:0.78,O2:0.21,H2O:0.01"), a reaction written
+        with M gives its effective k = k0 [M]_eff (or the fall-off k), and a fall-off or
+        chemically activated one also k0, k_inf, Pr and F; those two need a pressure.
         With ``reverse``, the reverse rate k_f / Kc by detailed balance (a ReverseRateReport)."""
         if reverse:
+            if pressure is not None or bath is not None or mixture is not None:
+                raise BadInputError(
+                    "the reverse rate is given without a pressure", argument="pressure"
+                )
             return self._read(
                 "reverse", "reverse_rate", key, list(temperatures), k_units=k_units, preset=preset
             )
         return self._read(
-            "mechanism", "rate", key, list(temperatures), k_units=k_units, preset=preset
-        )
+            "rates", "rate", key, list(temperatures), k_units=k_units, preset=preset,
+            pressure=pressure, pressure_units=pressure_units, bath=bath, mixture=mixture,
+        )  # fmt: skip
 
     def recommend(self, key: str, expression_id: int) -> ExpressionRow:
         """Mark the expression the export should use for a reaction; the ExpressionRow."""

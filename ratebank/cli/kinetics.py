@@ -235,17 +235,33 @@ def rate(
     reverse: bool = typer.Option(
         False, "--reverse", help="The reverse rate k_f / Kc (needs the species' thermochemistry)."
     ),
+    pressure: float = typer.Option(
+        None, "-P", "--pressure", help="Pressure (in --pressure-units, default bar).", parser=number
+    ),
+    pressure_units: str = typer.Option(
+        "bar", "--pressure-units", help="Pa, kPa, bar, atm, Torr or mbar."
+    ),
+    bath: str = typer.Option(None, "--bath", help="Bath gas, e.g. N2 (one collider)."),
+    mixture: str = typer.Option(
+        None, "--mixture", help="Colliders and mole fractions, e.g. 'N2:0.78,O2:0.21,H2O:0.01'."
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """k at given temperatures from the expression that would be exported.
 
-    With --reverse, the reverse reaction's k_r = k_f / Kc by detailed balance, in the
-    units of its own order.
+    With -P, at that pressure of the bath gas or mixture, each collider counting with
+    its third-body efficiency (1 when none is stated): a reaction written with M gives
+    its effective k, and a fall-off or chemically activated one also k0, k∞, Pr and F
+    (those two need a pressure). With --reverse, the reverse reaction's k_r = k_f / Kc by
+    detailed balance, in the units of its own order.
 
-    Example: ratebank rate oh-ch4 -T 298 -T 1000 --k-units cm3/molecule/s
+    Example: ratebank rate h-o2-m -T 300 -T 1000 -P 1 --mixture 'N2:0.78,O2:0.21,H2O:0.01'
     """
     with opened_store() as store:
-        report = store.rate(key, temperatures, k_units=k_units, preset=preset, reverse=reverse)
+        report = store.rate(
+            key, temperatures, k_units=k_units, preset=preset, reverse=reverse,
+            pressure=pressure, pressure_units=pressure_units, bath=bath, mixture=mixture,
+        )  # fmt: skip
     if as_json:
         print_json(reverse_rate_records(report) if reverse else rate_records(report))
     else:

@@ -14,7 +14,7 @@ if TYPE_CHECKING:  # types only: a report module must stay light to import
     from ratebank.services.checks import CheckReport
     from ratebank.services.estimation import EstimateReport
     from ratebank.services.fitting import FitReport
-    from ratebank.services.mechanism import RateReport
+    from ratebank.services.rates import RateReport
     from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
 
 
@@ -395,19 +395,37 @@ def rate_records(report: RateReport) -> dict[str, Any]:
         "origin": report.origin,
         "expression_id": report.expression_id,
         "chosen_by": report.chosen_by,
+        "form": report.form,
         "k_units": report.k_units,
         "T_min_K": report.T_min,
         "T_max_K": report.T_max,
+        **_rate_conditions(report),
         "rates": [
             {
                 "T_K": r.T,
                 "k": r.k,
                 "uncertainty_factor": r.uncertainty_factor,
                 "in_range": r.in_range,
+                **({"k0": r.k0, "k_inf": r.k_inf, "Pr": r.Pr, "F": r.F} if report.k0_units else {}),
             }
             for r in report.rows
         ],
     }
+
+
+def _rate_conditions(report: RateReport) -> dict[str, Any]:
+    found: dict[str, Any] = {}
+    if report.conditions is not None:
+        c = report.conditions
+        found["pressure"] = c.pressure
+        found["pressure_units"] = c.pressure_units
+        found["colliders"] = [
+            {"species": name, "mole_fraction": x, "efficiency": eps} for name, x, eps in c.colliders
+        ]
+    if report.k0_units:
+        found["k0_units"] = report.k0_units
+        found["k_inf_units"] = report.k_inf_units
+    return found
 
 
 def rate_table(report: RateReport) -> Table:
@@ -415,9 +433,29 @@ def rate_table(report: RateReport) -> Table:
         title=f"{report.key}: {report.equation} ({report.origin}, expression "
         f"{report.expression_id}, {report.chosen_by})"
     )
-    for header in ("T (K)", f"k ({report.k_units})", "f", "range"):
+    parts = ("k0", "k∞", "Pr", "F") if report.k0_units else ()
+    headers = ["T (K)", f"k ({report.k_units})", "f", "range"]
+    if parts:
+        headers[2:2] = [f"k0 ({report.k0_units})", f"k∞ ({report.k_inf_units})", "Pr", "F"]
+    for header in headers:
         table.add_column(header)
     for r in report.rows:
         where = "" if r.in_range is None else ("inside" if r.in_range else "extrapolated")
-        table.add_row(sig(r.T), sig(r.k), sig(r.uncertainty_factor, 3), where)
+        extra = [sig(r.k0), sig(r.k_inf), sig(r.Pr, 4), sig(r.F, 4)] if parts else []
+        table.add_row(sig(r.T), sig(r.k), *extra, sig(r.uncertainty_factor, 3), where)
+    if report.conditions is not None:
+        c = report.conditions
+        colliders = ", ".join(
+            f"{name} {x:.4g} (ε {eps:g})" if name[0] != "(" else name
+            for name, x, eps in c.colliders
+        )
+        table.caption = (
+            f"{report.form} at {c.pressure:g} {c.pressure_units}; colliders: {colliders}"
+        )
+    elif report.form != "arrhenius":
+        table.caption = f"{report.form} expression" + (
+            ": the coefficient k0 of k = k0 [M]_eff (give a pressure for k)"
+            if report.form == "third-body"
+            else ""
+        )
     return table

@@ -1,7 +1,5 @@
 """The mechanism table: one row per reaction, in the units the modeller needs.
-
-Also ``rate``: k at given temperatures from the expression that would be
-exported. The table's columns (the README (Import files)), in order::
+ The table's columns (the README (Import files)), in order::
 
     key, equation, order, A, n, Ea, k_units, Ea_units, T_min_K, T_max_K,
     origin, steric_factor, uncertainty_factor, references
@@ -18,7 +16,7 @@ from typing import Any, NamedTuple
 import numpy as np
 from sqlalchemy.orm import Session
 
-from ratebank.errors import BadInputError, ExportGapsError, NotFoundError, UnitError
+from ratebank.errors import BadInputError, ExportGapsError, UnitError
 from ratebank.numbers import round_significant
 from ratebank.science.arrhenius import local_activation_energy, local_pre_exponential
 from ratebank.science.uncertainty import (
@@ -26,24 +24,19 @@ from ratebank.science.uncertainty import (
     linearized_panel_factor,
     panel_uncertainty_factor,
 )
-from ratebank.science.unit_presets import ENERGY_PRESETS, PRESETS, rate_unit_for
+from ratebank.science.unit_presets import ENERGY_PRESETS, PRESETS
 from ratebank.science.units import (
     canonical_energy_unit,
     energy_from_si,
     parse_energy_unit,
-    parse_rate_unit,
     rate_from_si,
     rate_units_by_order,
 )
 from ratebank.services.reverse import ReverseInfo, with_reverse
 from ratebank.services.selection import (
     ChosenRow,
-    chosen_expressions,
     chosen_rows,
-    evaluate,
-    uncertainty_factor,
 )
-from ratebank.store.queries import find_reaction
 
 COLUMNS = (
     "key",
@@ -290,78 +283,4 @@ def _row(
         reverse_max_relative_deviation=None,
         expression_id=c.expression_id,
         chosen_by=c.rule,
-    )
-
-
-# --------------------------------------------------------------------------- rate
-
-
-@dataclass
-class RateRow:
-    T: float
-    k: float
-    uncertainty_factor: float | None
-    in_range: bool | None
-
-
-@dataclass
-class RateReport:
-    key: str
-    equation: str
-    order: int
-    origin: str
-    expression_id: int
-    chosen_by: str
-    k_units: str
-    T_min: float | None
-    T_max: float | None
-    rows: list[RateRow]
-
-
-def rate(
-    session: Session,
-    key: str,
-    temperatures: list[float],
-    *,
-    k_units: str | None = None,
-    preset: str = "combustion",
-) -> RateReport:
-    """k(T) of one reaction from the expression that would be exported."""
-    if not temperatures:
-        raise BadInputError("give at least one temperature", argument="temperatures")
-    bad = [t for t in temperatures if not (math.isfinite(t) and t > 0)]
-    if bad:
-        raise BadInputError(f"temperature {bad[0]!r} must be above 0 K", argument="temperatures")
-    reaction = find_reaction(session, key)
-    chosen, _ = chosen_expressions(session, [reaction])
-    if not chosen:
-        raise NotFoundError(
-            f"reaction {reaction.key!r} has no usable expression yet (fit, estimate or import one)"
-        )
-    c = chosen[0]
-    order = reaction.order
-    unit = k_units or rate_unit_for(preset, order)
-    parse_rate_unit(unit, order=order)
-    T = np.asarray(temperatures, dtype=float)
-    k_si = np.atleast_1d(evaluate(c.expression, T))
-    f = np.atleast_1d(uncertainty_factor(c.expression, T))
-    k_out = np.atleast_1d(rate_from_si(k_si, unit, order))
-    e = c.expression
-    rows = []
-    for t, k, factor in zip(T.tolist(), k_out.tolist(), f.tolist(), strict=True):
-        in_range = None
-        if e.T_min is not None and e.T_max is not None:
-            in_range = e.T_min * (1 - 1e-12) <= t <= e.T_max * (1 + 1e-12)
-        rows.append(RateRow(t, k, None if math.isnan(factor) else factor, in_range))
-    return RateReport(
-        reaction.key,
-        reaction.equation,
-        order,
-        e.origin,
-        e.id,
-        c.rule,
-        unit,
-        e.T_min,
-        e.T_max,
-        rows,
     )

@@ -17,7 +17,7 @@ from scipy import constants
 
 from ratebank.errors import BadInputError, NotFoundError
 from ratebank.io.export import export_mechanism
-from ratebank.services import mechanism, reverse, thermo
+from ratebank.services import mechanism, rates, reverse, thermo
 from ratebank.services.store_access import open_store
 
 R = constants.R
@@ -49,7 +49,7 @@ def test_reverse_rate_times_kc_is_the_forward_rate(store, key):
     temperatures = [t for t in TWENTY if t <= 2000.0] if key == "h-o2-m" else TWENTY
     with store.session() as session:
         found = reverse.reverse_rate(session, key, temperatures, preset="si")
-        forward = mechanism.rate(session, key, temperatures, preset="si")
+        forward = rates.rate(session, key, temperatures, preset="si")
         kc = thermo.reaction_thermo(session, key, temperatures)
     assert len(found.rows) == len(temperatures)
     for row, k_forward, kc_row in zip(found.rows, forward.rows, kc.rows, strict=True):
