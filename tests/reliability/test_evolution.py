@@ -417,3 +417,94 @@ def test_restore_refuses_a_newer_target_and_leaves_it(newer_store, cli, tmp_path
     assert outcome.exit_code == 1
     assert "newer ratebank" in outcome.stderr
     assert snapshot(newer_store) == before
+
+
+def _downgrade(engine, target: str) -> None:
+    from alembic import command
+
+    from ratebank.store.schema import _alembic_config
+
+    with engine.begin() as connection:
+        command.downgrade(_alembic_config(connection), target)
+
+
+def _previous_revision_rows(engine) -> dict[str, list[tuple]]:
+    """Every row of every table the previous revision (0007) has, columns in stored order."""
+    with engine.connect() as connection:
+        names = inspect(connection).get_table_names()
+        return {
+            name: [
+                tuple(row)
+                for row in connection.execute(
+                    select(Table(name, MetaData(), autoload_with=connection)).order_by(text("1"))
+                )
+            ]
+            for name in sorted(names)
+            if name != "alembic_version"
+        }
+
+
+def test_a_store_at_the_previous_revision_upgrades_with_every_row_intact(db_url, cli, tmp_path):
+    # a store filled with what revision 0007 can hold (third-body expressions included),
+    # then taken back to 0007: the state a group's store is in before this release
+    from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+
+    assert cli(db_url, "init").exit_code == 0
+    for kind, text_ in (
+        ("species", SPECIES_CSV),
+        ("reactions", REACTIONS_CSV),
+        ("data", MEASUREMENTS_CSV),
+        (
+            "expressions",
+            EXPRESSIONS_CSV + "h-o2-m,2.1e-32,-0.8,0,kJ/mol,cm6/molecule2/s,"
+            "300,2000,2,test third body\n",
+        ),
+    ):
+        path = write(tmp_path / f"{kind}.csv", text_)
+        assert cli(db_url, kind, "import", str(path)).exit_code == 0
+    assert cli(db_url, "fit", "oh-ch4").exit_code == 0
+    engine = create_store_engine(database_url(db_url))
+    try:
+        _downgrade(engine, "0007")
+        assert current_revision(engine) == "0007"
+        before = _previous_revision_rows(engine)
+        old = open_store(db_url, check=False)
+        with old.session() as session:
+            fingerprint_before = store_fingerprint(session)
+        old.close()
+        result = upgrade_store(engine)
+        assert (result.before, result.after) == ("0007", HEAD_REVISION)
+        after = _previous_revision_rows(engine)
+    finally:
+        engine.dispose()
+    # the tables 0008 adds start empty; every earlier table keeps every row, and each row
+    # keeps its values, the new expression columns empty
+    assert after.pop("expression_term") == []
+    assert after.pop("third_body_efficiency") == []
+    width = {name: len(rows[0]) for name, rows in before.items() if rows}
+    assert {name: [row[: width.get(name, 0)] for row in rows] for name, rows in after.items()} == (
+        before
+    )
+    assert all(set(row[len(before["expression"][0]) :]) == {None} for row in after["expression"])
+    store = open_store(db_url)
+    try:
+        with store.session() as session:
+            assert store_fingerprint(session) == fingerprint_before
+    finally:
+        store.close()
+    # an expression of a reaction written with M reads as third-body: its coefficient, and
+    # with a pressure k0 [M] (at 300 K and 1 bar, [M] = 1e5 / (R 300) mol/m3)
+    listed = json.loads(cli(db_url, "expressions", "list", "--json").stdout)
+    assert {e["reaction"]: e["form"] for e in listed}["h-o2-m"] == "third-body"
+    plain = json.loads(
+        cli(db_url, "rate", "h-o2-m", "-T", "300", "--k-units", "cm6/molecule2/s", "--json").stdout
+    )
+    assert plain["rates"][0]["k"] == pytest.approx(2.1e-32 * 300**-0.8, rel=1e-12)
+    at_one_bar = json.loads(
+        cli(
+            db_url, "rate", "h-o2-m", "-T", "300", "-P", "1", "--k-units", "m3/mol/s", "--json"
+        ).stdout
+    )
+    k0_si = 2.1e-32 * 300**-0.8 * 1e-12 * 6.02214076e23**2  # m6 mol-2 s-1 (CODATA N_A)
+    M = 1e5 / (8.31446261815324 * 300)  # ideal gas; R = N_A k_B exactly (SI 2019)
+    assert at_one_bar["rates"][0]["k"] == pytest.approx(k0_si * M, rel=1e-12)
