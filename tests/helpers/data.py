@@ -39,3 +39,34 @@ ho2-ho2,,,-4.9,kJ/mol,,,,,test review
 h2o2-dec,2.0e13,0,200,kJ/mol,s-1,800,1500,3,test review
 oh-ch4,1.85e-20,2.82,987,K,cm3/molecule/s,200,2000,1.2,test review
 """
+
+# Every rate-law form, for the tests of forms, efficiencies and rates (synthetic numbers;
+# the shapes, not the values, are those of real reactions). Builds on SPECIES_CSV and
+# REACTIONS_CSV above.
+FORMS_SPECIES_CSV = """name,formula
+CO,CO
+CO2,CO2
+C2H5,C2H5
+C2H4,C2H4
+Ar,Ar
+"""
+
+FORMS_REACTIONS_CSV = """key,equation,class
+oh-co,OH + CO -> H + CO2,co-oxidation
+c2h5-m,C2H5 + M -> C2H4 + H + M,decomposition
+oh-oh-m,OH + OH + M -> H2O2 + M,recombination
+"""
+
+FORMS_EXPRESSIONS_CSV = """reaction,form,term,A,n,Ea,Ea_units,k_units,A_low,n_low,Ea_low,k_low_units,broadening,Fc,N,troe_alpha,troe_T3_K,troe_T1_K,troe_T2_K,T_min_K,T_max_K,reference
+h-o2-m,falloff,,4.65e12,0.44,0,kJ/mol,cm3/mol/s,6.37e20,-1.72,2.19,,troe,,,0.5,30,90000,90000,300,2500,synthetic troe
+oh-co,sum,1,1.5e-13,0,0,K,cm3/molecule/s,,,,,,,,,,,,200,400,synthetic sum
+oh-co,sum,2,2.0e-12,0,1500,K,cm3/molecule/s,,,,,,,,,,,,300,2000,synthetic sum
+c2h5-m,falloff,,1.1e13,0,167,kJ/mol,s-1,1.7e-6,0,139,cm3/molecule/s,fixed-fc,0.6,,,,,,700,1200,synthetic fixed fc
+oh-oh-m,third-body,,6.9e-31,-0.8,0,kJ/mol,cm6/molecule2/s,,,,,,,,,,,,200,400,synthetic third body
+"""
+
+FORMS_EFFICIENCIES_CSV = """reaction,species,efficiency,source
+h-o2-m,H2O,12,synthetic
+h-o2-m,Ar,0.5,synthetic
+oh-oh-m,H2O,6,synthetic
+"""
