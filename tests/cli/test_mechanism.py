@@ -517,7 +517,7 @@ def test_descriptor_validation_catches_a_corrupted_table(mechanism, out, tmp_pat
 
 
 def test_exported_table_reproduces_k_of_the_store(mechanism, out):
-    from ratebank.services.mechanism import rate
+    from ratebank.services.rates import rate
     from ratebank.services.store_access import open_store
 
     ok(mechanism, "export", str(out / "mech.csv"), "--preset", "atmospheric")

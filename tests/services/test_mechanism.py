@@ -6,7 +6,8 @@ import pytest
 
 from ratebank.errors import BadInputError, ExportGapsError, NotFoundError, UnitError
 from ratebank.services import fitting
-from ratebank.services.mechanism import export_units, mechanism_table, rate
+from ratebank.services.mechanism import export_units, mechanism_table
+from ratebank.services.rates import rate
 
 
 @pytest.mark.parametrize(
