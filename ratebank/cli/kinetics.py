@@ -140,7 +140,8 @@ def fit(
             print_json(pressure_fit_records(report, preset))
         elif not STATE.quiet:
             show(pressure_fit_table(report, preset))
-            say(f"fit stored as expression {report.expression_id}.")
+            said = "stored as" if report.status == "stored" else "unchanged since the last fit,"
+            say(f"fit {said} expression {report.expression_id}.")
         return
     if as_json:
         print_json(fit_records(report, preset))

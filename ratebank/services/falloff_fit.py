@@ -39,7 +39,7 @@ from ratebank.store.expressions import (
 )
 from ratebank.store.points import PointColumns, set_bath_gases
 from ratebank.store.points import points as points_of
-from ratebank.store.queries import ReactionRow
+from ratebank.store.queries import ExpressionRow, ReactionRow
 
 #: The pressure-dependent forms this fit gives, and what a reaction must be written as.
 PRESSURE_FORMS = ("falloff", "activated")
@@ -66,7 +66,7 @@ class PressureFitReport:
     order: int
     form: str
     broadening: str
-    status: str  # "stored" or "unchanged"
+    status: str  # "stored", or "unchanged" when the newest stored fit is this one
     parameters: dict[str, float]
     #: one standard deviation of each free parameter: of ln A0, ln A_inf, ln N, ln T3,
     #: ln T1, ln T2 (relative), of the others in their unit
@@ -139,6 +139,10 @@ def fit_pressure_dependence(
     fit = _scaled(fit)
     report = _report(reaction, form, broadening, fit, data, fixed)
     provenance = _provenance(fit, data, report)
+    previous = queries.newest_fits(session, [reaction.id]).get(reaction.id)
+    if previous is not None and _same_fit(previous, report, provenance):
+        report.status, report.expression_id = "unchanged", previous.id
+        return report
     record = _record(reaction, report, fit, provenance, _references(session, data.set_ids))
     details = {"form": form, "broadening": broadening, "points": report.n_points}
     (report.expression_id,) = write_expressions(
@@ -315,6 +319,23 @@ def _provenance(fit: FalloffFit, data: _Data, report: PressureFitReport) -> dict
         "efficiency_default": DEFAULT_EFFICIENCY,
         "warnings": [w.code for w in fit.warnings],
     }
+
+
+def _same_fit(previous: ExpressionRow, report: PressureFitReport, provenance: dict) -> bool:
+    """The newest stored fit is this one: same points, form, choices and numbers."""
+    old = previous.provenance
+    same_choice = all(
+        old.get(name) == provenance[name]
+        for name in ("form", "broadening", "free", "fixed", "set_ids", "n_points")
+    )
+    p = report.parameters
+    return (
+        same_choice
+        and previous.A is not None
+        and previous.A_low is not None
+        and math.isclose(previous.A, p["A_inf"], rel_tol=1e-9)
+        and math.isclose(previous.A_low, p["A0"], rel_tol=1e-9)
+    )
 
 
 def _record(

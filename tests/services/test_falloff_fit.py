@@ -106,6 +106,19 @@ def test_the_fit_is_stored_through_the_one_write_path(store, filled, tmp_path):
     assert provenance["bath_gas_efficiencies"] == {"N2": 1.0}
 
 
+def test_a_refit_of_unchanged_data_is_not_stored_twice(store, filled, tmp_path):
+    _import(filled, tmp_path, _synthetic_rows(seed=4))
+    fixed = {"Ea0": 0.0, "Ea_inf": 0.0}
+    with store.session(write=True) as session:
+        first = falloff_fit.fit_pressure_dependence(session, "h-o2-m", fixed=fixed)
+        second = falloff_fit.fit_pressure_dependence(session, "h-o2-m", fixed=fixed)
+        other = falloff_fit.fit_pressure_dependence(
+            session, "h-o2-m", broadening="fixed-fc", fixed=fixed
+        )
+    assert (first.status, second.status, other.status) == ("stored", "unchanged", "stored")
+    assert second.expression_id == first.expression_id != other.expression_id
+
+
 def test_a_single_pressure_is_refused_saying_what_is_missing(store, filled, tmp_path):
     _import(filled, tmp_path, _synthetic_rows(seed=1, pressures=(1.0,)))
     with store.session(write=True) as session:
