@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import importlib
 import numbers
-from collections.abc import Iterator, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
@@ -44,6 +44,7 @@ if TYPE_CHECKING:
     from ratebank.services.checks import CheckReport
     from ratebank.services.estimation import EstimateReport
     from ratebank.services.expressions import ExpressionEdit
+    from ratebank.services.falloff_fit import PressureFitReport
     from ratebank.services.fitting import FitReport
     from ratebank.services.mechanism import MechanismTable
     from ratebank.services.overview import ReactionOverview
@@ -399,13 +400,56 @@ class Store:
         *,
         form: str = "auto",
         fixed_n: float | None = None,
+        pool_pressures: bool = False,
+        broadening: str = "none",
+        free: Sequence[str] = (),
+        fixed: Mapping[str, float] | None = None,
         progress: Progress | None = None,
-    ) -> FitReport:
+    ) -> FitReport | PressureFitReport:
         """Fit the measured sets of the reactions (all measured ones by default) and store each
-        fit; a FitReport (SI units)."""
+        fit; a FitReport (SI units).
+
+        ``form`` ``arrhenius``, ``modified`` or ``auto`` fits k(T); a reaction written with
+        M whose points lie at different pressures is refused unless ``pool_pressures``
+        (other reactions are pooled, and the fit says so). ``falloff`` or ``activated``
+        fits one reaction across T and P instead (:meth:`fit_pressure_dependence`, with
+        ``broadening``, ``free`` and ``fixed``) and gives a PressureFitReport.
+        """
+        if form in ("falloff", "activated"):
+            names = _keys(keys) or []
+            if len(names) != 1:
+                raise BadInputError(
+                    f"a {form} fit takes one reaction; got {len(names)}", argument="keys"
+                )
+            return self.fit_pressure_dependence(
+                names[0], form=form, broadening=broadening, free=free, fixed=fixed
+            )
         return self._write(
             "fitting", "fit_reactions", _keys(keys),
-            form=form, fixed_n=fixed_n, progress=progress,
+            form=form, fixed_n=fixed_n, pool_pressures=pool_pressures, progress=progress,
+        )  # fmt: skip
+
+    def fit_pressure_dependence(
+        self,
+        key: str,
+        *,
+        form: str = "falloff",
+        broadening: str = "none",
+        free: Sequence[str] = (),
+        fixed: Mapping[str, float] | None = None,
+    ) -> PressureFitReport:
+        """Fit k0, k_inf and the broadening of one reaction to all its points across T and P
+        by weighted nonlinear least squares, and store the fit; a PressureFitReport (SI).
+
+        ``form`` is ``falloff`` (written with M) or ``activated`` (written without M);
+        ``broadening`` ``none``, ``troe`` or ``fixed-fc``; ``fixed`` holds parameters
+        (A0, n0, Ea0, A_inf, n_inf, Ea_inf, Fc, N, alpha, T3, T1, T2; SI) at a value;
+        ``free`` fits optional ones too (N, T2). Data that cannot determine what was
+        asked (one pressure, too few temperatures) are refused, saying what is missing.
+        """
+        return self._write(
+            "falloff_fit", "fit_pressure_dependence", key,
+            form=form, broadening=broadening, free=tuple(free), fixed=dict(fixed or {}),
         )  # fmt: skip
 
     def estimate(

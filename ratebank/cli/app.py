@@ -461,7 +461,8 @@ def data_list(
     reaction: str = typer.Option(None, "--reaction", help="Only sets of this reaction."),
     as_json: bool = JSON_OPTION,
 ) -> None:
-    """List measurement sets with their temperature ranges.
+    """List measurement sets with their temperature ranges, and their points by pressure
+    (sets and points at each pressure and bath gas).
 
     Example: ratebank data list --reaction oh-ch4
     """
@@ -471,6 +472,8 @@ def data_list(
         print_json(tables.set_records(rows))
     else:
         show(tables.sets_table(rows))
+        if (by_pressure := tables.pressure_groups_table(rows)) is not None:
+            show(by_pressure)
 
 
 # --------------------------------------------------------------------------- expressions

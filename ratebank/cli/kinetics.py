@@ -18,6 +18,8 @@ from ratebank.report.kinetics import (
     estimate_tables,
     fit_records,
     fit_table,
+    pressure_fit_records,
+    pressure_fit_table,
     rate_records,
     rate_table,
     steric_rule_records,
@@ -62,16 +64,49 @@ def register(app: typer.Typer) -> None:
     app.add_typer(steric_app, name="steric")
 
 
+def _fixed_values(texts: list[str] | None) -> dict[str, float]:
+    """``NAME=VALUE`` texts as a mapping (the value in the one number syntax)."""
+    fixed: dict[str, float] = {}
+    for text in texts or ():
+        name, sign, value = text.partition("=")
+        if not sign or not name.strip():
+            raise typer.BadParameter(f"{text!r}: expected NAME=VALUE, such as Fc=0.6")
+        try:
+            fixed[name.strip()] = number(value.strip())
+        except typer.BadParameter as exc:
+            raise typer.BadParameter(f"{text!r}: {exc}") from None
+    return fixed
+
+
 @calls("fit")
 def fit(
     keys: list[str] = typer.Argument(None, help="Reaction keys (default: every measured one)."),
     form: str = typer.Option(
         "auto",
         "--form",
-        help="arrhenius (A, Ea), modified (A, n, Ea) or auto (n only when the data support it).",
+        help="arrhenius (A, Ea), modified (A, n, Ea), auto (n only when the data support it), "
+        "or falloff / activated (k0, k_inf and the broadening across T and P, one reaction).",
     ),
     fixed_n: float = typer.Option(
         None, "--fixed-n", help="Fit A and Ea with n held at this value.", parser=number
+    ),
+    pool_pressures: bool = typer.Option(
+        False,
+        "--pool-pressures",
+        help="Fit a reaction written with M in k(T) although its points lie at different "
+        "pressures (said in the fit's warnings and provenance).",
+    ),
+    broadening: str = typer.Option(
+        "none", "--broadening", help="falloff / activated: none (Lindemann), troe or fixed-fc."
+    ),
+    free: list[str] = typer.Option(
+        None, "--free", help="falloff / activated: also fit this optional parameter (N, T2)."
+    ),
+    fix: list[str] = typer.Option(
+        None,
+        "--fix",
+        help="falloff / activated: hold NAME=VALUE, in SI (A0, n0, Ea0 [J/mol], A_inf, n_inf, "
+        "Ea_inf, Fc, N, alpha, T3, T1, T2 [K]); e.g. --fix Fc=0.6 --fix Ea0=0.",
     ),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
@@ -79,11 +114,35 @@ def fit(
     """Fit the measured k(T) sets of reactions and store each fit.
 
     All sets of a reaction are pooled in one weighted least-squares fit in ln k.
+    Points whose pressures differ by more than a factor of 2 are never pooled
+    silently: a reaction written with M is refused (fit it with --form falloff, or
+    give --pool-pressures), any other is fitted with a warning.
 
-    Example: ratebank fit oh-ch4 --form auto
+    With --form falloff (reaction written with M) or activated (written without M),
+    one reaction's points across temperatures and pressures are fitted by weighted
+    nonlinear least squares; every needed parameter is fitted unless --fix holds it.
+
+    Example: ratebank fit h-o2-m --form falloff --broadening fixed-fc --fix Ea0=0
     """
     with opened_store() as store, progress_bar(STATE.quiet) as progress:
-        report = store.fit(keys or None, form=form, fixed_n=fixed_n, progress=progress)
+        report = store.fit(
+            keys or None,
+            form=form,
+            fixed_n=fixed_n,
+            pool_pressures=pool_pressures,
+            broadening=broadening,
+            free=free or (),
+            fixed=_fixed_values(fix),
+            progress=progress,
+        )
+    if not hasattr(report, "rows"):
+        if as_json:
+            print_json(pressure_fit_records(report, preset))
+        elif not STATE.quiet:
+            show(pressure_fit_table(report, preset))
+            said = "stored as" if report.status == "stored" else "unchanged since the last fit,"
+            say(f"fit {said} expression {report.expression_id}.")
+        return
     if as_json:
         print_json(fit_records(report, preset))
     elif not STATE.quiet:

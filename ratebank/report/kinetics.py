@@ -13,6 +13,7 @@ from ratebank.report.layout import ReportTable
 if TYPE_CHECKING:  # types only: a report module must stay light to import
     from ratebank.services.checks import CheckReport
     from ratebank.services.estimation import EstimateReport
+    from ratebank.services.falloff_fit import PressureFitReport
     from ratebank.services.fitting import FitReport
     from ratebank.services.rates import RateReport
     from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
@@ -120,6 +121,99 @@ def fit_table(report: FitReport, preset: str) -> Table:
     table.caption = "f: uncertainty factor of k over the fitted range; P: implied steric factor" + (
         f"\n{more}" if more else ""
     )
+    return table
+
+
+def _parameter_unit(name: str, order: int, preset: str) -> tuple[str, int | None, str | None]:
+    """(unit shown, k order to convert A with, energy unit to convert Ea with) of a
+    parameter of a pressure-dependent fit: k0 has the reaction's order, k_inf one fewer."""
+    k_order = {"A0": order, "A_inf": order - 1}.get(name)
+    if k_order is not None:
+        unit = _units(k_order, preset)[0]
+        return f"{unit}·K^-n", k_order, None
+    if name.startswith("Ea"):
+        e_unit = _units(2, preset)[1]
+        return e_unit, None, e_unit
+    return ("K" if name in ("T3", "T1", "T2") else "-"), None, None
+
+
+def pressure_fit_records(report: PressureFitReport, preset: str) -> dict[str, Any]:
+    """The fit as one JSON record: each parameter in the preset's units with its sigma
+    (of ln X for A0, A_inf, N, T3, T1, T2), and how it was obtained."""
+    parameters = []
+    for name, value in report.parameters.items():
+        unit, k_order, e_unit = _parameter_unit(name, report.order, preset)
+        shown_value = value
+        if k_order is not None:
+            shown_value = _k(value, k_order, unit.split("·")[0])
+        elif e_unit is not None:
+            shown_value = _e(value, e_unit)
+        log_name = f"ln_{name}"
+        sigma = report.sigmas.get(log_name, report.sigmas.get(name))
+        if sigma is not None and e_unit is not None:
+            sigma = _e(sigma, e_unit)
+        parameters.append(
+            {
+                "name": name,
+                "value": shown_value,
+                "unit": unit,
+                "free": name in report.free,
+                "sigma": sigma,
+                "sigma_of": log_name if log_name in report.sigmas else name,
+            }
+        )
+    return {
+        "key": report.key,
+        "equation": report.equation,
+        "status": report.status,
+        "form": report.form,
+        "broadening": report.broadening,
+        "parameters": parameters,
+        "points": report.n_points,
+        "sets": report.n_sets,
+        "temperatures": report.n_temperatures,
+        "pressures": report.n_pressures,
+        "T_min_K": report.T_min,
+        "T_max_K": report.T_max,
+        "P_min_bar": report.P_min / 1e5,
+        "P_max_bar": report.P_max / 1e5,
+        "weighted": report.weighted,
+        "reduced_chi_square": report.reduced_chi_square,
+        "uncertainty_f298": report.uncertainty_f298,
+        "uncertainty_g_K": report.uncertainty_g,
+        "warnings": report.warnings,
+        "expression_id": report.expression_id,
+    }
+
+
+def pressure_fit_table(report: PressureFitReport, preset: str) -> Table:
+    record = pressure_fit_records(report, preset)
+    table = ReportTable(
+        title=f"{report.key}: {report.form} fit, broadening {report.broadening}, {preset} units",
+        drop=("σ of",),
+    )
+    for header in ("parameter", "value", "unit", "σ", "σ of"):
+        table.add_column(header, overflow="fold")
+    for p in record["parameters"]:
+        table.add_row(
+            p["name"],
+            sig(p["value"]),
+            p["unit"],
+            sig(p["sigma"], 3) if p["free"] else "fixed",
+            p["sigma_of"] if p["free"] else "",
+        )
+    chi = sig(record["reduced_chi_square"], 3) or "undefined"
+    lines = [
+        f"{record['points']} points in {record['sets']} sets at {record['temperatures']} "
+        f"temperatures ({trange(record['T_min_K'], record['T_max_K'])} K) and "
+        f"{record['pressures']} pressures ({sig(record['P_min_bar'], 3)}-"
+        f"{sig(record['P_max_bar'], 3)} bar); χ²/dof {chi}; f(298 K) "
+        f"{sig(record['uncertainty_f298'], 3)}, g {sig(record['uncertainty_g_K'], 3)} K",
+        *record["warnings"],
+    ]
+    if not record["weighted"]:
+        lines.append("not every point states an uncertainty: the fit is unweighted")
+    table.caption = "\n".join(lines)
     return table
 
 

@@ -222,9 +222,66 @@ def set_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
             "T_min_K": s.T_min,
             "T_max_K": s.T_max,
             "k_units_given": s.k_units,
+            "pressures": [
+                {
+                    "pressure_bar": _opt(p.pressure, BAR_PER_PA),
+                    "points": p.points,
+                    "T_min_K": p.T_min,
+                    "T_max_K": p.T_max,
+                }
+                for p in s.pressures
+            ],
         }
         for s in rows
     ]
+
+
+def pressure_group_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
+    """The points of the sets grouped by reaction, pressure and bath gas: how many sets and
+    points each group holds and over which temperatures (no pressure last)."""
+    groups: dict[tuple[str, float | None, str | None], dict[str, Any]] = {}
+    for s in rows:
+        for p in s.pressures:
+            group = groups.setdefault(
+                (s.reaction_key, p.pressure, s.bath_gas),
+                {
+                    "reaction": s.reaction_key,
+                    "pressure_bar": _opt(p.pressure, BAR_PER_PA),
+                    "bath_gas": s.bath_gas,
+                    "sets": [],
+                    "points": 0,
+                    "T_min_K": p.T_min,
+                    "T_max_K": p.T_max,
+                },
+            )
+            group["sets"].append(s.name)
+            group["points"] += p.points
+            group["T_min_K"] = min(group["T_min_K"], p.T_min)
+            group["T_max_K"] = max(group["T_max_K"], p.T_max)
+    return [
+        groups[key]
+        for key in sorted(groups, key=lambda g: (g[0], g[1] is None, g[1] or 0.0, g[2] or ""))
+    ]
+
+
+def pressure_groups_table(rows: Sequence[SetSummary]) -> Table | None:
+    """The points by pressure (None when no point states one)."""
+    records = pressure_group_records(rows)
+    if all(r["pressure_bar"] is None for r in records):
+        return None
+    table = ReportTable(title="Points by pressure", drop=("sets",))
+    for header in ("reaction", "P (bar)", "bath gas", "sets", "points", "T (K)"):
+        table.add_column(header, overflow="fold")
+    for r in records:
+        table.add_row(
+            r["reaction"],
+            sig(r["pressure_bar"]) if r["pressure_bar"] is not None else "(not given)",
+            r["bath_gas"] or "",
+            f"{len(r['sets'])}: {', '.join(r['sets'])}",
+            str(r["points"]),
+            trange(r["T_min_K"], r["T_max_K"]),
+        )
+    return table
 
 
 def sets_table(rows: Sequence[SetSummary]) -> Table:
@@ -388,6 +445,7 @@ def reaction_detail_record(detail: ReactionDetail, preset: str) -> dict[str, Any
             for p in detail.participants
         ],
         "sets": set_records(detail.sets),
+        "points_by_pressure": pressure_group_records(detail.sets),
         "expressions": expression_records(detail.expressions, preset),
         "efficiencies": [
             {"species": species, "efficiency": value, "source": source}
@@ -429,6 +487,8 @@ def reaction_detail_tables(detail: ReactionDetail, preset: str) -> list[Table]:
             sig(p.species.well_depth),
         )
     tables = [facts, participants, sets_table(detail.sets)]
+    if (by_pressure := pressure_groups_table(detail.sets)) is not None:
+        tables.append(by_pressure)
     tables.append(expressions_table(detail.expressions, preset))
     if detail.third_body or detail.efficiencies:
         tables.append(_reaction_efficiencies_table(detail))

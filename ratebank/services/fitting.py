@@ -5,6 +5,18 @@ every reaction of the store in one vectorized pass
 (:func:`ratebank.science.arrhenius.fit_groups`). The service reads the points,
 makes that one science call, and writes the fits through the store's one
 expression write path.
+
+Pressures. The points of a reaction are "at different pressures" when their
+stated pressures differ by more than :data:`PRESSURE_FACTOR`. An Arrhenius fit
+treats k as independent of pressure, so such points are never pooled silently:
+
+- a reaction written with M (its k depends on pressure by what it is) is refused,
+  naming the pressures, unless ``pool_pressures`` is given; fit it with the
+  fall-off form instead (:mod:`ratebank.services.falloff_fit`);
+- any other reaction is fitted, and the fit's warnings and its stored provenance
+  (``pressures``) say that points at different pressures were pooled.
+
+Points without a pressure take no part in the rule.
 """
 
 from __future__ import annotations
@@ -34,6 +46,9 @@ from ratebank.store.queries import ExpressionRow, ReactionRow
 FORMS = ("arrhenius", "modified", "auto")
 #: Temperatures per fit at which f(T) is evaluated for its smallest and largest value.
 _FACTOR_GRID = 25
+#: Pressures of one reaction's points that differ by more than this factor are different.
+PRESSURE_FACTOR = 2.0
+_BAR = 1.0e5
 
 
 @dataclass
@@ -86,6 +101,7 @@ def fit_reactions(
     form: str = "auto",
     fixed_n: float | None = None,
     significance: float = 0.05,
+    pool_pressures: bool = False,
     progress: Progress | None = None,
 ) -> FitReport:
     """Fit the measured sets of the named reactions (default: every measured one).
@@ -93,10 +109,16 @@ def fit_reactions(
     ``form`` is ``arrhenius`` (n = 0), ``modified`` (A, n, Ea) or ``auto``
     (the three-parameter form only when the data support it); ``fixed_n``
     fits A and Ea with n held at the given value. A fit identical to the
-    reaction's newest stored fit is not stored again.
+    reaction's newest stored fit is not stored again. Points at different
+    pressures follow the rule of the module docstring; ``pool_pressures`` fits a
+    reaction written with M across them too (said in its warnings and provenance).
     """
     asked = queries.find_reactions(session, keys) if keys else None
     points = points_of(session, [r.id for r in asked] if asked else None)
+    spreads = _pressure_spreads(points)
+    refused = [] if pool_pressures else _refused_for_pressure(session, spreads)
+    if refused:
+        points = _without_reactions(points, [r.id for r, _ in refused])
     fits = fit_groups(
         points.T,
         points.k,
@@ -109,11 +131,92 @@ def fit_reactions(
         significance=significance,
     )
     reactions = {r.id: r for r in asked or queries.reactions(session, ids=fits.groups.tolist())}
-    rows = [_without_points(r) for r in asked or () if r.id not in set(fits.groups.tolist())]
+    skipped = {r.id for r, _ in refused}
+    rows = [
+        _without_points(r)
+        for r in asked or ()
+        if r.id not in set(fits.groups.tolist()) and r.id not in skipped
+    ]
+    rows += [_pressure_refusal(r, spreads[r.id]) for r, _ in refused]
     if len(fits):
-        rows += _store_fits(session, reactions, points, fits, fixed_n, progress or NoProgress())
+        rows += _store_fits(
+            session, reactions, points, fits, fixed_n, spreads, progress or NoProgress()
+        )
     rows.sort(key=lambda r: r.key)
     return FitReport(rows)
+
+
+@dataclass(frozen=True)
+class PressureSpread:
+    """The stated pressures of one reaction's points [Pa]."""
+
+    low: float
+    high: float
+    count: int  # distinct pressures
+
+    @property
+    def different(self) -> bool:
+        return self.high > PRESSURE_FACTOR * self.low
+
+    def describe(self) -> str:
+        return f"{self.count} pressures from {self.low / _BAR:.3g} to {self.high / _BAR:.3g} bar"
+
+    def as_record(self, pooled: bool) -> dict[str, Any]:
+        return {
+            "min_Pa": self.low,
+            "max_Pa": self.high,
+            "distinct": self.count,
+            "different_above_factor": PRESSURE_FACTOR,
+            "pooled": pooled,
+        }
+
+
+def _pressure_spreads(points: PointColumns) -> dict[int, PressureSpread]:
+    """The pressures stated for each reaction's points (reactions with none are left out)."""
+    known = np.isfinite(points.pressure)
+    if not known.any():
+        return {}
+    rid, p = points.reaction_id[known], points.pressure[known]
+    order = np.lexsort((p, rid))
+    rid, p = rid[order], p[order]
+    starts = np.flatnonzero(np.concatenate(([True], rid[1:] != rid[:-1])))
+    low, high = np.minimum.reduceat(p, starts), np.maximum.reduceat(p, starts)
+    new_value = np.concatenate(([True], (rid[1:] != rid[:-1]) | (p[1:] != p[:-1])))
+    counts = np.add.reduceat(new_value.astype(np.int64), starts)
+    return {
+        r: PressureSpread(lo, hi, n)
+        for r, lo, hi, n in zip(
+            rid[starts].tolist(), low.tolist(), high.tolist(), counts.tolist(), strict=True
+        )
+    }
+
+
+def _refused_for_pressure(
+    session: Session, spreads: dict[int, PressureSpread]
+) -> list[tuple[ReactionRow, PressureSpread]]:
+    """Reactions written with M whose points lie at different pressures."""
+    different = [rid for rid, spread in spreads.items() if spread.different]
+    if not different:
+        return []
+    return [(r, spreads[r.id]) for r in queries.reactions(session, ids=different) if r.third_body]
+
+
+def _without_reactions(points: PointColumns, reaction_ids: list[int]) -> PointColumns:
+    keep = ~np.isin(points.reaction_id, reaction_ids)
+    return PointColumns(
+        *(getattr(points, name)[keep] for name in PointColumns.__dataclass_fields__)
+    )
+
+
+def _pressure_refusal(reaction: ReactionRow, spread: PressureSpread) -> FitRow:
+    return FitRow(
+        reaction.key,
+        reaction.equation,
+        reaction.order,
+        "failed",
+        f"points at {spread.describe()}; a reaction written with M depends on pressure: fit "
+        "the falloff form, or pool the pressures in an Arrhenius fit (pool_pressures)",
+    )
 
 
 def _without_points(reaction: ReactionRow) -> FitRow:
@@ -128,6 +231,7 @@ def _store_fits(
     points: PointColumns,
     fits: GroupFits,
     fixed_n: float | None,
+    spreads: dict[int, PressureSpread],
     progress: Progress,
 ) -> list[FitRow]:
     rids = fits.groups.tolist()
@@ -150,6 +254,7 @@ def _store_fits(
         if row.status == "failed":
             continue
         provenance = _provenance(fits, i, row, set_ids[rid], derived, fixed_n, partner_records)
+        _note_pressures(row, provenance, spreads.get(rid))
         old = previous.get(rid)
         if old is not None and _same_fit(old, row, provenance):
             row.status, row.expression_id = "unchanged", old.id
@@ -305,6 +410,18 @@ def _provenance(
         if isinstance(pair, CollisionPair)
         else None,
     }
+
+
+def _note_pressures(row: FitRow, provenance: dict[str, Any], spread: PressureSpread | None) -> None:
+    """Record the pressures of the points; say so when different ones were pooled."""
+    if spread is None:
+        return
+    provenance["pressures"] = spread.as_record(pooled=spread.different)
+    if spread.different:
+        row.warnings.append(
+            f"points at {spread.describe()} pooled as if k did not depend on pressure"
+        )
+        provenance["warnings"] = [*provenance["warnings"], "pressures-pooled"]
 
 
 def _same_fit(previous: ExpressionRow, row: FitRow, provenance: dict[str, Any]) -> bool:

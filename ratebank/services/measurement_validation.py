@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ratebank.errors import UnitError
+from ratebank.science.pressure import bath_gas_concentration
 from ratebank.science.units import parse_rate_unit
 from ratebank.services import input_rules
 from ratebank.services.validate import (
@@ -42,6 +43,9 @@ class MeasurementSetRecord:
     first_line: int
     #: the factor that turns k in ``k_units`` into SI
     factor: float = float("nan")
+    #: ``k_units`` has one concentration fewer than the reaction (written with M): the points
+    #: are the effective k at their pressure, stored as k / [M]
+    effective: bool = False
     valid: bool = True
     id: int | None = None
     #: one standard deviation of the set's scale, a fraction of k (its text, for agreement)
@@ -277,7 +281,7 @@ class MeasurementValidator:
         self.fill_uncertainty = fill_uncertainty
         self.sets: list[MeasurementSetRecord] = []
         self.by_name: dict[str, int] = {}
-        self._unit_cache: dict[tuple[str, int], float | str] = {}
+        self._unit_cache: dict[tuple[str, int, bool], tuple[float, bool] | str] = {}
 
     def validate_chunk(
         self, columns: Mapping[str, Sequence[str]], lines: Sequence[int]
@@ -309,6 +313,7 @@ class MeasurementValidator:
             rate_si = rate_constant * factor
             relative = np.where(absolute, uncertainty * factor / rate_si, uncertainty)
         relative = np.where(percent, uncertainty / 100.0, relative)
+        rate_si = self._per_concentration(rate_si, temperature, pressure * BAR_PA, rows, lines)
         units = [u or (self.default_k_units or "") for u in texts.units]
         self._check_plausible(
             rate_constant, units, rate_si, relative, percent | absolute, rows, lines
@@ -400,8 +405,8 @@ class MeasurementValidator:
         resolved = self.resolver.by_key.get(reaction_text) or self.resolver.resolve(reaction_text)
         if not isinstance(resolved, ReactionRef):
             return None
-        factor = self._unit_cache.get((unit_text, resolved.order))
-        if not isinstance(factor, float):
+        found = self._unit_cache.get((unit_text, resolved.order, resolved.third_body))
+        if not isinstance(found, tuple):
             return None
         return MeasurementSetRecord(
             name,
@@ -411,7 +416,7 @@ class MeasurementValidator:
             texts.methods[i] or None,
             texts.baths[i] or None,
             line,
-            factor,
+            *found,
         )
 
     def _new_set(self, name: str, texts: _TextColumns, i: int, line: int) -> MeasurementSetRecord:
@@ -445,24 +450,72 @@ class MeasurementValidator:
             )
             ok = False
         elif record.reaction.id != -1:
-            factor = self._unit_factor(unit_text, record.reaction.order)
-            if isinstance(factor, str):
-                self.problems.add(line, "k_units", factor)
+            found = self._unit_factor(unit_text, record.reaction.order, record.reaction.third_body)
+            if isinstance(found, str):
+                self.problems.add(line, "k_units", found)
                 ok = False
             else:
-                record.factor = factor
+                record.factor, record.effective = found
         record.valid = ok
         return record
 
-    def _unit_factor(self, text: str, order: int) -> float | str:
-        """The SI factor of a k unit for a reaction of ``order``, or why it is refused."""
-        key = (text, order)
+    def _unit_factor(self, text: str, order: int, third_body: bool) -> tuple[float, bool] | str:
+        """(SI factor, effective) of a k unit for a reaction of ``order``, or why it is
+        refused. A reaction written with M also takes the unit of one order fewer: its
+        points are then the effective k at their pressure (``effective`` True)."""
+        key = (text, order, third_body)
         if key not in self._unit_cache:
             try:
-                self._unit_cache[key] = parse_rate_unit(text, order=order).to_si
+                self._unit_cache[key] = (parse_rate_unit(text, order=order).to_si, False)
             except UnitError as exc:
                 self._unit_cache[key] = str(exc)
+                if third_body and order > 1:
+                    self._unit_cache[key] = (
+                        f"{exc}; a reaction written with M also takes k of order {order - 1}, "
+                        "the effective k at each point's pressure"
+                    )
+                    try:
+                        factor = parse_rate_unit(text, order=order - 1).to_si
+                    except UnitError:
+                        pass
+                    else:
+                        self._unit_cache[key] = (factor, True)
         return self._unit_cache[key]
+
+    def _per_concentration(
+        self,
+        rate_si: np.ndarray,
+        T: np.ndarray,
+        pressure: np.ndarray,
+        rows: _SetsOfRows,
+        lines: Sequence[int],
+    ) -> np.ndarray:
+        """The points of sets given as effective k (one concentration fewer than their
+        reaction written with M) as the reaction's coefficient k / [M], [M] = P / (R T);
+        such a point without a pressure is reported."""
+        effective = np.array([r is not None and r.effective for r in rows.touched], dtype=bool)
+        if not effective.any():
+            return rate_si
+        effective = effective[rows.local_index]
+        with np.errstate(invalid="ignore"):
+            usable = effective & np.isfinite(pressure) & (pressure > 0) & (T > 0)
+        for i in np.flatnonzero(effective & np.isnan(pressure)).tolist():
+            record = rows.touched[rows.local_index[i]]
+            assert record is not None
+            self.problems.add(
+                lines[i],
+                "pressure_bar",
+                f"is empty; k in {record.k_units} is the effective k of "
+                f"{record.reaction.key!r} (written with M) at its pressure, so the point "
+                "needs the pressure it was measured at; expected a pressure in bar",
+            )
+        converted = rate_si.copy()
+        if usable.any():
+            converted[usable] = rate_si[usable] / bath_gas_concentration(
+                pressure[usable], T[usable]
+            )
+        converted[effective & ~usable] = np.nan
+        return converted
 
     def _sets_of_rows(self, set_names: Sequence[str], runs: _Runs) -> _SetsOfRows:
         n = len(set_names)

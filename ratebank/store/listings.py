@@ -94,6 +94,16 @@ class ParticipantInfo:
 
 
 @dataclass(frozen=True)
+class PressurePoints:
+    """The points of one set at one pressure."""
+
+    pressure: float | None  # Pa; None for points without a stated pressure
+    points: int
+    T_min: float
+    T_max: float
+
+
+@dataclass(frozen=True)
 class SetSummary:
     id: int
     name: str
@@ -105,6 +115,8 @@ class SetSummary:
     points: int
     T_min: float | None
     T_max: float | None
+    #: the set's points by pressure, lowest first (no pressure last)
+    pressures: tuple[PressurePoints, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -340,7 +352,34 @@ def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary
     )
     if reaction_id is not None:
         query = query.where(MeasurementSet.reaction_id == reaction_id)
-    return [SetSummary(*row) for row in session.execute(query).all()]
+    by_pressure = _points_by_pressure(session, reaction_id)
+    return [
+        SetSummary(*row, pressures=tuple(by_pressure.get(row[0], ())))
+        for row in session.execute(query).all()
+    ]
+
+
+def _points_by_pressure(session: Session, reaction_id: int | None) -> dict[int, list]:
+    """{set id: [PressurePoints, ...]}, each set's points grouped by their pressure."""
+    query = (
+        select(
+            Point.set_id,
+            Point.pressure,
+            func.count(Point.id),
+            func.min(Point.temperature),
+            func.max(Point.temperature),
+        )
+        .group_by(Point.set_id, Point.pressure)
+        .order_by(Point.set_id, Point.pressure.is_(None), Point.pressure)
+    )
+    if reaction_id is not None:
+        query = query.join(MeasurementSet, MeasurementSet.id == Point.set_id).where(
+            MeasurementSet.reaction_id == reaction_id
+        )
+    found: dict[int, list[PressurePoints]] = {}
+    for set_id, pressure, n, T_min, T_max in session.execute(query).all():
+        found.setdefault(set_id, []).append(PressurePoints(pressure, n, T_min, T_max))
+    return found
 
 
 def set_sources(session: Session, set_ids: list[int]) -> dict[int, tuple[str, str | None]]:

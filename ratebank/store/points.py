@@ -66,3 +66,13 @@ def points(session: Session, reaction_ids: Sequence[int] | None = None) -> Point
         np.array(p, dtype=float),
         np.array(systematic, dtype=float),
     )
+
+
+def set_bath_gases(session: Session, set_ids: Sequence[int]) -> dict[int, str | None]:
+    """The bath gas stated for each measurement set, by id (None where none was given)."""
+    if not set_ids:
+        return {}
+    query = select(MeasurementSet.id, MeasurementSet.bath_gas).where(
+        MeasurementSet.id.in_(sorted(set(set_ids)))
+    )
+    return dict(fetch_all(session, query))

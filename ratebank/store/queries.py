@@ -17,7 +17,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from typing import Any, NamedTuple
 
-from sqlalchemy import select
+from sqlalchemy import or_, select
 from sqlalchemy.orm import Session
 
 from ratebank.errors import NotFoundError
@@ -351,12 +351,14 @@ def with_terms(session: Session, rows: list[ExpressionRow]) -> list[ExpressionRo
 
 
 def measured_fits(session: Session, *, reaction_class: str | None = None) -> list[ExpressionRow]:
-    """Every measured fit of a bimolecular reaction (of ``reaction_class``), oldest first."""
+    """Every measured k(T) fit (plain form: not a fall-off or activated fit, whose A is
+    k_inf) of a bimolecular reaction (of ``reaction_class``), oldest first."""
     query = (
         select(*_EXPRESSION_COLUMNS)
         .join(Reaction, Reaction.id == Expression.reaction_id)
         .where(
             Expression.origin == "measured-fit",
+            or_(Expression.form.is_(None), Expression.form == "arrhenius"),
             Reaction.reaction_order == 2,
             Reaction.third_body.is_(False),
         )
