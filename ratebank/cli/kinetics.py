@@ -148,6 +148,8 @@ def fit(
     elif not STATE.quiet:
         show(fit_table(report, preset))
         say(f"{report.stored} fit(s) stored, {report.failed} reaction(s) could not be fitted.")
+        if any("pool the pressures" in (row.message or "") for row in report.rows):
+            say("(--form falloff fits across pressures; --pool-pressures pools them on purpose)")
     if report.failed:
         raise typer.Exit(1)
 

@@ -215,7 +215,7 @@ def _pressure_refusal(reaction: ReactionRow, spread: PressureSpread) -> FitRow:
         reaction.order,
         "failed",
         f"points at {spread.describe()}; a reaction written with M depends on pressure: fit "
-        "the falloff form, or pool the pressures in an Arrhenius fit (pool_pressures)",
+        "the falloff form, or pool the pressures in an Arrhenius fit on purpose",
     )
 
 

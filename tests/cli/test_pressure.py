@@ -183,6 +183,9 @@ def test_fit_refuses_pooling_pressures_of_a_reaction_with_m_unless_asked(filled,
     assert refused.exit_code == 1
     (row,) = json.loads(refused.stdout)
     assert row["status"] == "failed" and "2 pressures from 0.01 to 1 bar" in row["message"]
+    told = run(filled, "fit", "h-o2-m", "--form", "arrhenius")
+    assert "--pool-pressures pools them on purpose" in told.stdout
+    assert "pool_pressures" not in told.stdout  # the library's argument name stays inside
     pooled = run(filled, "fit", "h-o2-m", "--form", "arrhenius", "--pool-pressures", "--json")
     assert pooled.exit_code == 0, pooled.stderr
     (row,) = json.loads(pooled.stdout)
