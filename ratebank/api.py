@@ -49,6 +49,7 @@ if TYPE_CHECKING:
     from ratebank.services.mechanism import MechanismTable
     from ratebank.services.overview import ReactionOverview
     from ratebank.services.plot_data import ReactionPlotData, StericPlotData
+    from ratebank.services.set_detail import SetDetail
     from ratebank.services.steric import ClassSteric, ReactionStericView, RuleView
     from ratebank.services.validate import ImportSummary
     from ratebank.store.listings import (
@@ -190,13 +191,23 @@ class Store:
     # ------------------------------------------------------------------ species
 
     def import_species(
-        self, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+        self,
+        path: str | Path,
+        *,
+        dry_run: bool = False,
+        update: bool = False,
+        progress: Progress | None = None,
     ) -> ImportSummary:
         """Import species from a CSV file, all or nothing; an ImportSummary.
 
         ImportValidationError lists every problem of the file (nothing is written).
+        ``update=True`` compares rows that match stored records with them: changed ones are
+        updated (the history keeps before and after in the file's units), new ones added,
+        identical ones left alone; the summary counts each. Without it such rows are refused.
         """
-        return self._import("import_species_file", path, dry_run=dry_run, progress=progress)
+        return self._import(
+            "import_species_file", path, dry_run=dry_run, update=update, progress=progress
+        )
 
     def add_species(self, name: str, formula: str, **fields: float | str | None) -> ImportSummary:
         """Add one species, checked exactly as an imported one; an ImportSummary.
@@ -243,10 +254,23 @@ class Store:
     # ------------------------------------------------------------------ reactions
 
     def import_reactions(
-        self, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+        self,
+        path: str | Path,
+        *,
+        dry_run: bool = False,
+        update: bool = False,
+        progress: Progress | None = None,
     ) -> ImportSummary:
-        """Import reactions from a CSV file, all or nothing; an ImportSummary."""
-        return self._import("import_reactions_file", path, dry_run=dry_run, progress=progress)
+        """Import reactions from a CSV file, all or nothing; an ImportSummary.
+
+        ``update=True`` compares rows that match stored records with them: changed ones are
+        updated (the history keeps before and after in the file's units), new ones added,
+        identical ones left alone; the summary counts each. Without it such rows are refused.
+        A stored reaction's equation changes only while no data refer to it.
+        """
+        return self._import(
+            "import_reactions_file", path, dry_run=dry_run, update=update, progress=progress
+        )
 
     def add_reaction(
         self,
@@ -297,10 +321,14 @@ class Store:
 
     # ------------------------------------------------------------------ efficiencies
 
-    def import_efficiencies(self, path: str | Path, *, dry_run: bool = False) -> ImportSummary:
+    def import_efficiencies(
+        self, path: str | Path, *, dry_run: bool = False, update: bool = False
+    ) -> ImportSummary:
         """Import third-body efficiencies (reaction, species, efficiency, source) from a CSV
-        file, all or nothing; a stated pair replaces its earlier value; an ImportSummary."""
-        return self._import("import_efficiencies_file", path, dry_run=dry_run)
+        file, all or nothing; an ImportSummary. A pair already stated is refused unless
+        ``update=True``: then a changed value replaces it (with before and after in the
+        history)."""
+        return self._import("import_efficiencies_file", path, dry_run=dry_run, update=update)
 
     def efficiencies(self, *, reaction: str | None = None) -> list[Any]:
         """The stated third-body efficiencies (a species not listed counts 1), by reaction and
@@ -315,6 +343,7 @@ class Store:
         *,
         k_units: str | None = None,
         dry_run: bool = False,
+        update: bool = False,
         progress: Progress | None = None,
         fill_uncertainty: str | None = None,
     ) -> ImportSummary:
@@ -324,15 +353,28 @@ class Store:
         states an uncertainty for some points but not others is refused unless
         ``fill_uncertainty="median"``: then the missing ones take the median of the set's
         stated relative uncertainties, and the summary and history record it.
+
+        ``update=True``: a set whose name is stored is compared with it as a whole (metadata
+        and points, in SI); a changed one is rewritten (its id stays; fits that used it stay
+        as they are until the next fit), an identical one left alone. The summary then counts
+        sets (``added``, ``changed``, ``unchanged``); without it a stored name is refused.
         """
         return self._import(
             "import_measurements_file",
             path,
             dry_run=dry_run,
+            update=update,
             k_units=k_units,
             progress=progress,
             fill_uncertainty=fill_uncertainty,
         )
+
+    def measurement_set(self, name: str) -> SetDetail:
+        """One measurement set: its metadata (reaction, reference, method, bath gas,
+        pressures, systematic uncertainty, the unit k was given in), its points (SI, and k in
+        the set's own unit), the fits whose provenance names it, and whether it or any of its
+        points is withdrawn; a SetDetail. NotFoundError when no set has this name."""
+        return self._read("set_detail", "show_set", name)
 
     def measurement_sets(self, *, reaction: str | None = None) -> list[SetSummary]:
         """Measurement sets with their point counts and temperature ranges [K]; only those of
@@ -342,11 +384,23 @@ class Store:
     # ------------------------------------------------------------------ expressions
 
     def import_expressions(
-        self, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+        self,
+        path: str | Path,
+        *,
+        dry_run: bool = False,
+        update: bool = False,
+        progress: Progress | None = None,
     ) -> ImportSummary:
         """Import literature or hand-entered expressions from a CSV file, all or nothing;
-        an ImportSummary."""
-        return self._import("import_expressions_file", path, dry_run=dry_run, progress=progress)
+        an ImportSummary.
+
+        A row matches the stored literature or manual expression of its reaction, reference,
+        origin and form. Without ``update`` such a row is refused; with ``update=True`` a
+        changed one gets the new numbers (its version rises), an identical one is left alone.
+        """
+        return self._import(
+            "import_expressions_file", path, dry_run=dry_run, update=update, progress=progress
+        )
 
     def expressions(
         self, *, reaction: str | None = None, origin: str | None = None

@@ -33,6 +33,7 @@ from ratebank.cli.progress import progress_bar
 from ratebank.errors import BadInputError
 from ratebank.report import tables
 from ratebank.report.demo import demo_summary
+from ratebank.report.set_view import set_detail_record, set_detail_tables
 from ratebank.report.tables import import_message
 from ratebank.report.thermo import species_thermo_record, species_thermo_table
 
@@ -82,6 +83,12 @@ efficiencies_commands.register(app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")
+UPDATE_OPTION = typer.Option(
+    False,
+    "--update",
+    help="Rows matching stored records update them when changed (identical ones are left "
+    "alone, the history keeps before and after); without it they are refused.",
+)
 PRESET_OPTION = typer.Option(
     "combustion",
     "--units",
@@ -270,6 +277,7 @@ def species_add(
 def species_import(
     file: Path = typer.Argument(..., help="CSV file with a header row."),
     dry_run: bool = DRY_RUN_OPTION,
+    update: bool = UPDATE_OPTION,
 ) -> None:
     """Import species from a CSV file (all or nothing).
 
@@ -280,7 +288,7 @@ def species_import(
     Example: ratebank species import species.csv
     """
     with opened_store() as store, progress_bar(STATE.quiet) as progress:
-        summary = store.import_species(file, dry_run=dry_run, progress=progress)
+        summary = store.import_species(file, dry_run=dry_run, update=update, progress=progress)
     say(import_message(summary))
 
 
@@ -357,6 +365,7 @@ def reactions_add(
 def reactions_import(
     file: Path = typer.Argument(..., help="CSV file with a header row."),
     dry_run: bool = DRY_RUN_OPTION,
+    update: bool = UPDATE_OPTION,
 ) -> None:
     """Import reactions from a CSV file (all or nothing).
 
@@ -365,7 +374,7 @@ def reactions_import(
     Example: ratebank reactions import reactions.csv
     """
     with opened_store() as store, progress_bar(STATE.quiet) as progress:
-        summary = store.import_reactions(file, dry_run=dry_run, progress=progress)
+        summary = store.import_reactions(file, dry_run=dry_run, update=update, progress=progress)
     say(import_message(summary))
 
 
@@ -436,11 +445,15 @@ def data_import(
         "set's median (the only choice: median). Recorded in the history.",
     ),
     dry_run: bool = DRY_RUN_OPTION,
+    update: bool = UPDATE_OPTION,
 ) -> None:
     """Import measured k(T) points (all or nothing).
 
     Columns: set, reaction, T_K, k (required), k_units, k_uncertainty,
     uncertainty_kind (relative|absolute), reference, method, pressure_bar, bath_gas.
+
+    With --update, a set whose name is stored is compared with it as a whole and
+    rewritten when its points or metadata changed; its fits stay until the next fit.
 
     Example: ratebank data import points.csv --k-units cm3/molecule/s
     """
@@ -449,10 +462,32 @@ def data_import(
             file,
             k_units=k_units,
             dry_run=dry_run,
+            update=update,
             progress=progress,
             fill_uncertainty=fill_uncertainty,
         )
     say(import_message(summary))
+
+
+@data_app.command("show")
+@calls("measurement_set")
+def data_show(
+    name: str = typer.Argument(..., help="The measurement set's name."),
+    preset: str = PRESET_OPTION,
+    as_json: bool = JSON_OPTION,
+) -> None:
+    """Show one measurement set: its reaction, reference, method, bath gas, pressures and
+    systematic uncertainty; its points (T, k in the unit it was given in and in the preset's,
+    uncertainty, pressure); the fits that used it; whether anything in it is withdrawn.
+
+    Example: ratebank data show s1 --preset atmospheric
+    """
+    with opened_store() as store:
+        detail = store.measurement_set(name)
+    if as_json:
+        print_json(set_detail_record(detail, preset))
+    else:
+        show(*set_detail_tables(detail, preset))
 
 
 @data_app.command("list")
@@ -484,6 +519,7 @@ def data_list(
 def expressions_import(
     file: Path = typer.Argument(..., help="CSV file of expressions."),
     dry_run: bool = DRY_RUN_OPTION,
+    update: bool = UPDATE_OPTION,
 ) -> None:
     """Import literature or hand-entered expressions (all or nothing).
 
@@ -494,7 +530,7 @@ def expressions_import(
     Example: ratebank expressions import literature.csv
     """
     with opened_store() as store, progress_bar(STATE.quiet) as progress:
-        summary = store.import_expressions(file, dry_run=dry_run, progress=progress)
+        summary = store.import_expressions(file, dry_run=dry_run, update=update, progress=progress)
     say(import_message(summary))
 
 

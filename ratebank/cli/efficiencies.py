@@ -25,17 +25,23 @@ def register(app: typer.Typer) -> None:
 def efficiencies_import(
     file: Path = typer.Argument(..., help="CSV file with a header row."),
     dry_run: bool = typer.Option(False, "--dry-run", help="Validate and report; write nothing."),
+    update: bool = typer.Option(
+        False,
+        "--update",
+        help="A pair already stated takes the new value when it changed (the history keeps "
+        "before and after); without it such a pair is refused.",
+    ),
 ) -> None:
     """Import third-body efficiencies (all or nothing).
 
     Columns: reaction (key or equation), species, efficiency (at least 0), source.
-    A species without an efficiency counts 1 in [M]_eff; a pair given again replaces
-    the stored value.
+    A species without an efficiency counts 1 in [M]_eff; a pair already stated is
+    refused unless --update is given.
 
     Example: ratebank efficiencies import efficiencies.csv --dry-run
     """
     with opened_store() as store:
-        summary = store.import_efficiencies(file, dry_run=dry_run)
+        summary = store.import_efficiencies(file, dry_run=dry_run, update=update)
     say(import_message(summary))
 
 

@@ -352,28 +352,55 @@ def _row_dicts(table: CsvTable) -> list[tuple[int | None, dict[str, str | None]]
 
 
 def import_species_file(
-    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+    session: Session,
+    path: str | Path,
+    *,
+    dry_run: bool = False,
+    update: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     table = read_table(path, v.SPECIES_COLUMNS, v.SPECIES_REQUIRED)
     return import_species(
-        session, _row_dicts(table), source=table.path, dry_run=dry_run, progress=progress
+        session,
+        _row_dicts(table),
+        source=table.path,
+        dry_run=dry_run,
+        update=update,
+        progress=progress,
     )
 
 
 def import_reactions_file(
-    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+    session: Session,
+    path: str | Path,
+    *,
+    dry_run: bool = False,
+    update: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     table = read_table(path, v.REACTION_COLUMNS, v.REACTION_REQUIRED)
     return import_reactions(
-        session, _row_dicts(table), source=table.path, dry_run=dry_run, progress=progress
+        session,
+        _row_dicts(table),
+        source=table.path,
+        dry_run=dry_run,
+        update=update,
+        progress=progress,
     )
 
 
 def import_expressions_file(
-    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+    session: Session,
+    path: str | Path,
+    *,
+    dry_run: bool = False,
+    update: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     table = read_table(path, v.EXPRESSION_COLUMNS, v.EXPRESSION_REQUIRED)
-    return import_expressions(session, _row_dicts(table), source=table.path, dry_run=dry_run)
+    return import_expressions(
+        session, _row_dicts(table), source=table.path, dry_run=dry_run, update=update
+    )
 
 
 def import_measurements_file(
@@ -382,6 +409,7 @@ def import_measurements_file(
     *,
     k_units: str | None = None,
     dry_run: bool = False,
+    update: bool = False,
     progress: Progress | None = None,
     chunk_rows: int = CHUNK_ROWS,
     fill_uncertainty: str | None = None,
@@ -420,6 +448,7 @@ def import_measurements_file(
         problems=problems,
         expected_rows=expected,
         fill_uncertainty=fill_uncertainty,
+        update=update,
     )
     with paused_garbage_collection():
         for chunk_columns, lines in stream:
@@ -430,7 +459,12 @@ def import_measurements_file(
 
 
 def import_efficiencies_file(
-    session: Session, path: str | Path, *, dry_run: bool = False, progress: Progress | None = None
+    session: Session,
+    path: str | Path,
+    *,
+    dry_run: bool = False,
+    update: bool = False,
+    progress: Progress | None = None,
 ) -> ImportSummary:
     from ratebank.services.efficiencies import (
         EFFICIENCY_COLUMNS,
@@ -439,4 +473,6 @@ def import_efficiencies_file(
     )
 
     table = read_table(path, EFFICIENCY_COLUMNS, EFFICIENCY_REQUIRED)
-    return import_efficiencies(session, _row_dicts(table), source=table.path, dry_run=dry_run)
+    return import_efficiencies(
+        session, _row_dicts(table), source=table.path, dry_run=dry_run, update=update
+    )

@@ -549,6 +549,17 @@ def history_table(rows: Sequence[HistoryEntry], title: str = "History") -> Table
 # --------------------------------------------------------------------------- imports
 
 
+def _update_message(summary: ImportSummary, noun: str) -> str:
+    """An import that updates: how many records were added, changed and left unchanged."""
+    counts = f"{summary.added} added, {summary.changed} changed, {summary.unchanged} unchanged"
+    if summary.kind == "measurements":
+        noun = "sets"
+        counts += f" ({summary.details.get('points', 0)} points read)"
+    if summary.dry_run:
+        return f"{summary.source}: valid; would update {noun}: {counts} (dry run, nothing written)"
+    return f"{summary.source}: updated {noun}: {counts}"
+
+
 def import_message(summary: ImportSummary) -> str:
     noun = {
         "species": "species",
@@ -557,6 +568,8 @@ def import_message(summary: ImportSummary) -> str:
         "expressions": "expressions",
         "efficiencies": "efficiencies",
     }[summary.kind]
+    if summary.update:
+        return _update_message(summary, noun)
     extra = ""
     if summary.kind == "measurements":
         extra = f" in {summary.details.get('sets', 0)} sets"
@@ -564,9 +577,6 @@ def import_message(summary: ImportSummary) -> str:
         if filled:
             verb = "would fill" if summary.dry_run else "filled"
             extra += f"; {verb} the missing uncertainties of {filled} sets with the set's median"
-    elif summary.kind == "efficiencies" and summary.details.get("replaced"):
-        verb = "would replace" if summary.dry_run else "replaced"
-        extra = f" ({verb} {summary.details['replaced']} stated before)"
     elif summary.kind == "expressions":
         extra = (
             f" ({summary.details.get('complete', 0)} complete, "

@@ -5,8 +5,9 @@ the equation), ``species``, ``efficiency`` (eps >= 0) and optionally
 ``source``. eps says how strongly a collider counts in the effective
 third-body concentration [M]_eff = sum_i eps_i [X_i] of that reaction
 (Troe, J. Phys. Chem. 1979, 83, 114); a species without a stated efficiency
-counts 1. A pair stated again replaces the earlier value, with the change in
-the history. All or nothing, as every import.
+counts 1. A pair stated again is refused, unless the import updates: then a
+changed value replaces the earlier one, with the change in the history. All or
+nothing, as every import.
 """
 
 from __future__ import annotations
@@ -15,10 +16,12 @@ from collections.abc import Mapping
 
 from sqlalchemy.orm import Session
 
+from ratebank.services.updates import UpdatePlan, changed_fields, record_changes
 from ratebank.services.validate import (
     ImportSummary,
     LazyReactionResolver,
     Problems,
+    ReactionRef,
     Row,
     cell,
     parse_number,
@@ -30,10 +33,10 @@ from ratebank.store.efficiencies import (
     EfficiencyRow,
     NewEfficiency,
     efficiencies,
-    stated_pairs,
     write_efficiencies,
 )
 from ratebank.store.queries import find_reaction, species_by_name
+from ratebank.store.updates import stated_efficiencies
 
 EFFICIENCY_COLUMNS = ("reaction", "species", "efficiency", "source")
 EFFICIENCY_REQUIRED = ("reaction", "species", "efficiency")
@@ -42,40 +45,87 @@ __all__ = ["DEFAULT_EFFICIENCY", "import_efficiencies", "list_efficiencies"]
 
 
 def import_efficiencies(
-    session: Session, rows: list[Row], *, source: str, dry_run: bool = False
+    session: Session,
+    rows: list[Row],
+    *,
+    source: str,
+    dry_run: bool = False,
+    update: bool = False,
 ) -> ImportSummary:
-    """Validate and store third-body efficiencies; all or nothing."""
+    """Validate and store third-body efficiencies; all or nothing.
+
+    A pair (reaction, species) already stated is refused as already in the store unless
+    ``update``: then a changed efficiency or source replaces the stored one (the history
+    keeps before and after) and an identical one is left alone.
+    """
     problems = Problems()
     resolver = LazyReactionResolver(session)
     resolver.prefetch({t for _, row in rows if (t := cell(row, "reaction")) is not None})
     known = species_by_name(session, {t for _, row in rows if (t := cell(row, "species"))})
     seen: dict[tuple[int, int], int | None] = {}
-    new: list[NewEfficiency] = []
+    found: list[tuple[int | None, tuple[str, str], NewEfficiency]] = []
     for line, row in rows:
-        found = _valid_row(problems, line, row, resolver, known, seen)
-        if found is not None:
-            new.append(found)
+        valid = _valid_row(problems, line, row, resolver, known, seen)
+        if valid is not None:
+            reaction = resolver.resolve(cell(row, "reaction") or "")
+            key = reaction.key if isinstance(reaction, ReactionRef) else ""
+            found.append((line, (str(cell(row, "species")), key), valid))
     problems.raise_if_any(source)
-    before = stated_pairs(session, [e.reaction_id for e in new])
-    replaced = sum(1 for e in new if (e.reaction_id, e.species_id) in before)
-    if not dry_run and new:
-        write_efficiencies(session, new)
-        changes = [
-            {"reaction": e.reaction_id, "species": e.species_id, "before": before[pair]}
-            for e in new
-            if (pair := (e.reaction_id, e.species_id)) in before and before[pair] != e.efficiency
-        ]
-        audit.record(
-            session,
-            "efficiencies.import",
-            source,
-            count=len(new),
-            replaced=replaced,
-            changes=changes[:50],
-        )
+    stored = stated_efficiencies(session, [e.reaction_id for _, _, e in found])
+    plan, writes = _efficiency_plan(found, stored, problems, update=update)
+    problems.raise_if_any(source)
+    if not dry_run and writes:
+        write_efficiencies(session, writes)
+        audit.record(session, "efficiencies.import", source, count=len(writes))
+        record_changes(session, "efficiency.update", source, plan.changes)
     return ImportSummary(
-        "efficiencies", source, len(rows), len(new), dry_run, {"replaced": replaced}
+        "efficiencies",
+        source,
+        len(rows),
+        plan.added,
+        dry_run,
+        update=update,
+        changed=plan.changed,
+        unchanged=plan.unchanged,
     )
+
+
+def _efficiency_plan(
+    found: list[tuple[int | None, tuple[str, str], NewEfficiency]],
+    stored: dict[tuple[int, int], tuple[float, str | None]],
+    problems: Problems,
+    *,
+    update: bool,
+) -> tuple[UpdatePlan, list[NewEfficiency]]:
+    """New, changed and unchanged pairs, and the efficiencies to write."""
+    plan = UpdatePlan()
+    writes: list[NewEfficiency] = []
+    for line, (species, key), new in found:
+        what = f"{species} in {key!r}"
+        before = stored.get((new.reaction_id, new.species_id))
+        if before is None:
+            plan.added += 1
+            writes.append(new)
+            continue
+        if not update:
+            problems.add(
+                line,
+                "species",
+                f"the efficiency of {what} is already in the store ({before[0]!r}); an import "
+                "that updates changes it",
+            )
+            continue
+        values, texts = changed_fields(
+            {"efficiency": before[0], "source": before[1]},
+            {"efficiency": new.efficiency, "source": new.source},
+            {"efficiency": ("efficiency", 1.0, ""), "source": ("source", None, "")},
+        )
+        if values:
+            plan.changes.append((key, [f"species {species}", *texts]))
+            writes.append(new)
+        else:
+            plan.unchanged += 1
+    return plan, writes
 
 
 def _valid_row(

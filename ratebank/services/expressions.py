@@ -30,7 +30,9 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError, RefusedError
+from ratebank.services.expression_updates import expression_plan, write_expression_updates
 from ratebank.services.progress import NoProgress, Progress
+from ratebank.services.updates import record_changes
 from ratebank.services.validate import (
     ImportSummary,
     LazyReactionResolver,
@@ -66,26 +68,43 @@ def import_expressions(
     *,
     source: str,
     dry_run: bool = False,
+    update: bool = False,
     progress: Progress | None = None,
 ) -> ImportSummary:
-    """Validate and add literature or hand-entered expressions; all or nothing."""
+    """Validate and add literature or hand-entered expressions; all or nothing.
+
+    A row matches the stored literature or manual expression of its reaction, reference,
+    origin and form. Without ``update`` such a row is refused as already in the store; with
+    it, a changed one is updated (its version rises, the history keeps before and after in
+    the file's units) and an identical one left alone.
+    """
     progress = progress or NoProgress()
     progress.start("validating expressions", len(rows))
     problems = Problems()
     valid = validate_expressions(rows, LazyReactionResolver(session), problems)
     progress.advance(len(rows))
     problems.raise_if_any(source)
-    if not dry_run and valid:
-        write_expressions(session, [_record(e, source) for e in valid], action="expressions.import")
-        audit.record(session, "expressions.import", source, count=len(valid))
-    complete = sum(1 for e in valid if e.A is not None)
+    records = [_record(e, source) for e in valid]
+    plan = expression_plan(session, valid, records, problems, update=update)
+    problems.raise_if_any(source)
+    new = [records[i] for i in plan.new]
+    if not dry_run and new:
+        write_expressions(session, new, action="expressions.import")
+        audit.record(session, "expressions.import", source, count=len(new))
+    if not dry_run and plan.writes:
+        write_expression_updates(session, plan, source)
+        record_changes(session, "expression.update", source, plan.changes)
+    complete = sum(1 for e in new if e.A is not None)
     return ImportSummary(
         "expressions",
         source,
         len(rows),
-        len(valid),
+        len(new),
         dry_run,
-        {"complete": complete, "activation_energy_only": len(valid) - complete},
+        {"complete": complete, "activation_energy_only": len(new) - complete},
+        update=update,
+        changed=plan.changed,
+        unchanged=plan.unchanged,
     )
 
 

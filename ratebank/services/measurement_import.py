@@ -9,6 +9,7 @@ The import is all or nothing.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
+from dataclasses import replace
 
 import numpy as np
 from sqlalchemy.orm import Session
@@ -16,6 +17,12 @@ from sqlalchemy.orm import Session
 from ratebank.errors import BadInputError
 from ratebank.services.measurement_validation import MeasurementChunk, MeasurementValidator
 from ratebank.services.progress import NoProgress, Progress
+from ratebank.services.set_updates import (
+    SetPlan,
+    StoredSetPoints,
+    set_plan,
+    write_set_updates,
+)
 from ratebank.services.validate import ImportSummary, LazyReactionResolver, Problems
 from ratebank.store import audit
 from ratebank.store.bulk import SuspendedIndex
@@ -27,6 +34,7 @@ from ratebank.store.records import (
     measurement_set_names,
     suspend_point_index,
 )
+from ratebank.store.updates import StoredSet, stored_sets
 
 
 class MeasurementImporter:
@@ -36,6 +44,11 @@ class MeasurementImporter:
     problem has been found anywhere; once one is, the rest of the file is
     still validated (so every problem is reported) and :meth:`finish` raises,
     which rolls the whole import back: nothing is written.
+
+    With ``update``, a set whose name is stored is no problem: its points are set aside
+    while the file is read, then compared as a whole with the stored set
+    (:mod:`ratebank.services.set_updates`); a changed one is rewritten, an identical one
+    left alone. The summary then counts sets: new (``added``), changed and unchanged.
     """
 
     def __init__(
@@ -49,14 +62,18 @@ class MeasurementImporter:
         problems: Problems | None = None,
         expected_rows: int = 0,
         fill_uncertainty: str | None = None,
+        update: bool = False,
     ):
         self.session = session
+        self.update = update
         self.source = source
         self.dry_run = dry_run
         self.progress = progress or NoProgress()
         self.problems = problems if problems is not None else Problems()
         self.rows = 0
+        #: points read, and those of sets not stored before
         self.points = 0
+        self.new_points = 0
         known = measurement_set_names(session)
         self.validator = MeasurementValidator(
             LazyReactionResolver(session),
@@ -64,7 +81,12 @@ class MeasurementImporter:
             self.problems,
             default_k_units=default_k_units,
             fill_uncertainty=_checked_fill(fill_uncertainty),
+            update=update,
         )
+        #: stored sets the file names (an import that updates), and the points it gives them
+        self._stored: dict[str, StoredSet] = {}
+        self._stored_index: list[int] = []
+        self._given = StoredSetPoints()
         self._set_ids: list[int] = []
         self._expected_rows = expected_rows
         self._point_index: SuspendedIndex | None = None
@@ -76,13 +98,41 @@ class MeasurementImporter:
         """Validate (and, while the input is clean, write) one chunk of rows."""
         chunk = self.validator.validate_chunk(columns, lines)
         self.rows += len(lines)
+        self.points += chunk.n_points
+        if self.update and not self.problems:
+            chunk = self._keep_stored(chunk)
         if not self.problems and not self.dry_run:
             self._write(chunk)
-        self.points += chunk.n_points
+        self.new_points += chunk.n_points
         self.progress.advance(len(lines))
 
+    def _keep_stored(self, chunk: MeasurementChunk) -> MeasurementChunk:
+        """Set aside the chunk's points of stored sets (compared when the file is read); the
+        points of new sets are left to write."""
+        stored = [r for r in chunk.new_sets if r.stored]
+        if stored:
+            self._stored.update(stored_sets(self.session, [r.name for r in stored]))
+            self._stored_index.extend(self.validator.by_name[r.name] for r in stored)
+        if not self._stored_index:
+            return chunk
+        index = np.asarray(self._stored_index, dtype=np.int64)
+        self._given.add(chunk, index)
+        keep = ~np.isin(chunk.set_index, index)
+        return replace(
+            chunk,
+            set_index=chunk.set_index[keep],
+            temperature=chunk.temperature[keep],
+            rate_constant=chunk.rate_constant[keep],
+            relative_uncertainty=chunk.relative_uncertainty[keep],
+            pressure=chunk.pressure[keep],
+        )
+
     def _write(self, chunk: MeasurementChunk) -> None:
-        if chunk.new_sets:
+        for record in chunk.new_sets:
+            if record.stored:
+                record.id = self._stored[record.name].id
+        fresh = [s for s in chunk.new_sets if not s.stored]
+        if fresh:
             set_ids = insert_sets(
                 self.session,
                 [
@@ -95,16 +145,17 @@ class MeasurementImporter:
                         s.k_units,
                         s.systematic_uncertainty,
                     )
-                    for s in chunk.new_sets
+                    for s in fresh
                 ],
                 source=self.source,
             )
-            for record, set_id in zip(chunk.new_sets, set_ids, strict=True):
+            for record, set_id in zip(fresh, set_ids, strict=True):
                 record.id = set_id
-            self._set_ids.extend(set_ids)
+        self._set_ids.extend(r.id for r in chunk.new_sets)  # type: ignore[misc]
         if self._point_index is None:
             self._point_index = suspend_point_index(self.session, self._expected_rows)
-        insert_points(self.session, _point_columns(chunk, self._set_ids))
+        if chunk.n_points:
+            insert_points(self.session, _point_columns(chunk, self._set_ids))
 
     def finish(self) -> ImportSummary:
         """Raise if any chunk had a problem (nothing is then written); else commit the import."""
@@ -113,22 +164,40 @@ class MeasurementImporter:
             self.problems.raise_if_any(self.source)
         if self._point_index is not None:
             self._point_index.restore()
+        plan = self._update_stored_sets()
         filled = self._fill_missing_uncertainties()
         self._savepoint.commit()
-        sets = len(self.validator.sets)
-        if not self.dry_run and self.points:
+        sets = len(self.validator.sets) - len(self._stored_index)
+        if not self.dry_run and sets:
             extra = {"uncertainties_filled_with_the_set_median": filled} if filled else {}
             audit.record(
-                self.session, "data.import", self.source, sets=sets, points=self.points, **extra
+                self.session, "data.import", self.source, sets=sets, points=self.new_points, **extra
             )
+        if not self.update:
+            return ImportSummary(
+                "measurements", self.source, self.rows, self.points, self.dry_run,
+                self._details(sets),
+            )  # fmt: skip
         return ImportSummary(
             "measurements",
             self.source,
             self.rows,
-            self.points,
+            sets,
             self.dry_run,
-            self._details(sets),
+            {**self._details(sets), "points": self.points},
+            update=True,
+            changed=plan.changed,
+            unchanged=plan.unchanged,
         )
+
+    def _update_stored_sets(self) -> SetPlan:
+        """Compare the file's stored sets with the store and rewrite the changed ones."""
+        if not self._stored_index:
+            return SetPlan()
+        plan = set_plan(self.validator.sets, self._stored, self._given, self.session)
+        if not self.dry_run:
+            write_set_updates(self.session, plan, self.source)
+        return plan
 
     def _fill_missing_uncertainties(self) -> dict[str, float]:
         """The sets whose missing uncertainties were filled with the set's median, and the
@@ -192,9 +261,11 @@ def import_measurements(
     source: str,
     default_k_units: str | None = None,
     dry_run: bool = False,
+    update: bool = False,
     progress: Progress | None = None,
 ) -> ImportSummary:
-    """Validate and add measured points given column-wise; all or nothing.
+    """Validate and add measured points given column-wise; all or nothing (``update``: as
+    :class:`MeasurementImporter`).
 
     ``columns`` maps each measurement column of the README to its cell texts
     ("" when empty); ``lines`` gives each row's line in the source.
@@ -206,6 +277,7 @@ def import_measurements(
         dry_run=dry_run,
         progress=progress,
         expected_rows=len(lines),
+        update=update,
     )
     importer.add(columns, lines)
     return importer.finish()

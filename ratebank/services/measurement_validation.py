@@ -55,6 +55,8 @@ class MeasurementSetRecord:
     with_uncertainty: int = 0
     without_uncertainty: int = 0
     mixed: bool = False
+    #: a set of this name is stored (an import that updates compares the two)
+    stored: bool = False
 
 
 @dataclass
@@ -272,8 +274,11 @@ class MeasurementValidator:
         *,
         default_k_units: str | None = None,
         fill_uncertainty: str | None = None,
+        update: bool = False,
     ):
         self.resolver = resolver
+        #: a stored set name is no problem: its set is marked ``stored``, to be compared
+        self.update = update
         self.set_exists = set_exists
         self.problems = problems
         self.default_k_units = default_k_units or ""
@@ -381,9 +386,14 @@ class MeasurementValidator:
                 name, texts, i, lines[i]
             )
             self._set_systematic(record, texts.systematic[i], lines[i])
-            if name in existing:
+            if name in existing and self.update:
+                record.stored = True
+            elif name in existing:
                 self.problems.add(
-                    lines[i], "set", f"measurement set {name!r} is already in the store"
+                    lines[i],
+                    "set",
+                    f"measurement set {name!r} is already in the store; an import that "
+                    "updates compares it with the stored one",
                 )
                 record.valid = False
             elif (problem := input_rules.name_problem(name, "set name")) is not None:

@@ -12,7 +12,8 @@ from sqlalchemy.orm import Session
 from ratebank.errors import BadInputError
 from ratebank.science.formula import parse_formula
 from ratebank.services.progress import NoProgress, Progress
-from ratebank.services.validate import ImportSummary, Problems, Row, validate_reactions
+from ratebank.services.updates import UpdatePlan, change_text, differs, record_changes
+from ratebank.services.validate import ImportSummary, Problems, Row, cell, validate_reactions
 from ratebank.store import audit
 from ratebank.store.listings import (
     ReactionDetail,
@@ -21,11 +22,13 @@ from ratebank.store.listings import (
     reaction_summaries,
 )
 from ratebank.store.records import (
+    NewReaction,
     insert_reactions,
     reaction_equations,
     reaction_keys,
     species_formulas,
 )
+from ratebank.store.updates import StoredReaction, stored_reactions, update_reaction
 
 #: Reaction status words used by listings and filters, in order of precedence: has measured
 #: k(T) sets; has a complete expression (A, n, Ea) but no measurements; has only an activation
@@ -39,28 +42,142 @@ def import_reactions(
     *,
     source: str,
     dry_run: bool = False,
+    update: bool = False,
     progress: Progress | None = None,
 ) -> ImportSummary:
-    """Validate and add reactions (parsed, balanced, canonical); all or nothing."""
+    """Validate and add reactions (parsed, balanced, canonical); all or nothing.
+
+    With ``update``, a row whose key is stored is compared with that reaction: a changed
+    class, notes or reverse rule is written (and recorded with before and after), an
+    identical row is left alone. Its equation may change only while no measurement set,
+    expression or efficiency refers to the reaction. Without ``update``, a stored key is
+    refused as already in the store.
+    """
     progress = progress or NoProgress()
     progress.start("validating reactions", len(rows))
     problems = Problems()
     formulas = {name: parse_formula(text) for name, text in species_formulas(session).items()}
+    keys = reaction_keys(session)
     reactions = validate_reactions(
-        rows, formulas, reaction_keys(session), reaction_equations(session), problems
+        rows, formulas, keys, reaction_equations(session), problems, update=update
     )
     progress.advance(len(rows))
+    stored = stored_reactions(session, [r.key for r in reactions if r.key in keys])
+    plan = _reaction_plan(rows, reactions, stored, problems)
     problems.raise_if_any(source)
-    if not dry_run and reactions:
-        insert_reactions(session, reactions)
+    new = [r for r in reactions if r.key not in keys]
+    plan.added = len(new)
+    if not dry_run:
+        _write_reactions(session, source, new, plan, stored)
+    return ImportSummary(
+        "reactions",
+        source,
+        len(rows),
+        len(new),
+        dry_run,
+        update=update,
+        changed=plan.changed,
+        unchanged=plan.unchanged,
+    )
+
+
+#: The reaction fields an update compares: (stored name, file column).
+_REACTION_FIELDS = (
+    ("equation", "equation"),
+    ("reaction_class", "class"),
+    ("notes", "notes"),
+    ("reverse", "reverse"),
+)
+
+
+class _ReactionPlan(UpdatePlan):
+    """An update plan with the reactions to rewrite."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.writes: list[NewReaction] = []
+        #: the file's columns: a column it does not have leaves its field as stored
+        self.columns: set[str] = set()
+
+
+def _reaction_plan(
+    rows: list[Row],
+    reactions: list[NewReaction],
+    stored: dict[str, StoredReaction],
+    problems: Problems,
+) -> _ReactionPlan:
+    """Changed and unchanged stored reactions; a new equation of a reaction with data is a
+    problem."""
+    plan = _ReactionPlan()
+    plan.columns = set(rows[0][1]) | {"equation"} if rows else set()
+    lines = {cell(row, "key"): line for line, row in rows}
+    for new in reactions:
+        before = stored.get(new.key)
+        if before is None:
+            continue
+        texts = [
+            change_text(column, getattr(before, name), getattr(new, attribute), None, "")
+            for (name, column), attribute in zip(
+                _REACTION_FIELDS, ("equation", "reaction_class", "notes", "reverse"), strict=True
+            )
+            if column in plan.columns and differs(getattr(before, name), getattr(new, attribute))
+        ]
+        if not texts:
+            plan.unchanged += 1
+            continue
+        if new.equation != before.equation and before.has_data:
+            problems.add(
+                lines.get(new.key),
+                "equation",
+                f"reaction {new.key!r} is stored as {before.equation!r} and has measurements, "
+                "expressions or efficiencies; its equation cannot change",
+            )
+            continue
+        plan.changes.append((new.key, texts))
+        plan.writes.append(new)
+    return plan
+
+
+def _write_reactions(
+    session: Session,
+    source: str,
+    new: list[NewReaction],
+    plan: _ReactionPlan,
+    stored: dict[str, StoredReaction],
+) -> None:
+    if new:
+        insert_reactions(session, new)
         audit.record(
-            session,
-            "reactions.add",
-            source,
-            count=len(reactions),
-            keys=[r.key for r in reactions[:20]],
+            session, "reactions.add", source, count=len(new), keys=[r.key for r in new[:20]]
         )
-    return ImportSummary("reactions", source, len(rows), len(reactions), dry_run)
+    for reaction in plan.writes:
+        before = stored[reaction.key]
+        values = {
+            name: getattr(reaction, name)
+            for name, column in (
+                ("reaction_class", "class"),
+                ("notes", "notes"),
+                ("reverse", "reverse"),
+            )
+            if column in plan.columns
+        }
+        participants = None
+        if reaction.equation != before.equation:
+            values |= {
+                "equation": reaction.equation,
+                "reaction_order": reaction.order,
+                "third_body": reaction.third_body,
+            }
+            participants = [
+                (name, role, count)
+                for role, counts in (
+                    ("reactant", reaction.reactant_counts),
+                    ("product", reaction.product_counts),
+                )
+                for name, count in counts.items()
+            ]
+        update_reaction(session, before.id, values, participants)
+    record_changes(session, "reaction.update", source, plan.changes)
 
 
 def add_reaction(

@@ -168,6 +168,11 @@ class ImportSummary:
     added: int
     dry_run: bool
     details: dict[str, int] = field(default_factory=dict)
+    #: an import that updates (``update=True``): ``added`` counts the new records, and
+    #: ``changed`` and ``unchanged`` those that matched a stored one
+    update: bool = False
+    changed: int = 0
+    unchanged: int = 0
 
 
 #: Longest text the store's columns hold (the same on SQLite and PostgreSQL).
@@ -476,18 +481,22 @@ def validate_reactions(
     existing_keys: set[str],
     existing_equations: Mapping[str, str],
     problems: Problems,
+    *,
+    update: bool = False,
 ) -> list[NewReaction]:
     """The reactions of ``rows``, parsed, balanced and canonical; every problem goes to
     ``problems``, and nothing may be written while it holds any.
 
     ``species_formulas`` holds the element counts of every stored species by
     name; ``existing_equations`` maps a stored canonical equation to its key.
+    With ``update``, a stored key is no problem and a row may repeat its own
+    stored reaction's equation.
     """
     reactions: list[NewReaction] = []
     seen_keys: dict[str, int | None] = {}
     seen_equations: dict[str, int | None] = {}
     for line, row in rows:
-        key = _reaction_key(problems, line, row, existing_keys, seen_keys)
+        key = _reaction_key(problems, line, row, set() if update else existing_keys, seen_keys)
         reverse = cell(row, "reverse") or "none"
         if reverse not in REVERSE_RULES:
             problems.add(line, "reverse", f"{reverse!r} is not one of {', '.join(REVERSE_RULES)}")
@@ -504,7 +513,9 @@ def validate_reactions(
             )
             continue
         seen_equations[canonical] = line
-        if canonical in existing_equations:
+        if canonical in existing_equations and not (
+            update and existing_equations[canonical] == key
+        ):
             problems.add(
                 line,
                 "equation",

@@ -1,4 +1,4 @@
-"""Third-body efficiencies: imported all or nothing, replaced with history, listed, shown."""
+"""Third-body efficiencies: imported all or nothing, updated with history, listed, shown."""
 
 from __future__ import annotations
 
@@ -30,7 +30,7 @@ def forms_store(store):
 def test_efficiencies_are_stored_listed_and_shown_with_the_reaction(forms_store):
     with forms_store.session(write=True) as session:
         summary = import_efficiencies(session, _rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
-    assert (summary.added, summary.details["replaced"]) == (3, 0)
+    assert (summary.added, summary.changed, summary.unchanged) == (3, 0, 0)
     with forms_store.session() as session:
         listed = [(r.reaction_key, r.species, r.efficiency) for r in list_efficiencies(session)]
         shown = show_reaction(session, "H + O2 + M -> HO2 + M").efficiencies
@@ -40,19 +40,38 @@ def test_efficiencies_are_stored_listed_and_shown_with_the_reaction(forms_store)
     assert [r.species for r in only] == ["H2O"]
 
 
-def test_a_pair_given_again_replaces_its_value_and_the_history_keeps_the_old_one(forms_store):
+def test_a_pair_given_again_is_refused_unless_the_import_updates(forms_store):
     with forms_store.session(write=True) as session:
         import_efficiencies(session, _rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
     again = "reaction,species,efficiency\nh-o2-m,H2O,10\n"
-    with forms_store.session(write=True) as session:
-        summary = import_efficiencies(session, _rows(again), source="e2.csv")
-    assert summary.details["replaced"] == 1
+    with forms_store.session(write=True) as session, pytest.raises(ImportValidationError) as e:
+        import_efficiencies(session, _rows(again), source="e2.csv")
+    assert e.value.problems == [
+        "e2.csv:2: species: the efficiency of H2O in 'h-o2-m' is already in the store (12.0); "
+        "an import that updates changes it"
+    ]
     with forms_store.session() as session:
         values = {(r.reaction_key, r.species): r.efficiency for r in list_efficiencies(session)}
-        entry = history(session, target="e2.csv")[0]
+    assert values[("h-o2-m", "H2O")] == 12.0
+
+
+def test_an_update_replaces_a_changed_pair_and_the_history_keeps_the_old_value(forms_store):
+    with forms_store.session(write=True) as session:
+        import_efficiencies(session, _rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
+    again = (
+        "reaction,species,efficiency,source\n"
+        "h-o2-m,H2O,10,synthetic\nh-o2-m,Ar,0.5,synthetic\nh-o2-m,N2,1.5,synthetic\n"
+    )
+    with forms_store.session(write=True) as session:
+        summary = import_efficiencies(session, _rows(again), source="e2.csv", update=True)
+    assert (summary.added, summary.changed, summary.unchanged) == (1, 1, 1)
+    with forms_store.session() as session:
+        values = {(r.reaction_key, r.species): r.efficiency for r in list_efficiencies(session)}
+        entry = history(session, target="h-o2-m")[0]
     assert values[("h-o2-m", "H2O")] == 10.0
-    assert entry.action == "efficiencies.import"
-    assert entry.detail["changes"][0]["before"] == 12.0
+    assert values[("h-o2-m", "N2")] == 1.5
+    assert entry.action == "efficiency.update"
+    assert entry.detail["changed"] == ["species H2O", "efficiency: 12 -> 10"]
 
 
 @pytest.mark.parametrize(
