@@ -480,7 +480,7 @@ def data_show(
     systematic uncertainty; its points (T, k in the unit it was given in and in the preset's,
     uncertainty, pressure); the fits that used it; whether anything in it is withdrawn.
 
-    Example: ratebank data show s1 --preset atmospheric
+    Example: ratebank data show s1 --units atmospheric
     """
     with opened_store() as store:
         detail = store.measurement_set(name)

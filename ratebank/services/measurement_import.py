@@ -34,7 +34,7 @@ from ratebank.store.records import (
     measurement_set_names,
     suspend_point_index,
 )
-from ratebank.store.updates import StoredSet, stored_sets
+from ratebank.store.set_updates import StoredSet, stored_sets
 
 
 class MeasurementImporter:

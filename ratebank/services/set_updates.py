@@ -22,9 +22,15 @@ from sqlalchemy.orm import Session
 
 from ratebank.numbers import round_significant
 from ratebank.services.measurement_validation import MeasurementChunk, MeasurementSetRecord
-from ratebank.services.updates import UpdatePlan, change_text, differs, record_changes
+from ratebank.services.updates import (
+    UpdatePlan,
+    change_text,
+    differs,
+    record_changes,
+    short_number,
+)
 from ratebank.services.validate import BAR_PA
-from ratebank.store.updates import (
+from ratebank.store.set_updates import (
     SetPoints,
     StoredSet,
     fits_using_sets,
@@ -155,7 +161,7 @@ def _point_changes(old: SetPoints, new: SetPoints, record: MeasurementSetRecord)
         texts = []
         for label, before, after, factor, unit in columns:
             for i in np.flatnonzero(~_same(before, after)).tolist():
-                T = f"{round_significant(float(old.temperature[i])):.15g}"
+                T = short_number(round_significant(float(old.temperature[i])))
                 texts.append(change_text(f"{label} at {T} K", before[i], after[i], factor, unit))
         if len(texts) > _POINTS_SHOWN:
             return [*texts[:_POINTS_SHOWN], f"and {len(texts) - _POINTS_SHOWN} more point changes"]
@@ -168,7 +174,7 @@ def _described(points: SetPoints) -> str:
         return "none"
     low = round_significant(float(points.temperature.min()))
     high = round_significant(float(points.temperature.max()))
-    return f"{points.size} ({low:.15g}-{high:.15g} K)"
+    return f"{points.size} ({short_number(low)}-{short_number(high)} K)"
 
 
 def write_set_updates(session: Session, plan: SetPlan, source: str) -> None:

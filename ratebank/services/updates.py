@@ -30,7 +30,20 @@ def shown_value(value: Any, factor: float | None) -> str:
         return "empty"
     if factor is None or isinstance(value, str):
         return repr(value) if isinstance(value, str) else str(value)
-    return f"{round_significant(float(value) / factor):.15g}"
+    return short_number(round_significant(float(value) / factor))
+
+
+def short_number(value: float) -> str:
+    """A number as briefly as it reads back exactly, with an exponent outside 1e-4 to 1e6.
+
+    >>> short_number(2e13), short_number(1.5e-13), short_number(987.0), short_number(14.5)
+    ('2e+13', '1.5e-13', '987', '14.5')
+    """
+    text = repr(value)
+    if value != 0 and ("e" in text or not 1e-4 <= abs(value) < 1e6):
+        mantissa, exponent = f"{value:.14e}".split("e")
+        return f"{mantissa.rstrip('0').rstrip('.')}e{exponent}"
+    return text.removesuffix(".0")
 
 
 def change_text(label: str, before: Any, after: Any, factor: float | None, unit: str) -> str:

@@ -15,7 +15,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import NotFoundError
 from ratebank.store.models import Expression, MeasurementSet, Point, Reaction
-from ratebank.store.updates import SetPoints, fits_using_sets, set_points
+from ratebank.store.set_updates import SetPoints, fits_using_sets, set_points
 
 
 @dataclass(frozen=True)
