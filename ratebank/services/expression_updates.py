@@ -188,4 +188,6 @@ def write_expression_updates(session: Session, plan: ExpressionPlan, source: str
                 "fields": sorted(values) + (["terms"] if terms is not None else []),
             },
         }
-        update_expression_numbers(session, stored.id, values, terms, provenance)
+        update_expression_numbers(
+            session, stored.id, values, terms, provenance, version_read=stored.version
+        )

@@ -19,7 +19,9 @@ from typing import Any
 from sqlalchemy import delete, select, update
 from sqlalchemy.orm import Session
 
+from ratebank.errors import StaleEditError
 from ratebank.store.bulk import insert_rows
+from ratebank.store.engine import concurrent_edit_message
 from ratebank.store.expressions import _TERM_COLUMNS, ExpressionRecord, _form_columns
 from ratebank.store.models import (
     Expression,
@@ -274,13 +276,26 @@ def update_expression_numbers(
     values: Mapping[str, Any],
     terms: Sequence[TermValues] | None,
     provenance: Mapping[str, Any],
+    *,
+    version_read: int,
 ) -> int:
     """Write changed numbers (:data:`EXPRESSION_FIELDS`) and, when given, the further terms of
     a sum onto a stored expression; its version rises by one (the optimistic lock). Return
-    the new version."""
-    expression = session.get(Expression, expression_id, with_for_update=True)
-    if expression is None:
-        raise LookupError(expression_id)
+    the new version. An expression changed or removed since ``version_read`` was read is
+    refused (StaleEditError); the caller's transaction then writes nothing."""
+    expression = session.get(
+        Expression, expression_id, with_for_update=True, populate_existing=True
+    )
+    if expression is None or expression.version != version_read:
+        raise StaleEditError(
+            concurrent_edit_message(
+                f"expression {expression_id}",
+                version_read,
+                expression.version if expression else None,
+                (expression.updated_by or expression.created_by) if expression else None,
+                (expression.updated_at or expression.created_at) if expression else None,
+            )
+        )
     for name, value in values.items():
         if name not in EXPRESSION_FIELDS:
             raise ValueError(f"unknown expression field {name!r}")

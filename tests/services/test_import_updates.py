@@ -6,7 +6,14 @@ from __future__ import annotations
 
 import pytest
 from helpers.cli import snapshot, write
-from helpers.data import MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+from helpers.data import (
+    FORMS_EXPRESSIONS_CSV,
+    FORMS_REACTIONS_CSV,
+    FORMS_SPECIES_CSV,
+    MEASUREMENTS_CSV,
+    REACTIONS_CSV,
+    SPECIES_CSV,
+)
 
 import ratebank
 from ratebank.errors import ImportValidationError
@@ -169,3 +176,25 @@ def test_an_identical_set_file_changes_nothing(store, tmp_path, db_url):
     summary = store.import_measurements(points, update=True)
     assert (summary.added, summary.changed, summary.unchanged) == (0, 0, 2)
     assert snapshot(db_url) == before
+
+
+def test_a_sum_term_and_a_broadening_parameter_update_their_expression(store, tmp_path):
+    store.import_species(write(tmp_path / "forms_species.csv", FORMS_SPECIES_CSV))
+    store.import_reactions(write(tmp_path / "forms_reactions.csv", FORMS_REACTIONS_CSV))
+    store.import_expressions(write(tmp_path / "forms.csv", FORMS_EXPRESSIONS_CSV))
+    changed = FORMS_EXPRESSIONS_CSV.replace("2.0e-12,0,1500", "2.2e-12,0,1500").replace(
+        "fixed-fc,0.6", "fixed-fc,0.65"
+    )
+    summary = store.import_expressions(write(tmp_path / "f2.csv", changed), update=True)
+    assert (summary.added, summary.changed, summary.unchanged) == (0, 2, 2)
+    by_key = {e.reaction_key: e for e in store.expressions()}
+    # term 2 of the sum: 2.2e-12 cm3/molecule/s in SI (times N_A / 1e6, 2019 SI value)
+    assert by_key["oh-co"].terms[0][1] == pytest.approx(2.2e-12 * 6.02214076e17, rel=1e-15)
+    assert by_key["c2h5-m"].broadening["Fc"] == 0.65
+    assert (by_key["oh-co"].version, by_key["c2h5-m"].version, by_key["h-o2-m"].version) == (
+        2,
+        2,
+        1,
+    )
+    texts = sorted(h.detail["changed"][1] for h in store.history(limit=2))
+    assert texts == ["Fc: 0.6 -> 0.65", "term 2 A: 2e-12 -> 2.2e-12 cm3/molecule/s"]
