@@ -34,8 +34,8 @@ from ratebank.store.set_updates import (
     SetPoints,
     StoredSet,
     fits_using_sets,
+    points_of_sets,
     replace_set_points,
-    set_points,
     update_set,
 )
 
@@ -95,13 +95,14 @@ def set_plan(
     """Compare each stored set of the file (``records``, with their validator index in
     ``given``) with the stored one."""
     plan = SetPlan()
+    stored_points = points_of_sets(session, [s.id for s in stored.values()])
     for index, record in enumerate(records):
         if not record.stored:
             continue
         before = stored[record.name]
         new_points = given.of(index)
         values, texts = _metadata_changes(record, before)
-        old_points = set_points(session, before.id)
+        old_points = stored_points[before.id]
         texts.extend(_point_changes(old_points, new_points, record))
         if texts:
             plan.changes.append((record.name, texts))

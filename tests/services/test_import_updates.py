@@ -198,3 +198,28 @@ def test_a_sum_term_and_a_broadening_parameter_update_their_expression(store, tm
     )
     texts = sorted(h.detail["changed"][1] for h in store.history(limit=2))
     assert texts == ["Fc: 0.6 -> 0.65", "term 2 A: 2e-12 -> 2.2e-12 cm3/molecule/s"]
+
+
+@pytest.mark.parametrize("chunk_rows", [1, 2, 100_000])
+def test_a_set_update_gives_the_same_verdict_whatever_the_chunk_size(
+    store, tmp_path, db_url, chunk_rows
+):
+    from ratebank.io.csv_import import import_measurements_file
+
+    store.import_measurements(write(tmp_path / "points.csv", MEASUREMENTS_CSV))
+    grown = (
+        MEASUREMENTS_CSV
+        + "s2,oh-ch4,1200,3.1e12,cm3/mol/s,3e11,absolute,test lab B,shock tube,1.5,Ar\n"
+    )
+    path = write(tmp_path / "grown.csv", grown)
+    with store.session(write=True) as session:
+        summary = import_measurements_file(session, path, update=True, chunk_rows=chunk_rows)
+    assert (summary.added, summary.changed, summary.unchanged) == (0, 1, 1)
+    entry = next(h for h in store.history(limit=3) if h.action == "set.update")
+    assert entry.detail["changed"] == ["points: 2 (800-1000 K) -> 3 (800-1200 K)"]
+    shown = store.measurement_set("s2")
+    assert shown.k_set_units.tolist() == pytest.approx([1.1e12, 2.2e12, 3.1e12], rel=1e-14)
+    assert store.measurement_set("s1").stored.points.size == 3
+    with store.session() as session:
+        again = import_measurements_file(session, path, update=True, chunk_rows=chunk_rows)
+    assert (again.added, again.changed, again.unchanged) == (0, 0, 2)
