@@ -223,3 +223,19 @@ def test_a_set_update_gives_the_same_verdict_whatever_the_chunk_size(
     with store.session() as session:
         again = import_measurements_file(session, path, update=True, chunk_rows=chunk_rows)
     assert (again.added, again.changed, again.unchanged) == (0, 0, 2)
+
+
+def test_a_reaction_without_data_takes_a_new_equation_and_its_participants(store, tmp_path):
+    moved = REACTIONS_CSV.replace("H2O2 -> OH + OH", "H2O2 -> HO2 + H")
+    summary = store.import_reactions(write(tmp_path / "r2.csv", moved), update=True)
+    assert (summary.added, summary.changed, summary.unchanged) == (0, 1, 3)
+    shown = store.reaction("h2o2-dec")
+    assert shown.equation == "H2O2 -> H + HO2"
+    assert sorted((p.role, p.species.name, p.coefficient) for p in shown.participants) == [
+        ("product", "H", 1),
+        ("product", "HO2", 1),
+        ("reactant", "H2O2", 1),
+    ]
+    assert store.history(limit=1)[0].detail["changed"] == [
+        "equation: 'H2O2 -> OH + OH' -> 'H2O2 -> H + HO2'"
+    ]
