@@ -990,6 +990,15 @@ def check_expression_header(source: str, header: Sequence[str]) -> None:
         problems.add(
             1, "key", "the reaction is named twice (reaction and key); keep one of the columns"
         )
+    if "key" not in header:
+        for column in MECHANISM_COLUMNS:
+            if column in header:
+                problems.add(
+                    1,
+                    column,
+                    "is a column of an exported mechanism table, which names its reaction in "
+                    "key; an expressions file with reaction does not read it",
+                )
     if "key" in header:
         for column in ("f298", "g_K", "dlogk298", "dE_R_K", "reference"):
             if column in header:

@@ -437,6 +437,10 @@ def test_a_table_naming_its_reaction_twice_is_one_clear_error(forms_store, tmp_p
         f"{bad}: 1 problem(s), nothing was imported",
         f"{bad}:1: key: the reaction is named twice (reaction and key); keep one of the columns",
     ]
+    plain = _write(tmp_path / "plain.csv", "reaction,Ea,references\noh-ch4,10,somewhere\n")
+    with ratebank.open(forms_store) as store, pytest.raises(RatebankError) as caught:
+        store.import_expressions(plain)
+    assert f"{plain}:1: references: is a column of an exported mechanism table" in str(caught.value)
     unknown = _write(tmp_path / "unknown.csv", text[0] + ",colour\n" + text[1] + ",red\n")
     with ratebank.open(forms_store) as store, pytest.raises(RatebankError) as caught:
         store.import_expressions(unknown)
