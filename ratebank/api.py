@@ -564,9 +564,10 @@ class Store:
         leave_out_gaps: bool = False,
         reverse_as_fit: bool = False,
     ) -> ExportResult:
-        """Write the mechanism table ``out`` (CSV) and its ``.resource.json`` descriptor, and
-        record the export in the history; an ExportResult (ExportGapsError when a reaction has
-        no usable expression, unless ``leave_out_gaps``)."""
+        """Write the data package folder ``out`` (``datapackage.json``, ``mechanism.csv``,
+        ``efficiencies.csv``, ``species.csv``) as one unit, and record the export in the
+        history; an ExportResult (ExportGapsError when a reaction has no usable expression,
+        unless ``leave_out_gaps``). :func:`ratebank.read_package` reads the folder back."""
         export = _module("io.export")
         with self._handle.session(write=True) as session:
             return export.export_mechanism(
@@ -868,6 +869,12 @@ def restore(
     """Copy the backup ``source`` into the empty store ``db`` (a new file, or a database
     after :func:`init`); a RestoreResult. A store that holds data is refused."""
     return _service("backup").restore_store(None if db is None else str(db), source, author=author)
+
+
+def read_package(path: str | Path) -> Any:
+    """Read an exported data package folder into an evaluator of k(T, P); a
+    :class:`ratebank.io.package.MechanismPackage` (see :func:`ratebank.read_package`)."""
+    return _module("io.package").read_package(path)
 
 
 def demo(

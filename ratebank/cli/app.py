@@ -38,7 +38,7 @@ from ratebank.report.thermo import species_thermo_record, species_thermo_table
 
 HELP = """Curate gas-phase rate parameters: store species, reactions and measured k(T);
 fit Arrhenius expressions; estimate missing A factors from collision theory; check
-and export a mechanism table.
+and export a mechanism as a data package.
 
 Example: ratebank --db group.db species list
 """

@@ -345,7 +345,9 @@ def recommend(
 
 @calls("export")
 def export(
-    out: Path = typer.Argument(..., help="Output CSV; the descriptor goes beside it."),
+    out: Path = typer.Argument(
+        ..., help="Output folder: a data package (datapackage.json, mechanism.csv, ...)."
+    ),
     preset: str = typer.Option(
         "combustion", "--preset", help="Units: combustion, atmospheric or si."
     ),
@@ -373,9 +375,10 @@ def export(
         "row (fitted to k_f / Kc over the row's range).",
     ),
 ) -> None:
-    """Write the mechanism table (CSV) and its descriptor (OUT.resource.json).
+    """Write the mechanism as a data package: the folder OUT holding datapackage.json,
+    mechanism.csv, efficiencies.csv and species.csv, written as one unit.
 
-    Example: ratebank export mechanism.csv --preset atmospheric
+    Example: ratebank export mechanism --preset atmospheric
     """
     with opened_store() as store:
         result = store.export(
@@ -390,9 +393,10 @@ def export(
         )
     left = result.table.left_out
     say(
-        f"Wrote {len(result.table.rows)} reactions to {result.table_path} and "
-        f"{result.descriptor_path}"
-        + (f"; left out {len(left)}: {', '.join(left[:10])}" if left else "")
+        f"Wrote {len({row.key for row in result.table.rows})} reactions to the data package "
+        f"{result.folder} "
+        f"({result.descriptor_path.name}, {result.table_path.name}, efficiencies.csv, "
+        "species.csv)" + (f"; left out {len(left)}: {', '.join(left[:10])}" if left else "")
     )
 
 

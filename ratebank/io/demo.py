@@ -146,7 +146,7 @@ def run_demo(db: Path, out: Path, *, author: str | None = None) -> DemoResult:
                 result.exports.append(
                     export_mechanism(
                         session,
-                        out / f"mechanism-{preset}.csv",
+                        out / f"mechanism-{preset}",
                         preset=preset,
                         leave_out_gaps=True,
                         store_label=store.display_url,

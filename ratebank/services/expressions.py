@@ -105,6 +105,12 @@ def _record(expression: ValidExpression, source: str) -> ExpressionRecord:
             "source_file": source,
             "line": expression.line,
             "given_units": expression.given_units,
+            # an exported fit or estimate of another store comes in as literature
+            **(
+                {"exported_origin": expression.exported_origin}
+                if expression.exported_origin
+                else {}
+            ),
         },
         form=expression.form,
         terms=expression.terms,

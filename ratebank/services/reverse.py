@@ -271,6 +271,8 @@ def _reverse_row(
     """The forward row's reverse as a modified-Arrhenius row, or why it cannot be written."""
     if inputs is None:
         return f"{row.key} (no thermochemistry)"
+    if row.form not in ("arrhenius", "third-body"):
+        return f"{row.key} (a {row.form} expression; only a one-term row's reverse is fitted)"
     if row.T_min_K is None or row.T_max_K is None:
         return f"{row.key} (its row states no valid range to fit the reverse over)"
     try:

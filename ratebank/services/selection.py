@@ -213,6 +213,10 @@ class ChosenRow(NamedTuple):
     reference: str | None
     steric_factor: float | None
     rule: str
+    #: the whole expression (its form, limits, broadening and further terms)
+    expression: ExpressionRow | None = None
+    #: whether the reaction is written with M (its plain form is then third-body)
+    third_body: bool = False
 
 
 def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
@@ -235,6 +239,8 @@ def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
             c.expression.reference,
             c.expression.provenance.get("steric_factor"),
             c.rule,
+            c.expression,
+            c.reaction.third_body,
         )
         for c in chosen
     ]

@@ -267,6 +267,12 @@ def species_by_id(session: Session, species_ids: Iterable[int]) -> dict[int, Spe
     return {row[0]: SpeciesRow(*row) for row in fetch_in(session, query, sorted(set(species_ids)))}
 
 
+def all_species(session: Session) -> list[SpeciesRow]:
+    """Every species, by name."""
+    query = select(*_SPECIES_COLUMNS).order_by(Species.name)
+    return [SpeciesRow(*row) for row in session.execute(query)]
+
+
 def species_by_name(session: Session, names: Iterable[str]) -> dict[str, SpeciesRow]:
     columns = ", ".join(column.name for column in _SPECIES_COLUMNS)
     query = f"SELECT {columns} FROM species WHERE name IN ({{marks}})"

@@ -343,9 +343,9 @@ def test_rows_written_at_the_first_revision_survive_the_upgrade(db_url, cli, tmp
     assert [s["points"] for s in shown["sets"]] == [12]
     assert {e["origin"] for e in shown["expressions"]} == {"literature", "manual"}
     assert cli(db_url, "fit", "oh-ch4").exit_code == 0
-    exported = cli(db_url, "export", str(tmp_path / "m.csv"))
+    exported = cli(db_url, "export", str(tmp_path / "m"))
     assert exported.exit_code == 0, exported.stderr
-    assert "oh-ch4" in (tmp_path / "m.csv").read_text(encoding="utf-8")
+    assert "oh-ch4" in (tmp_path / "m" / "mechanism.csv").read_text(encoding="utf-8")
     # new rows get fresh ids after the explicitly numbered old ones
     assert cli(db_url, "species", "add", "O2", "O2").exit_code == 0
     assert cli(db_url, "species", "show", "O2").exit_code == 0
@@ -383,7 +383,7 @@ NEWER_COMMANDS = [
 
 def test_a_store_from_a_newer_ratebank_is_refused_and_unchanged(newer_store, cli, tmp_path):
     species_csv = write(tmp_path / "s.csv", "name,formula\nO3,O3\n")
-    names = {"species_csv": str(species_csv), "out": str(tmp_path / "m.csv")}
+    names = {"species_csv": str(species_csv), "out": str(tmp_path / "m")}
     names["backup"] = str(tmp_path / "b.db")
     engine = create_store_engine(database_url(newer_store))
     try:
