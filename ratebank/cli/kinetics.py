@@ -207,7 +207,10 @@ def check(
     Checks: above-collision-limit, steric-above-one, collinear-fit, extrapolation
     (with --t-range), estimated-diameter, nothing-usable; with thermochemistry:
     ea-below-reaction-enthalpy, reverse-above-collision-limit, directions-disagree,
-    reverse-without-thermochemistry, thermo-midpoint-jump.
+    reverse-without-thermochemistry, thermo-midpoint-jump; of the rate-law forms:
+    falloff-not-monotonic, fc-out-of-range, troe-temperature-not-positive,
+    sum-ranges-inconsistent, efficiency-unknown-species, efficiency-unused. The note
+    no-efficiencies (a reaction with M stating none) is listed but fails nothing.
 
     Example: ratebank check --t-range 300 2000
     """

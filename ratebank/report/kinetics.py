@@ -366,6 +366,7 @@ def check_records(report: CheckReport) -> dict[str, Any]:
             }
             for f in report.flags
         ],
+        "notes": [{"key": n.key, "code": n.code, "message": n.message} for n in report.notes],
     }
 
 
@@ -382,6 +383,8 @@ def check_table(report: CheckReport) -> Table:
         table.add_row(f.key, f.code, f.message)
     for u in report.unchecked:
         table.add_row(u.key, "unchecked", u.reason)
+    for n in report.notes:
+        table.add_row(n.key, f"note: {n.code}", n.message)
     return table
 
 
