@@ -394,3 +394,27 @@ def test_an_activated_channel_that_rises_with_pressure_is_flagged():
     assert (
         finding.code == "falloff-not-monotonic" and "rises as the pressure rises" in finding.message
     )
+
+
+def test_an_efficiency_left_by_a_deleted_species_is_read_and_flagged(filled):
+    """A SQLite store written with foreign keys off keeps an efficiency whose species row is
+    gone; the check reads it (the plain join would hide it) and names the species id."""
+    import sqlite3
+    from pathlib import Path
+
+    if not Path(filled).exists():
+        pytest.skip("written by hand with SQLite's foreign keys off")
+    connection = sqlite3.connect(filled)
+    try:
+        connection.execute("PRAGMA foreign_keys = OFF")
+        connection.execute(
+            "INSERT INTO third_body_efficiency (reaction_id, species_id, efficiency, updated_at) "
+            "SELECT id, 9999, 3.0, CURRENT_TIMESTAMP FROM reaction WHERE key = 'h-o2-m'"
+        )
+        connection.commit()
+    finally:
+        connection.close()
+    report = _check(filled, keys=["h-o2-m"])
+    (flag,) = [f for f in report.flags if f.code == "efficiency-unknown-species"]
+    assert "species id 9999" in flag.message and flag.value == 3.0
+    assert report.notes == []  # an efficiency is stated, so no note
