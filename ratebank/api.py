@@ -46,6 +46,7 @@ if TYPE_CHECKING:
     from ratebank.services.expressions import ExpressionEdit
     from ratebank.services.falloff_fit import PressureFitReport
     from ratebank.services.fitting import FitReport
+    from ratebank.services.low_pressure import LowPressureReport
     from ratebank.services.mechanism import MechanismTable
     from ratebank.services.overview import ReactionOverview
     from ratebank.services.plot_data import ReactionPlotData, StericPlotData
@@ -465,14 +466,64 @@ class Store:
         T_range: tuple[float, float] | None = None,
         keep_going: bool = False,
         progress: Progress | None = None,
-    ) -> EstimateReport:
+        low_pressure: bool = False,
+        oscillators: float | None = None,
+        collision_efficiency: float | None = None,
+        bath: str | None = None,
+        threshold_energy: float | None = None,
+        threshold_units: str | None = None,
+    ) -> EstimateReport | LowPressureReport:
         """Fill missing A factors from collision theory times a steric factor; an
         EstimateReport (RefusedEstimateError when some cannot be estimated, unless
-        ``keep_going``).
+        ``keep_going``). k_inf of an association's falloff expression whose A is empty
+        is estimated the same way, keeping its k0 and broadening.
 
         ``T_ref`` [K] is where the activation energies hold; without it, the middle of
         each activation energy's stated range.
+
+        With ``low_pressure``, k0 of each named decomposition written with M from
+        Hinshelwood's strong-collision formula instead (order-of-magnitude guidance,
+        uncertainty factor 10 unless ``uncertainty_factor``): ``oscillators`` s,
+        ``collision_efficiency`` beta_c in (0, 1], ``bath`` the bath-gas species, and
+        ``threshold_energy`` in ``threshold_units`` (default J/mol; default: the stored
+        activation energy) over
+        ``T_range`` (default: that activation energy's range); a LowPressureReport.
         """
+        hinshelwood = {
+            "oscillators": oscillators,
+            "collision_efficiency": collision_efficiency,
+            "bath": bath,
+            "threshold_energy": threshold_energy,
+        }
+        stray = [name for name, value in hinshelwood.items() if value is not None]
+        if stray and not low_pressure:
+            raise BadInputError(
+                f"{', '.join(stray)} only apply to a low-pressure estimate (low_pressure)",
+                argument=stray[0],
+            )
+        if low_pressure:
+            ignored = {
+                "steric": steric,
+                "T_ref": T_ref,
+                "reaction_class": reaction_class,
+                "fallback_steric": fallback_steric,
+                "keep_going": keep_going or None,
+            }
+            given = [name for name, value in ignored.items() if value is not None]
+            if collision != "hard-sphere":
+                given.append("collision")
+            if given:
+                raise BadInputError(
+                    f"{', '.join(given)} do not apply to a low-pressure estimate",
+                    argument=given[0],
+                )
+            return self._write(
+                "low_pressure", "estimate_low_pressure", _keys(keys),
+                oscillators=oscillators, collision_efficiency=collision_efficiency, bath=bath,
+                threshold_energy=threshold_energy, threshold_units=threshold_units,
+                T_range=T_range,
+                uncertainty_factor=uncertainty_factor,
+            )  # fmt: skip
         return self._write(
             "estimation", "estimate", _keys(keys),
             steric=steric, T_ref=T_ref, collision=collision, reaction_class=reaction_class,
