@@ -17,7 +17,6 @@ from pathlib import Path
 import numpy as np
 import pytest
 from scipy.constants import Avogadro as N_A
-from scipy.constants import R
 from scipy.constants import k as K_B
 
 import ratebank
@@ -225,30 +224,21 @@ def test_each_limit_has_the_unit_of_its_own_order(forms_store, tmp_path, preset)
 # --------------------------------------------------------------------------- the evaluator
 
 
-def _store_k(db: str, T: np.ndarray, P_bar: float | None, mixture, units):  # type: ignore[no-untyped-def]
-    """k of every reaction from the store's chosen expression (services.selection.rate_at,
-    the evaluation ``rate`` uses), with [M]_eff computed here: P/(R T) sum eps_i x_i."""
-    from ratebank.science.units import rate_from_si
-    from ratebank.services.selection import chosen_expressions, rate_at
-    from ratebank.store.efficiencies import efficiencies_by_reaction
-    from ratebank.store.expressions import form_of
-
-    found = {}
-    with ratebank.open(db) as store, store.session() as session:
-        chosen, _ = chosen_expressions(session)
-        efficiencies = efficiencies_by_reaction(session)
-        for c in chosen:
-            form = form_of(c.expression.form, c.reaction.third_body)
-            M = None
-            order = c.reaction.order
-            if P_bar is not None and (c.reaction.third_body or form == "activated"):
-                eps = efficiencies.get(c.reaction.id, {})
-                weight = sum(eps.get(name, 1.0) * x for name, x in mixture.items())
-                M = P_bar * 1e5 / (R * T) * weight
-                order = order - 1 if c.reaction.third_body else order
-            k = rate_at(c.expression, c.reaction.third_body, T, M=M).k
-            found[c.reaction.key] = rate_from_si(k, units[order], order)
-    return found
+def _store_k(db: str, T: np.ndarray, P_bar: float, units):  # type: ignore[no-untyped-def]
+    """k of every reaction from ``ratebank rate`` (the library's Store.rate) at P_bar of
+    MIXTURE, in the unit the package names for it."""
+    with ratebank.open(db) as store:
+        return {
+            key: np.array(
+                [
+                    row.k
+                    for row in store.rate(
+                        key, T.tolist(), k_units=units[key], pressure=P_bar, mixture=MIXTURE
+                    ).rows
+                ]
+            )
+            for key in FORM_OF
+        }
 
 
 @pytest.mark.parametrize("preset", ["combustion", "atmospheric"])
@@ -261,7 +251,7 @@ def test_the_evaluator_agrees_with_the_store_for_every_form(forms_store, tmp_pat
     mixture = {"N2": 0.7, "O2": 0.2, "H2O": 0.1}
     for P in PRESSURES_BAR:
         got = package.rate_constants(TEMPERATURES, P=P, mixture=MIXTURE)
-        want = _store_k(forms_store, TEMPERATURES, P, mixture, units)
+        want = _store_k(forms_store, TEMPERATURES, P, package.k_units(pressure=True))
         assert set(got) == set(FORM_OF)
         for key in FORM_OF:
             np.testing.assert_allclose(got[key], want[key], rtol=1e-12, err_msg=key)
