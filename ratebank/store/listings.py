@@ -28,7 +28,7 @@ from ratebank.store.models import (
     Reaction,
     Species,
 )
-from ratebank.store.queries import find_reaction, find_species
+from ratebank.store.queries import FORM_COLUMNS, find_reaction, find_species
 
 # --------------------------------------------------------------------------- rows
 
@@ -413,17 +413,7 @@ _EXPRESSION_COLUMNS = (
     Expression.provenance,
     Expression.version,
     Reaction.third_body,
-    Expression.form,
-    Expression.A_low,
-    Expression.n_low,
-    Expression.Ea_low,
-    Expression.broadening,
-    Expression.Fc,
-    Expression.N,
-    Expression.troe_alpha,
-    Expression.troe_T3,
-    Expression.troe_T1,
-    Expression.troe_T2,
+    *FORM_COLUMNS,
 )
 _BROADENING_FIELDS = ("Fc", "N", "alpha", "T3", "T1", "T2")
 

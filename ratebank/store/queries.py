@@ -157,6 +157,21 @@ class TermRow(NamedTuple):
     T_max: float | None
 
 
+#: The columns of an expression's rate-law form (besides A, n, Ea and the range).
+FORM_COLUMNS = (
+    Expression.form,
+    Expression.A_low,
+    Expression.n_low,
+    Expression.Ea_low,
+    Expression.broadening,
+    Expression.Fc,
+    Expression.N,
+    Expression.troe_alpha,
+    Expression.troe_T3,
+    Expression.troe_T1,
+    Expression.troe_T2,
+)
+
 _EXPRESSION_COLUMNS = (
     Expression.id,
     Expression.reaction_id,
@@ -176,17 +191,7 @@ _EXPRESSION_COLUMNS = (
     Expression.created_by,
     Expression.updated_at,
     Expression.updated_by,
-    Expression.form,
-    Expression.A_low,
-    Expression.n_low,
-    Expression.Ea_low,
-    Expression.broadening,
-    Expression.Fc,
-    Expression.N,
-    Expression.troe_alpha,
-    Expression.troe_T3,
-    Expression.troe_T1,
-    Expression.troe_T2,
+    *FORM_COLUMNS,
 )
 
 
