@@ -466,9 +466,24 @@ def history_records(rows: Sequence[HistoryEntry]) -> list[dict[str, Any]]:
     ]
 
 
+def _change_text(changed: dict[str, Any]) -> str:
+    """``A 1e-12 -> 2e-12 cm3/molecule/s`` for each field of an edit."""
+    parts = []
+    for name, change in changed.items():
+        if not isinstance(change, dict):
+            parts.append(f"{name} {change}")
+            continue
+        unit = f" {change['unit']}" if change.get("unit") else ""
+        parts.append(f"{name} {change.get('before')} -> {change.get('after')}{unit}")
+    return ", ".join(parts)
+
+
 def _detail_text(detail: dict[str, Any]) -> str:
     parts = []
     for key, value in detail.items():
+        if key == "changed" and isinstance(value, dict):
+            parts.append(_change_text(value))
+            continue
         if isinstance(value, list):
             shown = ", ".join(str(v) for v in value[:5])
             value = shown + (", ..." if len(value) > 5 else "")
@@ -478,10 +493,10 @@ def _detail_text(detail: dict[str, Any]) -> str:
 
 def history_table(rows: Sequence[HistoryEntry], title: str = "History") -> Table:
     table = ReportTable(title=f"{title} ({len(rows)}, newest first)")
-    for header in ("when (UTC)", "who", "what", "target", "detail"):
+    for header in ("when", "who", "what", "target", "detail"):
         table.add_column(header, overflow="fold")
     for h in rows:
-        when = h.at.strftime("%Y-%m-%d %H:%M:%S") if h.at else ""
+        when = h.at.strftime("%Y-%m-%d %H:%M:%S %Z") if h.at else ""
         table.add_row(when, h.author, h.action, h.target or "", _detail_text(h.detail))
     return table
 
