@@ -182,6 +182,7 @@ def reaction_records(rows: Sequence[ReactionSummary]) -> list[dict[str, Any]]:
             "points": r.points,
             "expressions": r.expressions,
             "status": r.status,
+            "withdrawn": r.withdrawn,
         }
         for r in rows
     ]
@@ -195,7 +196,7 @@ def reactions_table(rows: Sequence[ReactionSummary]) -> Table:
         table.add_column(header, overflow="fold")
     for r in rows:
         table.add_row(
-            r.key,
+            r.key + (" (withdrawn)" if r.withdrawn else ""),
             r.equation,
             str(r.order),
             r.reaction_class or "",
@@ -222,6 +223,7 @@ def set_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
             "T_min_K": s.T_min,
             "T_max_K": s.T_max,
             "k_units_given": s.k_units,
+            "withdrawn": s.withdrawn,
         }
         for s in rows
     ]
@@ -233,7 +235,7 @@ def sets_table(rows: Sequence[SetSummary]) -> Table:
         table.add_column(header, overflow="fold")
     for s in rows:
         table.add_row(
-            s.name,
+            s.name + (" (withdrawn)" if s.withdrawn else ""),
             s.reaction_key,
             str(s.points),
             trange(s.T_min, s.T_max),
@@ -284,6 +286,7 @@ def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[d
             "created_at": e.created_at.isoformat() if e.created_at else None,
             "created_by": e.created_by,
             "provenance": e.provenance,
+            "withdrawn": e.withdrawn,
         }
         if e.low is not None:
             low_units, _ = _display_units(e.reaction_order, preset)
@@ -352,7 +355,9 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
         table.add_column(header, overflow="fold")
     for r in records:
         table.add_row(
-            str(r["id"]) + (" ★" if r["recommended"] else ""),
+            str(r["id"])
+            + (" ★" if r["recommended"] else "")
+            + (" (withdrawn)" if r["withdrawn"] else ""),
             r["reaction"],
             r["origin"],
             _form_text(r),
