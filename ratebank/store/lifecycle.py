@@ -168,9 +168,9 @@ def check_version(session: Session, record: StoredRecord, expected: int | None) 
 def stale_error(session: Session, record: StoredRecord, version_read: int) -> StaleEditError:
     """The refusal of a write based on ``version_read``: a version that never existed, or who
     changed it since and when (from the history)."""
-    if version_read > record.version or version_read < 1:
+    if version_read > record.version:
         return StaleEditError(
-            f"version {version_read} of {record.label} never existed; it is at version "
+            f"version {version_read} never existed; {record.label} is at version "
             f"{record.version}; nothing was written"
         )
     last = session.execute(

@@ -391,9 +391,9 @@ def stale_edit_error(
                 current.updated_at or current.created_at,
             )
         )
-    if version_read > current.version or version_read < 1:
+    if version_read > current.version:
         return StaleEditError(
-            f"version {version_read} of {label} never existed; it is at version "
+            f"version {version_read} never existed; {label} is at version "
             f"{current.version}; nothing was written"
         )
     return StaleEditError(

@@ -83,7 +83,7 @@ def test_species_edit_in_the_units_typed_then_a_stale_edit_is_refused(filled):
     line = _refused(filled, "species", "edit", "OH", "--diameter", "3.0", "--expect-version", "1")
     assert "species 'OH' was changed by" in line and "you read version 1" in line
     line = _refused(filled, "species", "edit", "OH", "--diameter", "3.0", "--expect-version", "7")
-    assert "version 7 of species 'OH' never existed; it is at version 2" in line
+    assert "version 7 never existed; species 'OH' is at version 2" in line
     # the history table shows the change with its unit and the time with its zone
     table = run(filled, "history", "--target", "OH").stdout
     assert "diameter 3.147 -> 2.75 Angstrom" in table
@@ -197,7 +197,7 @@ def test_expression_edit_history_in_units_and_a_version_that_never_existed(fille
     change = _history(filled, "oh-ch4")[0]["detail"]["changed"]["A"]
     assert change == {"before": 1.85e-20, "after": 2e-20, "unit": "cm3/molecule/s"}
     line = _refused(filled, "expressions", "edit", expression, "--n", "2", "--expect-version", "7")
-    assert f"version 7 of expression {expression} never existed; it is at version 2" in line
+    assert f"version 7 never existed; expression {expression} is at version 2" in line
 
 
 def test_recommend_of_the_recommended_expression_writes_nothing(filled):
