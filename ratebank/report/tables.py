@@ -67,6 +67,7 @@ def species_records(rows: Sequence[SpeciesSummary]) -> list[dict[str, Any]]:
             "polarizability_angstrom3": _opt(s.polarizability, ANGSTROM_PER_M**3),
             "ionization_energy_eV": _opt(s.ionization_energy, 1.0 / ELECTRONVOLT_MOLAR),
             "source": s.source,
+            "withdrawn": s.withdrawn_reason,
         }
         for s in rows
     ]
@@ -95,7 +96,7 @@ def species_table(rows: Sequence[SpeciesSummary]) -> Table:
             if s.diameter_is_estimated:
                 diameter_note += f" (estimated: {s.diameter_method})"
         table.add_row(
-            s.name,
+            s.name + (" (withdrawn)" if s.withdrawn_reason else ""),
             s.formula,
             sig(s.molar_mass * G_PER_KG) + ("" if s.molar_mass_source == "given" else "*"),
             sig(_opt(s.diameter, ANGSTROM_PER_M)),

@@ -54,6 +54,8 @@ class SpeciesSummary:
     boiling_temperature: float | None  # K
     polarizability: float | None  # m3
     ionization_energy: float | None  # J/mol
+    #: why it was withdrawn; None while it is in use
+    withdrawn_reason: str | None = None
 
     @property
     def diameter_is_estimated(self) -> bool:
@@ -205,7 +207,9 @@ def species_detail(session: Session, name: str) -> SpeciesDetail:
         .where(Participant.species_id == species.id)
         .order_by(Reaction.key)
     ).all()
-    summary = SpeciesSummary(*(getattr(species, name) for name in _SPECIES_FIELDS))
+    summary = SpeciesSummary(
+        *session.execute(select(*_SPECIES_COLUMNS).where(Species.id == species.id)).one()
+    )
     return SpeciesDetail(summary, [tuple(r) for r in reactions])
 
 

@@ -272,7 +272,9 @@ def test_a_species_is_withdrawn_only_after_its_reactions(filled):
         assert run(filled, "withdraw", "reaction", key, "--reason", "not needed").exit_code == 0
     assert run(filled, "withdraw", "species", "H2O2", "--reason", "not needed").exit_code == 0
     assert "H2O2" not in run(filled, "species", "list").stdout
-    assert "H2O2" in run(filled, "species", "list", "--include-withdrawn").stdout
+    assert "H2O2 (withdrawn)" in run(filled, "species", "list", "--include-withdrawn").stdout
+    listed = json.loads(run(filled, "species", "list", "--include-withdrawn", "--json").stdout)
+    assert {s["name"]: s["withdrawn"] for s in listed}["H2O2"] == "not needed"
     line = _refused(filled, "reinstate", "reaction", "h2o2-dec")
     assert "involves withdrawn species (H2O2); reinstate them first" in line
     # the withdrawn reaction is not exported, nor checked
