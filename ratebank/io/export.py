@@ -583,7 +583,7 @@ def export_mechanism(
     audit.record(
         session,
         "export",
-        str(out),
+        str(out.absolute()),
         rows=len(table.rows),
         left_out=len(table.left_out),
         units=units.label,
