@@ -7,10 +7,16 @@ Open a store and work with it from Python::
     with ratebank.open("group.db") as store:
         store.fit(form="auto")
         report = store.rate("oh-ch4", [298.0, 1000.0], k_units="cm3/molecule/s")
+        store.export("mechanism")                     # a data package folder
+
+    package = ratebank.read_package("mechanism")      # no store needed to read it back
+    k = package.rate_constants([300.0, 1000.0], P=1.0, mixture="N2:0.79,O2:0.21")
 
 :func:`open` gives a :class:`ratebank.api.Store` whose methods mirror the
 commands of the ``ratebank`` command line; :func:`init` creates or upgrades
-a store. The package is layered (each layer imports only those below it)::
+a store; :func:`read_package` reads an exported data package into an
+evaluator of k(T, P) for a modeller's own code. The package is layered (each
+layer imports only those below it)::
 
     cli -> api -> report -> io -> services -> store -> science
 
@@ -26,11 +32,12 @@ if TYPE_CHECKING:
     from pathlib import Path
 
     from ratebank.api import Store
+    from ratebank.io.package import MechanismPackage
     from ratebank.store.schema import InitResult
 
 __version__ = "0.1.0"
 
-__all__ = ["Store", "__version__", "init", "open"]
+__all__ = ["Store", "__version__", "init", "open", "read_package"]
 
 # The front door imports ratebank.api (and with it SQLAlchemy) only when it is used: `import
 # ratebank` stays cheap for `ratebank.science` users and for the command line's start-up,
@@ -56,6 +63,16 @@ def init(db: str | Path | None = None, *, author: str | None = None) -> tuple[St
     from ratebank import api
 
     return api.init(db, author=author)
+
+
+def read_package(path: str | Path) -> MechanismPackage:
+    """Read the data package folder ``path`` written by ``ratebank export``; a
+    :class:`ratebank.io.package.MechanismPackage` whose ``rate_constants(T, P=None,
+    mixture=None)`` gives {reaction key: k array} in the package's units (P in bar;
+    ``pressure_unit`` for others). No store is opened."""
+    from ratebank.io.package import read_package as read
+
+    return read(path)
 
 
 def __getattr__(name: str) -> Any:

@@ -339,14 +339,15 @@ def test_recommend_changes_what_rate_and_export_use(filled, tmp_path):
 
 
 def test_export_writes_the_table_or_names_the_gaps(filled, tmp_path):
-    out = tmp_path / "mechanism.csv"
+    out = tmp_path / "mechanism"
     with pytest.raises(ExportGapsError) as caught:
         filled.export(out)
     assert caught.value.gaps == ["h-o2-m", "ho2-ho2"]
     assert not out.exists()
     result = filled.export(out, preset="atmospheric", leave_out_gaps=True)
-    assert result.table_path == out
-    with out.open(encoding="utf-8") as handle:
+    assert (result.folder, result.table_path) == (out, out / "mechanism.csv")
+    assert result.descriptor_path == out / "datapackage.json"
+    with result.table_path.open(encoding="utf-8") as handle:
         rows = list(csv.DictReader(handle))
     assert [r["key"] for r in rows] == ["h2o2-dec", "oh-ch4"]
     assert {r["k_units"] for r in rows} == {"s-1", "cm3/molecule/s"}
@@ -511,10 +512,11 @@ def test_backup_and_restore(sqlite_url, files, tmp_path):
 def test_demo_builds_its_store(tmp_path):
     result = api.demo(tmp_path / "demo.db", tmp_path / "out")
     assert result.counts["reactions"] > 0
-    assert [e.table_path.name for e in result.exports] == [
-        "mechanism-combustion.csv",
-        "mechanism-atmospheric.csv",
+    assert [e.folder.name for e in result.exports] == [
+        "mechanism-combustion",
+        "mechanism-atmospheric",
     ]
+    assert all(e.table_path == e.folder / "mechanism.csv" for e in result.exports)
     with ratebank.open(tmp_path / "demo.db") as demo_store:
         assert len(demo_store.reactions()) == result.counts["reactions"]
 
@@ -525,6 +527,27 @@ def test_demo_builds_its_store(tmp_path):
 def _readme_example() -> str:
     section = README.read_text(encoding="utf-8").split("### From Python\n", 1)[1]
     return section.split("```python\n", 1)[1].split("```", 1)[0]
+
+
+def _readme_block(title: str) -> str:
+    section = README.read_text(encoding="utf-8").split(f"### {title}\n", 1)[1]
+    return section.split("```python\n", 1)[1].split("```", 1)[0]
+
+
+def test_the_readme_reading_example_runs_on_the_export_of_the_first(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    exec(compile(_readme_example(), "README.md", "exec"), {"__name__": "readme_example"})
+    capsys.readouterr()
+    reading = _readme_block("Reading an export back")
+    assert len([line for line in reading.splitlines() if line.strip()]) == 5
+    namespace: dict[str, object] = {"__name__": "readme_reading"}
+    exec(compile(reading, "README.md", "exec"), namespace)
+    assert capsys.readouterr().out.splitlines() == ["50 cm3/molecule/s"]
+    k = namespace["k"]["oh-ch4"]  # type: ignore[index]
+    with ratebank.open(tmp_path / "group.db") as store:
+        report = store.rate("oh-ch4", [300.0, 2000.0], k_units="cm3/molecule/s")
+    # a bimolecular reaction's k does not depend on P: the ends of the grid are rate's
+    assert [k[0], k[-1]] == pytest.approx([r.k for r in report.rows], rel=1e-12)
 
 
 def test_the_readme_example_gives_the_command_lines_numbers(tmp_path, monkeypatch, capsys):
@@ -548,9 +571,9 @@ def test_the_readme_example_gives_the_command_lines_numbers(tmp_path, monkeypatc
         f"{r['T_K']:g} K: k = {r['k']:.3e} {cli['k_units']}, factor {r['uncertainty_factor']:.2f}"
         for r in cli["rates"]
     ]
-    outcome = run(db, "export", str(tmp_path / "cli.csv"), "--preset", "atmospheric",
+    outcome = run(db, "export", str(tmp_path / "cli"), "--preset", "atmospheric",
                   "--leave-out-gaps")  # fmt: skip
     assert outcome.exit_code == 0, outcome.stderr
-    exported = (tmp_path / "mechanism.csv").read_text(encoding="utf-8")
-    assert exported == (tmp_path / "cli.csv").read_text(encoding="utf-8")
+    exported = (tmp_path / "mechanism" / "mechanism.csv").read_text(encoding="utf-8")
+    assert exported == (tmp_path / "cli" / "mechanism.csv").read_text(encoding="utf-8")
     assert exported.count("\n") > 10

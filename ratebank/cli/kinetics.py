@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import Any
 
 import typer
 
@@ -18,6 +19,8 @@ from ratebank.report.kinetics import (
     estimate_tables,
     fit_records,
     fit_table,
+    low_pressure_records,
+    low_pressure_table,
     pressure_fit_records,
     pressure_fit_table,
     rate_records,
@@ -186,6 +189,24 @@ def estimate(
     keep_going: bool = typer.Option(
         False, "--keep-going", help="Store what can be estimated even if some cannot."
     ),
+    low_pressure: bool = typer.Option(
+        False,
+        "--low-pressure",
+        help="Estimate k0 of the named decompositions written with M (Hinshelwood).",
+    ),
+    oscillators: float = typer.Option(
+        None, "--oscillators", help="Effective number of oscillators s.", parser=number
+    ),
+    collision_efficiency: float = typer.Option(
+        None, "--efficiency", help="Collision efficiency beta_c in (0, 1].", parser=number
+    ),
+    bath: str = typer.Option(None, "--bath", help="Bath-gas species (Lennard-Jones data)."),
+    threshold: float = typer.Option(
+        None, "--threshold", help="Threshold energy E0 (default: the stored Ea).", parser=number
+    ),
+    threshold_units: str = typer.Option(
+        "kJ/mol", "--threshold-units", help="Unit of --threshold, e.g. kJ/mol or K."
+    ),
     preset: str = PRESET_OPTION,
     as_json: bool = JSON_OPTION,
 ) -> None:
@@ -193,7 +214,14 @@ def estimate(
 
     P comes from --steric, else the value stored on the reaction, else the class rule,
     else the class's measured reactions, else --fallback-steric. Nothing is written if
-    any requested reaction cannot be estimated, unless --keep-going.
+    any requested reaction cannot be estimated, unless --keep-going. An association
+    written with M whose falloff expression leaves A empty gets k_inf this way, with
+    its k0 and broadening kept.
+
+    With --low-pressure: k0 of each named decomposition written with M (one reactant
+    besides M) from Hinshelwood's strong-collision formula, with --oscillators,
+    --efficiency and --bath, over the stored Ea's range (or --t-range); stored as
+    order-of-magnitude guidance with uncertainty factor 10 (or --uncertainty-factor).
 
     Exit status: 0 when every estimate that could be made is stored (with
     --keep-going the reactions left out are listed, each with the reason); 1 when
@@ -215,11 +243,20 @@ def estimate(
                 T_range=_t_range(t_range),
                 keep_going=keep_going,
                 progress=progress,
+                low_pressure=low_pressure,
+                oscillators=oscillators,
+                collision_efficiency=collision_efficiency,
+                bath=bath,
+                threshold_energy=threshold,
+                threshold_units=threshold_units if threshold is not None else None,
             )
     except RefusedEstimateError as exc:
-        if as_json:
+        if as_json and exc.report is not None:
             print_json(estimate_records(exc.report, preset))
         raise
+    if low_pressure:
+        _show_low_pressure(report, preset, as_json)
+        return
     if as_json:
         print_json(estimate_records(report, preset))
     elif not STATE.quiet:
@@ -242,6 +279,17 @@ def _check_summary(report) -> str:  # type: ignore[no-untyped-def]
         if report.unchecked
         else (f"{len(report.flags)} flag(s).")
     )
+
+
+def _show_low_pressure(report: Any, preset: str, as_json: bool) -> None:
+    if as_json:
+        print_json(low_pressure_records(report, preset))
+    elif not STATE.quiet:
+        show(low_pressure_table(report, preset))
+        say(
+            f"{len(report.rows)} low-pressure estimate(s) stored: order-of-magnitude "
+            "guidance (Hinshelwood, strong collisions)."
+        )
 
 
 @calls("check")
@@ -268,7 +316,10 @@ def check(
     Checks: above-collision-limit, steric-above-one, collinear-fit, extrapolation
     (with --t-range), estimated-diameter, nothing-usable; with thermochemistry:
     ea-below-reaction-enthalpy, reverse-above-collision-limit, directions-disagree,
-    reverse-without-thermochemistry, thermo-midpoint-jump.
+    reverse-without-thermochemistry, thermo-midpoint-jump; of the rate-law forms:
+    falloff-not-monotonic, fc-out-of-range, troe-temperature-not-positive,
+    sum-ranges-inconsistent, efficiency-unknown-species, efficiency-unused. The note
+    no-efficiencies (a reaction with M stating none) is listed but fails nothing.
 
     Example: ratebank check --t-range 300 2000
     """
@@ -345,7 +396,9 @@ def recommend(
 
 @calls("export")
 def export(
-    out: Path = typer.Argument(..., help="Output CSV; the descriptor goes beside it."),
+    out: Path = typer.Argument(
+        ..., help="Output folder: a data package (datapackage.json, mechanism.csv, ...)."
+    ),
     preset: str = typer.Option(
         "combustion", "--preset", help="Units: combustion, atmospheric or si."
     ),
@@ -373,9 +426,10 @@ def export(
         "row (fitted to k_f / Kc over the row's range).",
     ),
 ) -> None:
-    """Write the mechanism table (CSV) and its descriptor (OUT.resource.json).
+    """Write the mechanism as a data package: the folder OUT holding datapackage.json,
+    mechanism.csv, efficiencies.csv and species.csv, written as one unit.
 
-    Example: ratebank export mechanism.csv --preset atmospheric
+    Example: ratebank export mechanism --preset atmospheric
     """
     with opened_store() as store:
         result = store.export(
@@ -390,9 +444,10 @@ def export(
         )
     left = result.table.left_out
     say(
-        f"Wrote {len(result.table.rows)} reactions to {result.table_path} and "
-        f"{result.descriptor_path}"
-        + (f"; left out {len(left)}: {', '.join(left[:10])}" if left else "")
+        f"Wrote {len({row.key for row in result.table.rows})} reactions to the data package "
+        f"{result.folder} "
+        f"({result.descriptor_path.name}, {result.table_path.name}, efficiencies.csv, "
+        "species.csv)" + (f"; left out {len(left)}: {', '.join(left[:10])}" if left else "")
     )
 
 

@@ -397,10 +397,11 @@ def import_expressions_file(
     update: bool = False,
     progress: Progress | None = None,
 ) -> ImportSummary:
-    table = read_table(path, v.EXPRESSION_COLUMNS, v.EXPRESSION_REQUIRED)
-    return import_expressions(
-        session, _row_dicts(table), source=table.path, dry_run=dry_run, update=update
-    )
+    # an exported mechanism table (mechanism.csv of a data package) reads as one too
+    table = read_table(path, v.EXPRESSION_FILE_COLUMNS, ("Ea",))
+    v.check_expression_header(table.path, table.header)
+    rows = v.as_expression_rows(_row_dicts(table))
+    return import_expressions(session, rows, source=table.path, dry_run=dry_run, update=update)
 
 
 def import_measurements_file(

@@ -25,7 +25,14 @@ from ratebank.services.validate import ImportSummary
 DEMO_MARK = "demo.build"
 DEMO_STERIC_REACTION = "ho2-ho2"
 DEMO_STERIC_VALUE = 0.02
-FILES = ("species.csv", "reactions.csv", "measurements.csv", "expressions.csv")
+FILES = (
+    "species.csv",
+    "reactions.csv",
+    "measurements.csv",
+    "expressions.csv",
+    "expressions_pressure.csv",
+    "efficiencies.csv",
+)
 
 
 class DemoError(RatebankError):
@@ -121,6 +128,12 @@ def run_demo(db: Path, out: Path, *, author: str | None = None) -> DemoResult:
             result.imports.append(
                 csv_import.import_expressions_file(session, seed / "expressions.csv")
             )
+            result.imports.append(
+                csv_import.import_expressions_file(session, seed / "expressions_pressure.csv")
+            )
+            result.imports.append(
+                csv_import.import_efficiencies_file(session, seed / "efficiencies.csv")
+            )
             audit.record(session, DEMO_MARK, str(db), seed=str(seed))
         with store.session(write=True) as session:
             # The demo curator's own choice for the self-reaction (synthetic, by analogy);
@@ -146,7 +159,7 @@ def run_demo(db: Path, out: Path, *, author: str | None = None) -> DemoResult:
                 result.exports.append(
                     export_mechanism(
                         session,
-                        out / f"mechanism-{preset}.csv",
+                        out / f"mechanism-{preset}",
                         preset=preset,
                         leave_out_gaps=True,
                         store_label=store.display_url,

@@ -1,13 +1,24 @@
-"""Write the mechanism table and its descriptor, atomically.
+"""Write the mechanism as a data package: a folder written as one unit.
 
-``OUT.csv`` holds the table (the README's column names); ``OUT.resource.json``
-describes it as a Frictionless Tabular Data Resource (the open Table Schema
-standard), with the units, the rate-law convention, the store's content
-fingerprint, the creation time, the tool version and the caution text.
+``export OUT`` writes the folder ``OUT``, a Frictionless Data Package (the
+open Data Package and Table Schema standards):
 
-Both files are written as one unit by :mod:`ratebank.safe_output` (staged
-beside the targets, synced, committed, renamed into place; the store's own
-file and non-regular targets are refused; see there for what a crash leaves).
+- ``OUT/datapackage.json``: the descriptor: each table's Table Schema, the
+  units, the rate-law convention, the forms and their formulas, the store's
+  content fingerprint, the creation time, the tool version and the caution;
+- ``OUT/mechanism.csv``: the mechanism table (one row per reaction, one per
+  term of a ``sum``; :mod:`ratebank.services.mechanism`);
+- ``OUT/efficiencies.csv``: the third-body efficiencies of the exported
+  reactions (``reaction, species, efficiency, source``; a species not listed
+  counts 1);
+- ``OUT/species.csv``: every species with what the store holds about it.
+
+The folder is written by :func:`ratebank.safe_output.write_folder` (staged
+beside the target, synced, swapped in by one atomic exchange): a reader sees
+the earlier package or the new one, never a mix. An existing folder is
+replaced only when it holds nothing but a package's files; the store's own
+file and non-regular targets are refused. :func:`ratebank.io.package.read_package`
+reads a package back.
 
 A text cell that a spreadsheet would read as a formula (one that begins with
 ``=``, ``+``, ``-``, ``@``, a tab or a carriage return) is written with an
@@ -24,6 +35,7 @@ import datetime as dt
 import io
 import os
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass
 from operator import itemgetter
 from pathlib import Path
@@ -37,26 +49,66 @@ from ratebank.errors import RatebankError
 from ratebank.services import mechanism
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.reverse import REVERSE_ORIGIN, descriptor_block
-from ratebank.store import json_codec
+from ratebank.store import json_codec, queries
+from ratebank.store.efficiencies import DEFAULT_EFFICIENCY, efficiencies
 from ratebank.store.fingerprint import store_fingerprint
+
+#: The files of a package, inside its folder.
+DESCRIPTOR = "datapackage.json"
+MECHANISM = "mechanism.csv"
+EFFICIENCIES = "efficiencies.csv"
+SPECIES = "species.csv"
+#: What the descriptor's ``ratebank.package`` says the package is (the reader checks it).
+PACKAGE_KIND = "ratebank mechanism package"
+PACKAGE_FORMAT = 1
+
+#: Each form's formula, as the descriptor states it.
+FORM_FORMULAS = {
+    "arrhenius": "k = A * T**n * exp(-Ea / (R * T)); for a reaction written with M, this k "
+    "is a third-body coefficient and the rate constant is k * [M]_eff",
+    "sum": "k = sum over the reaction's rows (term 1, 2, ...) of A * T**n * exp(-Ea / (R * T)), "
+    "each term stated for its own T_min_K..T_max_K; for a reaction written with M the sum is "
+    "a third-body coefficient and the rate constant is that sum * [M]_eff",
+    "third-body": "k = k0 * [M]_eff, k0 = A * T**n * exp(-Ea / (R * T)) in k_units (the "
+    "equation's order, M counted)",
+    "falloff": "k = k_inf * Pr / (1 + Pr) * F, Pr = k0 * [M]_eff / k_inf; k_inf = A * T**n * "
+    "exp(-Ea / (R * T)) in k_units (one order fewer than the equation's), k0 = A_low * "
+    "T**n_low * exp(-Ea_low / (R * T)) in k_low_units (the equation's order, M counted)",
+    "activated": "k = k0 / (1 + Pr) * F, Pr = k0 * [M]_eff / k_inf; k0 = A_low * T**n_low * "
+    "exp(-Ea_low / (R * T)) in k_low_units (the equation's order), k_inf = A * T**n * "
+    "exp(-Ea / (R * T)) in k_units (one order fewer)",
+}
+BROADENING_FORMULAS = {
+    "none": "F = 1 (Lindemann)",
+    "troe": "Fc = (1 - troe_alpha) * exp(-T / troe_T3_K) + troe_alpha * exp(-T / troe_T1_K) "
+    "+ exp(-troe_T2_K / T) (the last term only when troe_T2_K is given); c = -0.4 - 0.67 * "
+    "log10(Fc), N = 0.75 - 1.27 * log10(Fc), d = 0.14; log10(F) = log10(Fc) / (1 + "
+    "((log10(Pr) + c) / (N - d * (log10(Pr) + c)))**2) (Gilbert, Luther & Troe, Ber. "
+    "Bunsenges. Phys. Chem. 1983, 87, 169)",
+    "fixed-fc": "log10(F) = log10(Fc) / (1 + (log10(Pr) / N)**2), N = 0.75 - 1.27 * log10(Fc) "
+    "when N is empty (the evaluation panels' form)",
+}
+THIRD_BODY_RULE = (
+    "[M]_eff = sum_i eps_i * [X_i] over the gas mixture, [X_i] = x_i * p / (R * T) in the "
+    "concentration unit of k_units; eps_i from efficiencies.csv for the row's reaction, "
+    f"{DEFAULT_EFFICIENCY:g} for a species not listed there"
+)
 
 
 class ExportError(RatebankError):
-    """The table cannot be written where it was asked to."""
+    """The package cannot be written where it was asked to."""
 
 
 @dataclass
 class ExportResult:
+    #: the package's folder
+    folder: Path
+    #: the mechanism table and the descriptor inside it
     table_path: Path
     descriptor_path: Path
     table: mechanism.MechanismTable
     fingerprint: str
     descriptor: dict[str, Any]
-
-
-def descriptor_path_for(out: Path) -> Path:
-    name = out.name[: -len(".csv")] if out.name.lower().endswith(".csv") else out.name
-    return out.with_name(name + ".resource.json")
 
 
 def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
@@ -65,8 +117,8 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
         {
             "name": "key",
             "type": "string",
-            "description": "reaction key in the store",
-            "constraints": {"required": True, "unique": True},
+            "description": "reaction key in the store (a sum has one row per term)",
+            "constraints": {"required": True},
         },
         {
             "name": "equation",
@@ -82,7 +134,8 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
         {
             "name": "A",
             "type": "number",
-            "description": "pre-exponential factor in k_units times K^-n",
+            "description": "pre-exponential factor in k_units times K^-n: of the one term, of "
+            "this term of a sum, of k0 of third-body, of k_inf of falloff and activated",
             "constraints": {"required": True},
         },
         {
@@ -97,7 +150,12 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
             "description": f"activation energy in Ea_units ({units.e_units})",
             "constraints": {"required": True},
         },
-        {"name": "k_units", "type": "string", "description": "unit of k for this row's order"},
+        {
+            "name": "k_units",
+            "type": "string",
+            "description": "unit of the row's A: of the equation's order (M counted), one order "
+            "fewer for k_inf of falloff and activated",
+        },
         {"name": "Ea_units", "type": "string", "description": "unit of Ea"},
         {"name": "T_min_K", "type": "number", "description": "lower end of the valid range, K"},
         {"name": "T_max_K", "type": "number", "description": "upper end of the valid range, K"},
@@ -167,7 +225,119 @@ def _field_descriptions(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
             "over the row's range; its uncertainty factors are the forward row's times "
             "(1 + this deviation), the thermochemistry's own uncertainty not included",
         },
+        *_form_fields(units),
     ]
+
+
+def _form_fields(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
+    """The form columns of the mechanism table (the expressions file's names)."""
+    return [
+        {
+            "name": "form",
+            "type": "string",
+            "description": "how the row's numbers make k (see ratebank.forms)",
+            "constraints": {"required": True, "enum": list(FORM_FORMULAS)},
+        },
+        {
+            "name": "term",
+            "type": "integer",
+            "description": "term number of a sum (1, 2, ...); 1 for every other form",
+            "constraints": {"required": True, "minimum": 1},
+        },
+        {
+            "name": "A_low",
+            "type": "number",
+            "description": "k0 of falloff and activated: pre-exponential factor in k_low_units "
+            "times K^-n_low",
+        },
+        {"name": "n_low", "type": "number", "description": "temperature exponent of k0"},
+        {
+            "name": "Ea_low",
+            "type": "number",
+            "description": f"activation energy of k0 in Ea_units ({units.e_units})",
+        },
+        {
+            "name": "k_low_units",
+            "type": "string",
+            "description": "unit of k0: of the equation's order, M counted",
+        },
+        {
+            "name": "broadening",
+            "type": "string",
+            "description": "F of falloff and activated (see ratebank.broadenings)",
+            "constraints": {"enum": list(BROADENING_FORMULAS)},
+        },
+        {"name": "Fc", "type": "number", "description": "fixed-fc: the centre factor, (0, 1]"},
+        {
+            "name": "N",
+            "type": "number",
+            "description": "fixed-fc: the width; empty for 0.75 - 1.27 log10 Fc",
+        },
+        {"name": "troe_alpha", "type": "number", "description": "troe: alpha"},
+        {"name": "troe_T3_K", "type": "number", "description": "troe: T*** [K]"},
+        {"name": "troe_T1_K", "type": "number", "description": "troe: T* [K]"},
+        {
+            "name": "troe_T2_K",
+            "type": "number",
+            "description": "troe: T** [K]; empty when the term exp(-T**/T) is left out",
+        },
+    ]
+
+
+EFFICIENCY_FIELDS: list[dict[str, Any]] = [
+    {
+        "name": "reaction",
+        "type": "string",
+        "description": "key of the reaction (mechanism.csv)",
+        "constraints": {"required": True},
+    },
+    {
+        "name": "species",
+        "type": "string",
+        "description": "the collider (species.csv)",
+        "constraints": {"required": True},
+    },
+    {
+        "name": "efficiency",
+        "type": "number",
+        "description": "eps in [M]_eff = sum_i eps_i [X_i]; a species not listed counts "
+        f"{DEFAULT_EFFICIENCY:g}",
+        "constraints": {"required": True, "minimum": 0},
+    },
+    {"name": "source", "type": "string", "description": "where the efficiency comes from"},
+]
+
+#: The species table: (column, SpeciesRow field, type, description).
+SPECIES_COLUMNS: tuple[tuple[str, str, str, str], ...] = (
+    ("name", "name", "string", "species name as the equations write it"),
+    ("formula", "formula", "string", "chemical formula"),
+    ("molar_mass_kg_mol", "molar_mass", "number", "molar mass [kg/mol]"),
+    ("molar_mass_source", "molar_mass_source", "string", "given, or how it was computed"),
+    ("diameter_m", "diameter", "number", "collision diameter [m]"),
+    ("diameter_kind", "diameter_kind", "string", "hard-sphere or lennard-jones"),
+    ("diameter_method", "diameter_method", "string", "given, or the correlation used"),
+    ("well_depth_K", "well_depth", "number", "Lennard-Jones well depth epsilon/k_B [K]"),
+    ("well_depth_method", "well_depth_method", "string", "given, or the correlation used"),
+    ("critical_temperature_K", "critical_temperature", "number", "critical temperature [K]"),
+    ("critical_pressure_Pa", "critical_pressure", "number", "critical pressure [Pa]"),
+    ("acentric_factor", "acentric_factor", "number", "acentric factor [-]"),
+    ("boiling_volume_m3_mol", "boiling_volume", "number", "molar volume at the normal "
+     "boiling point [m3/mol]"),
+    ("boiling_temperature_K", "boiling_temperature", "number", "normal boiling point [K]"),
+    ("dipole_moment_C_m", "dipole_moment", "number", "permanent dipole moment [C m]"),
+    ("polarizability_m3", "polarizability", "number", "polarizability volume [m3]"),
+    ("ionization_energy_J_mol", "ionization_energy", "number", "first ionization energy "
+     "[J/mol]"),
+    ("source", "source", "string", "where the species data come from"),
+)  # fmt: skip
+
+
+def _species_fields() -> list[dict[str, Any]]:
+    fields = [
+        {"name": name, "type": kind, "description": text} for name, _, kind, text in SPECIES_COLUMNS
+    ]
+    fields[0]["constraints"] = {"required": True, "unique": True}
+    return fields
 
 
 def _slug(text: str) -> str:
@@ -196,20 +366,16 @@ def neutralised_text(cell: str) -> str:
     return "'" + cell if cell and cell[0] in FORMULA_LEADING else cell
 
 
-def _text_columns(units: mechanism.ExportUnits) -> list[int]:
-    return [
-        index for index, field in enumerate(_field_descriptions(units)) if field["type"] == "string"
-    ]
+def _text_columns(fields: Sequence[dict[str, Any]]) -> list[int]:
+    return [index for index, field in enumerate(fields) if field["type"] == "string"]
 
 
-def _table_text(table: mechanism.MechanismTable, text_columns: list[int]) -> str:
+def _csv_text(header: Sequence[str], rows: list[Sequence[Any]], text_columns: list[int]) -> str:
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow(mechanism.COLUMNS)
-    # Rows start with the table's columns. The csv module writes a float as its
-    # repr, the shortest text that reads back as the same float (full
-    # precision), and None as an empty cell.
-    rows = list(map(itemgetter(slice(0, len(mechanism.COLUMNS))), table.rows))
+    writer.writerow(header)
+    # The csv module writes a float as its repr, the shortest text that reads back as
+    # the same float (full precision), and None as an empty cell.
     leading = FORMULA_LEADING
     for position, row in enumerate(rows):
         if any(isinstance(row[i], str) and row[i][:1] in leading for i in text_columns):
@@ -221,10 +387,143 @@ def _table_text(table: mechanism.MechanismTable, text_columns: list[int]) -> str
     return buffer.getvalue()
 
 
+def _table_text(table: mechanism.MechanismTable, fields: Sequence[dict[str, Any]]) -> str:
+    # rows start with the table's columns
+    rows = list(map(itemgetter(slice(0, len(mechanism.COLUMNS))), table.rows))
+    return _csv_text(mechanism.COLUMNS, rows, _text_columns(fields))
+
+
+def _efficiencies_text(session: Session, table: mechanism.MechanismTable) -> str:
+    keys = {row.key for row in table.rows}
+    rows: list[Sequence[Any]] = [
+        (e.reaction_key, e.species, e.efficiency, e.source)
+        for e in efficiencies(session)
+        if e.reaction_key in keys
+    ]
+    header = [f["name"] for f in EFFICIENCY_FIELDS]
+    return _csv_text(header, rows, _text_columns(EFFICIENCY_FIELDS))
+
+
+def _species_text(session: Session) -> str:
+    fields = _species_fields()
+    rows: list[Sequence[Any]] = [
+        tuple(getattr(s, attribute) for _, attribute, _, _ in SPECIES_COLUMNS)
+        for s in queries.all_species(session)
+    ]
+    return _csv_text([name for name, *_ in SPECIES_COLUMNS], rows, _text_columns(fields))
+
+
 def _store_file(session: Session) -> str | None:
     """The SQLite file of the store (which an export must never replace), or None."""
     bind = session.get_bind()
     return bind.url.database if bind.dialect.name == "sqlite" else None
+
+
+def _check_out(out: Path, store_file: str | None) -> None:
+    folder = out.parent if str(out.parent) else Path(".")
+    if not folder.is_dir():
+        raise ExportError(f"folder {folder} does not exist; create it or choose another output")
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise ExportError(f"folder {folder} is not writable; nothing was written")
+    if out.is_symlink() or not out.is_dir():
+        # the store, its side files, a pipe or a device are refused as such
+        safe_output.check_target(out, store_path=store_file)
+        if out.exists():
+            raise ExportError(
+                f"{out} exists and is not a folder; choose another output; nothing was written"
+            )
+    if out.suffix.lower() in (".csv", ".json"):
+        raise ExportError(
+            f"{out.name} names a file, but an export is a folder (a data package holding "
+            f"{DESCRIPTOR}, {MECHANISM}, {EFFICIENCIES} and {SPECIES}); give a folder name "
+            f"such as {out.stem or 'mechanism'}"
+        )
+
+
+def _resource(name: str, path: str, title: str, schema: dict[str, Any]) -> dict[str, Any]:
+    return {
+        "name": name,
+        "path": path,
+        "profile": "tabular-data-resource",
+        "title": title,
+        "format": "csv",
+        "mediatype": "text/csv",
+        "encoding": "utf-8",
+        "dialect": {"delimiter": ",", "header": True, "doubleQuote": True},
+        "schema": {**schema, "missingValues": [""]},
+    }
+
+
+def _resources(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
+    return [
+        _resource(
+            "mechanism",
+            MECHANISM,
+            "Mechanism table: one row per reaction, one per term of a sum",
+            {"fields": _field_descriptions(units), "primaryKey": ["key", "term"]},
+        ),
+        _resource(
+            "efficiencies",
+            EFFICIENCIES,
+            "Third-body efficiencies of the exported reactions",
+            {
+                "fields": EFFICIENCY_FIELDS,
+                "primaryKey": ["reaction", "species"],
+                "foreignKeys": [
+                    {"fields": "species", "reference": {"resource": "species", "fields": "name"}}
+                ],
+            },
+        ),
+        _resource(
+            "species",
+            SPECIES,
+            "Species and what the store holds about each (SI units)",
+            {"fields": _species_fields(), "primaryKey": ["name"]},
+        ),
+    ]
+
+
+def _ratebank_block(
+    table: mechanism.MechanismTable, fingerprint: str, created: str, store_label: str | None
+) -> dict[str, Any]:
+    units = table.units
+    return {
+        "package": PACKAGE_KIND,
+        "package_format": PACKAGE_FORMAT,
+        "version": __version__,
+        "created": created,
+        "store": store_label,
+        "store_fingerprint": fingerprint,
+        "rows": len(table.rows),
+        "rate_expression": "k = A * T**n * exp(-Ea / (R * T)), T in K, A in k_units times K**-n "
+        "(for each form see forms)",
+        "gas_constant": "R = 8.31446261815324 J/(mol K) (CODATA 2018, exact); with Ea_units K, "
+        "Ea is Ea/R",
+        "rate_law_convention": mechanism.RATE_LAW_CONVENTION,
+        "forms": FORM_FORMULAS,
+        "broadenings": BROADENING_FORMULAS,
+        "third_body": THIRD_BODY_RULE,
+        "pressure": "[M] = p / (R * T) (ideal gas); the package's reader takes p in bar",
+        "units": {
+            "preset": units.label,
+            "k_units_by_order": {str(k): v for k, v in sorted(units.k_units.items())},
+            "Ea_units": units.e_units,
+            "calorie": "thermochemical, 4.184 J",
+        },
+        "form": table.form,
+        "linearised": [
+            {"key": r.key, "at_K": r.linearised_at_K}
+            for r in table.rows
+            if r.linearised_at_K is not None
+        ],
+        "left_out": table.left_out,
+        "chosen_by": {
+            r.key: {"expression_id": r.expression_id, "rule": r.chosen_by} for r in table.rows
+        },
+        "caution": CAUTION,
+        "text_cells": TEXT_CELL_RULE,
+        "reverse": descriptor_block(table.reverse),
+    }
 
 
 @paused_garbage_collection()
@@ -241,19 +540,11 @@ def export_mechanism(
     store_label: str | None = None,
     reverse_as_fit: bool = False,
 ) -> ExportResult:
-    """Write ``out`` (CSV) and its ``.resource.json`` descriptor; with ``reverse_as_fit``,
-    the reverse of each reversible reaction as a row of its own."""
+    """Write the data package folder ``out`` (see the module docstring); with
+    ``reverse_as_fit``, the reverse of each reversible reaction as a row of its own."""
     out = Path(out)
-    folder = out.parent if str(out.parent) else Path(".")
-    if not folder.is_dir():
-        raise ExportError(f"folder {folder} does not exist; create it or choose another output")
-    if not os.access(folder, os.W_OK | os.X_OK):
-        raise ExportError(f"folder {folder} is not writable; nothing was written")
-    if out.is_dir():
-        raise ExportError(f"{out} is a folder; give a file name such as mechanism.csv")
     store_file = _store_file(session)
-    for target in (out, descriptor_path_for(out)):
-        safe_output.check_target(target, store_path=store_file)
+    _check_out(out, store_file)
     units = mechanism.export_units(preset, k_units, e_units)
     table = mechanism.mechanism_table(
         session,
@@ -264,59 +555,26 @@ def export_mechanism(
         reverse_as_fit=reverse_as_fit,
     )
     fingerprint = store_fingerprint(session)
-    descriptor_path = descriptor_path_for(out)
     created = dt.datetime.now(dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
     descriptor: dict[str, Any] = {
-        "profile": "tabular-data-resource",
-        "name": _slug(out.stem),
-        "title": "Mechanism table exported by ratebank",
-        "description": "One row per reaction: k = A T^n exp(-Ea/(R T)), T in K. " + CAUTION,
-        "path": out.name,
-        "format": "csv",
-        "mediatype": "text/csv",
-        "encoding": "utf-8",
-        "dialect": {"delimiter": ",", "header": True, "doubleQuote": True},
+        "profile": "tabular-data-package",
+        "name": _slug(out.name),
+        "title": "Mechanism exported by ratebank",
+        "description": "A reaction mechanism: the mechanism table (k of each row by its form, "
+        "see ratebank.forms), third-body efficiencies and species. " + CAUTION,
         "created": created,
-        "schema": {
-            "fields": _field_descriptions(units),
-            "primaryKey": ["key"],
-            "missingValues": [""],
-        },
-        "ratebank": {
-            "version": __version__,
-            "created": created,
-            "store": store_label,
-            "store_fingerprint": fingerprint,
-            "rows": len(table.rows),
-            "rate_expression": "k = A * T**n * exp(-Ea / (R * T)), T in K, "
-            "A in k_units times K**-n",
-            "rate_law_convention": mechanism.RATE_LAW_CONVENTION,
-            "units": {
-                "preset": units.label,
-                "k_units_by_order": {str(k): v for k, v in sorted(units.k_units.items())},
-                "Ea_units": units.e_units,
-                "calorie": "thermochemical, 4.184 J",
-            },
-            "form": form,
-            "linearised": [
-                {"key": r.key, "at_K": r.linearised_at_K}
-                for r in table.rows
-                if r.linearised_at_K is not None
-            ],
-            "left_out": table.left_out,
-            "chosen_by": {
-                r.key: {"expression_id": r.expression_id, "rule": r.chosen_by} for r in table.rows
-            },
-            "caution": CAUTION,
-            "text_cells": TEXT_CELL_RULE,
-            "reverse": descriptor_block(table.reverse),
-        },
+        "resources": _resources(units),
+        "ratebank": _ratebank_block(table, fingerprint, created, store_label),
     }
-    safe_output.write_files(
+    fields = descriptor["resources"][0]["schema"]["fields"]
+    safe_output.write_folder(
+        out,
         {
-            out: _table_text(table, _text_columns(units)),
+            MECHANISM: _table_text(table, fields),
+            EFFICIENCIES: _efficiencies_text(session, table),
+            SPECIES: _species_text(session),
             # a mechanism's descriptor lists every reaction: the C encoder, not json's
-            descriptor_path: json_codec.dumps_indented(descriptor) + "\n",
+            DESCRIPTOR: json_codec.dumps_indented(descriptor) + "\n",
         },
         store_path=store_file,
     )
@@ -325,10 +583,13 @@ def export_mechanism(
     audit.record(
         session,
         "export",
-        str(out),
+        str(out.absolute()),
         rows=len(table.rows),
         left_out=len(table.left_out),
         units=units.label,
         fingerprint=fingerprint,
     )
-    return ExportResult(out, descriptor_path, table, fingerprint, descriptor)
+    target = Path(out).expanduser().absolute()
+    return ExportResult(
+        target, target / MECHANISM, target / DESCRIPTOR, table, fingerprint, descriptor
+    )

@@ -49,8 +49,8 @@ def demo_summary(result: DemoResult) -> list[Any]:
     for export in result.exports:
         steps.add_row(
             f"export --preset {export.table.units.label}",
-            f"{len(export.table.rows)} reactions to {export.table_path} "
-            f"(+ {export.descriptor_path.name})",
+            f"{len({row.key for row in export.table.rows})} reactions to the data package "
+            f"{export.folder}",
         )
     parts.append(steps)
     if result.exports:

@@ -434,6 +434,81 @@ def estimate_tables(report: EstimateReport, preset: str) -> list[Table]:
     return tables
 
 
+def low_pressure_records(report: Any, preset: str) -> dict[str, Any]:
+    """The low-pressure (Hinshelwood) estimates: k0 has the reaction's order, 2."""
+    k_unit, e_unit = _units(2, preset)
+    return {
+        "written": report.written,
+        "guidance": "order of magnitude (Hinshelwood, strong collisions)",
+        "estimated": [
+            {
+                "key": r.key,
+                "equation": r.equation,
+                "form": "third-body",
+                "A": _k(r.A, 2, k_unit),
+                "n": r.n,
+                "Ea": _e(r.Ea, e_unit),
+                "k_units": k_unit,
+                "Ea_units": e_unit,
+                "T_min_K": r.T_min,
+                "T_max_K": r.T_max,
+                "threshold_energy": _e(r.threshold_energy, e_unit),
+                "threshold_energy_from": r.threshold_from,
+                "oscillators": r.oscillators,
+                "collision_efficiency": r.collision_efficiency,
+                "bath_gas": r.bath,
+                "uncertainty_factor": r.uncertainty_factor,
+                "k0_at_T_middle": _k(r.k0_at_middle, 2, k_unit),
+                "T_middle_K": r.T_middle,
+                "max_fit_deviation": r.max_fit_deviation,
+                "estimated_diameters": r.estimated_diameters,
+                "expression_id": r.expression_id,
+                "replaced": r.replaced,
+            }
+            for r in report.rows
+        ],
+    }
+
+
+def low_pressure_table(report: Any, preset: str) -> Table:
+    data = low_pressure_records(report, preset)
+    k_unit, e_unit = _units(2, preset)
+    table = ReportTable(
+        title=f"Low-pressure k0 estimates ({len(data['estimated'])}), {preset} units",
+        drop=("E0 from", "T range (K)"),
+    )
+    for header in (
+        "reaction",
+        f"k0 A ({k_unit}·K^-n)",
+        "n",
+        f"Ea ({e_unit})",
+        f"E0 ({e_unit})",
+        "E0 from",
+        "s",
+        "beta_c",
+        "bath",
+        "f",
+        "T range (K)",
+    ):
+        table.add_column(header, overflow="fold")
+    for r in data["estimated"]:
+        table.add_row(
+            r["key"],
+            sig(r["A"]),
+            sig(r["n"]),
+            sig(r["Ea"]),
+            sig(r["threshold_energy"]),
+            r["threshold_energy_from"],
+            sig(r["oscillators"], 3),
+            sig(r["collision_efficiency"], 3),
+            r["bath_gas"],
+            sig(r["uncertainty_factor"], 3),
+            trange(r["T_min_K"], r["T_max_K"]),
+        )
+    table.caption = "Order-of-magnitude guidance: Hinshelwood's strong-collision k0."
+    return table
+
+
 # --------------------------------------------------------------------------- check
 
 
@@ -460,6 +535,7 @@ def check_records(report: CheckReport) -> dict[str, Any]:
             }
             for f in report.flags
         ],
+        "notes": [{"key": n.key, "code": n.code, "message": n.message} for n in report.notes],
     }
 
 
@@ -476,6 +552,8 @@ def check_table(report: CheckReport) -> Table:
         table.add_row(f.key, f.code, f.message)
     for u in report.unchecked:
         table.add_row(u.key, "unchecked", u.reason)
+    for n in report.notes:
+        table.add_row(n.key, f"note: {n.code}", n.message)
     return table
 
 

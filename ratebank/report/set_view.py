@@ -53,13 +53,15 @@ def set_detail_record(detail: SetDetail, preset: str) -> dict[str, Any]:
         "withdrawn_points": stored.withdrawn_points,
         "points": [
             {
+                "id": point_id,
                 "T_K": float(T),
                 "k_given_units": _number(k_given),
                 "k_preset_units": _number(k),
                 "relative_uncertainty": _number(u),
                 "pressure_bar": None if p != p else float(p) * BAR_PER_PA,
             }
-            for T, k_given, k, u, p in zip(
+            for point_id, T, k_given, k, u, p in zip(
+                stored.point_ids,
                 points.temperature.tolist(),
                 detail.k_set_units.tolist(),
                 k_preset,
@@ -107,6 +109,7 @@ def set_detail_tables(detail: SetDetail, preset: str) -> list[Table]:
     rows, note = shown(record["points"])
     points = ReportTable(title=f"Points ({len(record['points'])})", caption=note or None)
     for header in (
+        "point",
         "T (K)",
         f"k ({record['k_units_given']})",
         f"k ({record['k_units_preset']})",
@@ -116,6 +119,7 @@ def set_detail_tables(detail: SetDetail, preset: str) -> list[Table]:
         points.add_column(header, justify="right")
     for p in rows:
         points.add_row(
+            str(p["id"]),
             sig(p["T_K"], 6),
             sig(p["k_given_units"]),
             sig(p["k_preset_units"]),

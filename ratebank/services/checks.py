@@ -3,7 +3,9 @@
 Flags (each with a stable code):
 
 - ``above-collision-limit``: a bimolecular k(T) above the collision limit
-  somewhere in its temperature range (ratio and T given). The limit is the
+  somewhere in its temperature range (ratio and T given): the plain k, the
+  total of a ``sum``, k0 of an ``activated`` channel, and k_inf of a
+  ``falloff`` association A + B + M (a bimolecular k at high pressure). The limit is the
   collision rate z(T) of the model the caller chooses (else the one the
   expression's own estimate used, else hard spheres) or, where both partners
   carry a polarizability and an ionization energy, the dispersion-limited
@@ -19,6 +21,10 @@ Flags (each with a stable code):
   temperature range the mechanism will be used over (``t_range``).
 - ``estimated-diameter``: the exported estimate rests on an estimated diameter.
 - ``nothing-usable``: a reaction with no complete expression.
+- ``falloff-not-monotonic``, ``fc-out-of-range``, ``troe-temperature-not-positive``,
+  ``sum-ranges-inconsistent``, ``efficiency-unknown-species``, ``efficiency-unused``
+  and the note ``no-efficiencies``: what the rate-law forms make checkable
+  (:mod:`ratebank.services.form_checks`).
 - ``ea-below-reaction-enthalpy``, ``reverse-above-collision-limit``,
   ``directions-disagree``, ``reverse-without-thermochemistry``,
   ``thermo-midpoint-jump``: what species thermochemistry makes checkable
@@ -41,8 +47,17 @@ from ratebank.errors import BadInputError
 from ratebank.science.arrhenius import modified_arrhenius
 from ratebank.science.capture import london_capture_rate_constant
 from ratebank.science.collision import collision_limit_ratio, collision_rate
+from ratebank.services.form_checks import (
+    FORM_CODES,
+    NOTE_CODES,
+    Finding,
+    broadening_findings,
+    efficiency_findings,
+    monotonic_findings,
+    sum_range_findings,
+)
 from ratebank.services.partners import CollisionPair, PairColumns, check_model, collision_pairs
-from ratebank.services.selection import Chosen, chosen_expressions
+from ratebank.services.selection import Chosen, chosen_expressions, evaluate
 from ratebank.services.thermo import reaction_thermo_inputs
 from ratebank.services.thermo_checks import (
     THERMO_CODES,
@@ -53,6 +68,7 @@ from ratebank.services.thermo_checks import (
     reverse_limit_findings,
 )
 from ratebank.store import queries
+from ratebank.store.efficiency_species import stated_efficiencies
 from ratebank.store.queries import ExpressionRow, ReactionRow
 from ratebank.store.thermo import any_thermo, reverse_rules, stoichiometry, thermo_of
 
@@ -64,6 +80,8 @@ CHECK_CODES = (
     "extrapolation",
     "estimated-diameter",
     "nothing-usable",
+    *FORM_CODES,
+    *NOTE_CODES,
     *THERMO_CODES,
 )
 #: Range checked for the collision limit when an expression states none [K].
@@ -98,6 +116,8 @@ class CheckReport:
     ignored: list[str] = field(default_factory=list)
     unchecked: list[Unchecked] = field(default_factory=list)
     collision: str | None = None
+    #: findings that inform without failing (``no-efficiencies``)
+    notes: list[Flag] = field(default_factory=list)
 
     @property
     def clean(self) -> bool:
@@ -136,9 +156,10 @@ def check_store(
     expressions = sorted((e for own in by_reaction.values() for e in own), key=lambda e: e.id)
     if collision is not None:
         check_model(collision)
-    bimolecular = [r for r in reactions if r.bimolecular]
+    # an association A + B + M is checked as the pair A + B (its k_inf is bimolecular)
+    limited = [_as_pair(r) for r in reactions if r.bimolecular or _association(r)]
     pairs = {
-        model: collision_pairs(session, bimolecular, model=model)
+        model: collision_pairs(session, limited, model=model)
         for model in ("hard-sphere", "lennard-jones")
     }
     chosen, gaps = chosen_expressions(session, reactions)
@@ -149,12 +170,44 @@ def check_store(
         *_gap_flags(gaps),
         *_chosen_flags(chosen, T_range),
         *_thermochemistry_flags(session, reactions, by_reaction, chosen, collision, unchecked),
+        *_form_flags(expressions, by_id),
     ]
+    efficiency_flags, notes = efficiency_findings(
+        reactions, by_reaction, stated_efficiencies(session, list(by_id))
+    )
+    flags.extend(Flag(*f) for f in efficiency_flags)
     flags = [f for f in flags if f.code not in ignore]
     flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
     return CheckReport(
-        flags, len(reactions), len(expressions), T_range, ignore, unchecked, collision
+        flags,
+        len(reactions),
+        len(expressions),
+        T_range,
+        ignore,
+        unchecked,
+        collision,
+        [Flag(*n) for n in notes if n.code not in ignore],
     )
+
+
+def _association(reaction: ReactionRow) -> bool:
+    """A + B + M -> AB + M: written with M, two reactant molecules besides it."""
+    return reaction.third_body and reaction.order == 3
+
+
+def _as_pair(reaction: ReactionRow) -> ReactionRow:
+    """The reaction as its colliding pair (an association without its M)."""
+    return reaction._replace(order=2, third_body=False) if reaction.third_body else reaction
+
+
+def _form_flags(expressions: list[ExpressionRow], by_id: dict[int, ReactionRow]) -> list[Flag]:
+    """The checks of the rate-law forms (:mod:`.form_checks`)."""
+    findings: list[Finding] = [
+        *monotonic_findings(expressions, by_id),
+        *broadening_findings(expressions, by_id),
+        *sum_range_findings(expressions, by_id),
+    ]
+    return [Flag(*f) for f in findings]
 
 
 def _thermochemistry_flags(
@@ -210,6 +263,8 @@ def _collision_limit_flags(
         pair = pairs[model].get(e.reaction_id)
         if not e.complete or pair is None:
             continue
+        if by_id[e.reaction_id].third_body and e.form != "falloff":
+            continue  # a third-body coefficient has no collision limit; k_inf of a fall-off has
         if isinstance(pair, str):
             key = by_id[e.reaction_id].key
             unchecked.append(Unchecked(key, e.id, f"{model} collision limit: {pair}"))
@@ -229,6 +284,9 @@ def _limit_flags(
     T = low + (high - low) * grid_unit
     A, n, Ea = (np.array([[getattr(e, name)] for e, _ in rows]) for name in ("A", "n", "Ea"))
     k = modified_arrhenius(T, A, n, Ea)
+    for i, (e, _pair) in enumerate(rows):
+        if e.form is not None or e.terms:
+            k[i] = evaluate(e, T[i])  # a sum's total, k_inf of a fall-off, k0 of activated
     columns = PairColumns.of([pair for _, pair in rows])
     arguments = columns.rate_arguments(model)
     z = collision_rate(T, **{name: _column(v) for name, v in arguments.items()})
@@ -244,7 +302,8 @@ def _limit_flags(
                 Flag(
                     by_id[e.reaction_id].key,
                     "above-collision-limit",
-                    f"expression {e.id} ({e.origin}) is {r:.3g} times the collision limit "
+                    f"{_limited_part(e)}expression {e.id} ({e.origin}) is {r:.3g} times the "
+                    "collision limit "
                     f"({model}, or dispersion capture where larger) at {t:.4g} K",
                     e.id,
                     float(r),
@@ -252,6 +311,13 @@ def _limit_flags(
                 )
             )
     return flags
+
+
+def _limited_part(e: ExpressionRow) -> str:
+    """Which k of an expression is held to the collision limit, as a message prefix."""
+    return {"falloff": "k_inf of ", "activated": "k0 of ", "sum": "the summed k of "}.get(
+        e.form or "", ""
+    )
 
 
 def _capture_rate(T: np.ndarray, columns: PairColumns) -> np.ndarray:

@@ -12,6 +12,12 @@ on the reaction; the rule stored for its class; the geometric mean of the
 steric factors derived from measured reactions of the class; a fallback the
 caller gives. A reaction with none of these is reported, never guessed.
 
+An association written with M (``H + O2 + M -> HO2 + M``) whose ``falloff``
+expression states k0 and the broadening but leaves A empty gets k_inf the same
+way: its high-pressure limit is the bimolecular rate of the pair A + B. The
+estimate is a new ``falloff`` expression holding the estimated k_inf with the
+curated k0 and broadening.
+
 A reaction of a class with an Evans-Polanyi relation that has no expression of
 its own gets its activation energy from the relation first
 (:func:`ratebank.services.evans_polanyi.relation_activation_energies`).
@@ -48,7 +54,13 @@ from ratebank.services.steric import (
     derived_steric_factors,
 )
 from ratebank.store import queries
-from ratebank.store.expressions import ExpressionRecord, remove_expressions, write_expressions
+from ratebank.store.expressions import (
+    ArrheniusTerm,
+    Broadening,
+    ExpressionRecord,
+    remove_expressions,
+    write_expressions,
+)
 from ratebank.store.queries import ExpressionRow, ReactionRow, StericRuleRow
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
@@ -295,10 +307,10 @@ def _candidates(
                 skipped.append(Skipped(reaction.key, _why_not_candidate(complete)))
             continue
         waiting.append((reaction, partial[-1]))
-    pairs = collision_pairs(session, [r for r, _ in waiting], model=model)
+    pairs = collision_pairs(session, [_colliding(r, e) for r, e in waiting], model=model)
     candidates: list[_Candidate] = []
     for reaction, partial in waiting:
-        pair = pairs[reaction.id]
+        pair = _third_body_refusal(reaction, partial) or pairs[reaction.id]
         choice = sources.choose(reaction)
         reason = pair if isinstance(pair, str) else choice if isinstance(choice, str) else None
         if reason is not None:
@@ -318,6 +330,23 @@ def _candidates(
             _Candidate(reaction, partial, pair, choice, reference, low, high, T_ref is not None)
         )
     return candidates, skipped
+
+
+def _colliding(reaction: ReactionRow, partial: ExpressionRow) -> ReactionRow:
+    """The reaction as its colliding pair: an association's k_inf is the rate of A + B."""
+    if reaction.third_body and reaction.order == 3 and partial.form == "falloff":
+        return reaction._replace(order=2, third_body=False)
+    return reaction
+
+
+def _third_body_refusal(reaction: ReactionRow, partial: ExpressionRow) -> str | None:
+    if not reaction.third_body or partial.form == "falloff":
+        return None
+    return (
+        "its expression awaiting A is a third-body k0, which collision theory does not give: "
+        "leave A of a falloff expression empty (with k0 stated) for k_inf of an association, "
+        "or estimate k0 of a decomposition from Hinshelwood's formula"
+    )
 
 
 def _missing_temperatures(
@@ -440,6 +469,34 @@ def _provenance(c: _Candidate, row: EstimateRow, partners: dict) -> dict[str, An
         if row.collision_model == "hard-sphere"
         else "modified-Arrhenius fit",
         "max_relative_deviation_of_fit": row.max_fit_deviation,
+        "estimated_part": "k_inf of a falloff; k0 and broadening kept from expression "
+        f"{c.partial.id}"
+        if c.partial.form == "falloff"
+        else None,
+    }
+
+
+def _reference(c: _Candidate, row: EstimateRow) -> str:
+    what = "k_inf from " if c.partial.form == "falloff" else ""
+    return (
+        f"{what}collision theory ({row.collision_model}) x steric factor "
+        f"{row.steric_factor:.3g} ({row.steric_rule})"
+    )
+
+
+def _form_fields(c: _Candidate) -> dict[str, Any]:
+    """A falloff estimate keeps the curated k0 and broadening of the expression it completes."""
+    e = c.partial
+    if e.form != "falloff":
+        return {}
+    assert e.A_low is not None
+    return {
+        "form": "falloff",
+        "third_body": c.reaction.third_body,
+        "low_pressure": ArrheniusTerm(e.A_low, e.n_low or 0.0, e.Ea_low or 0.0),
+        "broadening": Broadening(
+            e.broadening or "none", e.Fc, e.N, e.troe_alpha, e.troe_T3, e.troe_T1, e.troe_T2
+        ),
     }
 
 
@@ -474,9 +531,9 @@ def _write(
                 T_max=row.T_max,
                 uncertainty_factor=row.uncertainty_factor,
                 uncertainty_g=0.0,
-                reference=f"collision theory ({row.collision_model}) x steric factor "
-                f"{row.steric_factor:.3g} ({row.steric_rule})",
+                reference=_reference(c, row),
                 provenance=provenance,
+                **_form_fields(c),
             )
         )
         history.append(

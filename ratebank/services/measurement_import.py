@@ -194,7 +194,10 @@ class MeasurementImporter:
         """Compare the file's stored sets with the store and rewrite the changed ones."""
         if not self._stored_index:
             return SetPlan()
-        plan = set_plan(self.validator.sets, self._stored, self._given, self.session)
+        plan = set_plan(self.validator.sets, self._stored, self._given, self.session, self.problems)
+        if self.problems:
+            self._savepoint.rollback()
+            self.problems.raise_if_any(self.source)
         if not self.dry_run:
             write_set_updates(self.session, plan, self.source)
         return plan

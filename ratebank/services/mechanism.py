@@ -1,10 +1,20 @@
 """The mechanism table: one row per reaction, in the units the modeller needs.
- The table's columns (the README (Import files)), in order::
+
+The table's columns (the README (Import files)), in order::
 
     key, equation, order, A, n, Ea, k_units, Ea_units, T_min_K, T_max_K,
-    origin, steric_factor, uncertainty_factor, references
+    origin, steric_factor, uncertainty_factor, references, uncertainty_f298,
+    uncertainty_g_K, linearised_at_K, linearisation_max_ln_deviation, reverse,
+    reverse_max_relative_deviation, form, term, A_low, n_low, Ea_low,
+    k_low_units, broadening, Fc, N, troe_alpha, troe_T3_K, troe_T1_K, troe_T2_K
 
-``A`` is in ``k_units`` times K^-n; k = A T^n exp(-Ea/RT) with T in K.
+``A`` is in ``k_units`` times K^-n; k = A T^n exp(-Ea/RT) with T in K. The
+``form`` says how the row's numbers make k: ``A``, ``n``, ``Ea`` are the one
+term of ``arrhenius``, term ``term`` of a ``sum`` (one row per term), the
+coefficient k0 of ``third-body`` and the high-pressure limit k_inf of
+``falloff`` and ``activated`` (in the unit of one order fewer than the
+equation's), whose low-pressure limit k0 is ``A_low``, ``n_low``, ``Ea_low``
+in ``k_low_units`` (the equation's order, M counted).
 """
 
 from __future__ import annotations
@@ -32,11 +42,14 @@ from ratebank.science.units import (
     rate_from_si,
     rate_units_by_order,
 )
+from ratebank.services.form_validation import FORM_COLUMNS, LIMIT_FORMS, high_pressure_order
 from ratebank.services.reverse import ReverseInfo, with_reverse
 from ratebank.services.selection import (
     ChosenRow,
     chosen_rows,
 )
+from ratebank.store.expressions import form_of
+from ratebank.store.queries import ExpressionRow
 
 COLUMNS = (
     "key",
@@ -59,6 +72,7 @@ COLUMNS = (
     "linearisation_max_ln_deviation",
     "reverse",
     "reverse_max_relative_deviation",
+    *FORM_COLUMNS,
 )
 FORMS = ("modified", "arrhenius")
 RATE_LAW_CONVENTION = (
@@ -124,6 +138,19 @@ class MechanismRow(NamedTuple):
     linearisation_max_ln_deviation: float | None
     reverse: str
     reverse_max_relative_deviation: float | None
+    form: str
+    term: int
+    A_low: float | None
+    n_low: float | None
+    Ea_low: float | None
+    k_low_units: str | None
+    broadening: str | None
+    Fc: float | None
+    N: float | None
+    troe_alpha: float | None
+    troe_T3_K: float | None
+    troe_T1_K: float | None
+    troe_T2_K: float | None
     expression_id: int
     chosen_by: str
 
@@ -211,7 +238,9 @@ def mechanism_table(
     With ``form="arrhenius"`` a row whose n is not 0 is replaced by its local
     two-parameter form (A T^n e^n, Ea + nRT) inside its own range: at
     ``linearise_at`` when given (refused for a row whose range does not hold
-    it), else at the geometric middle of the range. The row records the
+    it), else at the geometric middle of the range; only one-term rows
+    (``arrhenius``, ``third-body``) are linearised, the other forms keep
+    their n. The row records the
     temperature and the largest |ln k| deviation over its range, and its
     uncertainty factor includes that deviation. The reverse of a reversible
     reaction is described, or with ``reverse_as_fit`` written as a row of its
@@ -225,7 +254,7 @@ def mechanism_table(
     if form == "arrhenius":
         refused = []
         for c in chosen:
-            if c.n != 0:
+            if c.n != 0 and _form(c) in LINEARISED_FORMS:
                 found = _linearised(c, linearise_at)
                 if isinstance(found, str):
                     refused.append(found)
@@ -237,15 +266,79 @@ def mechanism_table(
                 f"rows: {'; '.join(refused[:20])}",
                 argument="linearise_at",
             )
-    factors = {
-        order: float(rate_from_si(1.0, units.k_unit(order), order))
-        for order in {c.order for c in chosen}
+    orders = {c.order for c in chosen} | {
+        high_pressure_order(_form(c), c.order) for c in chosen if _form(c) in LIMIT_FORMS
     }
+    factors = {order: float(rate_from_si(1.0, units.k_unit(order), order)) for order in orders}
     energy_factor = float(energy_from_si(1.0, units.e_units))
-    rows = [_row(c, linear.get(c.expression_id), units, factors, energy_factor) for c in chosen]
+    rows = [
+        row
+        for c in chosen
+        for row in _rows(c, linear.get(c.expression_id), units, factors, energy_factor)
+    ]
     rows, reverse = with_reverse(session, rows, units, as_fit=reverse_as_fit)
     left_out = gaps if leave_out_gaps else []
     return MechanismTable(rows, units, form, gaps, left_out=left_out, reverse=reverse)
+
+
+#: The forms whose row is one Arrhenius term, which a two-parameter export linearises.
+LINEARISED_FORMS = ("arrhenius", "third-body")
+
+
+def _form(c: ChosenRow) -> str:
+    """The row's form by name (the reaction's plain form when stored empty)."""
+    stored = c.expression.form if c.expression is not None else None
+    return form_of(stored, c.third_body)
+
+
+def _limit_columns(
+    e: ExpressionRow | None, order: int, units: ExportUnits, factors: dict[int, float], ef: float
+) -> dict[str, Any]:
+    """k0 in the units of the reaction's order and the broadening of a falloff or activated
+    expression (every column empty for the other forms)."""
+    empty: dict[str, Any] = dict.fromkeys(FORM_COLUMNS[2:])
+    if e is None or e.A_low is None:
+        return empty
+    kind = e.broadening or "none"
+    return {
+        **empty,
+        "A_low": round_significant(e.A_low * factors[order]),
+        "n_low": float(e.n_low or 0.0),
+        "Ea_low": round_significant((e.Ea_low or 0.0) * ef),
+        "k_low_units": units.k_unit(order),
+        "broadening": kind,
+        "Fc": e.Fc if kind == "fixed-fc" else None,
+        "N": e.N if kind == "fixed-fc" else None,
+        "troe_alpha": e.troe_alpha if kind == "troe" else None,
+        "troe_T3_K": e.troe_T3 if kind == "troe" else None,
+        "troe_T1_K": e.troe_T1 if kind == "troe" else None,
+        "troe_T2_K": e.troe_T2 if kind == "troe" else None,
+    }
+
+
+def _rows(
+    c: ChosenRow,
+    linear: _Linearised | None,
+    units: ExportUnits,
+    factors: dict[int, float],
+    energy_factor: float,
+) -> list[MechanismRow]:
+    """The rows of one reaction: one, or one per term of a ``sum``."""
+    first = _row(c, linear, units, factors, energy_factor)
+    if c.expression is None or not c.expression.terms:
+        return [first]
+    factor = factors[c.order]
+    return [first] + [
+        first._replace(
+            term=t.term,
+            A=round_significant(t.A * factor),
+            n=float(t.n),
+            Ea=round_significant(t.Ea * energy_factor),
+            T_min_K=t.T_min,
+            T_max_K=t.T_max,
+        )
+        for t in c.expression.terms
+    ]
 
 
 def _row(
@@ -258,16 +351,19 @@ def _row(
     A, n, Ea, f298 = c.A, c.n, c.Ea, c.uncertainty_factor
     if linear is not None:
         A, n, Ea, f298 = linear.A, 0.0, linear.Ea, linear.f298
+    form = _form(c)
+    # A of falloff and activated is k_inf, one concentration fewer than the equation
+    order = high_pressure_order(form, c.order)
     return MechanismRow(
         key=c.reaction_key,
         equation=c.equation,
         order=c.order,
         # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged),
         # rounded to 15 digits so that a value given in these units reads back as given
-        A=round_significant(A * factors[c.order]),
+        A=round_significant(A * factors[order]),
         n=float(n),
         Ea=round_significant(Ea * energy_factor),
-        k_units=units.k_unit(c.order),
+        k_units=units.k_unit(order),
         Ea_units=units.e_units,
         T_min_K=c.T_min,
         T_max_K=c.T_max,
@@ -281,6 +377,9 @@ def _row(
         linearisation_max_ln_deviation=linear.max_ln_deviation if linear is not None else None,
         reverse="none",  # filled by services.reverse
         reverse_max_relative_deviation=None,
+        form=form,
+        term=1,
+        **_limit_columns(c.expression, c.order, units, factors, energy_factor),
         expression_id=c.expression_id,
         chosen_by=c.rule,
     )

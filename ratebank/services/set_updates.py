@@ -29,7 +29,7 @@ from ratebank.services.updates import (
     record_changes,
     short_number,
 )
-from ratebank.services.validate import BAR_PA
+from ratebank.services.validate import BAR_PA, Problems
 from ratebank.store.set_updates import (
     SetPoints,
     StoredSet,
@@ -38,6 +38,7 @@ from ratebank.store.set_updates import (
     replace_set_points,
     update_set,
 )
+from ratebank.store.set_view import set_withdrawal
 
 #: Changed points named one by one in the history, at most.
 _POINTS_SHOWN = 10
@@ -91,9 +92,11 @@ def set_plan(
     stored: dict[str, StoredSet],
     given: StoredSetPoints,
     session: Session,
+    problems: Problems,
 ) -> SetPlan:
     """Compare each stored set of the file (``records``, with their validator index in
-    ``given``) with the stored one."""
+    ``given``) with the stored one. A changed set with withdrawn points is a problem: new
+    points would replace them, and a withdrawal is never lost."""
     plan = SetPlan()
     stored_points = points_of_sets(session, [s.id for s in stored.values()])
     for index, record in enumerate(records):
@@ -104,7 +107,15 @@ def set_plan(
         values, texts = _metadata_changes(record, before)
         old_points = stored_points[before.id]
         texts.extend(_point_changes(old_points, new_points, record))
-        if texts:
+        withdrawn = set_withdrawal(session, before.id)[1] if texts else 0
+        if withdrawn:
+            problems.add(
+                record.first_line,
+                "set",
+                f"measurement set {record.name!r} has {withdrawn} withdrawn points, which new "
+                "points would replace; reinstate them or edit the points one by one",
+            )
+        elif texts:
             plan.changes.append((record.name, texts))
             plan.writes.append((before, values, new_points))
         else:

@@ -16,7 +16,7 @@ imports, start fast.
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from dataclasses import replace as dataclass_replace
 from typing import NamedTuple
@@ -98,6 +98,39 @@ EXPRESSION_COLUMNS = (
 )
 EXPRESSION_REQUIRED = ("reaction", "Ea")
 EXPRESSION_ORIGINS = ("literature", "manual")
+#: The exported mechanism table's columns that an expressions file does not have: an
+#: exported ``mechanism.csv`` imports as an expressions file (:func:`as_expression_rows`).
+MECHANISM_COLUMNS = (
+    "key",
+    "equation",
+    "order",
+    "steric_factor",
+    "references",
+    "uncertainty_f298",
+    "uncertainty_g_K",
+    "linearised_at_K",
+    "linearisation_max_ln_deviation",
+    "reverse",
+    "reverse_max_relative_deviation",
+)
+#: Every column an expressions file may have: its own and the mechanism table's.
+EXPRESSION_FILE_COLUMNS = (*EXPRESSION_COLUMNS, *MECHANISM_COLUMNS)
+#: Origins of an exported row that come in as ``literature`` (the store's own fit or
+#: estimate of another store is a published number here); the provenance keeps it.
+EXPORTED_ORIGINS = ("measured-fit", "collision-estimate")
+#: The origin of an exported reverse row: derived from its forward row, not imported.
+DERIVED_ORIGIN = "detailed-balance-fit"
+#: The mechanism-table columns carried over into expressions-file columns.
+_MECHANISM_RENAMED = {
+    "key": "reaction",
+    "references": "reference",
+    "uncertainty_f298": "f298",
+    "uncertainty_g_K": "g_K",
+}
+#: The mechanism table's columns that are derived from others and not read back.
+_MECHANISM_DERIVED = ("uncertainty_factor", "origin", "equation", "order")
+#: The (internal) cell that carries an exported origin to the provenance.
+_EXPORTED_ORIGIN = "exported origin"
 
 DIAMETER_KINDS = ("hard-sphere", "lennard-jones")
 UNCERTAINTY_KINDS = ("relative", "absolute", "percent")
@@ -931,6 +964,8 @@ class ValidExpression:
     #: k0 (A, n, Ea in SI) of ``falloff`` and ``activated``
     low_pressure: ArrheniusTerm | None = None
     broadening: Broadening | None = None
+    #: the origin an exported mechanism row stated, when it came in as literature
+    exported_origin: str | None = None
 
 
 #: The expression file's column of each number of :func:`check_expression_values`.
@@ -954,6 +989,76 @@ def validate_expressions(
     resolver.prefetch({text for _, row in rows if (text := cell(row, "reaction")) is not None})
     found = (_valid_expression(problems, line, row, resolver) for line, row in rows)
     return _grouped_sums([expression for expression in found if expression is not None], problems)
+
+
+def check_expression_header(source: str, header: Sequence[str]) -> None:
+    """An expressions file names its reaction in ``reaction`` or, as an exported mechanism
+    table does, in ``key``: one of them (the header's other columns are checked on reading)."""
+    problems = Problems()
+    if "reaction" not in header and "key" not in header:
+        problems.add(1, "reaction", "required column is missing from the header")
+    if "reaction" in header and "key" in header:
+        problems.add(
+            1, "key", "the reaction is named twice (reaction and key); keep one of the columns"
+        )
+    if "key" not in header:
+        for column in MECHANISM_COLUMNS:
+            if column in header:
+                problems.add(
+                    1,
+                    column,
+                    "is a column of an exported mechanism table, which names its reaction in "
+                    "key; an expressions file with reaction does not read it",
+                )
+    if "key" in header:
+        for column in ("f298", "g_K", "dlogk298", "dE_R_K", "reference"):
+            if column in header:
+                problems.add(
+                    1,
+                    column,
+                    "is an expressions-file column, but this is a mechanism table (key); use "
+                    "its own column instead",
+                )
+    problems.raise_if_any(source)
+
+
+def as_expression_rows(rows: Iterable[Row]) -> list[Row]:
+    """Rows of an exported mechanism table (a ``key`` column) as expressions-file rows.
+
+    ``key`` is the reaction, ``references`` the reference, ``uncertainty_f298`` and
+    ``uncertainty_g_K`` the uncertainty (``uncertainty_factor``, the largest f(T) over the
+    range, is derived from them and not read); the text cells lose the one apostrophe the
+    export puts before a formula-like start. An exported ``measured-fit`` or
+    ``collision-estimate`` row comes in as ``literature``, its exported origin kept in the
+    provenance; a ``detailed-balance-fit`` row (a reverse the export derived from its
+    forward row) is left out, since the store derives it again from the reaction's reverse
+    rule. ``equation``, ``order``, ``steric_factor``, ``linearised_at_K``,
+    ``linearisation_max_ln_deviation``, ``reverse`` and ``reverse_max_relative_deviation``
+    are derived columns and are not read. Rows without ``key`` are returned unchanged.
+    """
+    found: list[Row] = []
+    for line, row in rows:
+        if "key" not in row:
+            found.append((line, row))
+            continue
+        origin = cell(row, "origin") or "literature"
+        if origin == DERIVED_ORIGIN:
+            continue
+        new: dict[str, str | None] = {
+            column: value
+            for column, value in row.items()
+            if column in EXPRESSION_COLUMNS and column not in _MECHANISM_DERIVED
+        }
+        for old, renamed in _MECHANISM_RENAMED.items():
+            value = row.get(old)
+            new[renamed] = value[1:] if value and value.startswith("'") else value
+        if origin in EXPORTED_ORIGINS:
+            new["origin"] = "literature"
+            new[_EXPORTED_ORIGIN] = origin
+        else:
+            new["origin"] = origin
+        found.append((line, new))
+    return found
 
 
 def _grouped_sums(valid: list[ValidExpression], problems: Problems) -> list[ValidExpression]:
@@ -1040,6 +1145,7 @@ def _valid_expression(
         term=shape.term,
         low_pressure=ArrheniusTerm(*shape.low) if shape.low else None,
         broadening=shape.broadening,
+        exported_origin=row.get(_EXPORTED_ORIGIN),
     )
 
 

@@ -128,8 +128,12 @@ def points_of_sets(session: Session, set_ids: Sequence[int]) -> dict[int, SetPoi
 
 def update_set(session: Session, set_id: int, values: Mapping[str, Any]) -> None:
     """Write ``values`` (:data:`SET_FIELDS`) onto a measurement set."""
-    if values:
-        session.execute(update(MeasurementSet).where(MeasurementSet.id == set_id).values(**values))
+    # a change of its metadata or its points is a new version of the set
+    session.execute(
+        update(MeasurementSet)
+        .where(MeasurementSet.id == set_id)
+        .values(**values, version=MeasurementSet.version + 1)
+    )
 
 
 def replace_set_points(session: Session, set_id: int, points: SetPoints) -> None:

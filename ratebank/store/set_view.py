@@ -50,9 +50,10 @@ class StoredSetView:
     source_file: str | None
     created_at: dt.datetime | None
     points: SetPoints
+    #: the id of each point, in the order of ``points``
+    point_ids: list[int]
     fits: list[FitUse]
-    #: withdrawal: the set itself, and how many of its points (no withdrawal columns on this
-    #: branch of the store: always False and 0 until they exist)
+    #: withdrawal: the set itself, and how many of its points
     withdrawn: bool
     withdrawn_points: int
 
@@ -86,6 +87,9 @@ def set_view(session: Session, name: str) -> StoredSetView:
     return StoredSetView(
         *row,
         points=set_points(session, set_id),
+        point_ids=list(
+            session.scalars(select(Point.id).where(Point.set_id == set_id).order_by(Point.id))
+        ),
         fits=_fits(session, fit_ids),
         withdrawn=withdrawn,
         withdrawn_points=withdrawn_points,

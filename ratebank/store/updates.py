@@ -82,7 +82,10 @@ def update_species(session: Session, name: str, values: Mapping[str, Any]) -> No
     unknown = set(values) - set(SPECIES_FIELDS)
     if unknown:
         raise ValueError(f"unknown species fields {sorted(unknown)}")
-    session.execute(update(Species).where(Species.name == name).values(**values))
+    # a change is a new version: an edit that read the old one is then refused
+    session.execute(
+        update(Species).where(Species.name == name).values(**values, version=Species.version + 1)
+    )
 
 
 # --------------------------------------------------------------------------- reactions
@@ -144,8 +147,11 @@ def update_reaction(
     """Write ``values`` (``equation``, ``reaction_order``, ``third_body``,
     ``reaction_class``, ``notes``, ``reverse``) onto a reaction; ``participants`` (species
     name, role, coefficient) replace its participants when given (a new equation)."""
-    if values:
-        session.execute(update(Reaction).where(Reaction.id == reaction_id).values(**values))
+    session.execute(
+        update(Reaction)
+        .where(Reaction.id == reaction_id)
+        .values(**values, version=Reaction.version + 1)
+    )
     if participants is None:
         return
     species_ids = dict(

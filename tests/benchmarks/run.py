@@ -364,7 +364,7 @@ def main() -> None:
             db = fresh_copy(full, work, "export.db")
             t1, r1 = run_process(ratebank(db, "estimate", "--keep-going", "--steric", "0.1"))
             t2, r2 = run_process(
-                ratebank(db, "export", str(work / "mechanism.csv"), "--leave-out-gaps")
+                ratebank(db, "export", str(work / "mechanism"), "--leave-out-gaps")
             )
             ours.append(t1 + t2)
             rss_ours.append(max(r1, r2))

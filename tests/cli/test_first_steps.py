@@ -75,10 +75,11 @@ def test_json_and_export_give_back_the_numbers_as_written(store, tmp_path):
         run(store, "rate", "ho2-ho2", "-T", "1500", "--k-units", "cm3/molecule/s", "--json").stdout
     )
     assert rate["rates"][0]["T_K"] == 1500.0
-    out = tmp_path / "mech.csv"
+    out = tmp_path / "mech"
     outcome = run(store, "export", str(out), "--preset", "atmospheric", "--leave-out-gaps")
     assert outcome.exit_code == 0, outcome.stderr
-    rows = {row["key"]: row for row in csv.DictReader(out.open(encoding="utf-8"))}
+    table = out / "mechanism.csv"
+    rows = {row["key"]: row for row in csv.DictReader(table.open(encoding="utf-8"))}
     assert rows["ho2-ho2"]["A"] == "1.4e-14"
     assert rows["ho2-ho2"]["Ea"] == "2000.0"
     # the export keeps the digits: 15 significant, at least the 6 the design asks for

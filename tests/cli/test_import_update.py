@@ -95,3 +95,30 @@ def test_data_show_of_an_unknown_set_is_one_line(filled):
     outcome = run(filled, "data", "show", "nope")
     assert outcome.exit_code == 1
     assert outcome.stderr.strip() == "Error: no measurement set 'nope' in the store"
+
+
+def test_data_show_says_what_in_the_set_is_withdrawn(filled):
+    record = json.loads(run(filled, "data", "show", "s1", "--json").stdout)
+    first = record["points"][0]["id"]
+    assert run(filled, "withdraw", "point", str(first), "--reason", "a spike").exit_code == 0
+    record = json.loads(run(filled, "data", "show", "s1", "--json").stdout)
+    assert (record["withdrawn"], record["withdrawn_points"]) == (False, 1)
+    assert run(filled, "withdraw", "set", "s1", "--reason", "contaminated").exit_code == 0
+    record = json.loads(run(filled, "data", "show", "s1", "--json").stdout)
+    assert record["withdrawn"] is True
+    assert "yes (1 points withdrawn)" in run(filled, "data", "show", "s1").stdout
+
+
+def test_an_update_that_would_replace_withdrawn_points_is_refused(filled, tmp_path):
+    record = json.loads(run(filled, "data", "show", "s1", "--json").stdout)
+    point = str(record["points"][0]["id"])
+    assert run(filled, "withdraw", "point", point, "--reason", "a spike").exit_code == 0
+    path = write(tmp_path / "grown.csv", MEASUREMENTS_CSV.replace("2.6e-14", "2.7e-14"))
+    before = snapshot(filled)
+    outcome = run(filled, "data", "import", str(path), "--update")
+    assert outcome.exit_code == 1
+    assert (
+        f"{path}:2: set: measurement set 's1' has 1 withdrawn points, which new points would "
+        "replace; reinstate them or edit the points one by one"
+    ) in outcome.stderr
+    assert snapshot(filled) == before

@@ -129,6 +129,20 @@ COLUMNS = [
     "linearisation_max_ln_deviation",
     "reverse",
     "reverse_max_relative_deviation",
+    # the form columns (the expressions file's names)
+    "form",
+    "term",
+    "A_low",
+    "n_low",
+    "Ea_low",
+    "k_low_units",
+    "broadening",
+    "Fc",
+    "N",
+    "troe_alpha",
+    "troe_T3_K",
+    "troe_T1_K",
+    "troe_T2_K",
 ]
 
 
@@ -384,7 +398,9 @@ def assert_valid_resource(descriptor: Path) -> None:
 
     report = frictionless.validate(str(descriptor))
     assert report.valid, report.flatten(["rowNumber", "fieldName", "type", "note"])
-    resource = frictionless.Resource(str(descriptor))
+    package = frictionless.Package.from_descriptor(str(descriptor))
+    assert [r.name for r in package.resources] == ["mechanism", "efficiencies", "species"]
+    resource = package.get_resource("mechanism")
     assert resource.tabular
     assert [f.name for f in resource.schema.fields] == COLUMNS
     _, rows = read_table(descriptor.with_name(resource.path))
@@ -413,13 +429,22 @@ UNIT_CHOICES = {
 def test_export_reproduces_independent_numbers(mechanism, out, choice):
     options, k2, k3, e_unit = UNIT_CHOICES[choice]
     k_units = {1: "s-1", 2: k2, 3: k3}
-    target = out / "mech.csv"
+    target = out / "mech"
     outcome = ok(mechanism, "export", str(target), *options)
-    descriptor = out / "mech.resource.json"
-    assert flat(outcome.stdout) == f"Wrote 6 reactions to {target} and {descriptor}"
-    assert listing(out) == ["mech.csv", "mech.resource.json"]
+    descriptor = target / "datapackage.json"
+    assert flat(outcome.stdout) == (
+        f"Wrote 6 reactions to the data package {target} (datapackage.json, mechanism.csv, "
+        "efficiencies.csv, species.csv)"
+    )
+    assert listing(out) == ["mech"]
+    assert listing(target) == [
+        "datapackage.json",
+        "efficiencies.csv",
+        "mechanism.csv",
+        "species.csv",
+    ]
 
-    header, rows = read_table(target)
+    header, rows = read_table(target / "mechanism.csv")
     assert header == COLUMNS
     assert sorted(rows) == sorted(MECHANISM_KEYS)
     expected = expected_rows()
@@ -441,6 +466,9 @@ def test_export_reproduces_independent_numbers(mechanism, out, choice):
             assert float(row["steric_factor"]) == pytest.approx(want["steric"], rel=1e-9), key
         assert float(row["uncertainty_factor"]) == pytest.approx(want["factor"], rel=1e-9)
         assert row["references"] == want["references"], key
+        # one Arrhenius term each: a reaction written with M is third-body, no k0 columns
+        assert row["form"] == ("third-body" if " M " in row["equation"] + " " else "arrhenius")
+        assert row["term"] == "1" and all(row[c] == "" for c in COLUMNS[-11:]), key
         left, right = (side(s) for s in REACTIONS[key][0].split(" -> "))
         got_left, got_right = (side(s) for s in row["equation"].split(" -> "))
         assert (got_left, got_right) == (left, right), key
@@ -471,8 +499,12 @@ def test_export_reproduces_independent_numbers(mechanism, out, choice):
     # 2: the descriptor
     assert_valid_resource(descriptor)
     meta = json.loads(descriptor.read_text(encoding="utf-8"))
-    assert meta["profile"] == "tabular-data-resource"
-    assert meta["path"] == "mech.csv"
+    assert meta["profile"] == "tabular-data-package"
+    assert [r["path"] for r in meta["resources"]] == [
+        "mechanism.csv",
+        "efficiencies.csv",
+        "species.csv",
+    ]
     extra = meta["ratebank"]
     from ratebank import __version__
 
@@ -495,23 +527,23 @@ def test_export_reproduces_independent_numbers(mechanism, out, choice):
     assert extra["chosen_by"]["oh-oh"]["rule"] == "newest collision estimate"
 
     # the fingerprint is of the content: a second export of the same store gives the same
-    ok(mechanism, "export", str(out / "again.csv"), *options)
-    again = json.loads((out / "again.resource.json").read_text(encoding="utf-8"))
+    ok(mechanism, "export", str(out / "again"), *options)
+    again = json.loads((out / "again" / "datapackage.json").read_text(encoding="utf-8"))
     assert again["ratebank"]["store_fingerprint"] == extra["store_fingerprint"]
 
 
 def test_descriptor_validation_catches_a_corrupted_table(mechanism, out, tmp_path):
-    ok(mechanism, "export", str(out / "mech.csv"))
+    ok(mechanism, "export", str(out / "mech"))
     bad = tmp_path / "bad"
     shutil.copytree(out, bad)
-    text = (bad / "mech.csv").read_text(encoding="utf-8").splitlines()
+    text = (bad / "mech" / "mechanism.csv").read_text(encoding="utf-8").splitlines()
     cells = text[1].split(",")
     cells[3] = "not-a-number"
     text[1] = ",".join(cells)
-    write(bad / "mech.csv", "\n".join(text) + "\n")
+    write(bad / "mech" / "mechanism.csv", "\n".join(text) + "\n")
     import frictionless  # frictionless package (Table Schema reference implementation)
 
-    report = frictionless.validate(str(bad / "mech.resource.json"))
+    report = frictionless.validate(str(bad / "mech" / "datapackage.json"))
     assert not report.valid
     assert ["A", "type-error"] in report.flatten(["fieldName", "type"])
 
@@ -520,8 +552,8 @@ def test_exported_table_reproduces_k_of_the_store(mechanism, out):
     from ratebank.services.rates import rate
     from ratebank.services.store_access import open_store
 
-    ok(mechanism, "export", str(out / "mech.csv"), "--preset", "atmospheric")
-    _, rows = read_table(out / "mech.csv")
+    ok(mechanism, "export", str(out / "mech"), "--preset", "atmospheric")
+    _, rows = read_table(out / "mech" / "mechanism.csv")
     handle = open_store(mechanism)
     try:
         with handle.session() as session:
@@ -669,7 +701,7 @@ def test_estimate_without_a_steric_factor_writes_nothing(gappy, out):
 
 def test_export_with_gaps_writes_nothing(gappy, out):
     before = snapshot(gappy)
-    outcome = run(gappy, "export", str(out / "mech.csv"))
+    outcome = run(gappy, "export", str(out / "mech"))
     assert outcome.exit_code == 1
     assert outcome.stderr.strip() == (
         "Error: 2 reaction(s) have no usable expression, so nothing was written: ch4-o2, "
@@ -680,19 +712,19 @@ def test_export_with_gaps_writes_nothing(gappy, out):
 
 
 def test_export_leaving_out_gaps_lists_them(gappy, out):
-    outcome = ok(gappy, "export", str(out / "mech.csv"), "--leave-out-gaps")
+    outcome = ok(gappy, "export", str(out / "mech"), "--leave-out-gaps")
     assert flat(outcome.stdout).endswith("; left out 2: ch4-o2, oh-h2")
-    _, rows = read_table(out / "mech.csv")
+    _, rows = read_table(out / "mech" / "mechanism.csv")
     assert list(rows) == ["oh-ch4"]
-    meta = json.loads((out / "mech.resource.json").read_text(encoding="utf-8"))
+    meta = json.loads((out / "mech" / "datapackage.json").read_text(encoding="utf-8"))
     assert meta["ratebank"]["left_out"] == ["ch4-o2", "oh-h2"]
     assert meta["ratebank"]["rows"] == 1
-    assert_valid_resource(out / "mech.resource.json")
+    assert_valid_resource(out / "mech" / "datapackage.json")
 
 
 def test_export_into_a_missing_folder_writes_nothing(fitted, tmp_path):
     before = snapshot(fitted)
-    target = tmp_path / "nowhere" / "mech.csv"
+    target = tmp_path / "nowhere" / "mech"
     outcome = run(fitted, "export", str(target))
     assert outcome.exit_code == 1
     assert outcome.stderr.strip() == (
@@ -711,7 +743,7 @@ def test_export_into_a_read_only_folder_writes_nothing(fitted, out):
     before = snapshot(fitted)
     out.chmod(0o500)
     try:
-        outcome = run(fitted, "export", str(out / "mech.csv"))
+        outcome = run(fitted, "export", str(out / "mech"))
         assert outcome.exit_code == 1
         assert outcome.stderr.strip() == f"Error: folder {out} is not writable; nothing was written"
         assert listing(out) == []
@@ -732,28 +764,40 @@ def test_export_into_a_folder_reported_unwritable_writes_nothing(fitted, out, mo
 
     monkeypatch.setattr(export_module.os, "access", access)
     before = snapshot(fitted)
-    outcome = run(fitted, "export", str(out / "mech.csv"))
+    outcome = run(fitted, "export", str(out / "mech"))
     assert outcome.exit_code == 1
     assert outcome.stderr.strip() == f"Error: folder {out} is not writable; nothing was written"
     assert listing(out) == []
     assert snapshot(fitted) == before
 
 
-def test_export_onto_a_folder_writes_nothing(fitted, out):
-    (out / "taken.csv").mkdir()
+def test_export_onto_a_folder_of_other_files_or_a_file_writes_nothing(fitted, out):
+    (out / "taken").mkdir()
+    (out / "taken" / "notes.txt").write_text("the user's own")
+    (out / "plain").write_text("a file")
     before = snapshot(fitted)
-    outcome = run(fitted, "export", str(out / "taken.csv"))
+    outcome = run(fitted, "export", str(out / "taken"))
     assert outcome.exit_code == 1
-    assert "is a folder; give a file name such as mechanism.csv" in outcome.stderr
-    assert listing(out) == ["taken.csv"]
+    assert "holds files that ratebank did not write (notes.txt)" in outcome.stderr
+    assert listing(out / "taken") == ["notes.txt"]
+    outcome = run(fitted, "export", str(out / "plain"))
+    assert outcome.exit_code == 1
+    assert "plain exists and is not a folder" in outcome.stderr
+    assert (out / "plain").read_text() == "a file"
+    # the earlier layout's file name is answered with what an export is now
+    outcome = run(fitted, "export", str(out / "mech.csv"))
+    assert outcome.exit_code == 1
+    assert "an export is a folder (a data package" in outcome.stderr
+    assert "give a folder name such as mech" in outcome.stderr
+    assert listing(out) == ["plain", "taken"]
     assert snapshot(fitted) == before
 
 
 def test_two_parameter_export_linearises_each_row_inside_its_range(mechanism, out):
-    ok(mechanism, "export", str(out / "mod.csv"))
-    ok(mechanism, "export", str(out / "lin.csv"), "--form", "arrhenius")
-    _, modified = read_table(out / "mod.csv")
-    _, linear = read_table(out / "lin.csv")
+    ok(mechanism, "export", str(out / "mod"))
+    ok(mechanism, "export", str(out / "lin"), "--form", "arrhenius")
+    _, modified = read_table(out / "mod" / "mechanism.csv")
+    _, linear = read_table(out / "lin" / "mechanism.csv")
     assert list(linear) == list(modified)
     curved = [key for key, row in modified.items() if float(row["n"]) != 0.0]
     assert curved == ["h-o2-m", "oh-ch4", "oh-h2", "oh-oh"]
@@ -772,19 +816,19 @@ def test_two_parameter_export_linearises_each_row_inside_its_range(mechanism, ou
         assert deviation.max() <= float(row["linearisation_max_ln_deviation"]) * (1 + 1e-9)
         for column in ("key", "order", "k_units", "T_min_K", "T_max_K", "origin", "references"):
             assert row[column] == base[column]
-    meta = json.loads((out / "lin.resource.json").read_text(encoding="utf-8"))
+    meta = json.loads((out / "lin" / "datapackage.json").read_text(encoding="utf-8"))
     assert meta["ratebank"]["form"] == "arrhenius"
     assert [entry["key"] for entry in meta["ratebank"]["linearised"]] == curved
-    assert_valid_resource(out / "lin.resource.json")
+    assert_valid_resource(out / "lin" / "datapackage.json")
 
     # a linearisation temperature outside a row's range is refused, naming the rows
     before = snapshot(mechanism)
-    refused = run(mechanism, "export", str(out / "x.csv"), "--form", "arrhenius",
+    refused = run(mechanism, "export", str(out / "x"), "--form", "arrhenius",
                   "--linearise-at", "5000")  # fmt: skip
     assert refused.exit_code == 1
     assert refused.stderr.startswith("Error: 4 expression(s) with n != 0 cannot be written")
     assert "5000 K is outside" in refused.stderr and "(option --linearise-at)" in refused.stderr
-    assert not (out / "x.csv").exists()
+    assert not (out / "x").exists()
     assert snapshot(mechanism) == before
 
 
@@ -795,8 +839,8 @@ def test_recommend_changes_the_exported_expression(mechanism, out, tmp_path):
     literature = {"o-o3": "1.0e-11,0,2200,K,cm3/molecule/s,220,380,1.3,made-up evaluation"}
     path = write(tmp_path / "lit.csv", expressions_csv(literature))
     ok(mechanism, "expressions", "import", str(path))
-    ok(mechanism, "export", str(out / "first.csv"), "--preset", "atmospheric")
-    _, first = read_table(out / "first.csv")
+    ok(mechanism, "export", str(out / "first"), "--preset", "atmospheric")
+    _, first = read_table(out / "first" / "mechanism.csv")
     assert first["o-o3"]["origin"] == "measured-fit"
 
     records = json.loads(
@@ -813,8 +857,8 @@ def test_recommend_changes_the_exported_expression(mechanism, out, tmp_path):
     assert flat(done.stdout) == (
         f"Expression {lit_id} (literature) is now the recommended one for o-o3."
     )
-    ok(mechanism, "export", str(out / "second.csv"), "--preset", "atmospheric")
-    _, second = read_table(out / "second.csv")
+    ok(mechanism, "export", str(out / "second"), "--preset", "atmospheric")
+    _, second = read_table(out / "second" / "mechanism.csv")
     row = second["o-o3"]
     assert row["origin"] == "literature"
     assert float(row["A"]) == pytest.approx(1.0e-11, rel=1e-9)
@@ -824,8 +868,8 @@ def test_recommend_changes_the_exported_expression(mechanism, out, tmp_path):
     assert {k: v for k, v in second.items() if k != "o-o3"} == {
         k: v for k, v in first.items() if k != "o-o3"
     }
-    meta_first = json.loads((out / "first.resource.json").read_text(encoding="utf-8"))
-    meta = json.loads((out / "second.resource.json").read_text(encoding="utf-8"))
+    meta_first = json.loads((out / "first" / "datapackage.json").read_text(encoding="utf-8"))
+    meta = json.loads((out / "second" / "datapackage.json").read_text(encoding="utf-8"))
     assert meta["ratebank"]["chosen_by"]["o-o3"] == {"expression_id": lit_id, "rule": "recommended"}
     assert meta["ratebank"]["store_fingerprint"] != meta_first["ratebank"]["store_fingerprint"]
 
@@ -958,8 +1002,8 @@ def test_weighted_fit_and_its_uncertainty_match_a_hand_least_squares(store, tmp_
     ]
     load(store, tmp_path / "in", ["OH", "CH4", "CH3", "H2O"], ["oh-ch4"], ["\n".join(lines)])
     ok(store, "fit", "--form", "modified")
-    ok(store, "export", str(out / "mech.csv"), "--preset", "si")
-    _, rows = read_table(out / "mech.csv")
+    ok(store, "export", str(out / "mech"), "--preset", "si")
+    _, rows = read_table(out / "mech" / "mechanism.csv")
     row = rows["oh-ch4"]
 
     # weighted linear least squares in ln k with sigma_ln_k = u (first-order, common

@@ -219,13 +219,13 @@ def test_set_reverse_and_export_with_reverse_rows(filled, tmp_path):
     bad = run(filled, "thermo", "set-reverse", "oh-h2", "both")
     assert bad.exit_code == 1
     assert "unknown reverse rule 'both'; expected one of none, detailed-balance" in bad.stderr
-    out = tmp_path / "m.csv"
+    out = tmp_path / "m"
     ok(filled, "export", str(out), "--reverse-as-fit", "--leave-out-gaps")
-    keys = [line.split(",")[0] for line in out.read_text().splitlines()[1:]]
+    keys = [line.split(",")[0] for line in (out / "mechanism.csv").read_text().splitlines()[1:]]
     assert keys == ["h-o2", "h-o2:reverse", "oh-h2", "oh-h2:reverse"]
     ok(filled, "thermo", "set-reverse", "oh-h2", "none")
     ok(filled, "export", str(out), "--leave-out-gaps")
-    descriptor = json.loads(out.with_name("m.resource.json").read_text())
+    descriptor = json.loads((out / "datapackage.json").read_text())
     assert descriptor["ratebank"]["reverse"]["reversible"] == ["h-o2"]
 
 

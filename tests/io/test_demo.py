@@ -13,11 +13,11 @@ def test_demo_builds_fits_estimates_and_exports(tmp_path):
     assert "every rate number in it is synthetic" in outcome.stdout
     assert "Caution:" in outcome.stdout
     for preset in ("combustion", "atmospheric"):
-        assert (out / f"mechanism-{preset}.csv").is_file()
-        assert (out / f"mechanism-{preset}.resource.json").is_file()
+        assert (out / f"mechanism-{preset}" / "mechanism.csv").is_file()
+        assert (out / f"mechanism-{preset}" / "datapackage.json").is_file()
     import csv
 
-    with (out / "mechanism-atmospheric.csv").open(encoding="utf-8") as handle:
+    with (out / "mechanism-atmospheric" / "mechanism.csv").open(encoding="utf-8") as handle:
         rows = {r["key"]: r for r in csv.DictReader(handle)}
     origins = {r["origin"] for r in rows.values()}
     assert origins == {"measured-fit", "literature", "collision-estimate"}

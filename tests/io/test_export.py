@@ -57,10 +57,10 @@ def _rows(path: Path) -> list[dict[str, str]]:
 
 
 def test_formula_like_text_cells_get_an_apostrophe_and_numbers_stay(store, tmp_path):
-    out = tmp_path / "m.csv"
+    out = tmp_path / "m"
     outcome = run(store, "export", str(out))
     assert outcome.exit_code == 0, outcome.stderr
-    rows = {row["key"]: row for row in _rows(out)}
+    rows = {row["key"]: row for row in _rows(out / "mechanism.csv")}
     assert set(rows) == {"'" + key for key in FORMULA_KEYS} | {"plain"}
     for row in rows.values():
         assert row["Ea"] == "-2.5"  # numbers are written as they are
@@ -71,7 +71,7 @@ def test_formula_like_text_cells_get_an_apostrophe_and_numbers_stay(store, tmp_p
     assert references == {"'" + r for r in REFERENCES[:4]} | {"a plain one"}
     # removing the one leading apostrophe gives the stored text back
     assert {k[1:] if k.startswith("'") else k for k in rows} == {*FORMULA_KEYS, "plain"}
-    descriptor = json.loads(out.with_name("m.resource.json").read_text(encoding="utf-8"))
+    descriptor = json.loads((out / "datapackage.json").read_text(encoding="utf-8"))
     rule = descriptor["ratebank"]["text_cells"]
     assert (
         "apostrophe" in rule and "=, +, -, @" in rule and "Numbers are written as they are" in rule
@@ -101,9 +101,9 @@ def test_neutralised_text(cell, written):
 
 def test_the_export_still_validates_as_a_table(store, tmp_path):
     frictionless = pytest.importorskip("frictionless")
-    out = tmp_path / "m.csv"
+    out = tmp_path / "m"
     assert run(store, "export", str(out)).exit_code == 0
-    report = frictionless.validate(str(out.with_name("m.resource.json")))
+    report = frictionless.validate(str(out / "datapackage.json"))
     assert report.valid, report.flatten(["rowNumber", "fieldName", "type", "note"])
 
 
@@ -121,8 +121,8 @@ def test_export_onto_the_store_is_refused_and_the_store_keeps_working(store, tmp
     path = _sqlite_only(store)
     targets = {
         "itself": path,
-        "hard-link": tmp_path / "hard.csv",
-        "symbolic-link": tmp_path / "soft.csv",
+        "hard-link": tmp_path / "hard",
+        "symbolic-link": tmp_path / "soft",
         "dotted-path": path.parent / "." / path.name,
         "wal": Path(f"{path}-wal"),
     }
@@ -183,7 +183,7 @@ def test_a_fifo_or_a_device_is_never_replaced(store, tmp_path, command):
 
 
 def test_the_refusal_names_what_the_target_is(store, tmp_path):
-    fifo = tmp_path / "m.csv"
+    fifo = tmp_path / "m"
     os.mkfifo(fifo)
     outcome = run(store, "export", str(fifo))
     assert outcome.stderr == (
@@ -201,12 +201,15 @@ def test_the_refusal_names_what_the_target_is(store, tmp_path):
 def test_exports_honour_the_umask(store, tmp_path, mask):
     old = os.umask(mask)
     try:
-        outcome = run(store, "export", str(tmp_path / "m.csv"))
+        outcome = run(store, "export", str(tmp_path / "m"))
     finally:
         os.umask(old)
     assert outcome.exit_code == 0, outcome.stderr
-    for name in ("m.csv", "m.resource.json"):
-        assert (tmp_path / name).stat().st_mode & 0o777 == 0o666 & ~mask, name
+    assert (tmp_path / "m").stat().st_mode & 0o777 == 0o777 & ~mask
+    names = ("datapackage.json", "mechanism.csv", "efficiencies.csv", "species.csv")
+    assert sorted(p.name for p in (tmp_path / "m").iterdir()) == sorted(names)
+    for name in names:
+        assert (tmp_path / "m" / name).stat().st_mode & 0o777 == 0o666 & ~mask, name
 
 
 # --------------------------------------------------------------------------- temporary files
@@ -215,14 +218,14 @@ def test_exports_honour_the_umask(store, tmp_path, mask):
 def test_cleanup_never_treats_the_output_name_as_a_pattern(store, tmp_path):
     folder = tmp_path / "d"
     folder.mkdir()
-    bystanders = [".thesis.draft.tmp", ".notes.x.tmp", ".m.csv.abc.tmp"]
+    bystanders = [".thesis.draft.tmp", ".notes.x.tmp", ".m.abc.tmp"]
     an_hour_ago = time.time() - 7200
     for name in bystanders:
         (folder / name).write_text("someone's work")
         os.utime(folder / name, (an_hour_ago, an_hour_ago))
     outcome = run(store, "export", str(folder / "*"))
     assert outcome.exit_code == 0, outcome.stderr
-    assert sorted(p.name for p in folder.iterdir()) == sorted([*bystanders, "*", "*.resource.json"])
+    assert sorted(p.name for p in folder.iterdir()) == sorted([*bystanders, "*"])
     for name in bystanders:
         assert (folder / name).read_text() == "someone's work"
 
@@ -232,19 +235,23 @@ def test_a_failed_export_leaves_no_temporary_file(store, tmp_path, monkeypatch):
 
     out = tmp_path / "out"
     out.mkdir()
-    (out / "m.csv").write_text("the earlier table")
+    assert run(store, "export", str(out / "m")).exit_code == 0
+    earlier = {p.name: p.read_bytes() for p in (out / "m").iterdir()}
+    (out / "m" / "mechanism.csv").write_bytes(b"the earlier table")
+    earlier["mechanism.csv"] = b"the earlier table"
 
     def full(descriptor):
         raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
 
     before = snapshot(store)
     monkeypatch.setattr(os, "fsync", full)
-    outcome = run(store, "export", str(out / "m.csv"))
+    outcome = run(store, "export", str(out / "m"))
     monkeypatch.undo()
     assert outcome.exit_code == 1
-    assert outcome.stderr == (
-        f"Error: No space left on device: writing {out / 'm.csv'}; nothing was written\n"
-    )
-    assert sorted(p.name for p in out.iterdir()) == ["m.csv"]
-    assert (out / "m.csv").read_text() == "the earlier table"
+    assert outcome.stderr.startswith(f"Error: No space left on device: writing {out / 'm'}")
+    assert outcome.stderr.endswith("; nothing was written\n")
+    assert len(outcome.stderr.splitlines()) == 1
+    # the earlier package is there, whole, and nothing else
+    assert sorted(p.name for p in out.iterdir()) == ["m"]
+    assert {p.name: p.read_bytes() for p in (out / "m").iterdir()} == earlier
     assert snapshot(store) == before

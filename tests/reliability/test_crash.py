@@ -133,7 +133,7 @@ def test_ctrl_c_mid_import_is_one_line_and_writes_nothing(filled, big_csv):
 
 
 def _temporaries(folder: Path, name: str) -> list[Path]:
-    """The files staged by an export of ``name`` (inside its staging folder)."""
+    """The files staged by an export of ``name`` (anywhere inside its staging folder)."""
     stages = [
         p
         for p in folder.iterdir()
@@ -141,25 +141,28 @@ def _temporaries(folder: Path, name: str) -> list[Path]:
             rf"\.{re.escape(name)}\.ratebank-[0-9a-f]{{8}}-[0-9]+-[0-9a-f]{{16}}", p.name
         )
     ]
-    return [f for stage in stages for f in stage.iterdir()]
+    return [f for stage in stages for f in stage.rglob("*") if f.is_file()]
+
+
+def _package(target: Path) -> dict[str, bytes]:
+    return {p.name: p.read_bytes() for p in target.iterdir()} if target.exists() else {}
 
 
 @pytest.mark.parametrize("previous", [False, True], ids=["first-export", "over-previous"])
 def test_sigkill_mid_export_leaves_no_half_written_file(filled, cli, tmp_path, previous):
     folder = tmp_path / "out"
     folder.mkdir()
-    table = folder / "mechanism.csv"
-    descriptor = folder / "mechanism.resource.json"
+    target = folder / "mechanism"
     if previous:
-        first = cli(filled, "export", str(table), "--leave-out-gaps")
+        first = cli(filled, "export", str(target), "--leave-out-gaps")
         assert first.exit_code == 0, first.stderr
-        old_table, old_descriptor = table.read_bytes(), descriptor.read_bytes()
+        old = _package(target)
         # the next export would write something else
         assert cli(filled, "fit", "oh-ch4").exit_code == 0
     before = _state(filled)
     listing = sorted(p.name for p in folder.iterdir())
     process = subprocess.Popen(
-        [sys.executable, str(WORKERS), "slow-export", filled, str(table)],
+        [sys.executable, str(WORKERS), "slow-export", filled, str(target)],
         stdout=subprocess.PIPE,
         stderr=subprocess.PIPE,
         text=True,
@@ -167,7 +170,7 @@ def test_sigkill_mid_export_leaves_no_half_written_file(filled, cli, tmp_path, p
     deadline = time.monotonic() + 60
     # The worker's disk never finishes syncing: the first temporary file is written and
     # flushed, and the process waits on fsync with nothing renamed yet.
-    while not any(p.stat().st_size > 0 for p in _temporaries(folder, table.name)):
+    while not any(p.stat().st_size > 0 for p in _temporaries(folder, target.name)):
         assert process.poll() is None, process.communicate()[1]
         assert time.monotonic() < deadline, "the export never started writing"
         time.sleep(0.005)
@@ -177,18 +180,17 @@ def test_sigkill_mid_export_leaves_no_half_written_file(filled, cli, tmp_path, p
 
     assert _state(filled) == before  # not even the export's audit entry
     if previous:
-        assert table.read_bytes() == old_table
-        assert descriptor.read_bytes() == old_descriptor
+        assert _package(target) == old
     else:
-        assert not table.exists()
-        assert not descriptor.exists()
+        assert not target.exists()
     visible = sorted(p.name for p in folder.iterdir() if not p.name.startswith("."))
     assert visible == [name for name in listing if not name.startswith(".")]
     # What the kill leaves is at most the hidden staging folder, never a half target.
-    assert len(_temporaries(folder, table.name)) <= 1
+    assert len(_temporaries(folder, target.name)) <= 1
 
-    again = cli(filled, "export", str(table), "--leave-out-gaps")
+    again = cli(filled, "export", str(target), "--leave-out-gaps")
     assert again.exit_code == 0, again.stderr
+    table = target / "mechanism.csv"
     assert table.read_text(encoding="utf-8").startswith("key,equation,order,A,n,Ea,")
     # the next export cleared what the killed one left (its process is gone)
-    assert sorted(p.name for p in folder.iterdir()) == ["mechanism.csv", "mechanism.resource.json"]
+    assert sorted(p.name for p in folder.iterdir()) == ["mechanism"]

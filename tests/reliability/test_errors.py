@@ -355,7 +355,7 @@ ARGUMENTS = {
     "check": [],
     "rate": ["oh-ch4", "-T", "300"],
     "recommend": ["oh-ch4", "1"],
-    "export": ["{tmp}/m.csv"],
+    "export": ["{tmp}/m"],
     "plot": ["oh-ch4", "-o", "{tmp}/p.png"],
     "review": ["{tmp}/book"],
     "species add": ["O2", "O2"],
@@ -425,7 +425,7 @@ def test_every_command_reports_a_broken_store_in_one_line(
         assert "pg_dump" in message
     else:
         assert "Connection refused" in message
-    assert not (tmp_path / "m.csv").exists()
+    assert not (tmp_path / "m").exists()
     assert not (tmp_path / "b.db").exists()
 
 

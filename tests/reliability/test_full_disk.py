@@ -88,11 +88,12 @@ def test_a_full_disk_during_an_export_names_the_file(store, cli, tmp_path, monke
 
     before = snapshot(store)
     monkeypatch.setattr(os, "fsync", full)
-    outcome = cli(store, "export", str(out / "m.csv"), "--leave-out-gaps")
+    outcome = cli(store, "export", str(out / "m"), "--leave-out-gaps")
     monkeypatch.undo()
     assert outcome.exit_code == 1
     assert outcome.stderr == (
-        f"Error: No space left on device: writing {out / 'm.csv'}; nothing was written\n"
+        f"Error: No space left on device: writing {out / 'm' / 'mechanism.csv'}; nothing was "
+        "written\n"
     )
     assert list(out.iterdir()) == []
     assert snapshot(store) == before

@@ -1,18 +1,17 @@
 """A ratebank killed after each internal step of an export or of an upgrade loses nothing.
 
 Export: the safe-output routine kills its own process (SIGKILL) right after the
-step named by ``RATEBANK_TEST_KILL_AFTER``. After each kill, and whether or not a
+step named by ``RATEBANK_TEST_KILL_AFTER``. The export writes a folder (a data
+package), staged whole beside its target and moved in (first export) or swapped
+with the old one in one atomic exchange. After each kill, and whether or not a
 previous export was there:
 
 * the store is exactly as before (the export's history entry is committed only
-  after the files are in place);
-* the two files are the complete old output or the complete new output, except
-  after the kill between the two renames, when the new table stands beside the
-  old descriptor with the commit marker that says how to finish (the routine's
-  documented limit: two names cannot be renamed at once);
+  after the folder is in place);
+* the folder is the complete old package (or absent, before a first export) until
+  the move or swap, and the complete new one from then on: never a mix;
 * the next run (every write first finishes or removes what a dead writer of the
-  same target left) leaves the complete old output (killed before the commit
-  marker) or the complete new one (killed after it), and no staging folder.
+  same target left) leaves no staging folder, and the next export the new package.
 
 Upgrade: ``init`` on a store at the first revision is killed after each step of
 its one transaction and after the commit. Each time the store is either as it
@@ -39,19 +38,19 @@ from ratebank.store.engine import create_store_engine, database_url
 from ratebank.store.schema import HEAD_REVISION, KNOWN_REVISIONS, current_revision, upgrade_store
 
 WORKERS = Path(__file__).with_name("workers.py")
-TABLE, DESCRIPTOR = "mechanism.csv", "mechanism.resource.json"
-#: Every step of the export's write, in order (safe_output.STEP_NAMES for two files).
-EXPORT_STEPS = [
-    "stage-created",
-    f"written:{TABLE}",
-    f"written:{DESCRIPTOR}",
-    "committed",
-    f"moved:{TABLE}",
-    f"moved:{DESCRIPTOR}",
-    "cleaned",
-]
-COMMIT_STEP = EXPORT_STEPS.index("committed")
-STAGING = re.compile(r"\.mechanism\.csv\.ratebank-[0-9a-f]{8}-[0-9]+-[0-9a-f]{16}")
+PACKAGE = "mech"
+DESCRIPTOR = "datapackage.json"
+#: The package's files, in the order the export writes them.
+FILES = ("mechanism.csv", "efficiencies.csv", "species.csv", DESCRIPTOR)
+
+
+def export_steps(previous: bool) -> list[str]:
+    """Every step of the export's write, in order (safe_output.STEP_NAMES for a folder)."""
+    placed = "swapped" if previous else f"moved:{PACKAGE}"
+    return ["stage-created", *(f"written:{name}" for name in FILES), placed, "cleaned"]
+
+
+STAGING = re.compile(r"\.mech\.ratebank-[0-9a-f]{8}-[0-9]+-[0-9a-f]{16}")
 
 
 def _ratebank(db, *args, env=None):
@@ -72,29 +71,34 @@ def _descriptor_content(raw: bytes) -> dict:
     return descriptor
 
 
-def _output(folder: Path):
-    table, descriptor = folder / TABLE, folder / DESCRIPTOR
-    return (
-        table.read_bytes() if table.exists() else None,
-        _descriptor_content(descriptor.read_bytes()) if descriptor.exists() else None,
-    )
+def _output(package: Path):
+    """The package's files (None for a missing one), the descriptor without its times."""
+    found = {}
+    for name in FILES:
+        path = package / name
+        raw = path.read_bytes() if path.exists() else None
+        found[name] = _descriptor_content(raw) if name == DESCRIPTOR and raw else raw
+    return found
 
 
 def _staging(folder: Path) -> list[Path]:
     return [p for p in folder.iterdir() if STAGING.fullmatch(p.name)]
 
 
-@pytest.mark.parametrize("previous", [False, True], ids=["first-export", "over-previous"])
-@pytest.mark.parametrize("step", EXPORT_STEPS)
+@pytest.mark.parametrize(
+    ("previous", "step"),
+    [(previous, step) for previous in (False, True) for step in export_steps(previous)],
+    ids=lambda value: {False: "first-export", True: "over-previous"}.get(value, value),
+)
 def test_an_export_killed_after_any_step_leaves_old_or_new(filled, cli, tmp_path, step, previous):
     folder = tmp_path / "out"
     folder.mkdir()
-    target = folder / TABLE
+    target = folder / PACKAGE
     if previous:
         first = cli(filled, "export", str(target), "--leave-out-gaps")
         assert first.exit_code == 0, first.stderr
         assert cli(filled, "fit", "oh-ch4").exit_code == 0  # the next export differs
-    old = _output(folder)
+    old = _output(target)
     before = _state(filled)
 
     killed = _ratebank(
@@ -105,52 +109,51 @@ def test_an_export_killed_after_any_step_leaves_old_or_new(filled, cli, tmp_path
         env={safe_output.KILL_AFTER_VARIABLE: step},
     )
     assert killed.returncode == -signal.SIGKILL, killed.stderr
-    after_kill = _output(folder)
+    after_kill = _output(target)
     assert _state(filled) == before  # not even a history entry
 
     # what a complete export writes now (the store is unchanged)
     reference = tmp_path / "reference"
     reference.mkdir()
-    assert cli(filled, "export", str(reference / TABLE), "--leave-out-gaps").exit_code == 0
-    new = _output(reference)
+    made = cli(filled, "export", str(reference / PACKAGE), "--leave-out-gaps")
+    assert made.exit_code == 0
+    new = _output(reference / PACKAGE)
     assert new != old
 
-    index = EXPORT_STEPS.index(step)
-    staged = _staging(folder)
-    if index < COMMIT_STEP:
-        assert after_kill == old
-    elif step == f"moved:{TABLE}":
-        # the documented limit: the new table beside the old descriptor, with the marker
-        assert after_kill == (new[0], old[1])
-        assert len(staged) == 1 and (staged[0] / safe_output.COMMIT_MARKER).is_file()
-    elif step == "committed":
-        assert after_kill == old
-        assert (staged[0] / safe_output.COMMIT_MARKER).is_file()
-    else:
-        assert after_kill == new
-    assert len(staged) <= (0 if step == "cleaned" else 1)
+    steps = export_steps(previous)
+    placed = steps.index("swapped" if previous else f"moved:{PACKAGE}")
+    index = steps.index(step)
+    assert after_kill == (old if index < placed else new)  # whole, never a mix
+    assert len(_staging(folder)) == (0 if step == "cleaned" else 1)
 
-    # the next run finishes (after the marker) or undoes (before it) what the kill left
+    # the next run removes what the kill left
     safe_output.finish_interrupted(target)
-    assert _output(folder) == (new if index >= COMMIT_STEP else old)
+    assert _output(target) == (old if index < placed else new)
     assert _staging(folder) == []
 
     again = cli(filled, "export", str(target), "--leave-out-gaps")
     assert again.exit_code == 0, again.stderr
-    assert _output(folder) == new
-    assert sorted(p.name for p in folder.iterdir()) == [TABLE, DESCRIPTOR]
+    assert _output(target) == new
+    assert sorted(p.name for p in folder.iterdir()) == [PACKAGE]
+    assert sorted(p.name for p in target.iterdir()) == sorted(FILES)
 
 
 def test_every_step_of_the_export_is_covered():
-    # the test walks every step the routine names for a two-file unit
-    expanded = []
-    for name in safe_output.STEP_NAMES:
-        if name.endswith(":NAME"):
-            expanded += [name.replace("NAME", TABLE), name.replace("NAME", DESCRIPTOR)]
-        elif name != "swapped":  # a folder's step; this export writes two files
-            expanded.append(name)
-    order = {"stage-created": 0, "written": 1, "committed": 2, "moved": 3, "cleaned": 4}
-    assert sorted(expanded, key=lambda s: order[s.split(":")[0]]) == EXPORT_STEPS
+    # the test walks every step the routine names for a folder: moved (a first export) or
+    # swapped (over a previous one); "committed" is the fallback where the file system
+    # cannot exchange two names, covered by tests/test_safe_output.py
+    for previous in (False, True):
+        expanded = []
+        for name in safe_output.STEP_NAMES:
+            if name == "written:NAME":
+                expanded += [f"written:{n}" for n in FILES]
+            elif name == "moved:NAME":
+                expanded += [] if previous else [f"moved:{PACKAGE}"]
+            elif name == "swapped":
+                expanded += [name] if previous else []
+            elif name != "committed":
+                expanded.append(name)
+        assert expanded == export_steps(previous)
 
 
 # --------------------------------------------------------------------------- upgrade

@@ -111,8 +111,8 @@ def test_the_password_is_never_shown_written_or_stored(secret_url, cli, tmp_path
     refused("restore", str(tmp_path / "b.db"))  # not empty any more
     refused("expressions", "edit", "1", "--n", "1", "--expect-version", "5")
     (tmp_path / "out").mkdir()
-    exported = ok("export", str(tmp_path / "out" / "m.csv"), "--leave-out-gaps")
-    assert "m.resource.json" in exported.stdout
+    exported = ok("export", str(tmp_path / "out" / "m"), "--leave-out-gaps")
+    assert "datapackage.json" in exported.stdout
     ok("history", "--json")
     ok("history")
     checked = cli(url, "check", "--json")  # exits 1 when something is flagged
@@ -126,7 +126,7 @@ def test_the_password_is_never_shown_written_or_stored(secret_url, cli, tmp_path
     assert traced.returncode == 1
     seen.extend([traced.stdout, traced.stderr])
 
-    descriptor = (tmp_path / "out" / "m.resource.json").read_text(encoding="utf-8")
+    descriptor = (tmp_path / "out" / "m" / "datapackage.json").read_text(encoding="utf-8")
     assert '"store": "postgresql+psycopg://postgres:***@' in descriptor
     with admin.connect() as connection:
         audit = connection.execute(text(f'SELECT * FROM "{schema}".audit')).all()
@@ -153,7 +153,7 @@ def test_the_password_is_never_shown_written_or_stored(secret_url, cli, tmp_path
 def test_connection_errors_do_not_show_the_password(cli, tmp_path, address):
     url = address.format(pw=PASSWORD)
     seen = []
-    for command in (["init"], ["species", "list"], ["export", str(tmp_path / "m.csv")]):
+    for command in (["init"], ["species", "list"], ["export", str(tmp_path / "m")]):
         outcome = cli(url, *command)
         assert outcome.exit_code == 1
         assert outcome.stderr.startswith("Error: ")
@@ -200,9 +200,9 @@ def test_a_password_in_the_query_string_is_never_shown_or_stored(cli, tmp_path):
         assert refused.exit_code == 1
         assert "password=***" in refused.stderr
         (tmp_path / "out").mkdir()
-        exported = cli(url, "export", str(tmp_path / "out" / "m.csv"), "--leave-out-gaps")
+        exported = cli(url, "export", str(tmp_path / "out" / "m"), "--leave-out-gaps")
         assert exported.exit_code == 0, exported.stderr
-        descriptor = (tmp_path / "out" / "m.resource.json").read_text(encoding="utf-8")
+        descriptor = (tmp_path / "out" / "m" / "datapackage.json").read_text(encoding="utf-8")
         assert "password=***" in descriptor
         history = cli(url, "history", "--json")
         seen += [restored.stdout, refused.stderr, exported.stdout, history.stdout]

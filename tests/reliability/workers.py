@@ -12,7 +12,7 @@ curate DB WORKER ITERATIONS OWN_IDS CLASSES OUT
 writer DB SECONDS OUT
     Import small measurement sets, one transaction each, until SECONDS have
     passed or the file OUT.stop appears; write how many it committed to OUT.
-slow-export DB OUT_CSV
+slow-export DB OUT
     Run ``ratebank export`` on a disk that never finishes syncing (``os.fsync``
     sleeps), so that the test can kill it while the temporary files exist.
 kill-init STEP DB
@@ -151,14 +151,14 @@ def writer(db: str, seconds: float, out: Path) -> None:
         out.write_text(json.dumps({"committed": committed}), encoding="utf-8")
 
 
-def slow_export(db: str, out_csv: str) -> None:
+def slow_export(db: str, out: str) -> None:
     def never_synced(_descriptor: int) -> None:
         time.sleep(120)
 
     os.fsync = never_synced  # the export module calls os.fsync through the os module
     from ratebank.cli.app import app
 
-    app(["--db", db, "export", out_csv, "--leave-out-gaps"], prog_name="ratebank")
+    app(["--db", db, "export", out, "--leave-out-gaps"], prog_name="ratebank")
 
 
 def kill_init(step: str, db: str) -> None:

@@ -129,8 +129,8 @@ def test_the_export_leaves_the_reverse_to_the_modeller_and_says_how(store, tmp_p
     import frictionless
 
     with store.session(write=True) as session:
-        plain = export_mechanism(session, tmp_path / "m.csv")
-        fitted = export_mechanism(session, tmp_path / "f.csv", reverse_as_fit=True)
+        plain = export_mechanism(session, tmp_path / "m")
+        fitted = export_mechanism(session, tmp_path / "f", reverse_as_fit=True)
     rows = {row.key: row for row in plain.table.rows}
     assert {k: r.reverse for k, r in rows.items()} == {
         "h-o2": "detailed-balance",
