@@ -16,7 +16,7 @@ from helpers.data import (
 )
 
 import ratebank
-from ratebank.errors import ImportValidationError
+from ratebank.errors import ImportValidationError, StaleEditError
 
 HEADER = "reaction,A,n,Ea,Ea_units,k_units,T_min_K,T_max_K,reference\n"
 
@@ -239,3 +239,11 @@ def test_a_reaction_without_data_takes_a_new_equation_and_its_participants(store
     assert store.history(limit=1)[0].detail["changed"] == [
         "equation: 'H2O2 -> OH + OH' -> 'H2O2 -> H + HO2'"
     ]
+
+
+def test_an_updated_species_is_a_new_version_and_an_edit_of_the_old_one_is_refused(store, tmp_path):
+    changed = SPECIES_CSV.replace("OH,HO,,3.147", "OH,HO,,3.2")
+    store.import_species(write(tmp_path / "s2.csv", changed), update=True)
+    with pytest.raises(StaleEditError):
+        store.edit_species("OH", expected_version=1, source="a colleague's edit")
+    assert store.edit_species("OH", expected_version=2, source="read again").version == 3
