@@ -396,13 +396,19 @@ def test_an_exported_fit_comes_in_as_literature_and_reverse_rows_stay_out(forms_
         writer = csv.DictWriter(handle, fieldnames=list(rows[0]), lineterminator="\n")
         writer.writeheader()
         writer.writerows([*rows, reverse])
-    with ratebank.open(forms_store) as store:
+    # into a store with the same reactions and no expressions yet (in the store it came from,
+    # each row would match its stored expression and be refused without update)
+    second = str(tmp_path / "second.db")
+    folder = tmp_path / "second"
+    folder.mkdir()
+    _fill(second, folder, with_expressions=False)
+    with ratebank.open(second) as store:
         summary = store.import_expressions(edited)
         assert summary.added == 8  # the reverse row is derived, not imported
         imported = [e for e in store.expressions(reaction="oh-ch4") if e.reference == "syn arr"]
     newest = max(imported, key=lambda e: e.id)
     assert newest.origin == "literature"
-    with ratebank.open(forms_store) as store, store.session() as session:
+    with ratebank.open(second) as store, store.session() as session:
         from ratebank.store.queries import expression
 
         assert expression(session, newest.id).provenance["exported_origin"] == "measured-fit"
