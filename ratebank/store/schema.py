@@ -18,7 +18,17 @@ from ratebank.errors import StoreError, StoreRevisionError
 
 #: Every revision this ratebank knows, oldest first. A test checks this list
 #: against the Alembic scripts shipped in the package.
-KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002", "0003", "0004", "0005", "0006", "0007", "0008")
+KNOWN_REVISIONS: tuple[str, ...] = (
+    "0001",
+    "0002",
+    "0003",
+    "0004",
+    "0005",
+    "0006",
+    "0007",
+    "0008",
+    "0009",
+)
 HEAD_REVISION = KNOWN_REVISIONS[-1]
 
 
