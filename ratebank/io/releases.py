@@ -22,7 +22,7 @@ from typing import Any
 
 from sqlalchemy.orm import Session
 
-from ratebank.errors import BadInputError, ConflictError, NotFoundError
+from ratebank.errors import BadInputError, ConflictError, NotFoundError, StoreError
 from ratebank.io.export import ExportResult, PackageContent, package_content, write_package
 from ratebank.services import checks, mechanism
 from ratebank.services.input_rules import name_problem
@@ -52,6 +52,8 @@ class ReleaseView:
     store_fingerprint: str | None = None
     #: {"clean": bool, "flags": {code: count}, "unchecked": n, "notes": {code: count}}
     checks: dict[str, Any] = field(default_factory=dict)
+    #: the stored content still has the fingerprint it was stored with
+    intact: bool | None = None
 
 
 def _check_summary(report: checks.CheckReport) -> dict[str, Any]:
@@ -150,6 +152,7 @@ def _view(row: ReleaseRow) -> ReleaseView:
         store=record.get("store"),
         store_fingerprint=record.get("store_fingerprint"),
         checks=record.get("checks", {}),
+        intact=content_fingerprint(row.content or "") == row.fingerprint,
     )
 
 
@@ -168,6 +171,11 @@ def list_releases(session: Session) -> list[ReleaseView]:
 def release_content(session: Session, name: str) -> PackageContent:
     """The frozen content of the release ``name``, as the export writes it."""
     row = _stored(session, name)
+    if content_fingerprint(row.content or "") != row.fingerprint:
+        raise StoreError(
+            f"the content of release {name!r} no longer has its fingerprint {row.fingerprint}: "
+            "it was changed outside ratebank; restore the store from a backup"
+        )
     record = json_codec.loads(row.content or "{}")
     fields = record["mechanism_fields"]
     rows = [

@@ -32,6 +32,7 @@ def release_record(view: Any) -> dict[str, Any]:
             "store": view.store,
             "store_fingerprint": view.store_fingerprint,
             "checks": view.checks,
+            "intact": view.intact,
         }
     return record
 
@@ -57,7 +58,7 @@ def release_table(view: Any) -> ReportTable:
     rows = (
         ("created (UTC)", _when(view.created_at)),
         ("by", view.created_by),
-        ("fingerprint", view.fingerprint),
+        ("fingerprint", view.fingerprint + ("" if view.intact else " (content CHANGED since)")),
         ("reactions", str(view.reactions)),
         ("mechanism rows", str(view.rows)),
         ("efficiencies", str(view.efficiencies)),

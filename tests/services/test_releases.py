@@ -8,6 +8,7 @@ Every rate number here is synthetic (an invented mechanism).
 from __future__ import annotations
 
 import math
+import os
 import re
 from pathlib import Path
 
@@ -236,16 +237,88 @@ def test_a_store_against_its_own_export_or_release_is_the_same(store, tmp_path):
     assert reversed_report.same
 
 
-def test_diff_against_another_store(store, tmp_path, db_url):
-    other = tmp_path / "other.db"
-    with ratebank.init(other)[0] as copy:
+def test_diff_against_another_store(store, tmp_path, other_url):
+    with ratebank.init(other_url)[0] as copy:
         copy.import_species(_write(tmp_path, "sp.csv", SPECIES))
         copy.import_reactions(_write(tmp_path, "rx.csv", REACTIONS))
         copy.import_expressions(_write(tmp_path, "ex.csv", EXPRESSIONS))
         copy.import_efficiencies(_write(tmp_path, "eff.csv", EFFICIENCIES))
         copy.import_reactions(_write(tmp_path, "rx2.csv", ADDED_REACTION))
         copy.import_expressions(_write(tmp_path, "ex2.csv", ADDED_EXPRESSION))
-    report = store.diff("store", str(other))
-    assert report.b == f"sqlite:///{other}"
+        label = copy.address
+    report = store.diff("store", other_url)
+    assert report.b == label
     assert [r.key for r in report.added] == ["o-oh"]
     assert not report.removed and not report.changed
+    assert store.diff(other_url, "store").removed[0].key == "o-oh"
+
+
+FALLOFF_REACTION = "key,equation\nh-oh-m,H + OH + M -> H2O + M\n"
+FALLOFF = HEADER + (
+    "h-oh-m,falloff,,1.0e13,0,0,kJ/mol,cm3/mol/s,{A_low},-2,0,cm6/mol2/s,none,,,,,,,"
+    "300,3000,{reference},1.5,0\n"
+)
+
+
+def test_diff_of_a_falloff_reaction_at_a_stated_pressure(store, tmp_path):
+    store.import_reactions(_write(tmp_path, "rx3.csv", FALLOFF_REACTION))
+    store.import_expressions(
+        _write(tmp_path, "f1.csv", FALLOFF.format(A_low="1.0e22", reference="syn f1"))
+    )
+    store.create_release("v1")
+    store.import_expressions(
+        _write(tmp_path, "f2.csv", FALLOFF.format(A_low="2.0e22", reference="syn f2"))
+    )
+    newest = max(e.id for e in store.expressions(reaction="h-oh-m"))
+    store.recommend("h-oh-m", newest)
+    report = store.diff("v1", "store", temperatures=[300.0, 1000.0], pressure=0.5)
+    (change,) = report.changed
+    assert [f.field for f in change.fields] == ["A_low", "references"]
+
+    def lindemann(A_low_cgs: float, T: float, p: float = 0.5e5) -> float:
+        """k = k_inf Pr / (1 + Pr), Pr = k0 [M] / k_inf, [M] = p / (R T) (Lindemann)."""
+        k_inf = 1.0e13 * 1e-6  # cm3/mol/s -> m3/mol/s
+        k0 = A_low_cgs * T**-2 * 1e-12  # cm6/mol2/s -> m6/mol2/s
+        M = p / (R * T)
+        Pr = k0 * M / k_inf
+        return k_inf * Pr / (1 + Pr)
+
+    for at in change.ratios:
+        expected = lindemann(2.0e22, at.T) / lindemann(1.0e22, at.T)
+        assert at.ratio == pytest.approx(expected, rel=1e-12)
+        assert 1.0 < at.ratio < 2.0  # between the low-pressure and the high-pressure limit
+        assert at.beyond is (math.log(expected) > math.log(1.5))
+    # at 1 bar the same change is smaller (closer to the high-pressure limit)
+    at_one_bar = store.diff("v1", "store", temperatures=[300.0]).changed[0].ratios[0].ratio
+    expected = lindemann(2.0e22, 300.0, 1e5) / lindemann(1.0e22, 300.0, 1e5)
+    assert at_one_bar == pytest.approx(expected, rel=1e-12)
+    assert at_one_bar < change.ratios[0].ratio
+
+
+@pytest.fixture
+def other_url(db_url, tmp_path):
+    """Another store: on PostgreSQL when this one is SQLite and a server is configured."""
+    from helpers.pg import scratch_schema
+
+    if db_url.startswith("postgresql") or not os.environ.get("RATEBANK_TEST_PG_URL"):
+        yield str(tmp_path / "other.db")
+        return
+    with scratch_schema() as url:
+        yield url
+
+
+def test_a_release_changed_outside_ratebank_is_not_written(store, tmp_path):
+    from sqlalchemy import update
+
+    from ratebank.errors import StoreError
+    from ratebank.store.models import Release
+
+    store.create_release("v1")
+    assert store.release("v1").intact is True
+    with store.session(write=True) as session:
+        stored = session.get(Release, 1).content
+        session.execute(update(Release).values(content=stored.replace("syn a", "syn z")))
+    assert store.release("v1").intact is False
+    with pytest.raises(StoreError, match="no longer has its fingerprint"):
+        store.export(tmp_path / "out", release="v1")
+    assert not (tmp_path / "out").exists()
