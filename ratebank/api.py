@@ -42,6 +42,7 @@ if TYPE_CHECKING:
     from ratebank.report.plots import PlotFile
     from ratebank.services.backup import BackupResult, RestoreResult
     from ratebank.services.checks import CheckReport
+    from ratebank.services.curation import LifecycleChange, RecordEdit
     from ratebank.services.estimation import EstimateReport
     from ratebank.services.expressions import ExpressionEdit
     from ratebank.services.falloff_fit import PressureFitReport
@@ -183,7 +184,7 @@ class Store:
         nothing and takes no write lock."""
         reader = getattr(_module("io.csv_import"), function)
         with self._handle.session(write=not dry_run) as session:
-            summary = reader(session, Path(path), dry_run=dry_run, **kwargs)
+            summary = reader(session, Path(path).absolute(), dry_run=dry_run, **kwargs)
             if dry_run:
                 session.rollback()
         return summary
@@ -219,14 +220,32 @@ class Store:
         return self._write("species", "add_species", name=name, formula=formula, **cells)
 
     def species(
-        self, *, missing_diameter: bool | None = None, name_contains: str | None = None
+        self,
+        *,
+        missing_diameter: bool | None = None,
+        name_contains: str | None = None,
+        include_withdrawn: bool = False,
     ) -> list[SpeciesSummary]:
-        """Species by name; only those without (True) or with (False) a diameter, or whose
-        name contains ``name_contains``, when given; a list of SpeciesSummary (SI units)."""
+        """Species in use by name (withdrawn ones too with ``include_withdrawn``); only those
+        without (True) or with (False) a diameter, or whose name contains ``name_contains``,
+        when given; a list of SpeciesSummary (SI units)."""
         return self._read(
             "species", "list_species",
             missing_diameter=missing_diameter, name_contains=name_contains,
+            include_withdrawn=include_withdrawn,
         )  # fmt: skip
+
+    def edit_species(
+        self, name: str, *, expected_version: int, **fields: float | str | None
+    ) -> RecordEdit:
+        """Change fields of a species; ``fields`` are the species file's columns, whose names
+        carry the unit (``formula``, ``molar_mass_g_per_mol``, ``diameter_angstrom``,
+        ``diameter_kind``, ``well_depth_K``, ...); None leaves a field as it is. Refused
+        with StaleEditError unless ``expected_version`` is the version read; a RecordEdit
+        with each changed field's (before, after, unit) in the units given."""
+        return self._write(
+            "curation", "edit_species", name, expected_version=expected_version, **fields
+        )
 
     def species_detail(
         self, name: str, *, temperatures: Sequence[float] | None = None
@@ -271,13 +290,34 @@ class Store:
         species: str | None = None,
         reaction_class: str | None = None,
         status: str | None = None,
+        include_withdrawn: bool = False,
     ) -> list[ReactionSummary]:
-        """Reactions by key, with what the store knows of each; only those involving
-        ``species``, of ``reaction_class``, or of ``status`` (``measured``, ``complete``,
-        ``ea-only``, ``nothing``), when given; a list of ReactionSummary."""
+        """Reactions in use by key (withdrawn ones too with ``include_withdrawn``), with what
+        the store knows of each; only those involving ``species``, of ``reaction_class``, or
+        of ``status`` (``measured``, ``complete``, ``ea-only``, ``nothing``), when given; a
+        list of ReactionSummary."""
         return self._read(
             "reactions", "list_reactions",
             species=species, reaction_class=reaction_class, status=status,
+            include_withdrawn=include_withdrawn,
+        )  # fmt: skip
+
+    def edit_reaction(
+        self,
+        key_or_equation: str,
+        *,
+        expected_version: int,
+        reaction_class: str | None = None,
+        notes: str | None = None,
+        equation: str | None = None,
+    ) -> RecordEdit:
+        """Change a reaction's class, notes, or its equation while no measurement set,
+        expression or efficiency depends on it; an empty text clears class or notes. Refused
+        with StaleEditError unless ``expected_version`` is the version read."""
+        return self._write(
+            "curation", "edit_reaction", key_or_equation,
+            expected_version=expected_version, reaction_class=reaction_class, notes=notes,
+            equation=equation,
         )  # fmt: skip
 
     def reaction(self, key_or_equation: str) -> ReactionDetail:
@@ -335,10 +375,74 @@ class Store:
             fill_uncertainty=fill_uncertainty,
         )
 
-    def measurement_sets(self, *, reaction: str | None = None) -> list[SetSummary]:
-        """Measurement sets with their point counts and temperature ranges [K]; only those of
-        ``reaction`` (a key or equation) when given; a list of SetSummary."""
-        return self._read("measurements", "list_sets", reaction=reaction)
+    def measurement_sets(
+        self, *, reaction: str | None = None, include_withdrawn: bool = False
+    ) -> list[SetSummary]:
+        """Measurement sets in use (withdrawn ones too with ``include_withdrawn``) with their
+        point counts and temperature ranges [K]; only those of ``reaction`` (a key or
+        equation) when given; a list of SetSummary."""
+        return self._read(
+            "measurements", "list_sets", reaction=reaction, include_withdrawn=include_withdrawn
+        )
+
+    def edit_set(
+        self,
+        name: str,
+        *,
+        expected_version: int,
+        reference: str | None = None,
+        method: str | None = None,
+        bath_gas: str | None = None,
+        systematic_uncertainty: float | None = None,
+        pressure: float | None = None,
+        pressure_units: str = "bar",
+    ) -> RecordEdit:
+        """Change a measurement set's reference, method, bath gas, systematic uncertainty (a
+        fraction of k) or the pressure of all its points (in ``pressure_units``). Refused
+        with StaleEditError unless ``expected_version`` is the version read."""
+        return self._write(
+            "curation", "edit_set", name,
+            expected_version=expected_version, reference=reference, method=method,
+            bath_gas=bath_gas, systematic_uncertainty=systematic_uncertainty,
+            pressure=pressure, pressure_units=pressure_units,
+        )  # fmt: skip
+
+    def edit_point(
+        self,
+        point_id: int,
+        *,
+        expected_version: int,
+        T: float | None = None,
+        k: float | None = None,
+        k_units: str | None = None,
+        uncertainty: float | None = None,
+    ) -> RecordEdit:
+        """Change a measured point's T [K], k (in ``k_units``, by default its set's unit) or
+        relative uncertainty (a fraction of k). Refused with StaleEditError unless
+        ``expected_version`` is the version read."""
+        return self._write(
+            "curation", "edit_point", point_id,
+            expected_version=expected_version, T=T, k=k, k_units=k_units,
+            uncertainty=uncertainty,
+        )  # fmt: skip
+
+    # ------------------------------------------------------------------ lifecycle
+
+    def withdraw(self, kind: str, record: str | int, *, reason: str) -> LifecycleChange:
+        """Withdraw a record (``kind`` one of ``species``, ``reaction``, ``set``, ``point``,
+        ``expression``; ``record`` its name, key, set name or number) with a reason: it
+        stays in the store and the history, and is left out of fits, estimates, derived
+        statistics, checks and exports until reinstated."""
+        return self._write("curation", "withdraw_record", kind, record, reason=reason)
+
+    def reinstate(self, kind: str, record: str | int) -> LifecycleChange:
+        """Put a withdrawn record back in use."""
+        return self._write("curation", "reinstate_record", kind, record)
+
+    def remove(self, kind: str, record: str | int) -> LifecycleChange:
+        """Delete a record for good; refused (ConflictError) while anything refers to it.
+        The history keeps its values."""
+        return self._write("curation", "remove_record", kind, record)
 
     # ------------------------------------------------------------------ expressions
 
@@ -350,12 +454,20 @@ class Store:
         return self._import("import_expressions_file", path, dry_run=dry_run, progress=progress)
 
     def expressions(
-        self, *, reaction: str | None = None, origin: str | None = None
+        self,
+        *,
+        reaction: str | None = None,
+        origin: str | None = None,
+        include_withdrawn: bool = False,
     ) -> list[ExpressionSummary]:
-        """Stored expressions in SI units; only those of ``reaction`` (a key or equation) or of
-        ``origin`` (``measured-fit``, ``literature``, ``collision-estimate``, ``manual``) when
-        given; a list of ExpressionSummary."""
-        return self._read("expressions", "list_expressions", reaction=reaction, origin=origin)
+        """Stored expressions in use (withdrawn ones too with ``include_withdrawn``) in SI
+        units; only those of ``reaction`` (a key or equation) or of ``origin``
+        (``measured-fit``, ``literature``, ``collision-estimate``, ``manual``) when given; a
+        list of ExpressionSummary."""
+        return self._read(
+            "expressions", "list_expressions",
+            reaction=reaction, origin=origin, include_withdrawn=include_withdrawn,
+        )  # fmt: skip
 
     def edit_expression(
         self,
@@ -877,7 +989,7 @@ class Store:
         """Import species thermochemistry (coefficients or Cp-table layout), all or nothing."""
         with self._handle.session(write=not dry_run) as session:
             report = _module("io.thermo_files").import_thermo_file(
-                session, Path(path), dry_run=dry_run, replace=replace
+                session, Path(path).absolute(), dry_run=dry_run, replace=replace
             )
             if dry_run:
                 session.rollback()

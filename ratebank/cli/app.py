@@ -14,6 +14,7 @@ import typer
 from ratebank import __version__, api
 from ratebank.cli import admin as admin_commands
 from ratebank.cli import common
+from ratebank.cli import curation as curation_commands
 from ratebank.cli import efficiencies as efficiencies_commands
 from ratebank.cli import kinetics as kinetics_commands
 from ratebank.cli import plot as plot_commands
@@ -77,6 +78,7 @@ app.add_typer(expressions_app, name="expressions")
 kinetics_commands.register(app)
 plot_commands.register(app, kinetics_commands.steric_app)
 admin_commands.register(app, expressions_app)
+curation_commands.register(app, species_app, reactions_app, data_app)
 review_commands.register(app)
 thermo_commands.register(app)
 efficiencies_commands.register(app)
@@ -293,6 +295,9 @@ def species_list(
         None, "--missing-diameter/--with-diameter", help="Only species without / with a diameter."
     ),
     name: str = typer.Option(None, "--name", help="Only names containing this text."),
+    include_withdrawn: bool = typer.Option(
+        False, "--include-withdrawn", help="List withdrawn ones too."
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """List species with their masses and diameters.
@@ -300,7 +305,11 @@ def species_list(
     Example: ratebank species list --missing-diameter
     """
     with opened_store() as store:
-        rows = store.species(missing_diameter=missing_diameter, name_contains=name)
+        rows = store.species(
+            missing_diameter=missing_diameter,
+            name_contains=name,
+            include_withdrawn=include_withdrawn,
+        )
     if as_json:
         print_json(tables.species_records(rows))
     else:
@@ -381,6 +390,9 @@ def reactions_list(
         "--status",
         help="Only reactions that are: measured, complete, ea-only (A to estimate) or nothing.",
     ),
+    include_withdrawn: bool = typer.Option(
+        False, "--include-withdrawn", help="List withdrawn ones too."
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """List reactions with what the store knows of each.
@@ -388,7 +400,12 @@ def reactions_list(
     Example: ratebank reactions list --species OH --status ea-only
     """
     with opened_store() as store:
-        rows = store.reactions(species=species, reaction_class=reaction_class, status=status)
+        rows = store.reactions(
+            species=species,
+            reaction_class=reaction_class,
+            status=status,
+            include_withdrawn=include_withdrawn,
+        )
     if as_json:
         print_json(tables.reaction_records(rows))
     else:
@@ -461,6 +478,9 @@ def data_import(
 @calls("measurement_sets")
 def data_list(
     reaction: str = typer.Option(None, "--reaction", help="Only sets of this reaction."),
+    include_withdrawn: bool = typer.Option(
+        False, "--include-withdrawn", help="List withdrawn ones too."
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """List measurement sets with their temperature ranges, and their points by pressure
@@ -469,7 +489,7 @@ def data_list(
     Example: ratebank data list --reaction oh-ch4
     """
     with opened_store() as store:
-        rows = store.measurement_sets(reaction=reaction)
+        rows = store.measurement_sets(reaction=reaction, include_withdrawn=include_withdrawn)
     if as_json:
         print_json(tables.set_records(rows))
     else:
@@ -510,6 +530,9 @@ def expressions_list(
         help="Only this origin: measured-fit, literature, collision-estimate or manual.",
     ),
     preset: str = PRESET_OPTION,
+    include_withdrawn: bool = typer.Option(
+        False, "--include-withdrawn", help="List withdrawn ones too."
+    ),
     as_json: bool = JSON_OPTION,
 ) -> None:
     """List stored rate expressions in a unit preset.
@@ -517,7 +540,9 @@ def expressions_list(
     Example: ratebank expressions list --units atmospheric
     """
     with opened_store() as store:
-        rows = store.expressions(reaction=reaction, origin=origin)
+        rows = store.expressions(
+            reaction=reaction, origin=origin, include_withdrawn=include_withdrawn
+        )
     if as_json:
         print_json(tables.expression_records(rows, preset))
     else:

@@ -25,7 +25,14 @@ from ratebank.services.validate import ImportSummary
 DEMO_MARK = "demo.build"
 DEMO_STERIC_REACTION = "ho2-ho2"
 DEMO_STERIC_VALUE = 0.02
-FILES = ("species.csv", "reactions.csv", "measurements.csv", "expressions.csv")
+FILES = (
+    "species.csv",
+    "reactions.csv",
+    "measurements.csv",
+    "expressions.csv",
+    "expressions_pressure.csv",
+    "efficiencies.csv",
+)
 
 
 class DemoError(RatebankError):
@@ -120,6 +127,12 @@ def run_demo(db: Path, out: Path, *, author: str | None = None) -> DemoResult:
             )
             result.imports.append(
                 csv_import.import_expressions_file(session, seed / "expressions.csv")
+            )
+            result.imports.append(
+                csv_import.import_expressions_file(session, seed / "expressions_pressure.csv")
+            )
+            result.imports.append(
+                csv_import.import_efficiencies_file(session, seed / "efficiencies.csv")
             )
             audit.record(session, DEMO_MARK, str(db), seed=str(seed))
         with store.session(write=True) as session:

@@ -650,7 +650,7 @@ def write_package(
     audit.record(
         session,
         "export",
-        str(out),
+        str(out.absolute()),
         rows=len(table.rows),
         left_out=len(table.left_out),
         units=table.units.label,

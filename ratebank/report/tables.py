@@ -67,6 +67,7 @@ def species_records(rows: Sequence[SpeciesSummary]) -> list[dict[str, Any]]:
             "polarizability_angstrom3": _opt(s.polarizability, ANGSTROM_PER_M**3),
             "ionization_energy_eV": _opt(s.ionization_energy, 1.0 / ELECTRONVOLT_MOLAR),
             "source": s.source,
+            "withdrawn": s.withdrawn_reason,
         }
         for s in rows
     ]
@@ -95,7 +96,7 @@ def species_table(rows: Sequence[SpeciesSummary]) -> Table:
             if s.diameter_is_estimated:
                 diameter_note += f" (estimated: {s.diameter_method})"
         table.add_row(
-            s.name,
+            s.name + (" (withdrawn)" if s.withdrawn_reason else ""),
             s.formula,
             sig(s.molar_mass * G_PER_KG) + ("" if s.molar_mass_source == "given" else "*"),
             sig(_opt(s.diameter, ANGSTROM_PER_M)),
@@ -182,6 +183,7 @@ def reaction_records(rows: Sequence[ReactionSummary]) -> list[dict[str, Any]]:
             "points": r.points,
             "expressions": r.expressions,
             "status": r.status,
+            "withdrawn": r.withdrawn,
         }
         for r in rows
     ]
@@ -195,7 +197,7 @@ def reactions_table(rows: Sequence[ReactionSummary]) -> Table:
         table.add_column(header, overflow="fold")
     for r in rows:
         table.add_row(
-            r.key,
+            r.key + (" (withdrawn)" if r.withdrawn else ""),
             r.equation,
             str(r.order),
             r.reaction_class or "",
@@ -231,6 +233,7 @@ def set_records(rows: Sequence[SetSummary]) -> list[dict[str, Any]]:
                 }
                 for p in s.pressures
             ],
+            "withdrawn": s.withdrawn,
         }
         for s in rows
     ]
@@ -290,7 +293,7 @@ def sets_table(rows: Sequence[SetSummary]) -> Table:
         table.add_column(header, overflow="fold")
     for s in rows:
         table.add_row(
-            s.name,
+            s.name + (" (withdrawn)" if s.withdrawn else ""),
             s.reaction_key,
             str(s.points),
             trange(s.T_min, s.T_max),
@@ -341,6 +344,7 @@ def expression_records(rows: Sequence[ExpressionSummary], preset: str) -> list[d
             "created_at": e.created_at.isoformat() if e.created_at else None,
             "created_by": e.created_by,
             "provenance": e.provenance,
+            "withdrawn": e.withdrawn,
         }
         if e.low is not None:
             low_units, _ = _display_units(e.reaction_order, preset)
@@ -409,7 +413,9 @@ def expressions_table(rows: Sequence[ExpressionSummary], preset: str) -> Table:
         table.add_column(header, overflow="fold")
     for r in records:
         table.add_row(
-            str(r["id"]) + (" ★" if r["recommended"] else ""),
+            str(r["id"])
+            + (" ★" if r["recommended"] else "")
+            + (" (withdrawn)" if r["withdrawn"] else ""),
             r["reaction"],
             r["origin"],
             _form_text(r),
@@ -526,9 +532,24 @@ def history_records(rows: Sequence[HistoryEntry]) -> list[dict[str, Any]]:
     ]
 
 
+def _change_text(changed: dict[str, Any]) -> str:
+    """``A 1e-12 -> 2e-12 cm3/molecule/s`` for each field of an edit."""
+    parts = []
+    for name, change in changed.items():
+        if not isinstance(change, dict):
+            parts.append(f"{name} {change}")
+            continue
+        unit = f" {change['unit']}" if change.get("unit") else ""
+        parts.append(f"{name} {change.get('before')} -> {change.get('after')}{unit}")
+    return ", ".join(parts)
+
+
 def _detail_text(detail: dict[str, Any]) -> str:
     parts = []
     for key, value in detail.items():
+        if key == "changed" and isinstance(value, dict):
+            parts.append(_change_text(value))
+            continue
         if isinstance(value, list):
             shown = ", ".join(str(v) for v in value[:5])
             value = shown + (", ..." if len(value) > 5 else "")
@@ -538,10 +559,10 @@ def _detail_text(detail: dict[str, Any]) -> str:
 
 def history_table(rows: Sequence[HistoryEntry], title: str = "History") -> Table:
     table = ReportTable(title=f"{title} ({len(rows)}, newest first)")
-    for header in ("when (UTC)", "who", "what", "target", "detail"):
+    for header in ("when", "who", "what", "target", "detail"):
         table.add_column(header, overflow="fold")
     for h in rows:
-        when = h.at.strftime("%Y-%m-%d %H:%M:%S") if h.at else ""
+        when = h.at.strftime("%Y-%m-%d %H:%M:%S %Z") if h.at else ""
         table.add_row(when, h.author, h.action, h.target or "", _detail_text(h.detail))
     return table
 

@@ -101,9 +101,11 @@ def hinshelwood_estimate(
     if not (np.isfinite(T_min) and np.isfinite(T_max) and 0 < T_min < T_max):
         raise ScienceInputError("The range needs 0 < T_min < T_max [K].")
     T = 1.0 / np.linspace(1.0 / T_min, 1.0 / T_max, GRID_POINTS)
-    k0 = np.asarray(
+    middle = float(np.sqrt(T_min * T_max))
+    # the grid and the middle of the range in one evaluation
+    k_all = np.asarray(
         hinshelwood_low_pressure_limit(
-            T,
+            np.append(T, middle),
             threshold_energy,
             oscillators,
             diameter,
@@ -116,22 +118,10 @@ def hinshelwood_estimate(
         ),
         dtype=float,
     )
+    k0, at_middle = k_all[:-1], k_all[-1]
     design = np.column_stack([np.ones_like(T), np.log(T), -1.0 / (GAS_CONSTANT * T)])
     (ln_A, n, Ea), *_ = np.linalg.lstsq(design, np.log(k0), rcond=None)
     fitted = np.exp(design @ np.array([ln_A, n, Ea]))
-    middle = float(np.sqrt(T_min * T_max))
-    at_middle = hinshelwood_low_pressure_limit(
-        middle,
-        threshold_energy,
-        oscillators,
-        diameter,
-        bath_diameter,
-        molar_mass,
-        bath_molar_mass,
-        well_depth,
-        bath_well_depth,
-        collision_efficiency=collision_efficiency,
-    )
     return LowPressureEstimate(
         float(np.exp(ln_A)),
         float(n),

@@ -337,7 +337,7 @@ def _restore(
         audit.record(
             session,
             "store.restore",
-            str(source),
+            str(Path(source).absolute()) if Path(source).exists() else str(source),
             backup_revision=backup_revision,
             fingerprint=fingerprint,
             counts=counts,

@@ -124,7 +124,11 @@ def _record(expression: ValidExpression, source: str) -> ExpressionRecord:
 
 
 def list_expressions(
-    session: Session, *, reaction: str | None = None, origin: str | None = None
+    session: Session,
+    *,
+    reaction: str | None = None,
+    origin: str | None = None,
+    include_withdrawn: bool = False,
 ) -> list[ExpressionSummary]:
     """Stored expressions by reaction key and id; only those of ``reaction`` (a key or any
     spelling of the equation) or of ``origin``, when given."""
@@ -132,7 +136,9 @@ def list_expressions(
         raise BadInputError(
             f"unknown origin {origin!r}; expected one of {', '.join(ORIGINS)}", argument="origin"
         )
-    return expression_summaries(session, reaction=reaction, origin=origin)
+    return expression_summaries(
+        session, reaction=reaction, origin=origin, include_withdrawn=include_withdrawn
+    )
 
 
 # --------------------------------------------------------------------------- edit
@@ -256,9 +262,33 @@ def _write_edit(
         expression.reaction_key,
         expression=expression.id,
         version=version,
-        changed={name: {"before": b, "after": a} for name, (b, a) in changed.items()},
+        changed={
+            name: _as_given(expression, given, name, before, after)
+            for name, (before, after) in changed.items()
+        },
     )
     return version
+
+
+def _as_given(
+    expression: EditableExpression, given: dict[str, Any], name: str, before: Any, after: Any
+) -> dict[str, Any]:
+    """A change as the history keeps it: before and after in the units the curator typed."""
+    from ratebank.numbers import round_significant
+    from ratebank.science.units import parse_energy_unit, parse_rate_unit
+
+    unit, to_si = {"T_min": ("K", 1.0), "T_max": ("K", 1.0)}.get(name, ("", None))
+    if name == "A" and given["k_units"]:
+        unit = given["k_units"]
+        to_si = parse_rate_unit(unit, expression.reaction_order).to_si
+    elif name == "Ea" and given["Ea_units"]:
+        unit = given["Ea_units"]
+        to_si = parse_energy_unit(unit).to_si
+    if to_si is not None:
+        before, after = (
+            None if v is None else round_significant(v / to_si) for v in (before, after)
+        )
+    return {"before": before, "after": after, "unit": unit}
 
 
 def _stored(expression: EditableExpression, name: str) -> Any:

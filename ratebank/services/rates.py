@@ -80,7 +80,8 @@ class RateReport:
     k_inf_units: str | None = None
 
 
-def _checked_temperatures(temperatures: Sequence[float]) -> np.ndarray:
+def checked_temperatures(temperatures: Sequence[float]) -> np.ndarray:
+    """The temperatures [K] asked for, as an array; at least one, each finite and above 0."""
     if not temperatures:
         raise BadInputError("give at least one temperature", argument="temperatures")
     bad = [t for t in temperatures if not (math.isfinite(t) and t > 0)]
@@ -139,7 +140,7 @@ def rate(
 ) -> RateReport:
     """k(T) of one reaction from the expression that would be exported; at ``pressure`` (in
     ``pressure_units``) of the ``bath`` gas or ``mixture`` ("N2:0.78,O2:0.21") when given."""
-    T = _checked_temperatures(temperatures)
+    T = checked_temperatures(temperatures)
     colliders = _colliders(bath, mixture)
     reaction = find_reaction(session, key)
     chosen, _ = chosen_expressions(session, [reaction])

@@ -82,6 +82,7 @@ def list_reactions(
     species: str | None = None,
     reaction_class: str | None = None,
     status: str | None = None,
+    include_withdrawn: bool = False,
 ) -> list[ReactionSummary]:
     """Reactions by key; only those involving ``species``, of a class, or of a status
     (:data:`STATUSES`), when given."""
@@ -90,7 +91,11 @@ def list_reactions(
             f"unknown status {status!r}; expected one of {', '.join(STATUSES)}", argument="status"
         )
     return reaction_summaries(
-        session, species=species, reaction_class=reaction_class, status=status
+        session,
+        species=species,
+        reaction_class=reaction_class,
+        status=status,
+        include_withdrawn=include_withdrawn,
     )
 
 

@@ -16,7 +16,6 @@ relative deviation is recorded.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
@@ -33,6 +32,7 @@ from ratebank.science.thermo import (
 )
 from ratebank.science.unit_presets import kc_unit, rate_unit_for
 from ratebank.science.units import energy_from_si, energy_to_si, rate_from_si, rate_to_si
+from ratebank.services.rates import checked_temperatures
 from ratebank.services.selection import chosen_expressions, evaluate
 from ratebank.services.thermo import (
     ReactionThermoInputs,
@@ -118,15 +118,6 @@ class ReverseRateReport:
     rows: list[ReverseRateRow]
 
 
-def _check_temperatures(temperatures: Sequence[float]) -> np.ndarray:
-    if not temperatures:
-        raise BadInputError("give at least one temperature", argument="temperatures")
-    bad = [t for t in temperatures if not (math.isfinite(t) and t > 0)]
-    if bad:
-        raise BadInputError(f"temperature {bad[0]!r} must be above 0 K", argument="temperatures")
-    return np.asarray(temperatures, dtype=float)
-
-
 def reverse_rate(
     session: Session,
     key: str,
@@ -137,7 +128,7 @@ def reverse_rate(
 ) -> ReverseRateReport:
     """k_r = k_f / Kc of one reaction at ``temperatures`` [K], k_f from the expression that
     would be exported; ``k_units`` is the unit of k_r (default: the preset's for its order)."""
-    T = _check_temperatures(temperatures)
+    T = checked_temperatures(temperatures)
     reaction = queries.find_reaction(session, key)
     chosen, _ = chosen_expressions(session, [reaction])
     if not chosen:

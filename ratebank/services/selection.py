@@ -184,6 +184,14 @@ def recommend(session: Session, key_or_equation: str, expression_id: int) -> Exp
             f"expression {expression_id} has no pre-exponential factor yet; estimate it first "
             "or recommend a complete expression"
         )
+    in_use = queries.expressions_of(session, [reaction.id])[reaction.id]
+    if expression_id not in {e.id for e in in_use}:
+        raise ConflictError(
+            f"expression {expression_id} of {reaction.key!r} is withdrawn (or its reaction is); "
+            "reinstate it first"
+        )
+    if expression.recommended and not any(e.recommended for e in in_use if e.id != expression_id):
+        return expression  # already the choice: nothing changes, nothing is recorded
     previous = set_recommended(session, reaction.id, expression_id)
     audit.record(
         session,

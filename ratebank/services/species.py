@@ -57,12 +57,19 @@ def add_species(session: Session, **fields: str | None) -> ImportSummary:
 
 
 def list_species(
-    session: Session, *, missing_diameter: bool | None = None, name_contains: str | None = None
+    session: Session,
+    *,
+    missing_diameter: bool | None = None,
+    name_contains: str | None = None,
+    include_withdrawn: bool = False,
 ) -> list[SpeciesSummary]:
     """Species by name: only those without (True) or with (False) a diameter, or whose name
     contains ``name_contains``, when given."""
     return species_summaries(
-        session, missing_diameter=missing_diameter, name_contains=name_contains
+        session,
+        missing_diameter=missing_diameter,
+        name_contains=name_contains,
+        include_withdrawn=include_withdrawn,
     )
 
 

@@ -14,6 +14,7 @@ from sqlalchemy import delete, insert, select
 from sqlalchemy.orm import Session
 
 from ratebank.store.bulk import fetch_in
+from ratebank.store.in_use import reaction_in_use, species_in_use
 from ratebank.store.models import Reaction, Species, ThirdBodyEfficiency, utc_now
 
 #: The efficiency of a species a reaction states none for.
@@ -46,10 +47,13 @@ _COLUMNS = (
 
 
 def _query():  # type: ignore[no-untyped-def]
+    # the efficiencies of reactions and species in use: a withdrawn record's stay out of
+    # rates, checks and exports
     return (
         select(*_COLUMNS)
         .join(Reaction, Reaction.id == ThirdBodyEfficiency.reaction_id)
         .join(Species, Species.id == ThirdBodyEfficiency.species_id)
+        .where(reaction_in_use(), species_in_use())
         .order_by(Reaction.key, Species.name)
     )
 

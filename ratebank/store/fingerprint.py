@@ -1,7 +1,8 @@
 """A fingerprint of the store's content: SHA-256 over every curated row.
 
 The audit trail is left out (reading or exporting does not change the
-content), and so are timestamps and lock versions. A column that holds no
+content), and so are timestamps, lock versions and who withdrew a record when (the reason is
+content). A column that holds no
 value in any row (one a newer schema added, say) carries no content and is
 left out too, so that an upgrade which only adds columns keeps the
 fingerprint, and a store of an older revision can still be fingerprinted. Tables are read in
@@ -36,7 +37,15 @@ from ratebank.store.models import (
     ThirdBodyEfficiency,
 )
 
-_SKIP = {"created_at", "updated_at", "updated_by", "created_by", "version"}
+_SKIP = {
+    "created_at",
+    "updated_at",
+    "updated_by",
+    "created_by",
+    "version",
+    "withdrawn_at",
+    "withdrawn_by",
+}
 #: Columns that earlier revisions named differently (revision 0005), by today's name: a store
 #: not yet upgraded hashes the same content under today's names.
 _FORMER_NAMES = {"a": "pre_exponential", "n": "temperature_exponent", "ea": "activation_energy"}

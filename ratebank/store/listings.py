@@ -11,6 +11,7 @@ reaction or species named by a listing is found with
 
 from __future__ import annotations
 
+import datetime as dt
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -18,6 +19,7 @@ from sqlalchemy import and_, case, exists, func, select
 from sqlalchemy.orm import Session
 
 from ratebank.store.efficiencies import efficiencies
+from ratebank.store.in_use import expression_in_use, reaction_in_use, set_in_use, species_in_use
 from ratebank.store.models import (
     AuditEntry,
     Expression,
@@ -28,7 +30,7 @@ from ratebank.store.models import (
     Reaction,
     Species,
 )
-from ratebank.store.queries import find_reaction, find_species
+from ratebank.store.queries import FORM_COLUMNS, find_reaction, find_species
 
 # --------------------------------------------------------------------------- rows
 
@@ -52,6 +54,8 @@ class SpeciesSummary:
     boiling_temperature: float | None  # K
     polarizability: float | None  # m3
     ionization_energy: float | None  # J/mol
+    #: why it was withdrawn; None while it is in use
+    withdrawn_reason: str | None = None
 
     @property
     def diameter_is_estimated(self) -> bool:
@@ -84,6 +88,8 @@ class ReactionSummary:
     points: int
     expressions: int
     status: str
+    #: why it was withdrawn; None while it is in use
+    withdrawn: str | None = None
 
 
 @dataclass(frozen=True)
@@ -115,6 +121,8 @@ class SetSummary:
     points: int
     T_min: float | None
     T_max: float | None
+    #: why it (or its reaction) was withdrawn; None while it is in use
+    withdrawn: str | None = None
     #: the set's points by pressure, lowest first (no pressure last)
     pressures: tuple[PressurePoints, ...] = ()
 
@@ -147,6 +155,8 @@ class ExpressionSummary:
     broadening: dict[str, Any] | None = None
     #: further terms of a sum: (term, A, n, Ea, T_min, T_max)
     terms: tuple[tuple[Any, ...], ...] = ()
+    #: why it (or its reaction) was withdrawn; None while it is in use
+    withdrawn: str | None = None
 
 
 @dataclass(frozen=True)
@@ -180,11 +190,17 @@ class ReactionDetail:
 
 
 def species_summaries(
-    session: Session, *, missing_diameter: bool | None = None, name_contains: str | None = None
+    session: Session,
+    *,
+    missing_diameter: bool | None = None,
+    name_contains: str | None = None,
+    include_withdrawn: bool = False,
 ) -> list[SpeciesSummary]:
-    """Species by name: those without (True) or with (False) a diameter, or whose name
-    contains ``name_contains`` (literally)."""
+    """Species in use by name (withdrawn ones too with ``include_withdrawn``): those without
+    (True) or with (False) a diameter, or whose name contains ``name_contains`` (literally)."""
     query = select(*_SPECIES_COLUMNS).order_by(Species.name)
+    if not include_withdrawn:
+        query = query.where(species_in_use())
     if missing_diameter is True:
         query = query.where(Species.diameter.is_(None))
     elif missing_diameter is False:
@@ -203,7 +219,9 @@ def species_detail(session: Session, name: str) -> SpeciesDetail:
         .where(Participant.species_id == species.id)
         .order_by(Reaction.key)
     ).all()
-    summary = SpeciesSummary(*(getattr(species, name) for name in _SPECIES_FIELDS))
+    summary = SpeciesSummary(
+        *session.execute(select(*_SPECIES_COLUMNS).where(Species.id == species.id)).one()
+    )
     return SpeciesDetail(summary, [tuple(r) for r in reactions])
 
 
@@ -252,9 +270,11 @@ def reaction_summaries(
     species: str | None = None,
     reaction_class: str | None = None,
     status: str | None = None,
+    include_withdrawn: bool = False,
 ) -> list[ReactionSummary]:
-    """Reactions by key with their counts and status; only those involving the species named
-    ``species``, of ``reaction_class``, or of ``status`` when given."""
+    """Reactions in use by key (withdrawn ones too with ``include_withdrawn``) with their
+    counts and status; only those involving the species named ``species``, of
+    ``reaction_class``, or of ``status`` when given."""
     query = select(
         Reaction.key,
         Reaction.equation,
@@ -263,7 +283,10 @@ def reaction_summaries(
         Reaction.reaction_class,
         *_reaction_counts(),
         _status_expression().label("status"),
+        Reaction.withdrawn_reason,
     ).order_by(Reaction.key)
+    if not include_withdrawn:
+        query = query.where(reaction_in_use())
     if species is not None:
         species_id = find_species(session, species).id
         query = query.where(
@@ -315,14 +338,19 @@ def reaction_detail(
 # --------------------------------------------------------------------------- sets
 
 
-def set_summaries(session: Session, *, reaction: str | None = None) -> list[SetSummary]:
-    """Measurement sets by reaction key and name, with their point counts and temperature
-    ranges; only those of ``reaction`` (a key or equation) when given."""
+def set_summaries(
+    session: Session, *, reaction: str | None = None, include_withdrawn: bool = False
+) -> list[SetSummary]:
+    """Measurement sets in use (withdrawn ones too with ``include_withdrawn``) by reaction key
+    and name, with their point counts and temperature ranges; only those of ``reaction`` (a
+    key or equation) when given."""
     reaction_id = None if reaction is None else find_reaction(session, reaction).id
-    return _set_summaries(session, reaction_id)
+    return _set_summaries(session, reaction_id, include_withdrawn=include_withdrawn)
 
 
-def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary]:
+def _set_summaries(
+    session: Session, reaction_id: int | None, *, include_withdrawn: bool = True
+) -> list[SetSummary]:
     stats = (
         select(
             Point.set_id,
@@ -330,6 +358,7 @@ def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary
             func.min(Point.temperature).label("T_min"),
             func.max(Point.temperature).label("T_max"),
         )
+        .where(Point.withdrawn_at.is_(None))
         .group_by(Point.set_id)
         .subquery()
     )
@@ -345,6 +374,7 @@ def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary
             func.coalesce(stats.c.n, 0),
             stats.c.T_min,
             stats.c.T_max,
+            func.coalesce(MeasurementSet.withdrawn_reason, Reaction.withdrawn_reason),
         )
         .join(Reaction, Reaction.id == MeasurementSet.reaction_id)
         .outerjoin(stats, stats.c.set_id == MeasurementSet.id)
@@ -352,6 +382,8 @@ def _set_summaries(session: Session, reaction_id: int | None) -> list[SetSummary
     )
     if reaction_id is not None:
         query = query.where(MeasurementSet.reaction_id == reaction_id)
+    if not include_withdrawn:
+        query = query.where(set_in_use())
     by_pressure = _points_by_pressure(session, reaction_id)
     return [
         SetSummary(*row, pressures=tuple(by_pressure.get(row[0], ())))
@@ -369,6 +401,7 @@ def _points_by_pressure(session: Session, reaction_id: int | None) -> dict[int, 
             func.min(Point.temperature),
             func.max(Point.temperature),
         )
+        .where(Point.withdrawn_at.is_(None))
         .group_by(Point.set_id, Point.pressure)
         .order_by(Point.set_id, Point.pressure.is_(None), Point.pressure)
     )
@@ -413,32 +446,27 @@ _EXPRESSION_COLUMNS = (
     Expression.provenance,
     Expression.version,
     Reaction.third_body,
-    Expression.form,
-    Expression.A_low,
-    Expression.n_low,
-    Expression.Ea_low,
-    Expression.broadening,
-    Expression.Fc,
-    Expression.N,
-    Expression.troe_alpha,
-    Expression.troe_T3,
-    Expression.troe_T1,
-    Expression.troe_T2,
+    *FORM_COLUMNS,
+    func.coalesce(Expression.withdrawn_reason, Reaction.withdrawn_reason),
 )
 _BROADENING_FIELDS = ("Fc", "N", "alpha", "T3", "T1", "T2")
 
 
 def expression_summaries(
-    session: Session, *, reaction: str | None = None, origin: str | None = None
+    session: Session,
+    *,
+    reaction: str | None = None,
+    origin: str | None = None,
+    include_withdrawn: bool = False,
 ) -> list[ExpressionSummary]:
-    """Expressions by reaction key and id; only those of ``reaction`` (a key or equation) or
-    of ``origin`` when given."""
+    """Expressions in use (withdrawn ones too with ``include_withdrawn``) by reaction key and
+    id; only those of ``reaction`` (a key or equation) or of ``origin`` when given."""
     reaction_id = None if reaction is None else find_reaction(session, reaction).id
-    return _expression_summaries(session, reaction_id, origin)
+    return _expression_summaries(session, reaction_id, origin, include_withdrawn=include_withdrawn)
 
 
 def _expression_summaries(
-    session: Session, reaction_id: int | None, origin: str | None
+    session: Session, reaction_id: int | None, origin: str | None, *, include_withdrawn: bool = True
 ) -> list[ExpressionSummary]:
     query = (
         select(*_EXPRESSION_COLUMNS)
@@ -449,13 +477,15 @@ def _expression_summaries(
         query = query.where(Expression.reaction_id == reaction_id)
     if origin is not None:
         query = query.where(Expression.origin == origin)
+    if not include_withdrawn:
+        query = query.where(expression_in_use())
     rows = session.execute(query).all()
     terms = _sum_terms(session, [row[0] for row in rows if row[18] == "sum"])
     summaries = []
     for row in rows:
         head, (provenance, version, third_body, form, A_low, n_low, Ea_low, kind, *b) = (
             row[:15],
-            row[15:],
+            row[15:-1],
         )
         broadening = None
         if kind is not None:
@@ -470,6 +500,7 @@ def _expression_summaries(
                 low=None if A_low is None else (A_low, n_low or 0.0, Ea_low or 0.0),
                 broadening=broadening,
                 terms=tuple(terms.get(row[0], ())),
+                withdrawn=row[-1],
             )
         )
     return summaries
@@ -520,9 +551,16 @@ def history(
     if author is not None:
         query = query.where(AuditEntry.author == author)
     return [
-        HistoryEntry(at, who, action, about, dict(detail or {}))
+        HistoryEntry(_aware(at), who, action, about, dict(detail or {}))
         for at, who, action, about, detail in session.execute(query)
     ]
+
+
+def _aware(at: Any) -> Any:
+    """A stored time with its time zone: UTC, which SQLite stores without saying so."""
+    if isinstance(at, dt.datetime):
+        return at.replace(tzinfo=dt.UTC) if at.tzinfo is None else at.astimezone(dt.UTC)
+    return at
 
 
 # --------------------------------------------------------------------------- counts

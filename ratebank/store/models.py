@@ -28,6 +28,7 @@ from sqlalchemy import (
     String,
     Text,
     UniqueConstraint,
+    text,
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
@@ -66,7 +67,16 @@ class Base(DeclarativeBase):
     metadata = MetaData(naming_convention=NAMING_CONVENTION)
 
 
-class Species(Base):
+class Withdrawable:
+    """The columns of a record that can be withdrawn (revision 0009): empty ``withdrawn_at``
+    means the record is in use."""
+
+    withdrawn_at: Mapped[dt.datetime | None] = mapped_column(DateTime(timezone=True))
+    withdrawn_by: Mapped[str | None] = mapped_column(String(200))
+    withdrawn_reason: Mapped[str | None] = mapped_column(Text)
+
+
+class Species(Withdrawable, Base):
     """A chemical species with the physical data collision theory needs."""
 
     __tablename__ = "species"
@@ -133,13 +143,15 @@ class Species(Base):
     ionization_energy: Mapped[float | None] = mapped_column(Float)
     source: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    #: lock version: an edit names the version it read (revision 0009)
+    version: Mapped[int] = mapped_column(Integer, default=1, server_default=text("1"))
 
     @property
     def diameter_is_estimated(self) -> bool:
         return self.diameter is not None and self.diameter_method not in (None, "given")
 
 
-class Reaction(Base):
+class Reaction(Withdrawable, Base):
     """An elementary reaction, identified by a key and a canonical equation."""
 
     __tablename__ = "reaction"
@@ -162,6 +174,8 @@ class Reaction(Base):
     steric_factor: Mapped[float | None] = mapped_column(Float)
     steric_source: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    #: lock version: an edit names the version it read (revision 0009)
+    version: Mapped[int] = mapped_column(Integer, default=1, server_default=text("1"))
     #: "detailed-balance" when k_r = k_f / Kc; empty (the default) when the reaction is
     #: irreversible as written
     reverse: Mapped[str | None] = mapped_column(
@@ -200,7 +214,7 @@ class Participant(Base):
     species: Mapped[Species] = relationship()
 
 
-class MeasurementSet(Base):
+class MeasurementSet(Withdrawable, Base):
     """One measured k(T) data set of one reaction, from one source."""
 
     __tablename__ = "measurement_set"
@@ -223,6 +237,8 @@ class MeasurementSet(Base):
     systematic_uncertainty: Mapped[float | None] = mapped_column(Float)
     source_file: Mapped[str | None] = mapped_column(Text)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    #: lock version: an edit names the version it read (revision 0009)
+    version: Mapped[int] = mapped_column(Integer, default=1, server_default=text("1"))
 
     reaction: Mapped[Reaction] = relationship(back_populates="measurement_sets")
     points: Mapped[list[Point]] = relationship(
@@ -230,7 +246,7 @@ class MeasurementSet(Base):
     )
 
 
-class Point(Base):
+class Point(Withdrawable, Base):
     """One measured rate constant at one temperature (SI units)."""
 
     __tablename__ = "point"
@@ -254,11 +270,13 @@ class Point(Base):
     relative_uncertainty: Mapped[float | None] = mapped_column(Float)
     #: [Pa]
     pressure: Mapped[float | None] = mapped_column(Float)
+    #: lock version: an edit names the version it read (revision 0009)
+    version: Mapped[int] = mapped_column(Integer, default=1, server_default=text("1"))
 
     measurement_set: Mapped[MeasurementSet] = relationship(back_populates="points")
 
 
-class Expression(Base):
+class Expression(Withdrawable, Base):
     """A rate expression k = A T^n exp(-Ea/RT) of a reaction, with its origin.
 
     ``A`` may be empty: an activation energy whose pre-exponential factor is

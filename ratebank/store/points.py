@@ -10,6 +10,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ratebank.store.bulk import fetch_all
+from ratebank.store.in_use import point_in_use
 from ratebank.store.models import MeasurementSet, Point
 
 
@@ -35,7 +36,8 @@ class PointColumns:
 
 
 def points(session: Session, reaction_ids: Sequence[int] | None = None) -> PointColumns:
-    """The measured points of the reactions (all when ``reaction_ids`` is None) as columns."""
+    """The measured points in use of the reactions (all when ``reaction_ids`` is None) as
+    columns: withdrawn points, and those of withdrawn sets and reactions, are left out."""
     query = (
         select(
             MeasurementSet.reaction_id,
@@ -47,6 +49,7 @@ def points(session: Session, reaction_ids: Sequence[int] | None = None) -> Point
             MeasurementSet.systematic_uncertainty,
         )
         .join(MeasurementSet, MeasurementSet.id == Point.set_id)
+        .where(point_in_use())
         .order_by(MeasurementSet.reaction_id, Point.set_id, Point.id)
     )
     if reaction_ids is not None:

@@ -23,6 +23,7 @@ from sqlalchemy.orm import Session
 from ratebank.errors import NotFoundError
 from ratebank.science.equation import looks_like_equation, parse_equation
 from ratebank.store.bulk import fetch_all, fetch_in
+from ratebank.store.in_use import EXPRESSION_IN_USE_SQL, expression_in_use, reaction_in_use
 from ratebank.store.json_codec import loads
 from ratebank.store.models import (
     Expression,
@@ -157,6 +158,21 @@ class TermRow(NamedTuple):
     T_max: float | None
 
 
+#: The columns of an expression's rate-law form (besides A, n, Ea and the range).
+FORM_COLUMNS = (
+    Expression.form,
+    Expression.A_low,
+    Expression.n_low,
+    Expression.Ea_low,
+    Expression.broadening,
+    Expression.Fc,
+    Expression.N,
+    Expression.troe_alpha,
+    Expression.troe_T3,
+    Expression.troe_T1,
+    Expression.troe_T2,
+)
+
 _EXPRESSION_COLUMNS = (
     Expression.id,
     Expression.reaction_id,
@@ -176,17 +192,7 @@ _EXPRESSION_COLUMNS = (
     Expression.created_by,
     Expression.updated_at,
     Expression.updated_by,
-    Expression.form,
-    Expression.A_low,
-    Expression.n_low,
-    Expression.Ea_low,
-    Expression.broadening,
-    Expression.Fc,
-    Expression.N,
-    Expression.troe_alpha,
-    Expression.troe_T3,
-    Expression.troe_T1,
-    Expression.troe_T2,
+    *FORM_COLUMNS,
 )
 
 
@@ -235,12 +241,13 @@ def reactions(
     ids: Sequence[int] | None = None,
     reaction_class: str | None = None,
 ) -> list[ReactionRow]:
-    """Reactions by key: those of ``ids``, or of ``reaction_class``, or all of them."""
+    """Reactions by key: those of ``ids``, or the reactions in use of ``reaction_class``, or all
+    reactions in use (withdrawn ones are left out unless asked for by id)."""
     if ids is not None:
         columns = ", ".join(column.name for column in _REACTION_COLUMNS)
         found = fetch_in(session, f"SELECT {columns} FROM reaction WHERE id IN ({{marks}})", ids)
         return sorted((ReactionRow(*row) for row in found), key=lambda r: r.key)
-    query = select(*_REACTION_COLUMNS).order_by(Reaction.key)
+    query = select(*_REACTION_COLUMNS).where(reaction_in_use()).order_by(Reaction.key)
     if reaction_class is not None:
         query = query.where(Reaction.reaction_class == reaction_class)
         return [ReactionRow(*row) for row in session.execute(query)]
@@ -291,8 +298,8 @@ def expression(session: Session, expression_id: int) -> ExpressionRow:
 def expressions_of(
     session: Session, reaction_ids: Sequence[int] | None = None
 ) -> dict[int, list[ExpressionRow]]:
-    """Every expression of each reaction (all reactions when ``reaction_ids`` is None), oldest
-    first."""
+    """Every expression in use of each reaction (all reactions when ``reaction_ids`` is None),
+    oldest first; withdrawn expressions, and those of withdrawn reactions, are left out."""
     found = _expressions_by_reaction(session, reaction_ids)
     if any(row.form == "sum" for rows in found.values() for row in rows):
         for reaction_id, rows in found.items():
@@ -303,7 +310,7 @@ def expressions_of(
 def _expressions_by_reaction(
     session: Session, reaction_ids: Sequence[int] | None
 ) -> dict[int, list[ExpressionRow]]:
-    query = select(*_EXPRESSION_COLUMNS).order_by(Expression.id)
+    query = select(*_EXPRESSION_COLUMNS).where(expression_in_use()).order_by(Expression.id)
     if reaction_ids is None:
         found: dict[int, list[ExpressionRow]] = {}
         for row in fetch_all(session, query):
@@ -324,11 +331,12 @@ def _expressions_by_reaction(
 
 
 def newest_fits(session: Session, reaction_ids: Sequence[int]) -> dict[int, ExpressionRow]:
-    """The newest measured fit of each reaction that has one."""
+    """The newest measured fit in use of each reaction that has one."""
     columns = ", ".join(_sql_column(c) for c in _EXPRESSION_COLUMNS)
     query = (
         f"SELECT {columns} FROM expression WHERE id IN (SELECT MAX(id) FROM expression "
-        "WHERE origin = 'measured-fit' AND reaction_id IN ({marks}) GROUP BY reaction_id)"
+        f"WHERE origin = 'measured-fit' AND {EXPRESSION_IN_USE_SQL} "
+        "AND reaction_id IN ({marks}) GROUP BY reaction_id)"
     )
     rows = with_terms(
         session, [_expression_row(row) for row in fetch_in(session, query, list(reaction_ids))]
@@ -357,8 +365,8 @@ def with_terms(session: Session, rows: list[ExpressionRow]) -> list[ExpressionRo
 
 
 def measured_fits(session: Session, *, reaction_class: str | None = None) -> list[ExpressionRow]:
-    """Every measured k(T) fit (plain form: not a fall-off or activated fit, whose A is
-    k_inf) of a bimolecular reaction (of ``reaction_class``), oldest first."""
+    """Every measured k(T) fit in use (plain form: not a fall-off or activated fit, whose A is
+    k_inf) of a bimolecular reaction in use (of ``reaction_class``), oldest first."""
     query = (
         select(*_EXPRESSION_COLUMNS)
         .join(Reaction, Reaction.id == Expression.reaction_id)
@@ -367,6 +375,7 @@ def measured_fits(session: Session, *, reaction_class: str | None = None) -> lis
             or_(Expression.form.is_(None), Expression.form == "arrhenius"),
             Reaction.reaction_order == 2,
             Reaction.third_body.is_(False),
+            expression_in_use(),
         )
         .order_by(Expression.id)
     )

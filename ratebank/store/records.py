@@ -391,6 +391,11 @@ def stale_edit_error(
                 current.updated_at or current.created_at,
             )
         )
+    if version_read > current.version:
+        return StaleEditError(
+            f"version {version_read} never existed; {label} is at version "
+            f"{current.version}; nothing was written"
+        )
     return StaleEditError(
         f"{label} is at version {current.version}, not {version_read}; nothing was written; "
         "read it again before changing it"

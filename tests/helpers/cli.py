@@ -50,3 +50,11 @@ def snapshot(db: str) -> dict[str, list[tuple]]:
 def write(path: Path, text: str) -> Path:
     path.write_text(text, encoding="utf-8")
     return path
+
+
+def csv_rows(text: str) -> list[tuple[int, dict[str, str]]]:
+    """The rows of a CSV text as the importers take them: (line, cells by column)."""
+    import csv
+    import io
+
+    return list(enumerate(csv.DictReader(io.StringIO(text)), start=2))

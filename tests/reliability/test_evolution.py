@@ -508,3 +508,63 @@ def test_a_store_at_the_previous_revision_upgrades_with_every_row_intact(db_url,
     k0_si = 2.1e-32 * 300**-0.8 * 1e-12 * 6.02214076e23**2  # m6 mol-2 s-1 (CODATA N_A)
     M = 1e5 / (8.31446261815324 * 300)  # ideal gas; R = N_A k_B exactly (SI 2019)
     assert at_one_bar["rates"][0]["k"] == pytest.approx(k0_si * M, rel=1e-12)
+
+
+def test_a_store_at_revision_0008_upgrades_to_withdrawal_and_versions(db_url, cli, tmp_path):
+    # a store with every kind of record (a fit too) taken back to 0008, then upgraded: every
+    # row keeps its values, every record is in use at version 1, the fingerprint is unchanged
+    # and the new lifecycle works on the old rows
+    from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+
+    assert cli(db_url, "init").exit_code == 0
+    for kind, text_ in (
+        ("species", SPECIES_CSV),
+        ("reactions", REACTIONS_CSV),
+        ("data", MEASUREMENTS_CSV),
+        ("expressions", EXPRESSIONS_CSV),
+    ):
+        path = write(tmp_path / f"{kind}.csv", text_)
+        assert cli(db_url, kind, "import", str(path)).exit_code == 0
+    assert cli(db_url, "fit", "oh-ch4").exit_code == 0
+    engine = create_store_engine(database_url(db_url))
+    try:
+        _downgrade(engine, "0008")
+        assert current_revision(engine) == "0008"
+        before = _previous_revision_rows(engine)
+        old = open_store(db_url, check=False)
+        with old.session() as session:
+            fingerprint_before = store_fingerprint(session)
+        old.close()
+        result = upgrade_store(engine)
+        assert (result.before, result.after) == ("0008", HEAD_REVISION)
+        after = _previous_revision_rows(engine)
+        with engine.connect() as connection:
+            columns = {
+                table: [c["name"] for c in inspect(connection).get_columns(table)]
+                for table in ("species", "reaction", "measurement_set", "point", "expression")
+            }
+    finally:
+        engine.dispose()
+    width = {name: len(rows[0]) for name, rows in before.items() if rows}
+    assert {name: [row[: width.get(name, 0)] for row in rows] for name, rows in after.items()} == (
+        before
+    )
+    for table, names in columns.items():
+        added = names[width[table] :]
+        assert set(added) >= {"withdrawn_at", "withdrawn_by", "withdrawn_reason"}
+        for row in after[table]:
+            values = dict(zip(names, row, strict=True))
+            assert values["withdrawn_at"] is None and values["withdrawn_reason"] is None
+            assert values["version"] == 1
+    store = open_store(db_url)
+    try:
+        with store.session() as session:
+            assert store_fingerprint(session) == fingerprint_before
+    finally:
+        store.close()
+    assert (
+        cli(db_url, "species", "edit", "OH", "--tc", "500", "--expect-version", "1").exit_code == 0
+    )
+    assert cli(db_url, "withdraw", "set", "s2", "--reason", "checked later").exit_code == 0
+    listed = json.loads(cli(db_url, "data", "list", "--json").stdout)
+    assert [s["set"] for s in listed] == ["s1"]

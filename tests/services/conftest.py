@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import pytest
-from helpers.cli import run, write
+from helpers.cli import csv_rows, run, write
 from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
 
 from ratebank.services.store_access import open_store
@@ -30,3 +30,17 @@ def store(filled):
     handle = open_store(filled, author="tester")
     yield handle
     handle.close()
+
+
+@pytest.fixture
+def forms_store(store):
+    """The filled store plus the species and reactions of helpers.data's FORMS_* set."""
+    from helpers.data import FORMS_REACTIONS_CSV, FORMS_SPECIES_CSV
+
+    from ratebank.services.reactions import import_reactions
+    from ratebank.services.species import import_species
+
+    with store.session(write=True) as session:
+        import_species(session, csv_rows(FORMS_SPECIES_CSV), source="s.csv")
+        import_reactions(session, csv_rows(FORMS_REACTIONS_CSV), source="r.csv")
+    return store

@@ -2,34 +2,19 @@
 
 from __future__ import annotations
 
-import csv
-import io
-
 import pytest
-from helpers.data import FORMS_EFFICIENCIES_CSV, FORMS_REACTIONS_CSV, FORMS_SPECIES_CSV
+from helpers.cli import csv_rows
+from helpers.data import FORMS_EFFICIENCIES_CSV
 
 from ratebank.errors import ImportValidationError, NotFoundError
 from ratebank.services.efficiencies import import_efficiencies, list_efficiencies
-from ratebank.services.reactions import import_reactions, show_reaction
-from ratebank.services.species import import_species
+from ratebank.services.reactions import show_reaction
 from ratebank.store.listings import history
-
-
-def _rows(text: str) -> list[tuple[int, dict[str, str]]]:
-    return list(enumerate(csv.DictReader(io.StringIO(text)), start=2))
-
-
-@pytest.fixture
-def forms_store(store):
-    with store.session(write=True) as session:
-        import_species(session, _rows(FORMS_SPECIES_CSV), source="s.csv")
-        import_reactions(session, _rows(FORMS_REACTIONS_CSV), source="r.csv")
-    return store
 
 
 def test_efficiencies_are_stored_listed_and_shown_with_the_reaction(forms_store):
     with forms_store.session(write=True) as session:
-        summary = import_efficiencies(session, _rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
+        summary = import_efficiencies(session, csv_rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
     assert (summary.added, summary.details["replaced"]) == (3, 0)
     with forms_store.session() as session:
         listed = [(r.reaction_key, r.species, r.efficiency) for r in list_efficiencies(session)]
@@ -42,10 +27,10 @@ def test_efficiencies_are_stored_listed_and_shown_with_the_reaction(forms_store)
 
 def test_a_pair_given_again_replaces_its_value_and_the_history_keeps_the_old_one(forms_store):
     with forms_store.session(write=True) as session:
-        import_efficiencies(session, _rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
+        import_efficiencies(session, csv_rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
     again = "reaction,species,efficiency\nh-o2-m,H2O,10\n"
     with forms_store.session(write=True) as session:
-        summary = import_efficiencies(session, _rows(again), source="e2.csv")
+        summary = import_efficiencies(session, csv_rows(again), source="e2.csv")
     assert summary.details["replaced"] == 1
     with forms_store.session() as session:
         values = {(r.reaction_key, r.species): r.efficiency for r in list_efficiencies(session)}
@@ -71,7 +56,7 @@ def test_bad_rows_are_refused_with_their_line_and_nothing_is_written(
 ):
     text = f"reaction,species,efficiency\nh-o2-m,N2,1.4\n{row}\n"
     with forms_store.session(write=True) as session, pytest.raises(ImportValidationError) as e:
-        import_efficiencies(session, _rows(text), source="bad.csv")
+        import_efficiencies(session, csv_rows(text), source="bad.csv")
     assert f"bad.csv:3: {column}: " in str(e.value.problems[0])
     assert message in str(e.value.problems[0])
     with forms_store.session() as session:
@@ -81,7 +66,7 @@ def test_bad_rows_are_refused_with_their_line_and_nothing_is_written(
 def test_a_pair_twice_in_one_file_is_refused(forms_store):
     text = "reaction,species,efficiency\nh-o2-m,N2,1.4\nH + O2 + M -> HO2 + M,N2,1.5\n"
     with forms_store.session(write=True) as session, pytest.raises(ImportValidationError) as e:
-        import_efficiencies(session, _rows(text), source="dup.csv")
+        import_efficiencies(session, csv_rows(text), source="dup.csv")
     assert "already given on line 2" in e.value.problems[0]
 
 

@@ -7,32 +7,16 @@ Unit factors from scipy.constants: 1 cm3 molecule-1 s-1 = N_A 1e-6 m3 mol-1 s-1 
 
 from __future__ import annotations
 
-import csv
-import io
-
 import pytest
-from helpers.data import FORMS_EXPRESSIONS_CSV, FORMS_REACTIONS_CSV, FORMS_SPECIES_CSV
+from helpers.cli import csv_rows
+from helpers.data import FORMS_EXPRESSIONS_CSV
 from scipy import constants
 
 from ratebank.errors import ImportValidationError
 from ratebank.services.expressions import import_expressions
-from ratebank.services.reactions import import_reactions
-from ratebank.services.species import import_species
 from ratebank.store.queries import expressions_of, find_reaction
 
 HEADER = FORMS_EXPRESSIONS_CSV.splitlines()[0]
-
-
-def _rows(text: str) -> list[tuple[int, dict[str, str]]]:
-    return list(enumerate(csv.DictReader(io.StringIO(text)), start=2))
-
-
-@pytest.fixture
-def forms_store(store):
-    with store.session(write=True) as session:
-        import_species(session, _rows(FORMS_SPECIES_CSV), source="s.csv")
-        import_reactions(session, _rows(FORMS_REACTIONS_CSV), source="r.csv")
-    return store
 
 
 def _stored(store, key):
@@ -43,7 +27,7 @@ def _stored(store, key):
 
 def test_every_form_is_stored_in_si_as_given(forms_store):
     with forms_store.session(write=True) as session:
-        summary = import_expressions(session, _rows(FORMS_EXPRESSIONS_CSV), source="x.csv")
+        summary = import_expressions(session, csv_rows(FORMS_EXPRESSIONS_CSV), source="x.csv")
     assert summary.added == 4  # the two rows of the sum are one expression
     (troe,) = _stored(forms_store, "h-o2-m")
     assert (troe.form, troe.broadening) == ("falloff", "troe")
@@ -72,7 +56,7 @@ def test_k_low_units_default_to_one_concentration_more_than_k_units(forms_store)
         "h-o2-m,falloff,7.5e-11,0,0,K,cm3/molecule/s,5e-32\n"
     )
     with forms_store.session(write=True) as session:
-        import_expressions(session, _rows(text), source="x.csv")
+        import_expressions(session, csv_rows(text), source="x.csv")
     (stored,) = _stored(forms_store, "h-o2-m")
     assert stored.A_low == pytest.approx(5e-32 * constants.N_A**2 * 1e-12, rel=1e-15)
     assert stored.provenance["given_units"]["k_low_units"] == "cm6/molecule2/s"
@@ -104,7 +88,7 @@ def test_misused_form_columns_are_refused_with_line_and_column(forms_store, row,
     good = "oh-oh-m,third-body,,6.9e-31,-0.8,0,kJ/mol,cm6/molecule2/s"
     text = f"{header}\n{good}\n{row}\n"
     with forms_store.session(write=True) as session, pytest.raises(ImportValidationError) as e:
-        import_expressions(session, _rows(text), source="bad.csv")
+        import_expressions(session, csv_rows(text), source="bad.csv")
     found = [p for p in e.value.problems if p.startswith(f"bad.csv:3: {column}: ")]
     assert found, e.value.problems
     assert message in found[0]
@@ -118,5 +102,5 @@ def test_a_sum_with_a_gap_in_its_terms_is_refused(forms_store):
         "oh-co,sum,3,1e-12,0,0,K,cm3/molecule/s,r\n"
     )
     with forms_store.session(write=True) as session, pytest.raises(ImportValidationError) as e:
-        import_expressions(session, _rows(text), source="gap.csv")
+        import_expressions(session, csv_rows(text), source="gap.csv")
     assert "has terms 1, 3; expected 1, 2, ..." in e.value.problems[0]

@@ -11,16 +11,13 @@ Atmos. Chem. Phys. 4, 1461, 2004). Constants from scipy.constants (CODATA).
 
 from __future__ import annotations
 
-import csv
-import io
 import math
 
 import pytest
+from helpers.cli import csv_rows
 from helpers.data import (
     FORMS_EFFICIENCIES_CSV,
     FORMS_EXPRESSIONS_CSV,
-    FORMS_REACTIONS_CSV,
-    FORMS_SPECIES_CSV,
 )
 from scipy import constants
 
@@ -28,8 +25,6 @@ from ratebank.errors import BadInputError, UnitError
 from ratebank.services.efficiencies import import_efficiencies
 from ratebank.services.expressions import import_expressions
 from ratebank.services.rates import rate
-from ratebank.services.reactions import import_reactions
-from ratebank.services.species import import_species
 
 R = constants.R
 N_A = constants.N_A
@@ -37,18 +32,12 @@ TEMPERATURES = [300.0, 800.0, 1500.0]
 PRESSURES_BAR = [0.01, 1.0, 100.0]
 
 
-def _rows(text: str) -> list[tuple[int, dict[str, str]]]:
-    return list(enumerate(csv.DictReader(io.StringIO(text)), start=2))
-
-
 @pytest.fixture
-def forms_store(store):
-    with store.session(write=True) as session:
-        import_species(session, _rows(FORMS_SPECIES_CSV), source="s.csv")
-        import_reactions(session, _rows(FORMS_REACTIONS_CSV), source="r.csv")
-        import_expressions(session, _rows(FORMS_EXPRESSIONS_CSV), source="x.csv")
-        import_efficiencies(session, _rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
-    return store
+def rated_store(forms_store):
+    with forms_store.session(write=True) as session:
+        import_expressions(session, csv_rows(FORMS_EXPRESSIONS_CSV), source="x.csv")
+        import_efficiencies(session, csv_rows(FORMS_EFFICIENCIES_CSV), source="e.csv")
+    return forms_store
 
 
 def _arrhenius(A, n, Ea_J, T):
@@ -70,10 +59,10 @@ def _fixed_F(Pr, Fc):
 
 @pytest.mark.parametrize("T", TEMPERATURES)
 @pytest.mark.parametrize("p_bar", PRESSURES_BAR)
-def test_troe_falloff_in_a_mixture_matches_the_published_form(forms_store, T, p_bar):
+def test_troe_falloff_in_a_mixture_matches_the_published_form(rated_store, T, p_bar):
     # H + O2 + M: k_inf 4.65e12 T^0.44 cm3/mol/s, k0 6.37e20 T^-1.72 exp(-2.19 kJ/mol / RT)
     # cm6/mol2/s, Troe a 0.5, T*** 30, T* 9e4, T** 9e4; colliders N2 (1), H2O (12), Ar (0.5)
-    with forms_store.session() as session:
+    with rated_store.session() as session:
         report = rate(
             session, "h-o2-m", [T], pressure=p_bar, bath=None,
             mixture="N2:0.7,H2O:0.1,Ar:0.2", preset="combustion",
@@ -93,8 +82,8 @@ def test_troe_falloff_in_a_mixture_matches_the_published_form(forms_store, T, p_
 
 @pytest.mark.parametrize("T", [700.0, 1000.0])
 @pytest.mark.parametrize(("p", "unit", "p_pa"), [(760.0, "Torr", 101325.0), (5.0, "kPa", 5e3)])
-def test_unimolecular_falloff_with_fixed_fc_in_a_bath_gas(forms_store, T, p, unit, p_pa):
-    with forms_store.session() as session:
+def test_unimolecular_falloff_with_fixed_fc_in_a_bath_gas(rated_store, T, p, unit, p_pa):
+    with rated_store.session() as session:
         report = rate(
             session, "c2h5-m", [T], pressure=p, pressure_units=unit, bath="N2",
             k_units="s-1",
@@ -106,8 +95,8 @@ def test_unimolecular_falloff_with_fixed_fc_in_a_bath_gas(forms_store, T, p, uni
     assert report.rows[0].k == pytest.approx(k_inf * Pr / (1 + Pr) * _fixed_F(Pr, 0.6), rel=1e-12)
 
 
-def test_third_body_gives_its_coefficient_alone_and_k0_m_eff_with_a_pressure(forms_store):
-    with forms_store.session() as session:
+def test_third_body_gives_its_coefficient_alone_and_k0_m_eff_with_a_pressure(rated_store):
+    with rated_store.session() as session:
         plain = rate(session, "oh-oh-m", [300.0], k_units="cm6/molecule2/s")
         wet = rate(session, "oh-oh-m", [300.0], pressure=1.0, mixture="N2:0.9,H2O:0.1",
                    k_units="cm3/molecule/s")  # fmt: skip
@@ -118,8 +107,8 @@ def test_third_body_gives_its_coefficient_alone_and_k0_m_eff_with_a_pressure(for
     assert wet.rows[0].k == pytest.approx(k0 * M_eff, rel=1e-12)
 
 
-def test_sum_adds_its_terms_and_ignores_the_pressure(forms_store):
-    with forms_store.session() as session:
+def test_sum_adds_its_terms_and_ignores_the_pressure(rated_store):
+    with rated_store.session() as session:
         alone = rate(session, "oh-co", [300.0, 1000.0], k_units="cm3/molecule/s")
         at_p = rate(session, "oh-co", [300.0, 1000.0], k_units="cm3/molecule/s", pressure=2.0)
     for T, row in zip([300.0, 1000.0], alone.rows, strict=True):
@@ -138,11 +127,11 @@ def test_sum_adds_its_terms_and_ignores_the_pressure(forms_store):
         ({"bath": "N2"}, BadInputError, "depends on the pressure"),
     ],
 )
-def test_bad_rate_requests_say_what_is_wrong(forms_store, kwargs, error, message):
-    with forms_store.session() as session, pytest.raises(error, match=message):
+def test_bad_rate_requests_say_what_is_wrong(rated_store, kwargs, error, message):
+    with rated_store.session() as session, pytest.raises(error, match=message):
         rate(session, "h-o2-m", [300.0], **kwargs)
 
 
-def test_a_bath_gas_without_a_pressure_is_refused_for_a_plain_reaction(forms_store):
-    with forms_store.session() as session, pytest.raises(BadInputError, match="needs a pressure"):
+def test_a_bath_gas_without_a_pressure_is_refused_for_a_plain_reaction(rated_store):
+    with rated_store.session() as session, pytest.raises(BadInputError, match="needs a pressure"):
         rate(session, "oh-co", [300.0], bath="N2")

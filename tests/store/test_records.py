@@ -175,8 +175,7 @@ def test_stale_edits_say_who_changed_the_row_or_that_it_is_gone(store):
     behind = stale_edit_error(expression_id, 7, current)
     assert isinstance(behind, StaleEditError)
     assert str(behind) == (
-        f"expression {expression_id} is at version 1, not 7; nothing was written; read it again "
-        "before changing it"
+        f"version 7 never existed; expression {expression_id} is at version 1; nothing was written"
     )
     ahead = str(stale_edit_error(expression_id, 0, current))
     assert ahead.startswith(f"expression {expression_id} was changed by tester at ")
