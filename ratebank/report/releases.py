@@ -47,14 +47,14 @@ def releases_table(views: Sequence[Any]) -> ReportTable:
 
 
 def release_table(view: Any) -> ReportTable:
-    table = ReportTable(title=f"Release {view.name} (frozen; SI units)")
+    table = ReportTable(title=f"Release {view.name} (frozen; SI units)", show_header=False)
     table.add_column("")
     table.add_column("")
     checks = view.checks or {}
-    flags = checks.get("flags") or {}
-    summary = "clean" if checks.get("clean") else ", ".join(f"{c} {n}" for c, n in flags.items())
+    parts = [f"{code} {count}" for code, count in (checks.get("flags") or {}).items()]
     if checks.get("unchecked"):
-        summary += f"; {checks['unchecked']} unchecked"
+        parts.append(f"{checks['unchecked']} expression(s) unchecked")
+    summary = "clean" if checks.get("clean") else ", ".join(parts)
     rows = (
         ("created (UTC)", _when(view.created_at)),
         ("by", view.created_by),
@@ -66,7 +66,7 @@ def release_table(view: Any) -> ReportTable:
         ("left out", ", ".join(view.left_out) or "none"),
         ("store", view.store or ""),
         ("store fingerprint", view.store_fingerprint or ""),
-        ("checks", summary or "clean"),
+        ("checks", summary),
     )
     for label, value in rows:
         table.add_row(label, value)

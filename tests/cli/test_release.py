@@ -160,3 +160,23 @@ def test_refusals_are_one_line_and_write_nothing(store, tmp_path, arguments, mes
     assert outcome.stderr == message
     assert snapshot(store) == before
     assert not (tmp_path / "out").exists()
+
+
+def test_a_release_with_gaps_is_refused_unless_asked(store, tmp_path):
+    ok(
+        store,
+        "reactions",
+        "import",
+        str(write(tmp_path / "gap.csv", "key,equation\no-oh,O + OH -> O2 + H\n")),
+    )
+    before = snapshot(store)
+    outcome = run(store, "release", "create", "v1")
+    assert outcome.exit_code != 0
+    assert outcome.stderr.startswith("Error: ") and outcome.stderr.count("\n") == 1
+    assert "o-oh" in outcome.stderr
+    assert snapshot(store) == before
+    made = ok(store, "release", "create", "v1", "--leave-out-gaps")
+    assert made.stdout.startswith("Release v1: 2 reactions (2 rows)")
+    assert json.loads(ok(store, "release", "show", "v1", "--json").stdout)["left_out"] == ["o-oh"]
+    history = json.loads(ok(store, "history", "--json").stdout)
+    assert any(h["action"] == "release.create" and h["target"] == "v1" for h in history)
