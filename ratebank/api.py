@@ -780,11 +780,22 @@ class Store:
         linearise_at: float | None = None,
         leave_out_gaps: bool = False,
         reverse_as_fit: bool = False,
+        release: str | None = None,
     ) -> ExportResult:
         """Write the data package folder ``out`` (``datapackage.json``, ``mechanism.csv``,
         ``efficiencies.csv``, ``species.csv``) as one unit, and record the export in the
         history; an ExportResult (ExportGapsError when a reaction has no usable expression,
-        unless ``leave_out_gaps``). :func:`ratebank.read_package` reads the folder back."""
+        unless ``leave_out_gaps``). :func:`ratebank.read_package` reads the folder back.
+
+        With ``release``, that release's frozen content is written again, in the SI units
+        it was frozen in: the bytes an SI export wrote when it was made, apart from the
+        creation time, whatever changed since. The unit and form arguments do not apply
+        then and are refused (``preset`` may stay at its default or be ``si``)."""
+        if release is not None:
+            _release_only(preset, k_units, e_units, form, linearise_at, leave_out_gaps,
+                          reverse_as_fit)  # fmt: skip
+            with self._handle.session(write=True) as session:
+                return _module("io.releases").export_release(session, release, Path(out))
         export = _module("io.export")
         with self._handle.session(write=True) as session:
             return export.export_mechanism(
@@ -798,6 +809,53 @@ class Store:
                 leave_out_gaps=leave_out_gaps,
                 store_label=self._handle.display_url,
                 reverse_as_fit=reverse_as_fit,
+            )
+
+    # ------------------------------------------------------------------ releases
+
+    def create_release(self, name: str, *, leave_out_gaps: bool = False) -> Any:
+        """Freeze what an export would hold now (rows in SI with their provenance,
+        efficiencies, species, the check results and a fingerprint of it all) under the new
+        ``name``, with who made it and when; a ReleaseView. A name in use is a ConflictError;
+        a release is never changed afterwards."""
+        with self._handle.session(write=True) as session:
+            return _module("io.releases").create_release(
+                session, name, leave_out_gaps=leave_out_gaps, store_label=self._handle.display_url
+            )
+
+    def releases(self) -> list[Any]:
+        """Every release, oldest first (name, when, who, fingerprint); ReleaseViews."""
+        with self._handle.session() as session:
+            return _module("io.releases").list_releases(session)
+
+    def release(self, name: str) -> Any:
+        """What the release ``name`` holds (counts, fingerprint, who and when, the check
+        summary); a ReleaseView (NotFoundError when there is none of that name)."""
+        with self._handle.session() as session:
+            return _module("io.releases").show_release(session, name)
+
+    def diff(
+        self,
+        a: str,
+        b: str,
+        *,
+        temperatures: Sequence[float] | None = None,
+        pressure: float = 1.0,
+    ) -> Any:
+        """What changed from ``a`` to ``b``; a DiffReport (reactions added, removed and
+        changed: the fields, k_B/k_A at ``temperatures`` [K] (default 300 K, 1000 K and
+        the rows' range ends) at ``pressure`` [bar] with efficiency 1, and whether the change
+        exceeds the older row's uncertainty factor).
+
+        Each side is ``"store"`` (this store now), ``"release:NAME"`` or a release's name, a
+        store's path or URL, or an exported package folder."""
+        with self._handle.session() as session:
+            return _module("io.compare").diff_sides(
+                session,
+                a,
+                b,
+                temperatures=None if temperatures is None else [float(T) for T in temperatures],
+                pressure_bar=float(pressure),
             )
 
     # ------------------------------------------------------------------ review book
@@ -1048,6 +1106,37 @@ class Store:
     def clear_class_evans_polanyi(self, reaction_class: str) -> None:
         """Remove a class's Evans-Polanyi relation."""
         self._write("evans_polanyi", "remove_class_relation", reaction_class)
+
+
+def _release_only(
+    preset: str | None,
+    k_units: str | None,
+    e_units: str | None,
+    form: str,
+    linearise_at: float | None,
+    leave_out_gaps: bool,
+    reverse_as_fit: bool,
+) -> None:
+    """Refuse export arguments that a release's frozen content cannot honour."""
+    given = [
+        name
+        for name, used in (
+            ("preset", preset not in (None, "si", "combustion")),
+            ("k_units", k_units is not None),
+            ("e_units", e_units is not None),
+            ("form", form != "modified"),
+            ("linearise_at", linearise_at is not None),
+            ("leave_out_gaps", leave_out_gaps),
+            ("reverse_as_fit", reverse_as_fit),
+        )
+        if used
+    ]
+    if given:
+        raise BadInputError(
+            f"a release is written as it was frozen (SI units, modified form); {given[0]} does "
+            "not apply to it; nothing was written",
+            argument=given[0],
+        )
 
 
 def open(db: str | Path | None = None, *, author: str | None = None) -> Store:

@@ -18,6 +18,7 @@ from ratebank.cli import curation as curation_commands
 from ratebank.cli import efficiencies as efficiencies_commands
 from ratebank.cli import kinetics as kinetics_commands
 from ratebank.cli import plot as plot_commands
+from ratebank.cli import release as release_commands
 from ratebank.cli import review as review_commands
 from ratebank.cli import thermo as thermo_commands
 from ratebank.cli.common import (
@@ -82,6 +83,7 @@ curation_commands.register(app, species_app, reactions_app, data_app)
 review_commands.register(app)
 thermo_commands.register(app)
 efficiencies_commands.register(app)
+release_commands.register(app)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 DRY_RUN_OPTION = typer.Option(False, "--dry-run", help="Validate and report; write nothing.")

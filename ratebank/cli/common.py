@@ -235,18 +235,20 @@ def _options_by_argument(command: Any) -> dict[str, str]:
     return found
 
 
-def with_option_names(exc: RatebankError, command: Any) -> str:
+def with_option_names(exc: RatebankError, command: Any, leaf: Any = None) -> str:
     """The library's message, with the command-line option it concerns where that helps.
 
     The library speaks of arguments (``argument="fixed_n"``); a user typed an
-    option (``--fixed-n``), so the option is named here, in one place.
+    option (``--fixed-n``), so the option is named here, in one place: the
+    command's own (``leaf``) first, else the first of that name in the tree.
     """
     message = str(exc)
     for kind, option in _WAY_AROUND.items():
         if isinstance(exc, kind):
             return f"{message} ({option})"
     argument = getattr(exc, "argument", None) if isinstance(exc, BadInputError) else None
-    option = _options_by_argument(command).get(argument.lower()) if argument else None
+    options = _options_by_argument(command) | (_options_by_argument(leaf) if leaf else {})
+    option = options.get(argument.lower()) if argument else None
     return f"{message} (option {option})" if option else message
 
 
@@ -262,6 +264,7 @@ class RatebankGroup(TyperGroup):
             leaf = leaf.commands.get(rest[depth]) if depth < len(rest) else None
             depth += 1
         if leaf is not None:
+            ctx.meta["ratebank.leaf"] = leaf
             path = " ".join([name, *rest[:depth]])
             rest = [*rest[:depth], *prepare_arguments(leaf, rest[depth:], path)]
         return name, command, rest
@@ -276,7 +279,7 @@ class RatebankGroup(TyperGroup):
         except RatebankError as exc:
             if STATE.traceback:
                 raise
-            report_error(with_option_names(exc, self))
+            report_error(with_option_names(exc, self, ctx.meta.get("ratebank.leaf")))
             raise typer.Exit(exc.exit_code) from None
         except KeyboardInterrupt:
             if STATE.traceback:

@@ -425,6 +425,11 @@ def export(
         help="Write the reverse of each reversible reaction as its own modified-Arrhenius "
         "row (fitted to k_f / Kc over the row's range).",
     ),
+    release: str = typer.Option(
+        None,
+        "--release",
+        help="Write this release again, as frozen (SI units), whatever changed since.",
+    ),
 ) -> None:
     """Write the mechanism as a data package: the folder OUT holding datapackage.json,
     mechanism.csv, efficiencies.csv and species.csv, written as one unit.
@@ -434,6 +439,7 @@ def export(
     with opened_store() as store:
         result = store.export(
             out,
+            release=release,
             preset=preset,
             k_units=k_units,
             e_units=e_units,

@@ -393,24 +393,31 @@ def _table_text(table: mechanism.MechanismTable, fields: Sequence[dict[str, Any]
     return _csv_text(mechanism.COLUMNS, rows, _text_columns(fields))
 
 
-def _efficiencies_text(session: Session, table: mechanism.MechanismTable) -> str:
+def _efficiency_rows(session: Session, table: mechanism.MechanismTable) -> list[tuple[Any, ...]]:
     keys = {row.key for row in table.rows}
-    rows: list[Sequence[Any]] = [
+    return [
         (e.reaction_key, e.species, e.efficiency, e.source)
         for e in efficiencies(session)
         if e.reaction_key in keys
     ]
+
+
+def _efficiencies_text(rows: Sequence[Sequence[Any]]) -> str:
     header = [f["name"] for f in EFFICIENCY_FIELDS]
-    return _csv_text(header, rows, _text_columns(EFFICIENCY_FIELDS))
+    return _csv_text(header, list(rows), _text_columns(EFFICIENCY_FIELDS))
 
 
-def _species_text(session: Session) -> str:
-    fields = _species_fields()
-    rows: list[Sequence[Any]] = [
+def _species_rows(session: Session) -> list[tuple[Any, ...]]:
+    return [
         tuple(getattr(s, attribute) for _, attribute, _, _ in SPECIES_COLUMNS)
         for s in queries.all_species(session)
     ]
-    return _csv_text([name for name, *_ in SPECIES_COLUMNS], rows, _text_columns(fields))
+
+
+def _species_text(rows: Sequence[Sequence[Any]]) -> str:
+    fields = _species_fields()
+    header = [name for name, *_ in SPECIES_COLUMNS]
+    return _csv_text(header, list(rows), _text_columns(fields))
 
 
 def _store_file(session: Session) -> str | None:
@@ -483,17 +490,16 @@ def _resources(units: mechanism.ExportUnits) -> list[dict[str, Any]]:
     ]
 
 
-def _ratebank_block(
-    table: mechanism.MechanismTable, fingerprint: str, created: str, store_label: str | None
-) -> dict[str, Any]:
+def _ratebank_block(content: PackageContent, created: str) -> dict[str, Any]:
+    table = content.table
     units = table.units
     return {
         "package": PACKAGE_KIND,
         "package_format": PACKAGE_FORMAT,
         "version": __version__,
         "created": created,
-        "store": store_label,
-        "store_fingerprint": fingerprint,
+        "store": content.store_label,
+        "store_fingerprint": content.fingerprint,
         "rows": len(table.rows),
         "rate_expression": "k = A * T**n * exp(-Ea / (R * T)), T in K, A in k_units times K**-n "
         "(for each form see forms)",
@@ -522,8 +528,80 @@ def _ratebank_block(
         },
         "caution": CAUTION,
         "text_cells": TEXT_CELL_RULE,
-        "reverse": descriptor_block(table.reverse),
+        "reverse": content.reverse,
     }
+
+
+@dataclass
+class PackageContent:
+    """Everything a package holds apart from its name and creation time."""
+
+    table: mechanism.MechanismTable
+    #: the descriptor's ``ratebank.reverse`` block
+    reverse: dict[str, Any]
+    efficiencies: list[tuple[Any, ...]]
+    species: list[tuple[Any, ...]]
+    #: the store's content fingerprint when the content was read
+    fingerprint: str
+    store_label: str | None
+
+
+def package_content(
+    session: Session,
+    *,
+    units: mechanism.ExportUnits,
+    form: str = "modified",
+    linearise_at: float | None = None,
+    leave_out_gaps: bool = False,
+    reverse_as_fit: bool = False,
+    store_label: str | None = None,
+) -> PackageContent:
+    """What an export of the store would hold now (nothing is written)."""
+    table = mechanism.mechanism_table(
+        session,
+        units=units,
+        form=form,
+        linearise_at=linearise_at,
+        leave_out_gaps=leave_out_gaps,
+        reverse_as_fit=reverse_as_fit,
+    )
+    return PackageContent(
+        table,
+        descriptor_block(table.reverse),
+        _efficiency_rows(session, table),
+        _species_rows(session),
+        store_fingerprint(session),
+        store_label,
+    )
+
+
+def package_files(
+    content: PackageContent, name: str, created: str
+) -> tuple[dict[str, str], dict[str, Any]]:
+    """({file name: text} of the package, its descriptor), nothing written."""
+    descriptor: dict[str, Any] = {
+        "profile": "tabular-data-package",
+        "name": _slug(name),
+        "title": "Mechanism exported by ratebank",
+        "description": "A reaction mechanism: the mechanism table (k of each row by its form, "
+        "see ratebank.forms), third-body efficiencies and species. " + CAUTION,
+        "created": created,
+        "resources": _resources(content.table.units),
+        "ratebank": _ratebank_block(content, created),
+    }
+    fields = descriptor["resources"][0]["schema"]["fields"]
+    files = {
+        MECHANISM: _table_text(content.table, fields),
+        EFFICIENCIES: _efficiencies_text(content.efficiencies),
+        SPECIES: _species_text(content.species),
+        # a mechanism's descriptor lists every reaction: the C encoder, not json's
+        DESCRIPTOR: json_codec.dumps_indented(descriptor) + "\n",
+    }
+    return files, descriptor
+
+
+def _now() -> str:
+    return dt.datetime.now(dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
 @paused_garbage_collection()
@@ -543,53 +621,43 @@ def export_mechanism(
     """Write the data package folder ``out`` (see the module docstring); with
     ``reverse_as_fit``, the reverse of each reversible reaction as a row of its own."""
     out = Path(out)
-    store_file = _store_file(session)
-    _check_out(out, store_file)
+    _check_out(out, _store_file(session))
     units = mechanism.export_units(preset, k_units, e_units)
-    table = mechanism.mechanism_table(
+    content = package_content(
         session,
         units=units,
         form=form,
         linearise_at=linearise_at,
         leave_out_gaps=leave_out_gaps,
         reverse_as_fit=reverse_as_fit,
+        store_label=store_label,
     )
-    fingerprint = store_fingerprint(session)
-    created = dt.datetime.now(dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
-    descriptor: dict[str, Any] = {
-        "profile": "tabular-data-package",
-        "name": _slug(out.name),
-        "title": "Mechanism exported by ratebank",
-        "description": "A reaction mechanism: the mechanism table (k of each row by its form, "
-        "see ratebank.forms), third-body efficiencies and species. " + CAUTION,
-        "created": created,
-        "resources": _resources(units),
-        "ratebank": _ratebank_block(table, fingerprint, created, store_label),
-    }
-    fields = descriptor["resources"][0]["schema"]["fields"]
-    safe_output.write_folder(
-        out,
-        {
-            MECHANISM: _table_text(table, fields),
-            EFFICIENCIES: _efficiencies_text(session, table),
-            SPECIES: _species_text(session),
-            # a mechanism's descriptor lists every reaction: the C encoder, not json's
-            DESCRIPTOR: json_codec.dumps_indented(descriptor) + "\n",
-        },
-        store_path=store_file,
-    )
+    return write_package(session, out, content)
+
+
+def write_package(
+    session: Session, out: Path, content: PackageContent, **audit_detail: Any
+) -> ExportResult:
+    """Write ``content`` as the package folder ``out`` and record the export in the history."""
+    out = Path(out)
+    store_file = _store_file(session)
+    _check_out(out, store_file)
+    files, descriptor = package_files(content, out.name, _now())
+    safe_output.write_folder(out, files, store_path=store_file)
     from ratebank.store import audit
 
+    table = content.table
     audit.record(
         session,
         "export",
         str(out.absolute()),
         rows=len(table.rows),
         left_out=len(table.left_out),
-        units=units.label,
-        fingerprint=fingerprint,
+        units=table.units.label,
+        fingerprint=content.fingerprint,
+        **audit_detail,
     )
     target = Path(out).expanduser().absolute()
     return ExportResult(
-        target, target / MECHANISM, target / DESCRIPTOR, table, fingerprint, descriptor
+        target, target / MECHANISM, target / DESCRIPTOR, table, content.fingerprint, descriptor
     )

@@ -35,6 +35,7 @@ The units of each reaction's k are :meth:`MechanismPackage.k_units`.
 from __future__ import annotations
 
 import csv
+import io
 import json
 import math
 from collections.abc import Iterable, Mapping, Sequence
@@ -112,11 +113,19 @@ class MechanismPackage:
     ``descriptor`` is the package's ``datapackage.json`` as read.
     """
 
-    def __init__(self, path: Path, reactions: Sequence[PackageReaction], descriptor: dict):
+    def __init__(
+        self,
+        path: Path,
+        reactions: Sequence[PackageReaction],
+        descriptor: dict,
+        rows: Mapping[str, Sequence[Mapping[str, str]]] | None = None,
+    ):
         self.path = path
         self.reactions = {r.key: r for r in reactions}
         self.keys = tuple(self.reactions)
         self.descriptor = descriptor
+        #: {key: the reaction's rows of mechanism.csv as read (text cells)}
+        self.rows = dict(rows or {})
 
     def k_units(self, *, pressure: bool = True) -> dict[str, str]:
         """{key: unit of the k that :meth:`rate_constants` gives}, with or without ``P``."""
@@ -193,14 +202,25 @@ class MechanismPackage:
 
     @staticmethod
     def _at_pressure(r, T, M, names, fractions) -> np.ndarray:  # type: ignore[no-untyped-def]
-        if not r.third_body and r.form in ("arrhenius", "sum"):
-            k = rate_law(T, r.form, r.terms).k * np.ones(np.shape(M))
-        else:
-            eps = collision_efficiencies(names, r.efficiencies) if names else None
-            weights = fractions if names else np.ones(1)
-            M_eff = effective_third_body_concentration(M, weights, eps)
-            k = rate_law(T, r.form, r.terms, low=r.low, broadening=r.broadening, M=M_eff).k
+        k = si_rate_at_pressure(r, T, M, names, fractions)
         return np.asarray(rate_from_si(k, r.units[1], r.effective_order()), dtype=float)
+
+
+def si_rate_at_pressure(
+    r: PackageReaction,
+    T: np.ndarray,
+    M: np.ndarray,
+    names: Sequence[str] = (),
+    fractions: np.ndarray | None = None,
+) -> np.ndarray:
+    """k(T, [M]) of one reaction in SI (its order at a pressure, see the module docstring);
+    without ``names``, a bath gas of efficiency 1."""
+    if not r.third_body and r.form in ("arrhenius", "sum"):
+        return rate_law(T, r.form, r.terms).k * np.ones(np.shape(M))
+    eps = collision_efficiencies(names, r.efficiencies) if names else None
+    weights = fractions if names and fractions is not None else np.ones(1)
+    M_eff = effective_third_body_concentration(M, weights, eps)
+    return rate_law(T, r.form, r.terms, low=r.low, broadening=r.broadening, M=M_eff).k
 
 
 def _mixture(mixture: str | Mapping[str, float] | None) -> tuple[tuple[str, ...], np.ndarray]:
@@ -228,7 +248,28 @@ def read_package(path: str | Path) -> MechanismPackage:
     efficiencies = _efficiencies(folder / _resource_path(descriptor, "efficiencies", folder))
     table = folder / _resource_path(descriptor, "mechanism", folder)
     rows = _mechanism_rows(table)
-    return MechanismPackage(folder, _reactions(table, rows, efficiencies), descriptor)
+    return MechanismPackage(
+        folder, _reactions(table, rows, efficiencies), descriptor, _rows_by_key(rows)
+    )
+
+
+def package_of_files(label: str | Path, files: Mapping[str, str]) -> MechanismPackage:
+    """The package whose files (``{file name: text}``, as the export makes them) are in
+    memory; ``label`` stands for its folder in messages."""
+    folder = Path(label)
+    descriptor = json.loads(files[DESCRIPTOR])
+    efficiencies = _efficiencies(folder / EFFICIENCIES, files[EFFICIENCIES])
+    rows = _mechanism_rows(folder / MECHANISM, files[MECHANISM])
+    return MechanismPackage(
+        folder, _reactions(folder / MECHANISM, rows, efficiencies), descriptor, _rows_by_key(rows)
+    )
+
+
+def _rows_by_key(rows: list[tuple[int, dict[str, str]]]) -> dict[str, list[dict[str, str]]]:
+    grouped: dict[str, list[dict[str, str]]] = {}
+    for _, row in rows:
+        grouped.setdefault(_text(row["key"]), []).append(row)
+    return grouped
 
 
 def _descriptor(folder: Path) -> dict[str, Any]:
@@ -261,9 +302,12 @@ def _resource_path(descriptor: dict[str, Any], name: str, folder: Path) -> str:
     raise PackageError(f"{folder / DESCRIPTOR}: resources: no {name!r} resource ({expected})")
 
 
-def _csv_rows(path: Path, needed: Sequence[str]) -> list[tuple[int, dict[str, str]]]:
+def _csv_rows(
+    path: Path, needed: Sequence[str], text: str | None = None
+) -> list[tuple[int, dict[str, str]]]:
     try:
-        with path.open(encoding="utf-8", newline="") as handle:
+        source = io.StringIO(text, newline="") if text is not None else None
+        with source or path.open(encoding="utf-8", newline="") as handle:
             reader = csv.DictReader(handle)
             header = reader.fieldnames or []
             missing = [c for c in needed if c not in header]
@@ -274,9 +318,9 @@ def _csv_rows(path: Path, needed: Sequence[str]) -> list[tuple[int, dict[str, st
         raise PackageError(f"{path}: cannot be read ({exc})") from None
 
 
-def _efficiencies(path: Path) -> dict[str, dict[str, float]]:
+def _efficiencies(path: Path, text: str | None = None) -> dict[str, dict[str, float]]:
     found: dict[str, dict[str, float]] = {}
-    for line, row in _csv_rows(path, ("reaction", "species", "efficiency")):
+    for line, row in _csv_rows(path, ("reaction", "species", "efficiency"), text):
         value = _number(path, line, row, "efficiency")
         if value is None or value < 0:
             raise PackageError(f"{path}:{line}: efficiency: expected a number not below 0")
@@ -303,8 +347,8 @@ def _number(path: Path, line: int, row: Mapping[str, str], column: str) -> float
     return value
 
 
-def _mechanism_rows(path: Path) -> list[tuple[int, dict[str, str]]]:
-    rows = _csv_rows(path, _NEEDED)
+def _mechanism_rows(path: Path, text: str | None = None) -> list[tuple[int, dict[str, str]]]:
+    rows = _csv_rows(path, _NEEDED, text)
     if not rows:
         raise PackageError(f"{path}: holds no reactions")
     return rows

@@ -513,6 +513,24 @@ class EvansPolanyiRule(Base):
     __mapper_args__ = {"version_id_col": version}  # noqa: RUF012
 
 
+class Release(Base):
+    """What an export held when a curator froze it: never edited, never withdrawn.
+
+    ``content`` is the frozen package content as JSON text, stored verbatim
+    (rows in SI units with their provenance, efficiencies, species, the check
+    results); ``fingerprint`` is ``sha256:<hex>`` of that text.
+    """
+
+    __tablename__ = "release"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    name: Mapped[str] = mapped_column(String(200), unique=True)
+    created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    created_by: Mapped[str] = mapped_column(String(200))
+    fingerprint: Mapped[str] = mapped_column(String(100))
+    content: Mapped[str] = mapped_column(Text)
+
+
 class AuditEntry(Base):
     """Who changed what, when."""
 

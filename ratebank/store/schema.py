@@ -28,6 +28,7 @@ KNOWN_REVISIONS: tuple[str, ...] = (
     "0007",
     "0008",
     "0009",
+    "0010",
 )
 HEAD_REVISION = KNOWN_REVISIONS[-1]
 

@@ -644,6 +644,7 @@ def test_check_passes_on_a_clean_store(fitted):
         "collision_model": None,
         "unchecked": [],
         "flags": [],
+        "notes": [],
     }
     wider = run(fitted, "check", "--t-range", "200", "2500", "--json")
     assert wider.exit_code == 1

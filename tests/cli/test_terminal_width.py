@@ -120,10 +120,18 @@ def test_check_at_80_columns(demo_db):
                 findings[-1][1] = f"{findings[-1][1]} {cells[1]}".strip()
                 findings[-1][2] = f"{findings[-1][2]} {cells[2]}".strip()
     report = json.loads(run(demo_db, "check", "--json").stdout)
-    # the flags, then what could not be checked
-    flags = report["flags"] + [
-        {"key": u["key"], "code": "unchecked", "message": u["reason"]} for u in report["unchecked"]
-    ]
+    # the flags, then what could not be checked, then the notes
+    flags = (
+        report["flags"]
+        + [
+            {"key": u["key"], "code": "unchecked", "message": u["reason"]}
+            for u in report["unchecked"]
+        ]
+        + [
+            {"key": n["key"], "code": f"note: {n['code']}", "message": n["message"]}
+            for n in report["notes"]
+        ]
+    )
     assert len(findings) == len(flags) > 5
     for (key, code, finding), flag in zip(findings, flags, strict=True):
         assert (key, code) == (flag["key"], flag["code"])
