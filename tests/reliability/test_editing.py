@@ -120,7 +120,12 @@ def test_edit_converts_to_si_and_bumps_the_version(filled, cli):
     assert history["author"] == "ada"
     assert history["target"] == "h2o2-dec"
     assert history["detail"]["version"] == 2
-    assert history["detail"]["changed"]["Ea"] == {"before": 200_000.0, "after": 48 * 4184.0}
+    # the history speaks the units typed: 200 kJ/mol before, in kcal/mol (4.184 kJ each)
+    assert history["detail"]["changed"]["Ea"] == {
+        "before": pytest.approx(200.0 / 4.184, rel=1e-12),
+        "after": 48.0,
+        "unit": "kcal/mol",
+    }
 
     # a bimolecular A in molecular units: 1 cm3 molecule-1 s-1 = N_A 1e-6 m3 mol-1 s-1
     second = _literature_id(cli, filled, "oh-ch4")
@@ -192,8 +197,8 @@ def test_a_version_from_the_future_is_refused(filled, cli):
     )
     assert outcome.exit_code == 1
     assert outcome.stderr.strip() == (
-        f"Error: expression {expression_id} is at version 1, not 7; nothing was written; read it "
-        "again before changing it"
+        f"Error: version 7 never existed; expression {expression_id} is at version 1; nothing "
+        "was written"
     )
     assert snapshot(filled) == before
 
