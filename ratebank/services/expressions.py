@@ -299,7 +299,7 @@ def _as_given(
     unit, to_si = {"T_min": ("K", 1.0), "T_max": ("K", 1.0)}.get(name, ("", None))
     if name == "A" and given["k_units"]:
         unit = given["k_units"]
-        to_si = parse_rate_unit(unit, expression.reaction_order).to_si
+        to_si = parse_rate_unit(unit, expression.A_order).to_si
     elif name == "Ea" and given["Ea_units"]:
         unit = given["Ea_units"]
         to_si = parse_energy_unit(unit).to_si
@@ -337,7 +337,7 @@ def _checked_changes(expression: EditableExpression, given: dict[str, Any]) -> d
             f"{', '.join(EDITABLE_FIELDS)}"
         )
     checked = check_expression_values(
-        expression.reaction_order,
+        expression.A_order,
         A=given["A"],
         k_units=given["k_units"],
         n=given["n"],

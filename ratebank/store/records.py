@@ -326,6 +326,13 @@ class EditableExpression:
     #: the loaded row that :func:`ratebank.store.expressions.update_expression` writes
     _loaded: Expression = field(repr=False, compare=False)
 
+    @property
+    def A_order(self) -> int:
+        """The order of A's unit: the reaction's, or one fewer for the high-pressure limit of
+        a falloff or activated expression."""
+        limits = self._loaded.form in ("falloff", "activated")
+        return self.reaction_order - 1 if limits else self.reaction_order
+
 
 def _editable(expression: Expression, reaction: Reaction) -> EditableExpression:
     return EditableExpression(

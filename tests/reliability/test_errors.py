@@ -387,6 +387,20 @@ ARGUMENTS = {
     "evans-polanyi set-class": ["c", "40", "0.3"],
     "evans-polanyi list": [],
     "evans-polanyi clear-class": ["c"],
+    "species edit": ["OH", "--molar-mass", "17", "--expect-version", "1"],
+    "reactions edit": ["oh-ch4", "--notes", "n", "--expect-version", "1"],
+    "data show": ["s1"],
+    "data edit-set": ["s1", "--method", "m", "--expect-version", "1"],
+    "data edit-point": ["1", "--T", "300", "--expect-version", "1"],
+    "withdraw": ["set", "s1", "--reason", "r"],
+    "reinstate": ["set", "s1"],
+    "remove": ["set", "s1"],
+    "efficiencies import": ["{csv}"],
+    "efficiencies list": [],
+    "release create": ["r1"],
+    "release list": [],
+    "release show": ["r1"],
+    "diff": ["store", "store"],
 }
 
 

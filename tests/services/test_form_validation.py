@@ -104,3 +104,16 @@ def test_a_sum_with_a_gap_in_its_terms_is_refused(forms_store):
     with forms_store.session(write=True) as session, pytest.raises(ImportValidationError) as e:
         import_expressions(session, csv_rows(text), source="gap.csv")
     assert "has terms 1, 3; expected 1, 2, ..." in e.value.problems[0]
+
+
+def test_an_edit_of_a_falloff_takes_k_inf_in_its_own_order(forms_store):
+    from ratebank.services.expressions import edit_expression
+
+    with forms_store.session(write=True) as session:
+        import_expressions(session, csv_rows(FORMS_EXPRESSIONS_CSV), source="x.csv")
+    (troe,) = _stored(forms_store, "h-o2-m")
+    with forms_store.session(write=True) as session:
+        edit_expression(session, troe.id, expected_version=1, A=5.0e-11, k_units="cm3/molecule/s")
+    (edited,) = _stored(forms_store, "h-o2-m")
+    assert edited.A == pytest.approx(5.0e-11 * constants.N_A * 1e-6, rel=1e-15)
+    assert edited.A_low == troe.A_low  # k0 untouched
