@@ -1038,12 +1038,19 @@ class Store:
     # ------------------------------------------------------------------ thermochemistry
 
     def import_thermochemistry(
-        self, path: str | Path, *, replace: bool = False, dry_run: bool = False
+        self,
+        path: str | Path,
+        *,
+        replace: bool = False,
+        dry_run: bool = False,
+        update: bool = False,
     ) -> Any:
-        """Import species thermochemistry (coefficients or Cp-table layout), all or nothing."""
+        """Import species thermochemistry (coefficients or Cp-table layout), all or nothing;
+        with ``update``, polynomials already stored are compared, the same ones left alone
+        and changed ones replaced with their before and after in the history."""
         with self._handle.session(write=not dry_run) as session:
             report = _module("io.thermo_files").import_thermo_file(
-                session, Path(path).absolute(), dry_run=dry_run, replace=replace
+                session, Path(path).absolute(), dry_run=dry_run, replace=replace, update=update
             )
             if dry_run:
                 session.rollback()

@@ -55,6 +55,12 @@ def register(app: typer.Typer) -> None:
 def thermo_import(
     file: Path = typer.Argument(..., help="CSV file of either layout (see the README)."),
     replace: bool = REPLACE_OPTION,
+    update: bool = typer.Option(
+        False,
+        "--update",
+        help="Compare with the stored polynomials: leave the same ones, replace changed ones "
+        "(before and after in the history), add new ones.",
+    ),
     dry_run: bool = DRY_RUN_OPTION,
     as_json: bool = JSON_OPTION,
 ) -> None:
@@ -68,7 +74,7 @@ def thermo_import(
     Example: ratebank thermo import thermo.csv --dry-run
     """
     with opened_store() as store:
-        report = store.import_thermochemistry(file, replace=replace, dry_run=dry_run)
+        report = store.import_thermochemistry(file, replace=replace, dry_run=dry_run, update=update)
     if as_json:
         print_json(import_records(report))
         return

@@ -43,7 +43,12 @@ def file_layout(path: str | Path) -> str:
 
 
 def import_thermo_file(
-    session: Session, path: str | Path, *, dry_run: bool = False, replace: bool = False
+    session: Session,
+    path: str | Path,
+    *,
+    dry_run: bool = False,
+    replace: bool = False,
+    update: bool = False,
 ) -> ThermoImportReport:
     """Import a thermochemistry file of either layout; all or nothing."""
     layout = file_layout(path)
@@ -53,7 +58,9 @@ def import_thermo_file(
         (line, dict(zip(table.header, row, strict=True)))
         for line, row in zip(table.lines, table.rows, strict=True)
     ]
-    return import_thermo(session, layout, rows, source=table.path, dry_run=dry_run, replace=replace)
+    return import_thermo(
+        session, layout, rows, source=table.path, dry_run=dry_run, replace=replace, update=update
+    )
 
 
 # --------------------------------------------------------------------------- NIST-JANAF

@@ -62,6 +62,8 @@ def import_message(report: ThermoImportReport) -> str:
     count = len(report.stored)
     replaced = sum(1 for s in report.stored if s.replaced)
     extra = f", replacing {replaced}" if replaced else ""
+    if report.unchanged:
+        extra += f"; {len(report.unchanged)} unchanged"
     if report.dry_run:
         return (
             f"{report.source}: valid; would store the thermochemistry of {count} species{extra} "

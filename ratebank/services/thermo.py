@@ -94,6 +94,8 @@ class ThermoImportReport:
     layout: str
     dry_run: bool
     stored: list[ThermoStored] = field(default_factory=list)
+    #: with ``update``: species whose stored polynomials were the same (left alone)
+    unchanged: list[str] = field(default_factory=list)
 
 
 def _species_refs(session: Session, names: Iterable[str]) -> dict[str, SpeciesRef]:
@@ -112,9 +114,12 @@ def import_thermo(
     source: str,
     dry_run: bool = False,
     replace: bool = False,
+    update: bool = False,
 ) -> ThermoImportReport:
     """Validate and store thermochemistry rows of ``layout`` (``coefficients`` or ``table``);
-    all or nothing.
+    all or nothing. With ``update``, a species whose polynomials are already stored is
+    compared: the same ones are left alone (``unchanged``), changed ones replaced, with
+    their before and after in the history.
 
     The table layout is fitted species by species
     (:func:`ratebank.science.thermo.fit_nasa_polynomials`: continuous Cp°, H°
@@ -125,6 +130,7 @@ def import_thermo(
         raise BadInputError(
             f"unknown layout {layout!r}; expected one of {', '.join(LAYOUTS)}", argument="layout"
         )
+    replace = replace or update
     problems = Problems()
     refs = _species_refs(session, {name for _, row in rows if (name := cell(row, "species"))})
     if layout == "coefficients":
@@ -136,10 +142,48 @@ def import_thermo(
     problems.raise_if_any(source)
     found = [item for item in new if item is not None]
     report = ThermoImportReport(source, layout, dry_run)
+    if update:
+        found, report.unchanged = _changed_only(session, found, source, dry_run=dry_run)
     report.stored = _stored(found, {name for name, ref in refs.items() if ref.thermo_method})
     if not dry_run and found:
         _write(session, found, source)
     return report
+
+
+def _changed_only(
+    session: Session, found: list[NewThermo], source: str, *, dry_run: bool
+) -> tuple[list[NewThermo], list[str]]:
+    """(the rows that are new or differ from the stored polynomials, the species whose stored
+    ones are the same); each change goes into the history with before and after."""
+    stored = thermo_of(session, [item.species_id for item in found])
+    changed, same = [], []
+    for item in found:
+        old = stored.get(item.species_id)
+        if old is not None and _same_polynomials(old, item):
+            same.append(item.species)
+            continue
+        changed.append(item)
+        if old is not None and not dry_run:
+            audit.record(
+                session,
+                "thermo.update",
+                item.species,
+                source=source,
+                before={"T_K": [old.T_low, old.T_mid, old.T_high], "low": list(old.low),
+                        "high": list(old.high)},
+                after={"T_K": [item.T_low, item.T_mid, item.T_high], "low": list(item.low),
+                       "high": list(item.high)},
+            )  # fmt: skip
+    return changed, same
+
+
+def _same_polynomials(old, new: NewThermo) -> bool:  # type: ignore[no-untyped-def]
+    return (
+        (old.T_low, old.T_mid, old.T_high) == (new.T_low, new.T_mid, new.T_high)
+        and tuple(old.low) == tuple(new.low)
+        and tuple(old.high) == tuple(new.high)
+        and (old.method, old.source) == (new.method, new.source)
+    )
 
 
 def _given_thermo(problems: Problems, item: GivenPolynomials) -> NewThermo | None:

@@ -265,3 +265,23 @@ def test_evans_polanyi_commands(filled):
     gone = run(filled, "evans-polanyi", "clear-class", "abstraction")
     assert gone.exit_code == 1
     assert "no Evans-Polanyi relation for class 'abstraction'" in gone.stderr
+
+
+def test_an_update_import_leaves_the_same_polynomials_and_replaces_changed_ones(bare, tmp_path):
+    # H's polynomials for a monatomic ideal gas (Cp = 5/2 R); the update changes a6 only
+    first = write(tmp_path / "h.csv", COEFFICIENT_HEADER + H_ROW)
+    ok(bare, "thermo", "import", str(first))
+    again = ok(bare, "thermo", "import", str(first), "--update")
+    assert "stored the thermochemistry of 0 species; 1 unchanged" in again.stdout
+    changed = write(tmp_path / "h2.csv", COEFFICIENT_HEADER + H_ROW.replace("25473.66", "25474.0"))
+    before = snapshot(bare)
+    dry = ok(bare, "thermo", "import", str(changed), "--update", "--dry-run")
+    assert "would store the thermochemistry of 1 species, replacing 1" in dry.stdout
+    assert snapshot(bare) == before
+    ok(bare, "thermo", "import", str(changed), "--update")
+    entry = json.loads(ok(bare, "history", "--json", "--limit", "2").stdout)[1]
+    assert (entry["action"], entry["target"]) == ("thermo.update", "H")
+    assert (entry["detail"]["before"]["low"][5], entry["detail"]["after"]["low"][5]) == (
+        25473.66,
+        25474.0,
+    )
