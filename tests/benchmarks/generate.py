@@ -8,6 +8,11 @@ here is invented for timing; none of it describes a real reaction.
 
 Scale "full": 100,000 reactions, 10,000 measurement sets of 10 points each
 (1,000,000 points in one CSV), activation energies for the other reactions.
+
+The scaling benchmark's stores (:func:`generate_job`, sizes in :data:`JOB_SIZES`) have
+the same species and kinds of reaction, drawn with whole-array operations so that a
+million reactions take seconds: one measured set of 10 points per 10 reactions, and an
+activation energy for every reaction without a set.
 """
 
 from __future__ import annotations
@@ -29,6 +34,17 @@ SCALES = {
 }
 
 
+#: Reactions in the scaling benchmark's stores, by ``run.py --scale``: each size's cost
+#: per reaction is compared with that of the size below it.
+JOB_SIZES = {
+    "small": (1_000, 10_000),
+    "medium": (10_000, 100_000),
+    "full": (10_000, 100_000, 1_000_000),
+}
+#: Changed whenever generate_job writes different files (cached files are then rebuilt).
+JOB_DATA_VERSION = 1
+
+
 @dataclass(frozen=True)
 class Files:
     folder: Path
@@ -42,20 +58,15 @@ class Files:
     n_points: int
 
 
-def generate(folder: Path, scale: str = "small", seed: int = 2026) -> Files:
-    """Write species.csv, reactions.csv, measurements.csv and expressions.csv."""
-    size = SCALES[scale]
-    rng = np.random.default_rng(seed)
-    folder.mkdir(parents=True, exist_ok=True)
-    species_path = folder / "species.csv"
-    names = []
-    with species_path.open("w", newline="", encoding="utf-8") as handle:
+def write_species(folder: Path) -> Path:
+    """species.csv: C_xH_y (x = 1..30, y = 1..100), OH and H2O, with invented data."""
+    path = folder / "species.csv"
+    with path.open("w", newline="", encoding="utf-8") as handle:
         writer = csv.writer(handle)
         writer.writerow(["name", "formula", "diameter_angstrom", "well_depth_K", "source"])
         for x in range(1, 31):
             for y in range(1, 101):
                 name = f"C{x}H{y}"
-                names.append((x, y))
                 diameter = 3.0 + 0.12 * x + 0.01 * y
                 writer.writerow(
                     [
@@ -68,6 +79,15 @@ def generate(folder: Path, scale: str = "small", seed: int = 2026) -> Files:
                 )
         writer.writerow(["OH", "HO", "3.147", "79.8", "synthetic benchmark species"])
         writer.writerow(["H2O", "H2O", "2.641", "809.1", "synthetic benchmark species"])
+    return path
+
+
+def generate(folder: Path, scale: str = "small", seed: int = 2026) -> Files:
+    """Write species.csv, reactions.csv, measurements.csv and expressions.csv."""
+    size = SCALES[scale]
+    rng = np.random.default_rng(seed)
+    folder.mkdir(parents=True, exist_ok=True)
+    species_path = write_species(folder)
 
     reactions_path = folder / "reactions.csv"
     seen: set[tuple[int, int, int, int]] = set()
@@ -159,6 +179,106 @@ def generate(folder: Path, scale: str = "small", seed: int = 2026) -> Files:
         load_path,
         expressions_path,
         len(keys),
+        n_sets,
+        n_sets * per_set,
+    )
+
+
+@dataclass(frozen=True)
+class JobFiles:
+    folder: Path
+    species: Path
+    reactions: Path
+    measurements: Path
+    expressions: Path
+    n_reactions: int
+    n_sets: int
+    n_points: int
+
+
+def generate_job(folder: Path, n_reactions: int, seed: int = 2026) -> JobFiles:
+    """The input files of the whole job for ``n_reactions`` reactions (SYNTHETIC).
+
+    As :func:`generate`, but every column is drawn as an array: the OH transfers
+    first (one in 50, at most one per hydrocarbon), then distinct hydrogen transfers
+    between two hydrocarbons; a set of 10 points on every 10th reaction, an
+    activation energy on every other one.
+    """
+    rng = np.random.default_rng(seed)
+    folder.mkdir(parents=True, exist_ok=True)
+    species_path = write_species(folder)
+
+    n_oh = min(n_reactions // 50, 30 * 99)
+    oh_x, oh_y = np.divmod(np.arange(n_oh), 99)
+    oh_x, oh_y = oh_x + 1, oh_y + 2
+    # (x, y, u, v): C_xH_y + C_uH_v -> C_xH_(y-1) + C_uH_(v+1), each drawn once
+    need = n_reactions - n_oh
+    draws = np.empty((0, 4), dtype=np.int64)
+    while len(draws) < need:
+        more = 2 * (need - len(draws)) + 1000
+        x, u = rng.integers(1, 31, size=(2, more))
+        y, v = rng.integers(2, 101, size=more), rng.integers(1, 100, size=more)
+        keep = ~(((x == u) & (y == v)) | ((x == u) & (y == v + 1)))
+        draws = np.concatenate([draws, np.stack([x, y, u, v], axis=1)[keep]])
+        code = ((draws[:, 0] * 101 + draws[:, 1]) * 31 + draws[:, 2]) * 101 + draws[:, 3]
+        _, first = np.unique(code, return_index=True)
+        draws = draws[np.sort(first)]
+    x, y, u, v = draws[:need].T
+    keys = [f"r{i}" for i in range(n_reactions)]
+    reactions_path = folder / "reactions.csv"
+    with reactions_path.open("w", newline="", encoding="utf-8") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(["key", "equation", "class"])
+        writer.writerows(
+            (keys[i], f"OH + C{a}H{b} -> H2O + C{a}H{b - 1}", "oh-transfer")
+            for i, (a, b) in enumerate(zip(oh_x.tolist(), oh_y.tolist(), strict=True))
+        )
+        writer.writerows(
+            (
+                keys[n_oh + i],
+                f"C{a}H{b} + C{c}H{d} -> C{a}H{b - 1} + C{c}H{d + 1}",
+                f"transfer-{a % 7}",
+            )
+            for i, (a, b, c, d) in enumerate(
+                zip(x.tolist(), y.tolist(), u.tolist(), v.tolist(), strict=True)
+            )
+        )
+
+    per_set = 10
+    measured = np.arange(0, n_reactions, 10)
+    n_sets = measured.size
+    T = np.linspace(300.0, 1200.0, per_set)
+    A = 10 ** rng.uniform(-12.5, -11.0, (n_sets, 1))
+    E_over_R = rng.uniform(500.0, 5000.0, (n_sets, 1))
+    k = A * np.exp(-E_over_R / T) * np.exp(0.1 * rng.standard_normal((n_sets, per_set)))
+    T_text = [f"{t:.2f}" for t in T]
+    measurements_path = folder / "measurements.csv"
+    with measurements_path.open("w", newline="", encoding="utf-8") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(["set", "reaction", "T_K", "k", "k_units", "k_uncertainty"])
+        for s, (index, values) in enumerate(zip(measured.tolist(), k.tolist(), strict=True)):
+            writer.writerows(
+                (f"s{s}", keys[index], t, f"{value:.6e}", "cm3/molecule/s", "0.1")
+                for t, value in zip(T_text, values, strict=True)
+            )
+
+    others = np.setdiff1d(np.arange(n_reactions), measured)
+    Ea = rng.uniform(5.0, 80.0, others.size)
+    expressions_path = folder / "expressions.csv"
+    with expressions_path.open("w", newline="", encoding="utf-8") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(["reaction", "Ea", "Ea_units", "T_min_K", "T_max_K", "reference"])
+        writer.writerows(
+            (keys[i], f"{e:.4f}", "kJ/mol", "300", "1500", "synthetic benchmark activation energy")
+            for i, e in zip(others.tolist(), Ea.tolist(), strict=True)
+        )
+    return JobFiles(
+        folder,
+        species_path,
+        reactions_path,
+        measurements_path,
+        expressions_path,
+        n_reactions,
         n_sets,
         n_sets * per_set,
     )

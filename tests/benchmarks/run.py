@@ -10,8 +10,17 @@ times, and prints the medians as one line::
 
     NAME: ratebank X s, baseline Y s, ratio R (target <= T)
 
-where R is ratebank's time over the baseline's. The data are SYNTHETIC
-(tests/benchmarks/generate.py). Machines here are shared and noisy: compare
+where R is ratebank's time over the baseline's. The baselines are floors that do the
+same work as ratebank in the plainest code a careful user would write (floors.py), and,
+for the fit, also a loop of ``curve_fit``. Two more lines::
+
+    memory: export peak X MB (target <= 200)
+    scale: ratebank X us/reaction at 1M, Y us/reaction at 100k, ratio R (target <= 1.25)
+
+the peak resident memory of ratebank's estimate and export, and the cost per reaction
+of the whole job (imports, fit, estimate, check, export through the ``ratebank`` command)
+at the largest store over that at the one below it (``generate.JOB_SIZES``). The data are
+SYNTHETIC (tests/benchmarks/generate.py). Machines here are shared and noisy: compare
 ratios, not seconds.
 """
 
@@ -33,14 +42,36 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 
-from generate import Files, generate  # noqa: E402
+import floors  # noqa: E402
+from generate import (  # noqa: E402
+    JOB_DATA_VERSION,
+    JOB_SIZES,
+    Files,
+    JobFiles,
+    generate,
+    generate_job,
+)
 
 PYTHON = sys.executable
-TARGETS = {"load": 1.5, "fit-vs-naive": 0.01, "fit-vs-floor": 2.0, "export": 2.0, "query": 1.5}
+FLOORS = str(HERE / "floors.py")
+TARGETS = {
+    "load": 1.3,
+    "fit-vs-floor": 1.5,
+    "fit-vs-naive": 0.05,
+    "export": 1.5,
+    "query": 1.2,
+    "scale": 1.25,
+}
+MEMORY_TARGET_MB = 200
+#: what ``--only`` accepts: every line's name
+BENCHMARKS = (*TARGETS, "memory")
 
 
-def run_process(args: list[str], *, env: dict[str, str] | None = None) -> tuple[float, float]:
-    """Wall time [s] and peak resident memory [MB] of one child process."""
+def run_process(
+    args: list[str], *, env: dict[str, str] | None = None, ok: tuple[int, ...] = (0,)
+) -> tuple[float, float]:
+    """Wall time [s] and peak resident memory [MB] of one child process (its exit status
+    must be one of ``ok``)."""
     start = time.perf_counter()
     process = subprocess.Popen(
         args, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env={**os.environ, **(env or {})}
@@ -48,7 +79,7 @@ def run_process(args: list[str], *, env: dict[str, str] | None = None) -> tuple[
     _, status, usage = os.wait4(process.pid, 0)
     elapsed = time.perf_counter() - start
     stderr = process.stderr.read().decode() if process.stderr else ""
-    if os.waitstatus_to_exitcode(status) != 0:
+    if os.waitstatus_to_exitcode(status) not in ok:
         raise SystemExit(f"benchmark step failed: {' '.join(args)}\n{stderr}")
     return elapsed, usage.ru_maxrss / 1024.0
 
@@ -115,36 +146,6 @@ def _checkpoint(db: Path) -> None:
 
 # --------------------------------------------------------------------------- baselines
 
-LOAD_FLOOR = """
-import csv, sqlite3, sys
-connection = sqlite3.connect(sys.argv[1])
-connection.execute("CREATE TABLE floor_point (set_name TEXT, reaction TEXT, T REAL, k REAL, "
-                   "units TEXT, uncertainty REAL)")
-with open(sys.argv[2], newline="", encoding="utf-8") as handle:
-    rows = csv.reader(handle)
-    next(rows)
-    with connection:
-        connection.executemany(
-            "INSERT INTO floor_point VALUES (?, ?, ?, ?, ?, ?)",
-            ((s, r, float(t), float(k), u, float(e)) for s, r, t, k, u, e in rows),
-        )
-"""
-
-POINTS_SQL = (
-    "SELECT ms.reaction_id, p.temperature, p.rate_constant, p.relative_uncertainty "
-    "FROM point p JOIN measurement_set ms ON ms.id = p.set_id ORDER BY ms.reaction_id, p.id"
-)
-
-
-def read_points(db: Path):  # type: ignore[no-untyped-def]
-    import numpy as np
-
-    connection = sqlite3.connect(db)
-    rows = connection.execute(POINTS_SQL).fetchall()
-    connection.close()
-    group, T, k, u = (np.array(c) for c in zip(*rows, strict=True))
-    return group.astype(np.int64), T.astype(float), k.astype(float), u.astype(float)
-
 
 def fit_naive(db: Path) -> int:
     """What a user writes: a loop of curve_fit on k = A T^n exp(-Ea/RT), set by set.
@@ -158,7 +159,9 @@ def fit_naive(db: Path) -> int:
     from scipy.optimize import OptimizeWarning, curve_fit
 
     warnings.simplefilter("ignore", OptimizeWarning)  # a set of 3 points has no covariance
-    group, T, k, u = read_points(db)
+    connection = sqlite3.connect(db)
+    group, T, k, u = floors.read_points(connection)
+    connection.close()
     R = 8.314462618
 
     def model(T, A, n, Ea):  # type: ignore[no-untyped-def]
@@ -177,27 +180,6 @@ def fit_naive(db: Path) -> int:
     return fitted
 
 
-def fit_floor(db: Path) -> int:
-    """A bare batched numpy solve of the weighted normal equations in ln k."""
-    import numpy as np
-
-    group, T, k, u = read_points(db)
-    _, index = np.unique(group, return_inverse=True)
-    m = index.max() + 1
-    w = 1.0 / u**2
-    X = np.stack([np.ones_like(T), np.log(T), -1.0 / T], axis=1)
-    y = np.log(k)
-    normal = np.zeros((m, 3, 3))
-    rhs = np.zeros((m, 3))
-    for a in range(3):
-        rhs[:, a] = np.bincount(index, weights=w * X[:, a] * y, minlength=m)
-        for b in range(3):
-            normal[:, a, b] = np.bincount(index, weights=w * X[:, a] * X[:, b], minlength=m)
-    np.linalg.solve(normal, rhs[..., None])
-    np.linalg.inv(normal)
-    return int(m)
-
-
 def fit_ratebank(db: Path) -> int:
     from ratebank.services.fitting import fit_reactions
     from ratebank.services.store_access import open_store
@@ -210,37 +192,6 @@ def fit_ratebank(db: Path) -> int:
         store.close()
     return report.stored
 
-
-EXPORT_FLOOR = """
-import csv, math, sqlite3, sys
-import numpy as np
-connection = sqlite3.connect(sys.argv[1])
-species = {i: (m, d) for i, m, d in connection.execute(
-    "SELECT id, molar_mass, diameter FROM species")}
-reactants = {}
-for rid, sid, c in connection.execute(
-        "SELECT reaction_id, species_id, coefficient FROM participant WHERE role = 'reactant'"):
-    reactants.setdefault(rid, []).extend([sid] * c)
-ea = dict(connection.execute(
-    "SELECT reaction_id, Ea FROM expression WHERE A IS NULL"))
-keys = dict(connection.execute("SELECT id, key FROM reaction"))
-ids = sorted(r for r in ea if len(reactants.get(r, [])) == 2)
-a = np.array([reactants[r][0] for r in ids]); b = np.array([reactants[r][1] for r in ids])
-mass = np.array([species[i][0] for i in a]), np.array([species[i][0] for i in b])
-diam = np.array([species[i][1] for i in a]), np.array([species[i][1] for i in b])
-k_B, N_A, R, T = 1.380649e-23, 6.02214076e23, 8.314462618, 298.15
-mu = mass[0] * mass[1] / (mass[0] + mass[1]) / N_A
-z = math.pi * ((diam[0] + diam[1]) / 2) ** 2 * np.sqrt(8 * k_B * T / (math.pi * mu)) * N_A
-same = a == b
-z = np.where(same, z / 2, z)
-E0 = np.array([ea[r] for r in ids]) - R * T / 2
-A = 0.1 * z / np.sqrt(T) * 1e6
-with open(sys.argv[2], "w", newline="") as handle:
-    out = csv.writer(handle)
-    out.writerow(["key", "A", "n", "Ea"])
-    for r, A_i, E_i in zip(ids, A.tolist(), (E0 / 1000).tolist()):
-        out.writerow([keys[r], repr(A_i), "0.5", repr(E_i)])
-"""
 
 QUERY_FLOOR = """
 import sys{imports}
@@ -277,40 +228,120 @@ def environment() -> None:
     )
 
 
+def cached_files(work: Path, scale: str) -> Files:
+    """The generated files of ``scale`` in ``work``, made once."""
+    marker = work / "generated.json"
+    if marker.exists():
+        info = json.loads(marker.read_text())
+        counts = ("n_reactions", "n_sets", "n_points")
+        return Files(**{k: v if k in counts else Path(v) for k, v in info.items()})
+    files = generate(work, scale)
+    marker.write_text(
+        json.dumps({k: str(v) if isinstance(v, Path) else v for k, v in files.__dict__.items()})
+    )
+    return files
+
+
+def job_files(work: Path, n_reactions: int) -> JobFiles:
+    """The scaling job's input files for ``n_reactions``, made once per generator version."""
+    folder = work / f"job-{label(n_reactions)}"
+    marker = folder / "generated.json"
+    if marker.exists():
+        info = json.loads(marker.read_text())
+        if info.pop("version", None) == JOB_DATA_VERSION:
+            counts = ("n_reactions", "n_sets", "n_points")
+            return JobFiles(**{k: v if k in counts else Path(v) for k, v in info.items()})
+    files = generate_job(folder, n_reactions)
+    info = {k: str(v) if isinstance(v, Path) else v for k, v in files.__dict__.items()}
+    marker.write_text(json.dumps({"version": JOB_DATA_VERSION, **info}))
+    return files
+
+
+def label(n: int) -> str:
+    """1000 -> '1k', 1000000 -> '1M'."""
+    return f"{n // 1_000_000}M" if n >= 1_000_000 else f"{n // 1_000}k"
+
+
+#: The whole job, as a user runs it: (step, ratebank arguments, exit statuses that are no
+#: failure). ``check`` exits 1 when it flags anything.
+JOB_STEPS = (
+    ("init", ["init"], (0,)),
+    ("species", ["species", "import", "{species}"], (0,)),
+    ("reactions", ["reactions", "import", "{reactions}"], (0,)),
+    ("data", ["data", "import", "{measurements}"], (0,)),
+    ("expressions", ["expressions", "import", "{expressions}"], (0,)),
+    ("fit", ["fit"], (0,)),
+    ("estimate", ["estimate", "--steric", "0.1", "--keep-going"], (0,)),
+    ("check", ["check"], (0, 1)),
+    ("export", ["export", "{out}", "--leave-out-gaps"], (0,)),
+)
+
+
+def run_job(files: JobFiles) -> tuple[float, float, dict[str, float]]:
+    """Total wall time [s], peak resident memory [MB] and time by step of the whole job."""
+    db = files.folder / "job.db"
+    for suffix in ("", "-wal", "-shm"):
+        Path(str(db) + suffix).unlink(missing_ok=True)
+    names = {
+        "species": files.species,
+        "reactions": files.reactions,
+        "measurements": files.measurements,
+        "expressions": files.expressions,
+        "out": files.folder / "mechanism",
+    }
+    steps: dict[str, float] = {}
+    peak = 0.0
+    for step, arguments, ok in JOB_STEPS:
+        args = [a.format(**names) for a in arguments]
+        steps[step], rss = run_process(ratebank(db, *args), ok=ok)
+        peak = max(peak, rss)
+    return sum(steps.values()), peak, steps
+
+
+def scaling(work: Path, scale: str) -> None:
+    """One line per store size, then the ratio of the two largest sizes' cost per reaction."""
+    cost = {}
+    for n in JOB_SIZES[scale]:
+        files = job_files(work, n)
+        total, peak, steps = run_job(files)
+        cost[n] = total / n * 1e6
+        imports = sum(steps[s] for s in ("init", "species", "reactions", "data", "expressions"))
+        detail = ", ".join(f"{s} {steps[s]:.1f} s" for s in ("fit", "estimate", "check", "export"))
+        print(
+            f"scale {label(n)}: {total:.1f} s for {n:,} reactions ({files.n_sets:,} sets, "
+            f"{files.n_points:,} points), {cost[n]:.0f} us/reaction, peak RSS {peak:.0f} MB; "
+            f"imports {imports:.1f} s, {detail}",
+            flush=True,
+        )
+    large, below = sorted(cost)[-1], sorted(cost)[-2]
+    print(
+        f"scale: ratebank {cost[large]:.0f} us/reaction at {label(large)}, "
+        f"{cost[below]:.0f} us/reaction at {label(below)}, ratio {cost[large] / cost[below]:.3g} "
+        f"(target <= {TARGETS['scale']:g})",
+        flush=True,
+    )
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description="ratebank benchmarks (synthetic data)")
     parser.add_argument("--scale", choices=("small", "medium", "full"), default="small")
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--workdir", type=Path, default=None)
-    parser.add_argument("--only", action="append", choices=sorted(TARGETS), default=None)
+    parser.add_argument("--only", action="append", choices=BENCHMARKS, default=None)
     args = parser.parse_args()
     work = args.workdir or Path(tempfile.gettempdir()) / f"ratebank-bench-{args.scale}"
     work.mkdir(parents=True, exist_ok=True)
     environment()
-    marker = work / "generated.json"
-    if marker.exists():
-        info = json.loads(marker.read_text())
-        files = Files(
-            **{
-                k: Path(v)
-                if k in Files.__annotations__ and k not in ("n_reactions", "n_sets", "n_points")
-                else v
-                for k, v in info.items()
-            }
-        )
-    else:
-        files = generate(work, args.scale)
-        marker.write_text(
-            json.dumps({k: str(v) if isinstance(v, Path) else v for k, v in files.__dict__.items()})
-        )
-    print(
-        f"data: {files.n_reactions} reactions, {files.n_sets} fitted sets "
-        f"({files.n_points} points), load file {files.load_points.name} (synthetic)",
-        flush=True,
-    )
-    base, full = build_templates(files, work)
-    only = set(args.only or TARGETS)
+    only = set(args.only or BENCHMARKS)
     repeat = max(1, args.repeat)
+    if only - {"scale"}:
+        files = cached_files(work, args.scale)
+        print(
+            f"data: {files.n_reactions} reactions, {files.n_sets} fitted sets "
+            f"({files.n_points} points), load file {files.load_points.name} (synthetic)",
+            flush=True,
+        )
+        base, full = build_templates(files, work)
 
     if "load" in only:
         ours, theirs, rss_ours, rss_theirs = [], [], [], []
@@ -319,9 +350,8 @@ def main() -> None:
             t, rss = run_process(ratebank(db, "data", "import", str(files.load_points)))
             ours.append(t)
             rss_ours.append(rss)
-            floor_db = work / "floor.db"
-            floor_db.unlink(missing_ok=True)
-            t, rss = run_process([PYTHON, "-c", LOAD_FLOOR, str(floor_db), str(files.load_points)])
+            db = fresh_copy(base, work, "floor.db")
+            t, rss = run_process([PYTHON, FLOORS, "load", str(db), str(files.load_points)])
             theirs.append(t)
             rss_theirs.append(rss)
         # memory must not grow with the file: load the first half too
@@ -350,15 +380,16 @@ def main() -> None:
                 start = time.perf_counter()
                 fit_naive(full)
                 naive.append(time.perf_counter() - start)
+            db = fresh_copy(full, work, "fit-floor.db")
             start = time.perf_counter()
-            fit_floor(full)
+            floors.fit(str(db))
             floor.append(time.perf_counter() - start)
         if "fit-vs-naive" in only:
             report("fit-vs-naive", ours, naive)
         if "fit-vs-floor" in only:
             report("fit-vs-floor", ours, floor)
 
-    if "export" in only:
+    if "export" in only or "memory" in only:
         ours, theirs, rss_ours = [], [], []
         for _ in range(repeat):
             db = fresh_copy(full, work, "export.db")
@@ -368,9 +399,17 @@ def main() -> None:
             )
             ours.append(t1 + t2)
             rss_ours.append(max(r1, r2))
-            t, _ = run_process([PYTHON, "-c", EXPORT_FLOOR, str(full), str(work / "floor.csv")])
+            db = fresh_copy(full, work, "export-floor.db")
+            t, _ = run_process(
+                [PYTHON, FLOORS, "estimate-export", str(db), str(work / "floor.csv")]
+            )
             theirs.append(t)
-        report("export", ours, theirs, f"; peak RSS ratebank {max(rss_ours):.0f} MB")
+        if "export" in only:
+            report("export", ours, theirs)
+        print(
+            f"memory: export peak {max(rss_ours):.0f} MB (target <= {MEMORY_TARGET_MB})",
+            flush=True,
+        )
 
     if "query" in only:
         ours, theirs, bare = [], [], []
@@ -390,6 +429,9 @@ def main() -> None:
             f"; against the same script without those imports: ratio "
             f"{statistics.median(ours) / statistics.median(bare):.3g}",
         )
+
+    if "scale" in only:
+        scaling(work, args.scale)
 
 
 if __name__ == "__main__":
