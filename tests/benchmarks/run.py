@@ -2,7 +2,7 @@
 
 Usage::
 
-    python tests/benchmarks/run.py --scale small      # under a minute
+    python tests/benchmarks/run.py --scale small      # about a minute
     python tests/benchmarks/run.py --scale full       # the recorded run (README)
 
 Each benchmark times ratebank and its baseline alternately, ``--repeat``
@@ -36,6 +36,7 @@ import statistics
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from pathlib import Path
 
@@ -67,21 +68,57 @@ MEMORY_TARGET_MB = 200
 BENCHMARKS = (*TARGETS, "memory")
 
 
+class TooLarge(Exception):
+    """A child process passed the memory limit and was stopped."""
+
+    def __init__(self, elapsed: float, rss_mb: float):
+        super().__init__(f"stopped after {elapsed:.0f} s at {rss_mb:.0f} MB")
+        self.elapsed, self.rss_mb = elapsed, rss_mb
+        #: the job's step that was stopped, and the time of the steps done before it
+        self.step = ""
+        self.steps: dict[str, float] = {}
+
+
 def run_process(
-    args: list[str], *, env: dict[str, str] | None = None, ok: tuple[int, ...] = (0,)
+    args: list[str],
+    *,
+    env: dict[str, str] | None = None,
+    ok: tuple[int, ...] = (0,),
+    limit_mb: float = 0.0,
 ) -> tuple[float, float]:
     """Wall time [s] and peak resident memory [MB] of one child process (its exit status
-    must be one of ``ok``)."""
+    must be one of ``ok``). With ``limit_mb``, a watcher thread stops the child once its
+    resident memory passes that, and TooLarge is raised: the machines are shared."""
     start = time.perf_counter()
     process = subprocess.Popen(
         args, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env={**os.environ, **(env or {})}
     )
+    stopped: list[float] = []
+    if limit_mb:
+        threading.Thread(target=_watch, args=(process, limit_mb, stopped), daemon=True).start()
     _, status, usage = os.wait4(process.pid, 0)
     elapsed = time.perf_counter() - start
     stderr = process.stderr.read().decode() if process.stderr else ""
+    if stopped:
+        raise TooLarge(elapsed, stopped[0])
     if os.waitstatus_to_exitcode(status) not in ok:
         raise SystemExit(f"benchmark step failed: {' '.join(args)}\n{stderr}")
     return elapsed, usage.ru_maxrss / 1024.0
+
+
+def _watch(process: subprocess.Popen[bytes], limit_mb: float, stopped: list[float]) -> None:
+    status = Path(f"/proc/{process.pid}/status")
+    while process.returncode is None:
+        try:
+            lines = status.read_text().splitlines()
+        except OSError:
+            return
+        rss = next((int(x.split()[1]) / 1024 for x in lines if x.startswith("VmRSS:")), 0.0)
+        if rss > limit_mb:
+            stopped.append(rss)
+            process.kill()
+            return
+        time.sleep(0.5)
 
 
 def fresh_copy(template: Path, folder: Path, name: str) -> Path:
@@ -277,8 +314,9 @@ JOB_STEPS = (
 )
 
 
-def run_job(files: JobFiles) -> tuple[float, float, dict[str, float]]:
-    """Total wall time [s], peak resident memory [MB] and time by step of the whole job."""
+def run_job(files: JobFiles, limit_mb: float) -> tuple[float, dict[str, float], dict[str, float]]:
+    """Wall time [s] and peak resident memory [MB] of each step of the whole job; TooLarge
+    (with the steps done so far in ``steps``) when a step passes ``limit_mb``."""
     db = files.folder / "job.db"
     for suffix in ("", "-wal", "-shm"):
         Path(str(db) + suffix).unlink(missing_ok=True)
@@ -290,30 +328,50 @@ def run_job(files: JobFiles) -> tuple[float, float, dict[str, float]]:
         "out": files.folder / "mechanism",
     }
     steps: dict[str, float] = {}
-    peak = 0.0
+    memory: dict[str, float] = {}
     for step, arguments, ok in JOB_STEPS:
         args = [a.format(**names) for a in arguments]
-        steps[step], rss = run_process(ratebank(db, *args), ok=ok)
-        peak = max(peak, rss)
-    return sum(steps.values()), peak, steps
+        try:
+            steps[step], memory[step] = run_process(ratebank(db, *args), ok=ok, limit_mb=limit_mb)
+        except TooLarge as error:
+            error.step, error.steps = step, steps
+            raise
+    return sum(steps.values()), steps, memory
 
 
-def scaling(work: Path, scale: str) -> None:
+def scaling(work: Path, scale: str, limit_mb: float) -> None:
     """One line per store size, then the ratio of the two largest sizes' cost per reaction."""
     cost = {}
     for n in JOB_SIZES[scale]:
         files = job_files(work, n)
-        total, peak, steps = run_job(files)
+        try:
+            total, steps, memory = run_job(files, limit_mb)
+        except TooLarge as error:
+            done = ", ".join(f"{step} {t:.1f} s" for step, t in error.steps.items())
+            print(
+                f"scale {label(n)}: stopped: {error.step} passed {limit_mb:.0f} MB ({error}); "
+                f"before it {done}",
+                flush=True,
+            )
+            break
         cost[n] = total / n * 1e6
-        imports = sum(steps[s] for s in ("init", "species", "reactions", "data", "expressions"))
-        detail = ", ".join(f"{s} {steps[s]:.1f} s" for s in ("fit", "estimate", "check", "export"))
+        peak = max(memory, key=memory.__getitem__)
+        detail = ", ".join(f"{step} {t:.1f} s {memory[step]:.0f} MB" for step, t in steps.items())
         print(
             f"scale {label(n)}: {total:.1f} s for {n:,} reactions ({files.n_sets:,} sets, "
-            f"{files.n_points:,} points), {cost[n]:.0f} us/reaction, peak RSS {peak:.0f} MB; "
-            f"imports {imports:.1f} s, {detail}",
+            f"{files.n_points:,} points), {cost[n]:.0f} us/reaction, "
+            f"peak RSS {memory[peak]:.0f} MB ({peak}); {detail}",
             flush=True,
         )
-    large, below = sorted(cost)[-1], sorted(cost)[-2]
+    sizes = JOB_SIZES[scale]
+    large, below = sizes[-1], sizes[-2]
+    if large not in cost or below not in cost:
+        print(
+            f"scale: ratebank did not finish the {label(large if below in cost else below)} "
+            f"job within {limit_mb:.0f} MB, no ratio (target <= {TARGETS['scale']:g})",
+            flush=True,
+        )
+        return
     print(
         f"scale: ratebank {cost[large]:.0f} us/reaction at {label(large)}, "
         f"{cost[below]:.0f} us/reaction at {label(below)}, ratio {cost[large] / cost[below]:.3g} "
@@ -328,6 +386,13 @@ def main() -> None:
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--workdir", type=Path, default=None)
     parser.add_argument("--only", action="append", choices=BENCHMARKS, default=None)
+    parser.add_argument(
+        "--job-memory-limit",
+        type=float,
+        default=12_000,
+        metavar="MB",
+        help="stop a step of the scaling job whose resident memory passes this (0: no limit)",
+    )
     args = parser.parse_args()
     work = args.workdir or Path(tempfile.gettempdir()) / f"ratebank-bench-{args.scale}"
     work.mkdir(parents=True, exist_ok=True)
@@ -431,7 +496,7 @@ def main() -> None:
         )
 
     if "scale" in only:
-        scaling(work, args.scale)
+        scaling(work, args.scale, args.job_memory_limit)
 
 
 if __name__ == "__main__":
