@@ -31,6 +31,7 @@ import json
 import os
 import platform
 import shutil
+import signal
 import sqlite3
 import statistics
 import subprocess
@@ -79,6 +80,20 @@ class TooLarge(Exception):
         self.steps: dict[str, float] = {}
 
 
+#: Runs the command given as its arguments and prints its pid, then its wall time [s], peak
+#: resident memory [kB] and exit status. A child's ru_maxrss starts at the high-water mark of
+#: the process that started it (Linux keeps it across fork and exec), so the benchmark's own
+#: memory would count in every child's: this small process starts them instead.
+MEASURE = """
+import os, subprocess, sys, time
+start = time.perf_counter()
+process = subprocess.Popen(sys.argv[1:], stdout=subprocess.DEVNULL)
+print(process.pid, flush=True)
+_, status, usage = os.wait4(process.pid, 0)
+print(time.perf_counter() - start, usage.ru_maxrss, os.waitstatus_to_exitcode(status))
+"""
+
+
 def run_process(
     args: list[str],
     *,
@@ -87,38 +102,56 @@ def run_process(
     limit_mb: float = 0.0,
 ) -> tuple[float, float]:
     """Wall time [s] and peak resident memory [MB] of one child process (its exit status
-    must be one of ``ok``). With ``limit_mb``, a watcher thread stops the child once its
-    resident memory passes that, and TooLarge is raised: the machines are shared."""
-    start = time.perf_counter()
-    process = subprocess.Popen(
-        args, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env={**os.environ, **(env or {})}
-    )
-    stopped: list[float] = []
-    if limit_mb:
-        threading.Thread(target=_watch, args=(process, limit_mb, stopped), daemon=True).start()
-    _, status, usage = os.wait4(process.pid, 0)
-    elapsed = time.perf_counter() - start
-    stderr = process.stderr.read().decode() if process.stderr else ""
+    must be one of ``ok``), started by MEASURE. With ``limit_mb``, a watcher thread stops
+    the child once its resident memory passes that, and TooLarge is raised: the machines
+    are shared."""
+    with tempfile.TemporaryFile() as errors:
+        measure = subprocess.Popen(
+            [PYTHON, "-S", "-c", MEASURE, *args],
+            stdout=subprocess.PIPE,
+            stderr=errors,
+            env={**os.environ, **(env or {})},
+            text=True,
+        )
+        assert measure.stdout is not None
+        pid = int(measure.stdout.readline())
+        stopped: list[float] = []
+        done = threading.Event()
+        if limit_mb:
+            watch = (pid, measure.pid, limit_mb, stopped, done)
+            threading.Thread(target=_watch, args=watch, daemon=True).start()
+        result = measure.stdout.read().split()
+        done.set()
+        measure.wait()
+        errors.seek(0)
+        stderr = errors.read().decode(errors="replace")
+    elapsed, rss_kb, status = float(result[0]), int(result[1]), int(result[2])
     if stopped:
         raise TooLarge(elapsed, stopped[0])
-    if os.waitstatus_to_exitcode(status) not in ok:
+    if status not in ok:
         raise SystemExit(f"benchmark step failed: {' '.join(args)}\n{stderr}")
-    return elapsed, usage.ru_maxrss / 1024.0
+    return elapsed, rss_kb / 1024.0
 
 
-def _watch(process: subprocess.Popen[bytes], limit_mb: float, stopped: list[float]) -> None:
-    status = Path(f"/proc/{process.pid}/status")
-    while process.returncode is None:
+def _watch(
+    pid: int, parent: int, limit_mb: float, stopped: list[float], done: threading.Event
+) -> None:
+    """Kill ``pid`` once its resident memory passes ``limit_mb`` (while it is still the
+    child of ``parent`` and the run is not ``done``)."""
+    status = Path(f"/proc/{pid}/status")
+    while not done.is_set():
         try:
-            lines = status.read_text().splitlines()
+            fields = dict(line.split(":", 1) for line in status.read_text().splitlines())
         except OSError:
+            return  # gone
+        if int(fields.get("PPid", "0")) != parent:
             return
-        rss = next((int(x.split()[1]) / 1024 for x in lines if x.startswith("VmRSS:")), 0.0)
+        rss = int(fields.get("VmRSS", "0 kB").split()[0]) / 1024
         if rss > limit_mb:
             stopped.append(rss)
-            process.kill()
+            os.kill(pid, signal.SIGKILL)
             return
-        time.sleep(0.5)
+        done.wait(0.5)
 
 
 def fresh_copy(template: Path, folder: Path, name: str) -> Path:
