@@ -382,7 +382,6 @@ class _FitColumns:
         self.warnings = fits.warnings.tolist()
 
 
-
 def _fit_row(reaction: ReactionRow, fits: _FitColumns, i: int, derived: _Derived, n_sets: int):
     row = FitRow(reaction.key, reaction.equation, reaction.order, "failed", "")
     row.n_points, row.n_sets = fits.n_points[i], n_sets
