@@ -338,14 +338,13 @@ def _column_numbers(
     values = np.full(n, np.nan)
     if not required and (n == 0 or (texts[0] == "" and texts.count("") == n)):
         return values  # an absent or empty optional column: nothing to parse or report
-    if "" in texts:
-        present = np.fromiter((t != "" for t in texts), dtype=bool, count=n)
-        candidates = [t for t in texts if t != ""]
-    else:
-        present = np.ones(n, dtype=bool)
-        candidates = list(texts)
     try:
-        values[present] = np.array(candidates, dtype=np.float64)
+        if "" in texts:
+            present = np.fromiter((t != "" for t in texts), dtype=bool, count=n)
+            values[present] = np.array([t for t in texts if t != ""], dtype=np.float64)
+        else:
+            present = np.ones(n, dtype=bool)
+            values = np.array(texts, dtype=np.float64)  # every cell given: read in place
     except ValueError:
         for i, text in enumerate(texts):
             if text == "":
