@@ -11,10 +11,11 @@ from __future__ import annotations
 
 import csv
 import difflib
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from itertools import islice, repeat
 from pathlib import Path
+from typing import Any
 
 from sqlalchemy.orm import Session
 
@@ -165,9 +166,7 @@ def _csv_chunks(reader, name: str, width: int, problems: v.Problems, chunk_rows:
         line = previous + 1
         previous = reader.line_num
         if len(row) != width or not (row[0] or any(row)):
-            if not row or all(c.strip() == "" for c in row):
-                continue
-            problems.add(line, "", _cell_count_message(len(row), width))
+            _misshapen_row(problems, line, row, width)
             continue
         rows.append(row)
         lines.append(line)
@@ -178,10 +177,16 @@ def _csv_chunks(reader, name: str, width: int, problems: v.Problems, chunk_rows:
         yield [list(c) for c in zip(*rows, strict=True)], lines
 
 
-def _cell_count_message(cells: int, width: int) -> str:
-    return (
-        f"has {cells} cells but the header has {width}; check for a stray "
-        "delimiter or an unclosed quote"
+def _misshapen_row(problems: v.Problems, line: int, cells: Sequence[str], width: int) -> None:
+    """A row without ``width`` cells (or with empty cells only): a blank row is passed
+    over, any other is reported."""
+    if all(c.strip() == "" for c in cells):
+        return
+    problems.add(
+        line,
+        "",
+        f"has {len(cells)} cells but the header has {width}; check for a stray "
+        "delimiter or an unclosed quote",
     )
 
 
@@ -211,10 +216,7 @@ def _plain_chunks(
                     kept.append(text)
                     numbers.append(start + offset)
                     continue
-                cells = text.rstrip("\r\n").split(",")
-                if all(c.strip() == "" for c in cells):
-                    continue
-                problems.add(start + offset, "", _cell_count_message(len(cells), width))
+                _misshapen_row(problems, start + offset, text.rstrip("\r\n").split(","), width)
             block, lines = kept, numbers
             if not block:
                 continue
@@ -343,7 +345,11 @@ def read_table(path: str | Path, columns: Sequence[str], required: Sequence[str]
     return CsvTable(name, header, rows, lines)
 
 
-def _row_dicts(table: CsvTable) -> list[tuple[int | None, dict[str, str | None]]]:
+#: A row as the importers take it: (line, {column: cell}).
+Row = tuple[int | None, dict[str, str | None]]
+
+
+def _row_dicts(table: CsvTable) -> list[Row]:
     header = table.header
     return [
         (line, dict(zip(header, row, strict=True)))
@@ -351,57 +357,54 @@ def _row_dicts(table: CsvTable) -> list[tuple[int | None, dict[str, str | None]]
     ]
 
 
-def import_species_file(
+def _import_file(
     session: Session,
     path: str | Path,
-    *,
-    dry_run: bool = False,
-    update: bool = False,
-    progress: Progress | None = None,
+    columns: Sequence[str],
+    required: Sequence[str],
+    importer: Callable[..., ImportSummary],
+    shape: Callable[[CsvTable, list[Row]], list[Row]] | None = None,
+    **options: Any,
 ) -> ImportSummary:
-    table = read_table(path, v.SPECIES_COLUMNS, v.SPECIES_REQUIRED)
-    return import_species(
-        session,
-        _row_dicts(table),
-        source=table.path,
-        dry_run=dry_run,
-        update=update,
-        progress=progress,
+    """Read a whole (small) CSV file, check its header, and hand its rows, each as
+    ``(line, {column: cell})``, to ``importer`` with the file as their source; ``shape``
+    may check the header further and map the rows first. ``options`` (``dry_run``,
+    ``update``, ``progress``) go to ``importer``."""
+    table = read_table(path, columns, required)
+    rows = _row_dicts(table)
+    if shape is not None:
+        rows = shape(table, rows)
+    return importer(session, rows, source=table.path, **options)
+
+
+def import_species_file(session: Session, path: str | Path, **options: Any) -> ImportSummary:
+    """Import a species file (``dry_run``, ``update``, ``progress``)."""
+    return _import_file(
+        session, path, v.SPECIES_COLUMNS, v.SPECIES_REQUIRED, import_species, **options
     )
 
 
-def import_reactions_file(
-    session: Session,
-    path: str | Path,
-    *,
-    dry_run: bool = False,
-    update: bool = False,
-    progress: Progress | None = None,
-) -> ImportSummary:
-    table = read_table(path, v.REACTION_COLUMNS, v.REACTION_REQUIRED)
-    return import_reactions(
-        session,
-        _row_dicts(table),
-        source=table.path,
-        dry_run=dry_run,
-        update=update,
-        progress=progress,
+def import_reactions_file(session: Session, path: str | Path, **options: Any) -> ImportSummary:
+    """Import a reactions file (``dry_run``, ``update``, ``progress``)."""
+    return _import_file(
+        session, path, v.REACTION_COLUMNS, v.REACTION_REQUIRED, import_reactions, **options
     )
+
+
+def _expression_rows(table: CsvTable, rows: list[Row]) -> list[Row]:
+    # an exported mechanism table (mechanism.csv of a data package) reads as one too
+    v.check_expression_header(table.path, table.header)
+    return v.as_expression_rows(rows)
 
 
 def import_expressions_file(
-    session: Session,
-    path: str | Path,
-    *,
-    dry_run: bool = False,
-    update: bool = False,
-    progress: Progress | None = None,
+    session: Session, path: str | Path, *, progress: Progress | None = None, **options: Any
 ) -> ImportSummary:
-    # an exported mechanism table (mechanism.csv of a data package) reads as one too
-    table = read_table(path, v.EXPRESSION_FILE_COLUMNS, ("Ea",))
-    v.check_expression_header(table.path, table.header)
-    rows = v.as_expression_rows(_row_dicts(table))
-    return import_expressions(session, rows, source=table.path, dry_run=dry_run, update=update)
+    """Import an expressions file (``dry_run``, ``update``; it reports no progress)."""
+    return _import_file(
+        session, path, v.EXPRESSION_FILE_COLUMNS, ("Ea",), import_expressions, _expression_rows,
+        **options,
+    )  # fmt: skip
 
 
 def import_measurements_file(
@@ -460,20 +463,16 @@ def import_measurements_file(
 
 
 def import_efficiencies_file(
-    session: Session,
-    path: str | Path,
-    *,
-    dry_run: bool = False,
-    update: bool = False,
-    progress: Progress | None = None,
+    session: Session, path: str | Path, *, progress: Progress | None = None, **options: Any
 ) -> ImportSummary:
+    """Import a third-body efficiencies file (``dry_run``, ``update``; it reports no
+    progress)."""
     from ratebank.services.efficiencies import (
         EFFICIENCY_COLUMNS,
         EFFICIENCY_REQUIRED,
         import_efficiencies,
     )
 
-    table = read_table(path, EFFICIENCY_COLUMNS, EFFICIENCY_REQUIRED)
-    return import_efficiencies(
-        session, _row_dicts(table), source=table.path, dry_run=dry_run, update=update
+    return _import_file(
+        session, path, EFFICIENCY_COLUMNS, EFFICIENCY_REQUIRED, import_efficiencies, **options
     )

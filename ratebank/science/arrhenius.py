@@ -1485,26 +1485,33 @@ def _add_scatter_warnings(out: dict, weighted: np.ndarray, tau2: np.ndarray) -> 
     """
     from scipy.special import chdtr, chdtrc
 
-    for row in np.flatnonzero(weighted & out["ok"]).tolist():
-        chi, dof = out["reduced_chi_square"][row], out["n_points"][row] - _free(out["form"][row])
-        if not (np.isfinite(chi) and dof > 0):
-            continue
-        if chdtrc(dof, chi * dof) < SCATTER_SIGNIFICANCE:
+    rows = np.flatnonzero(weighted & out["ok"])
+    chi = out["reduced_chi_square"][rows]
+    dof = out["n_points"][rows] - np.where(out["form"][rows] == "modified", 3, 2)
+    usable = np.isfinite(chi) & (dof > 0)
+    rows, chi, dof = rows[usable], chi[usable], dof[usable]
+    above = chdtrc(dof, chi * dof) < SCATTER_SIGNIFICANCE
+    # (with set offsets added the scatter is small by construction)
+    below = ~above & (tau2[rows] == 0) & (chdtr(dof, chi * dof) < SCATTER_SIGNIFICANCE)
+    for row, value, high in zip(
+        rows[above | below].tolist(),
+        chi[above | below].tolist(),
+        above[above | below].tolist(),
+        strict=True,
+    ):
+        if high:
             warning = FitWarning(
                 "scatter-above-stated",
                 f"the points scatter more than their stated uncertainties allow (reduced "
-                f"chi-square {chi:.3g}): inconsistent sets or a wrong form; the covariance is "
+                f"chi-square {value:.3g}): inconsistent sets or a wrong form; the covariance is "
                 "scaled by it",
             )
-        elif tau2[row] == 0 and chdtr(dof, chi * dof) < SCATTER_SIGNIFICANCE:
-            # (with set offsets added the scatter is small by construction)
+        else:
             warning = FitWarning(
                 "scatter-below-stated",
                 f"the points scatter less than their stated uncertainties suggest (reduced "
-                f"chi-square {chi:.3g}): the uncertainties may be overstated",
+                f"chi-square {value:.3g}): the uncertainties may be overstated",
             )
-        else:
-            continue
         out["warnings"][row] = (*out["warnings"][row], warning)
 
 
@@ -1526,8 +1533,10 @@ def _free(form: str | None) -> int:
 
 def _set_counts(inverse: np.ndarray, sets: np.ndarray, m: int) -> np.ndarray:
     """How many distinct sets each group's points come from."""
-    pairs = np.unique(np.stack([inverse, np.unique(sets, return_inverse=True)[1].ravel()]), axis=1)
-    return np.bincount(pairs[0], minlength=m)
+    codes = np.unique(sets, return_inverse=True)[1].ravel().astype(np.int64)
+    # one integer per (group, set) pair: a flat unique is much faster than unique rows
+    pairs = np.unique(inverse.astype(np.int64) * (int(codes.max()) + 1) + codes)
+    return np.bincount(pairs // (int(codes.max()) + 1), minlength=m)
 
 
 def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n, systematic, weighted):
@@ -1563,6 +1572,23 @@ def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n, systema
             sigma[mask], sets[mask], result.tau_squared
         )
     return widened, tau2, p_value
+
+
+def _copy_chosen(out: dict, rows: np.ndarray, two, three, keep_three, reasons) -> None:
+    """Put each group's kept fit (``three`` where ``keep_three``, else ``two``) in its row."""
+    keep = np.asarray(keep_three, dtype=bool)
+    for name in _GROUP_COLUMNS:
+        out[name][rows] = np.where(keep, getattr(three, name), getattr(two, name))
+    out["covariance"][rows] = np.where(keep[:, None, None], three.covariance, two.covariance)
+    ok = np.where(keep, three.ok, two.ok)
+    out["ok"][rows] = ok
+    out["status"][rows] = [str(s) for s in np.where(keep, three.status, two.status).tolist()]
+    out["form"][rows] = np.where(keep, three.form, two.form).astype(object)
+    out["reason"][rows] = [str(r) for r in reasons]
+    warnings = out["warnings"]
+    columns = zip(rows.tolist(), keep.tolist(), ok.tolist(), strict=True)
+    for i, (row, kept, fitted) in enumerate(columns):
+        warnings[row] = (three if kept else two).fit_warnings(i) if fitted else ()
 
 
 def fit_groups(
@@ -1675,14 +1701,7 @@ def fit_groups(
             T[mask], k[mask], sigma[mask] if weighted else None, group[mask],
             form, fixed_n, significance,
         )  # fmt: skip
-        rows = np.searchsorted(labels, two.groups)
-        for i, row in enumerate(rows.tolist()):
-            batch = three if keep_three[i] else two
-            for name in (*_GROUP_COLUMNS, "covariance"):
-                out[name][row] = getattr(batch, name)[i]
-            out["ok"][row], out["status"][row] = bool(batch.ok[i]), str(batch.status[i])
-            out["form"][row], out["reason"][row] = batch.form, str(reasons[i])
-            out["warnings"][row] = batch.fit_warnings(i) if batch.ok[i] else ()
+        _copy_chosen(out, np.searchsorted(labels, two.groups), two, three, keep_three, reasons)
     _add_scatter_warnings(out, weighted_group, tau2)
     _add_disagreement_warnings(out, heterogeneity, tau2)
     scale = np.where(weighted_group, 1.0, out["reduced_chi_square"])

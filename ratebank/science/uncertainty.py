@@ -313,8 +313,18 @@ def _cover_rows(u: np.ndarray, s: np.ndarray, a_floor: np.ndarray):
     l_k(g) = s_k + g (m - u_k) <= t for some g >= 0 (the floor is the point
     u = 0, s = a_floor). By Helly's theorem on the line this t is the largest
     over pairs of lines of the pair's own minimax value, which is closed form.
+
+    Only a falling line (u > m) and a level or rising one (u <= m) make a pair
+    worth a look. With the points of each row sorted by u the falling ones are
+    a tail, so rows are taken together by the length of that tail and each
+    pair is formed once: at most a quarter of all pairs. For a level or rising
+    line q the pair value s_q + max(c, 0) (m - u_q) grows with the crossing c
+    (it falls with c only for a line within rounding of level), so only the
+    largest (or smallest) crossing of q with a falling line is needed; rounded
+    arithmetic is monotone, so the result is the same float as the largest pair
+    value.
     """
-    rows = u.shape[0]
+    rows, width = u.shape
     m = u.mean(axis=1)
     U = np.concatenate([u, np.zeros((rows, 1))], axis=1)
     S = np.concatenate([s, a_floor[:, np.newaxis]], axis=1)
@@ -322,12 +332,24 @@ def _cover_rows(u: np.ndarray, s: np.ndarray, a_floor: np.ndarray):
     tol = 1e-12 * np.maximum(U.max(axis=1), np.finfo(float).tiny)
     falling = U > (m + tol)[:, np.newaxis]
     single = np.where(falling, -np.inf, S).max(axis=1)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        # p (axis 1) falling, q (axis 2) level or rising: they cross at g*.
-        crossing = (S[:, :, None] - S[:, None, :]) / (U[:, :, None] - U[:, None, :])
-        value = S[:, None, :] + np.maximum(crossing, 0.0) * (m[:, None, None] - U[:, None, :])
-    pairs = falling[:, :, None] & ~falling[:, None, :]
-    t = np.maximum(single, np.where(pairs, value, -np.inf).max(axis=(1, 2)))
+    order = np.argsort(U, axis=1, kind="stable")
+    U_sorted = np.take_along_axis(U, order, axis=1)
+    S_sorted = np.take_along_axis(S, order, axis=1)
+    level = width + 1 - falling.sum(axis=1)  # lines with u <= m: the head of each sorted row
+    t = single.copy()
+    for k in np.unique(level[(level > 0) & (level <= width)]).tolist():
+        group = np.flatnonzero(level == k)
+        Uq, Sq = U_sorted[group, :k], S_sorted[group, :k]
+        Up, Sp = U_sorted[group, k:], S_sorted[group, k:]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            crossing = (Sp[:, np.newaxis, :] - Sq[:, :, np.newaxis]) / (
+                Up[:, np.newaxis, :] - Uq[:, :, np.newaxis]
+            )
+        gap = m[group, np.newaxis] - Uq
+        rising = gap >= 0
+        chosen = np.where(rising, crossing.max(axis=2), crossing.min(axis=2))
+        value = Sq + np.maximum(chosen, 0.0) * gap
+        t[group] = np.maximum(t[group], value.max(axis=1))
     with np.errstate(divide="ignore", invalid="ignore"):
         lower = np.where(falling, (S - t[:, None]) / (U - m[:, None]), -np.inf)
     g = np.maximum(lower.max(axis=1), 0.0)
@@ -417,7 +439,8 @@ def covering_panel_factor(T, sigma_ln_k, *, floor=1.0) -> PanelFactor:
     ln_f298 = np.full(u.shape[0], np.nan)
     g = np.full(u.shape[0], np.nan)
     rows = np.flatnonzero(known)
-    chunk = max(1, _PAIR_CHUNK // (u.shape[1] + 1) ** 2)
+    # at most a quarter of the (n + 1)^2 pairs of a row are formed (see _cover_rows)
+    chunk = max(1, 4 * _PAIR_CHUNK // (u.shape[1] + 1) ** 2)
     for start in range(0, rows.size, chunk):
         part = rows[start : start + chunk]
         ln_f298[part], g[part] = _cover_rows(u[part], s[part], a_floor[part])

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from itertools import pairwise
 from typing import Any
 
 import numpy as np
@@ -246,14 +247,15 @@ def _store_fits(
     history: list[tuple[str, dict[str, Any]]] = []
     stored: list[FitRow] = []
     partner_records: dict[int, dict[str, object]] = {}
+    columns = _FitColumns(fits)
     for i in sorted(range(len(rids)), key=lambda i: reactions[rids[i]].key):
         progress.advance()
         rid = rids[i]
-        row = _fit_row(reactions[rid], fits, i, derived, len(set_ids[rid]))
+        row = _fit_row(reactions[rid], columns, i, derived, len(set_ids[rid]))
         rows.append(row)
         if row.status == "failed":
             continue
-        provenance = _provenance(fits, i, row, set_ids[rid], derived, fixed_n, partner_records)
+        provenance = _provenance(columns, i, row, set_ids[rid], derived, fixed_n, partner_records)
         _note_pressures(row, provenance, spreads.get(rid))
         old = previous.get(rid)
         if old is not None and _same_fit(old, row, provenance):
@@ -271,11 +273,13 @@ def _store_fits(
 
 def _set_ids(points: PointColumns) -> dict[int, list[int]]:
     """The sorted ids of the sets behind each reaction's points."""
-    pairs = np.unique(np.stack([points.reaction_id, points.set_id]), axis=1)
-    found: dict[int, list[int]] = {}
-    for rid, sid in zip(pairs[0].tolist(), pairs[1].tolist(), strict=True):
-        found.setdefault(rid, []).append(sid)
-    return found
+    # a set belongs to one reaction, so the distinct set ids give the pairs
+    sets, first = np.unique(points.set_id, return_index=True)
+    owners = points.reaction_id[first]
+    order = np.lexsort((sets, owners))
+    owners, sets = owners[order].tolist(), sets[order].tolist()
+    bounds = [0, *(np.flatnonzero(np.diff(owners)) + 1).tolist(), len(owners)]
+    return {owners[a]: sets[a:b] for a, b in pairwise(bounds) if b > a}
 
 
 class _Derived:
@@ -347,20 +351,51 @@ def _finite(value: float) -> float | None:
     return float(value) if math.isfinite(value) else None
 
 
-def _fit_row(reaction: ReactionRow, fits: GroupFits, i: int, derived: _Derived, n_sets: int):
+class _FitColumns:
+    """The fits' columns as plain Python lists, made once: the per-fit rows and provenance
+    records below read them instead of indexing numpy arrays value by value."""
+
+    A: list[float]
+    n: list[float]
+    Ea: list[float]
+    T_min: list[float]
+    T_max: list[float]
+    T_ref: list[float]
+    mean_T: list[float]
+
+    def __init__(self, fits: GroupFits):
+        self.groups = fits.groups.tolist()
+        self.ok = fits.ok.tolist()
+        self.status = [str(s) for s in fits.status.tolist()]
+        self.reason = [str(s) for s in fits.reason.tolist()]
+        self.form = [str(s) for s in fits.form.tolist()]
+        self.weighted = fits.weighted.tolist()
+        self.n_points = fits.n_points.tolist()
+        for name in ("A", "n", "Ea", "T_min", "T_max", "T_ref", "mean_T"):
+            setattr(self, name, getattr(fits, name).tolist())
+        self.covariance_scale = fits.covariance_scale.tolist()
+        self.between_set_variance = fits.between_set_variance.tolist()
+        chi = fits.reduced_chi_square
+        self.reduced_chi_square = np.where(np.isfinite(chi), chi, np.nan).tolist()
+        covariance = fits.covariance
+        self.covariance = np.where(np.isfinite(covariance), covariance, 0.0).tolist()
+        self.warnings = fits.warnings.tolist()
+
+
+def _fit_row(reaction: ReactionRow, fits: _FitColumns, i: int, derived: _Derived, n_sets: int):
     row = FitRow(reaction.key, reaction.equation, reaction.order, "failed", "")
-    row.n_points, row.n_sets = int(fits.n_points[i]), n_sets
+    row.n_points, row.n_sets = fits.n_points[i], n_sets
     if not fits.ok[i]:
-        row.message = str(fits.status[i])
+        row.message = fits.status[i]
         return row
-    row.status, row.message, row.form = "fitted", str(fits.reason[i]), str(fits.form[i])
-    row.A, row.n, row.Ea = float(fits.A[i]), float(fits.n[i]), float(fits.Ea[i])
-    row.T_min, row.T_max = float(fits.T_min[i]), float(fits.T_max[i])
-    row.reduced_chi_square = _finite(float(fits.reduced_chi_square[i]))
+    row.status, row.message, row.form = "fitted", fits.reason[i], fits.form[i]
+    row.A, row.n, row.Ea = fits.A[i], fits.n[i], fits.Ea[i]
+    row.T_min, row.T_max = fits.T_min[i], fits.T_max[i]
+    row.reduced_chi_square = _finite(fits.reduced_chi_square[i])
     row.uncertainty_factor_min, row.uncertainty_factor_max = derived.factor_range[i]
     row.uncertainty_f298, row.uncertainty_g = derived.panel[i]
     row.warnings = [w.message for w in fits.warnings[i]]
-    pair = derived.pairs.get(int(fits.groups[i]))
+    pair = derived.pairs.get(fits.groups[i])
     if isinstance(pair, str):
         row.steric_note = pair
     elif pair is not None:
@@ -370,8 +405,15 @@ def _fit_row(reaction: ReactionRow, fits: GroupFits, i: int, derived: _Derived, 
     return row
 
 
+_WEIGHTED_METHOD = (
+    "weighted linear least squares in ln k; sets pooled with a random offset each "
+    "(DerSimonian-Laird between-set variance); covariance scaled by max(1, reduced chi-square)"
+)
+_UNWEIGHTED_METHOD = "unweighted least squares in ln k (covariance scaled by reduced chi-square)"
+
+
 def _provenance(
-    fits: GroupFits,
+    fits: _FitColumns,
     i: int,
     row: FitRow,
     set_ids: list[int],
@@ -379,32 +421,27 @@ def _provenance(
     fixed_n: float | None,
     partner_records: dict[int, dict[str, object]],
 ) -> dict[str, Any]:
-    pair = derived.pairs.get(int(fits.groups[i]))
+    pair = derived.pairs.get(fits.groups[i])
     steric = row.steric_factor
-    weighted = bool(fits.weighted[i])
-    covariance = np.where(np.isfinite(fits.covariance[i]), fits.covariance[i], 0.0)
+    weighted = fits.weighted[i]
     return {
-        "method": "weighted linear least squares in ln k; sets pooled with a random offset "
-        "each (DerSimonian-Laird between-set variance); covariance scaled by max(1, reduced "
-        "chi-square)"
-        if weighted
-        else "unweighted least squares in ln k (covariance scaled by reduced chi-square)",
+        "method": _WEIGHTED_METHOD if weighted else _UNWEIGHTED_METHOD,
         "form": row.form,
         "form_reason": row.message,
         "fixed_n": fixed_n,
-        "T_ref": float(fits.T_ref[i]),
-        "covariance": covariance.tolist(),
+        "T_ref": fits.T_ref[i],
+        "covariance": fits.covariance[i],
         "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
         "absolute_sigma": weighted,
         "reduced_chi_square": row.reduced_chi_square,
-        "covariance_scale": float(fits.covariance_scale[i]),
-        "between_set_variance_ln_k": float(fits.between_set_variance[i]),
+        "covariance_scale": fits.covariance_scale[i],
+        "between_set_variance_ln_k": fits.between_set_variance[i],
         "n_points": row.n_points,
         "n_sets": row.n_sets,
         "set_ids": set_ids,
         "warnings": [w.code for w in fits.warnings[i]],
         "steric_factor": steric,
-        "steric_factor_T_K": float(fits.mean_T[i]) if steric is not None else None,
+        "steric_factor_T_K": fits.mean_T[i] if steric is not None else None,
         "steric_factor_model": "hard-sphere" if steric is not None else None,
         "partners": pair.as_record(cache=partner_records)
         if isinstance(pair, CollisionPair)

@@ -15,7 +15,11 @@ import numpy as np
 from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError
-from ratebank.services.measurement_validation import MeasurementChunk, MeasurementValidator
+from ratebank.services.measurement_validation import (
+    MeasurementChunk,
+    MeasurementValidator,
+    SetRegistry,
+)
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.services.set_updates import (
     SetPlan,
@@ -27,7 +31,6 @@ from ratebank.services.validate import ImportSummary, LazyReactionResolver, Prob
 from ratebank.store import audit
 from ratebank.store.bulk import SuspendedIndex
 from ratebank.store.records import (
-    NewSet,
     fill_missing_uncertainties,
     insert_points,
     insert_sets,
@@ -87,7 +90,6 @@ class MeasurementImporter:
         self._stored: dict[str, StoredSet] = {}
         self._stored_index: list[int] = []
         self._given = StoredSetPoints()
-        self._set_ids: list[int] = []
         self._expected_rows = expected_rows
         self._point_index: SuspendedIndex | None = None
         # a savepoint makes the import all-or-nothing even inside a caller's larger transaction
@@ -109,10 +111,12 @@ class MeasurementImporter:
     def _keep_stored(self, chunk: MeasurementChunk) -> MeasurementChunk:
         """Set aside the chunk's points of stored sets (compared when the file is read); the
         points of new sets are left to write."""
-        stored = [r for r in chunk.new_sets if r.stored]
+        sets = chunk.sets
+        stored = [i for i in chunk.new if sets.column("stored")[i]]
         if stored:
-            self._stored.update(stored_sets(self.session, [r.name for r in stored]))
-            self._stored_index.extend(self.validator.by_name[r.name] for r in stored)
+            names = sets.column("name")
+            self._stored.update(stored_sets(self.session, [names[i] for i in stored]))
+            self._stored_index.extend(stored)
         if not self._stored_index:
             return chunk
         index = np.asarray(self._stored_index, dtype=np.int64)
@@ -128,34 +132,19 @@ class MeasurementImporter:
         )
 
     def _write(self, chunk: MeasurementChunk) -> None:
-        for record in chunk.new_sets:
-            if record.stored:
-                record.id = self._stored[record.name].id
-        fresh = [s for s in chunk.new_sets if not s.stored]
-        if fresh:
-            set_ids = insert_sets(
-                self.session,
-                [
-                    NewSet(
-                        s.name,
-                        s.reaction.id,
-                        s.reference,
-                        s.method,
-                        s.bath_gas,
-                        s.k_units,
-                        s.systematic_uncertainty,
-                    )
-                    for s in fresh
-                ],
-                source=self.source,
-            )
-            for record, set_id in zip(fresh, set_ids, strict=True):
-                record.id = set_id
-        self._set_ids.extend(r.id for r in chunk.new_sets)  # type: ignore[misc]
+        sets, new = chunk.sets, chunk.new
+        ids = sets.column("id")
+        stored = sets.column("stored")[new.start : new.stop]
+        names = sets.column("name")
+        for i in (np.flatnonzero(stored) + new.start).tolist():
+            ids[i] = self._stored[names[i]].id
+        fresh = np.flatnonzero(~stored) + new.start
+        if fresh.size:
+            ids[fresh] = insert_sets(self.session, _set_rows(sets, fresh), source=self.source)
         if self._point_index is None:
             self._point_index = suspend_point_index(self.session, self._expected_rows)
         if chunk.n_points:
-            insert_points(self.session, _point_columns(chunk, self._set_ids))
+            insert_points(self.session, _point_columns(chunk, ids))
 
     def finish(self) -> ImportSummary:
         """Raise if any chunk had a problem (nothing is then written); else commit the import."""
@@ -205,16 +194,19 @@ class MeasurementImporter:
     def _fill_missing_uncertainties(self) -> dict[str, float]:
         """The sets whose missing uncertainties were filled with the set's median, and the
         value used (the caller chose to; it is recorded and reported)."""
-        mixed = [r for r in self.validator.sets if r.mixed and r.id is not None]
-        if self.dry_run or not mixed or self.validator.fill_uncertainty is None:
+        sets = self.validator.sets
+        mixed = np.flatnonzero(sets.column("mixed") & (sets.column("id") >= 0))
+        if self.dry_run or not mixed.size or self.validator.fill_uncertainty is None:
             return {}
-        used = fill_missing_uncertainties(self.session, [r.id for r in mixed])
-        return {r.name: used[r.id] for r in mixed if r.id in used}
+        ids = sets.column("id")[mixed].tolist()
+        used = fill_missing_uncertainties(self.session, ids)
+        names = sets.column("name")[mixed].tolist()
+        return {name: used[i] for name, i in zip(names, ids, strict=True) if i in used}
 
     def _details(self, sets: int) -> dict[str, int]:
         if self.validator.fill_uncertainty is None:
             return {"sets": sets}
-        mixed = sum(1 for r in self.validator.sets if r.mixed)
+        mixed = int(self.validator.sets.column("mixed").sum())
         return {"sets": sets, "sets_with_filled_uncertainties": mixed}
 
 
@@ -232,15 +224,33 @@ def _checked_fill(fill: str | None) -> str | None:
     return fill
 
 
-def _point_columns(chunk: MeasurementChunk, set_ids: list[int]) -> dict[str, list[object]]:
+def _set_rows(sets: SetRegistry, index: np.ndarray) -> list[tuple[object, ...]]:
+    """The rows :func:`insert_sets` writes for the registry's sets at ``index`` (in the
+    order of :class:`NewSet`), made column by column."""
+    systematic = sets.column("systematic_uncertainty")[index]
+    return list(
+        zip(
+            sets.column("name")[index].tolist(),
+            sets.column("reaction_id")[index].tolist(),
+            *([text or None for text in sets.column(name)[index].tolist()]
+              for name in ("reference", "method", "bath_gas")),
+            sets.column("k_units")[index].tolist(),
+            [None] * index.size if np.isnan(systematic).all()
+            else [None if x != x else x for x in systematic.tolist()],
+            strict=True,
+        )
+    )  # fmt: skip
+
+
+def _point_columns(chunk: MeasurementChunk, set_ids: np.ndarray) -> dict[str, list[object]]:
     """The chunk's points as lists by column, None where a value is not given.
 
-    Chunks are written in order while the input is clean, so ``set_ids``
-    (the ids of the validator's sets so far) line up with the chunk's set
-    index. A column with no value at all is left out.
+    Chunks are written in order while the input is clean, so every set a
+    point belongs to has its id in ``set_ids`` (the registry's id column). A
+    column with no value at all is left out.
     """
     columns: dict[str, list[object]] = {
-        "set_id": np.asarray(set_ids, dtype=np.int64)[chunk.set_index].tolist(),
+        "set_id": set_ids[chunk.set_index].tolist(),
         "temperature": chunk.temperature.tolist(),
         "rate_constant": chunk.rate_constant.tolist(),
     }

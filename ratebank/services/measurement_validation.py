@@ -9,7 +9,7 @@ collected, never raised half-way (:class:`ratebank.services.validate.Problems`).
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -32,7 +32,12 @@ from ratebank.services.validate import (
 
 @dataclass(slots=True)
 class MeasurementSetRecord:
-    """A new measurement set, as its first row defines it."""
+    """A new measurement set, as its first row defines it.
+
+    The validator keeps its sets as columns (:class:`SetRegistry`); a record is built
+    from them where one set is looked at on its own (a problem to name, an update to
+    compare), and by the slow path that checks a chunk's new sets one by one.
+    """
 
     name: str
     reaction: ReactionRef
@@ -59,11 +64,153 @@ class MeasurementSetRecord:
     stored: bool = False
 
 
+class _Column:
+    """A numpy column that grows at its end (its buffer doubles: appending is amortized O(1))."""
+
+    def __init__(self, dtype: object):
+        self._data = np.empty(1024, dtype=dtype)
+        self._size = 0
+
+    @property
+    def values(self) -> np.ndarray:
+        """The column (a view: writes go to the column until it next grows)."""
+        return self._data[: self._size]
+
+    def extend(self, values: Sequence[object] | np.ndarray) -> None:
+        end = self._size + len(values)
+        if end > self._data.size:
+            grown = np.empty(max(end, 2 * self._data.size), dtype=self._data.dtype)
+            grown[: self._size] = self._data[: self._size]
+            self._data = grown
+        self._data[self._size : end] = values
+        self._size = end
+
+
+#: The columns of :class:`SetRegistry`: dtype, and the value of a record field it holds.
+#: Texts a set need not have (reference, method, bath gas) are kept as "" for none.
+_SET_COLUMNS: dict[str, object] = {
+    "name": object,
+    "first_line": np.int64,
+    "reaction_id": np.int64,  # -1: the reaction cell did not resolve
+    "reaction_key": object,  # the key, or the cell's text when it did not resolve
+    "order": np.int64,
+    "third_body": bool,
+    "k_units": object,
+    "reference": object,
+    "method": object,
+    "bath_gas": object,
+    "factor": np.float64,
+    "effective": bool,
+    "valid": bool,
+    "id": np.int64,  # -1 until written
+    "systematic_text": object,
+    "systematic_uncertainty": np.float64,  # NaN for none
+    "with_uncertainty": np.int64,
+    "without_uncertainty": np.int64,
+    "mixed": bool,
+    "stored": bool,
+}
+
+
+class SetRegistry:
+    """The measurement sets a file has named so far, as columns: one entry per set.
+
+    A file of a million points may name a hundred thousand sets; keeping them as
+    numpy columns (and one name -> index dictionary) instead of one object each
+    keeps the memory and the per-set work small, and lets every row of a chunk be
+    checked against its set's first row by whole-column indexing. Indexing and
+    iterating give :class:`MeasurementSetRecord` objects built from the columns.
+    """
+
+    def __init__(self) -> None:
+        self.by_name: dict[str, int] = {}
+        self._columns = {name: _Column(dtype) for name, dtype in _SET_COLUMNS.items()}
+
+    def __len__(self) -> int:
+        return len(self.by_name)
+
+    def column(self, name: str) -> np.ndarray:
+        return self._columns[name].values
+
+    def append(self, columns: Mapping[str, Sequence[object] | np.ndarray]) -> range:
+        """Add sets given column-wise (every column of ``_SET_COLUMNS``); their indices."""
+        start = len(self)
+        names = columns["name"]
+        self.by_name.update(zip(names, range(start, start + len(names)), strict=True))
+        for name, column in self._columns.items():
+            column.extend(columns[name])
+        return range(start, len(self))
+
+    def append_records(self, records: Sequence[MeasurementSetRecord]) -> range:
+        return self.append(
+            {
+                "name": [r.name for r in records],
+                "first_line": [r.first_line for r in records],
+                "reaction_id": [r.reaction.id for r in records],
+                "reaction_key": [r.reaction.key for r in records],
+                "order": [r.reaction.order for r in records],
+                "third_body": [r.reaction.third_body for r in records],
+                "k_units": [r.k_units for r in records],
+                "reference": [r.reference or "" for r in records],
+                "method": [r.method or "" for r in records],
+                "bath_gas": [r.bath_gas or "" for r in records],
+                "factor": [r.factor for r in records],
+                "effective": [r.effective for r in records],
+                "valid": [r.valid for r in records],
+                "id": [-1 if r.id is None else r.id for r in records],
+                "systematic_text": [r.systematic_text for r in records],
+                "systematic_uncertainty": [
+                    np.nan if r.systematic_uncertainty is None else r.systematic_uncertainty
+                    for r in records
+                ],
+                "with_uncertainty": [r.with_uncertainty for r in records],
+                "without_uncertainty": [r.without_uncertainty for r in records],
+                "mixed": [r.mixed for r in records],
+                "stored": [r.stored for r in records],
+            }
+        )
+
+    def record(self, index: int) -> MeasurementSetRecord:
+        """The set at ``index`` as a record (a copy: changing it changes nothing here)."""
+        value = {name: column.values[index] for name, column in self._columns.items()}
+        reaction_id = int(value["reaction_id"])
+        systematic = float(value["systematic_uncertainty"])
+        return MeasurementSetRecord(
+            name=value["name"],
+            reaction=ReactionRef(
+                reaction_id, value["reaction_key"], int(value["order"]), bool(value["third_body"])
+            ),
+            k_units=value["k_units"],
+            reference=value["reference"] or None,
+            method=value["method"] or None,
+            bath_gas=value["bath_gas"] or None,
+            first_line=int(value["first_line"]),
+            factor=float(value["factor"]),
+            effective=bool(value["effective"]),
+            valid=bool(value["valid"]),
+            id=None if value["id"] < 0 else int(value["id"]),
+            systematic_text=value["systematic_text"],
+            systematic_uncertainty=None if np.isnan(systematic) else systematic,
+            with_uncertainty=int(value["with_uncertainty"]),
+            without_uncertainty=int(value["without_uncertainty"]),
+            mixed=bool(value["mixed"]),
+            stored=bool(value["stored"]),
+        )
+
+    def __getitem__(self, index: int) -> MeasurementSetRecord:
+        return self.record(index)
+
+    def __iter__(self) -> Iterator[MeasurementSetRecord]:
+        return (self.record(i) for i in range(len(self)))
+
+
 @dataclass
 class MeasurementChunk:
     """Validated points of one chunk, column-wise, SI units."""
 
-    new_sets: list[MeasurementSetRecord]
+    #: the validator's sets, and which of them this chunk named first
+    sets: SetRegistry
+    new: range
     set_index: np.ndarray  # int: index into MeasurementValidator.sets per point
     temperature: np.ndarray
     rate_constant: np.ndarray
@@ -73,6 +220,11 @@ class MeasurementChunk:
     @property
     def n_points(self) -> int:
         return len(self.temperature)
+
+    @property
+    def new_sets(self) -> list[MeasurementSetRecord]:
+        """The sets this chunk named first, as records."""
+        return [self.sets.record(i) for i in self.new]
 
 
 @dataclass(frozen=True)
@@ -118,6 +270,23 @@ def _stripped(values: Sequence[str] | None, empty: Sequence[str]) -> Sequence[st
     return [table[text] for text in values]
 
 
+#: The characters of the plain number syntax (:data:`.input_rules.PLAIN_CHARACTERS`).
+_PLAIN_BYTES = b"0123456789+-.eE \t"
+
+
+def _plain_text(text: str) -> bool:
+    """True when ``text`` holds only the characters of the plain number syntax.
+
+    Deleting those bytes from the ASCII encoding runs at memory speed; a regular
+    expression over a column of a million cells costs ten times as much.
+    """
+    try:
+        data = text.encode("ascii")
+    except UnicodeEncodeError:
+        return False
+    return not data.translate(None, _PLAIN_BYTES)
+
+
 def number_problems(
     texts: Sequence[str], values: np.ndarray, present: np.ndarray
 ) -> list[tuple[int, str]]:
@@ -134,7 +303,7 @@ def number_problems(
         suspects = present & (
             ~np.isfinite(values) | ((values != 0) & (np.abs(values) < input_rules.SMALLEST_NORMAL))
         )
-    if not input_rules.PLAIN_CHARACTERS.fullmatch("".join(texts)):
+    if not _plain_text("".join(texts)):
         plain = np.fromiter(
             (input_rules.PLAIN_CHARACTERS.fullmatch(text) is not None for text in texts),
             dtype=bool,
@@ -169,14 +338,13 @@ def _column_numbers(
     values = np.full(n, np.nan)
     if not required and (n == 0 or (texts[0] == "" and texts.count("") == n)):
         return values  # an absent or empty optional column: nothing to parse or report
-    if "" in texts:
-        present = np.fromiter((t != "" for t in texts), dtype=bool, count=n)
-        candidates = [t for t in texts if t != ""]
-    else:
-        present = np.ones(n, dtype=bool)
-        candidates = list(texts)
     try:
-        values[present] = np.array(candidates, dtype=np.float64)
+        if "" in texts:
+            present = np.fromiter((t != "" for t in texts), dtype=bool, count=n)
+            values[present] = np.array([t for t in texts if t != ""], dtype=np.float64)
+        else:
+            present = np.ones(n, dtype=bool)
+            values = np.array(texts, dtype=np.float64)  # every cell given: read in place
     except ValueError:
         for i, text in enumerate(texts):
             if text == "":
@@ -239,9 +407,13 @@ class _Runs:
         starts = (
             np.flatnonzero(np.concatenate(([True], names[1:] != names[:-1]))).tolist() if n else []
         )
-        first_rows: dict[str, int] = {}
-        for i in starts:
-            first_rows.setdefault(set_names[i], i)
+        named = names[starts].tolist()
+        first_rows = dict(zip(named, starts, strict=True))
+        if len(first_rows) != len(starts):
+            # a set whose rows are not all together: keep the first run of each
+            first_rows = {}
+            for name, i in zip(named, starts, strict=True):
+                first_rows.setdefault(name, i)
         return cls(starts, first_rows)
 
 
@@ -256,14 +428,36 @@ class _SetsOfRows:
     starts: np.ndarray
     #: index into ``touched`` of each row
     local_index: np.ndarray
-    touched: list[MeasurementSetRecord | None]
+    #: the sets the chunk touches (indices into MeasurementValidator.sets; -1: no set)
+    touched: np.ndarray
+
+    def of_touched(self, column: np.ndarray, missing: object) -> np.ndarray:
+        """A column of the registry for the touched sets (``missing`` where no set)."""
+        if not (self.touched.size and self.touched[0] < 0):  # sorted: -1 comes first
+            return column[self.touched]
+        found = np.empty(self.touched.size, dtype=object)
+        found[0] = missing
+        found[1:] = column[self.touched[1:]]
+        return found
+
+    def per_row(self, column: np.ndarray, missing: object) -> np.ndarray:
+        """A column of the registry for every row of the chunk."""
+        return self.of_touched(column, missing)[self.local_index]
+
+
+#: What a quick check of a chunk's new sets needs that only a slow look can say.
+_SLOW = None
 
 
 class MeasurementValidator:
     """Validates measurement rows chunk by chunk, keeping the sets seen so far.
 
     ``resolver`` finds the reaction of a reaction cell; ``set_exists`` takes
-    a list of set names and returns those already stored.
+    a list of set names and returns those already stored. The sets are kept
+    as columns (:class:`SetRegistry`): a chunk whose new sets are all well
+    formed is checked with whole-column operations; one with a problem among
+    its new sets is looked at set by set, so that each problem is named as
+    precisely (and in the same order) as a row-by-row check would.
     """
 
     def __init__(
@@ -284,8 +478,8 @@ class MeasurementValidator:
         self.default_k_units = default_k_units or ""
         #: how points without an uncertainty in a set with some are filled (None: refused)
         self.fill_uncertainty = fill_uncertainty
-        self.sets: list[MeasurementSetRecord] = []
-        self.by_name: dict[str, int] = {}
+        self.sets = SetRegistry()
+        self.by_name: dict[str, int] = self.sets.by_name
         self._unit_cache: dict[tuple[str, int, bool], tuple[float, bool] | str] = {}
 
     def validate_chunk(
@@ -307,25 +501,23 @@ class MeasurementValidator:
         )
         runs = _Runs.of(texts.set_names)
         self._check_set_names(texts, runs, lines)
-        new_sets = self._add_new_sets(texts, runs, lines)
+        new = self._add_new_sets(texts, runs, lines)
         rows = self._sets_of_rows(texts.set_names, runs)
         self._check_agreement_with_first_rows(texts, rows, lines)
         absolute, percent = self._uncertainty_kinds(texts.kinds, lines)
-        factor = np.array([r.factor if r is not None else np.nan for r in rows.touched])[
-            rows.local_index
-        ]
+        factor = rows.per_row(self.sets.column("factor"), np.nan).astype(float)
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             rate_si = rate_constant * factor
             relative = np.where(absolute, uncertainty * factor / rate_si, uncertainty)
         relative = np.where(percent, uncertainty / 100.0, relative)
         rate_si = self._per_concentration(rate_si, temperature, pressure * BAR_PA, rows, lines)
-        units = [u or (self.default_k_units or "") for u in texts.units]
         self._check_plausible(
-            rate_constant, units, rate_si, relative, percent | absolute, rows, lines
+            rate_constant, texts.units, rate_si, relative, percent | absolute, rows, lines
         )
         self._check_stated_uncertainties(np.isfinite(uncertainty), rows, lines)
         return MeasurementChunk(
-            new_sets=new_sets,
+            sets=self.sets,
+            new=new,
             set_index=rows.set_index,
             temperature=temperature,
             rate_constant=rate_si,
@@ -363,46 +555,114 @@ class MeasurementValidator:
                     self.problems.add(
                         lines[i], "set", "is empty; expected the name of the measurement set"
                     )
+        first = list(runs.first_rows.values())
         for column, values in (
             ("set", texts.set_names),
             ("bath_gas", texts.baths),
             ("k_units", texts.units),
         ):
-            if max(map(len, values), default=0) > TEXT_LIMITS[column]:
-                for i in runs.first_rows.values():
+            # only a set's first row is reported (a later row that differs is a disagreement)
+            if max(map(len, map(values.__getitem__, first)), default=0) > TEXT_LIMITS[column]:
+                for i in first:
                     too_long(self.problems, lines[i], column, values[i])
 
-    def _add_new_sets(
-        self, texts: _TextColumns, runs: _Runs, lines: Sequence[int]
-    ) -> list[MeasurementSetRecord]:
+    def _add_new_sets(self, texts: _TextColumns, runs: _Runs, lines: Sequence[int]) -> range:
         """The sets this chunk is the first to name, each as defined by its first row."""
-        fresh = [name for name in runs.first_rows if name and name not in self.by_name]
-        existing = set(self.set_exists(fresh)) if fresh else set()
-        self.resolver.prefetch({texts.reactions[runs.first_rows[name]] for name in fresh})
-        new_sets = []
-        for name in fresh:
-            i = runs.first_rows[name]
-            record = self._new_set_quickly(name, texts, i, lines[i]) or self._new_set(
-                name, texts, i, lines[i]
+        by_name = self.by_name
+        fresh = [name for name in runs.first_rows if name and name not in by_name]
+        if not fresh:
+            return range(len(self.sets), len(self.sets))
+        existing = set(self.set_exists(fresh))
+        first = [runs.first_rows[name] for name in fresh]
+        self.resolver.prefetch({texts.reactions[i] for i in first})
+        columns = self._new_sets_quickly(fresh, first, existing, texts, lines)
+        if columns is not _SLOW:
+            return self.sets.append(columns)
+        return self.sets.append_records(
+            [
+                self._new_set_slowly(name, i, existing, texts, lines)
+                for name, i in zip(fresh, first, strict=True)
+            ]
+        )
+
+    def _new_sets_quickly(
+        self,
+        names: list[str],
+        first: list[int],
+        existing: set[str],
+        texts: _TextColumns,
+        lines: Sequence[int],
+    ) -> dict[str, object] | None:
+        """The new sets as columns when every one is well formed: printable name not
+        stored (or stored, in an import that updates), a known reaction, a unit that fits
+        it, no systematic uncertainty; None when any needs the slow look."""
+        if (existing and not self.update) or not "".join(names).isprintable():
+            return _SLOW
+        if any(texts.systematic[i] for i in first):
+            return _SLOW
+        reaction_texts = [texts.reactions[i] for i in first]
+        by_key = self.resolver.by_key
+        found = [by_key.get(text) for text in reaction_texts]
+        if None in found:
+            found = [
+                r or self.resolver.resolve(t) for r, t in zip(found, reaction_texts, strict=True)
+            ]
+            if not all(isinstance(r, ReactionRef) for r in found):
+                return _SLOW
+        ids, keys, orders, third_bodies = zip(*found, strict=True)
+        default = self.default_k_units
+        units = [texts.units[i] or default for i in first]
+        combos = list(zip(units, orders, third_bodies, strict=True))
+        for combo in dict.fromkeys(combos):
+            if not combo[0] or isinstance(self._unit_factor(*combo), str):
+                return _SLOW
+        factor, effective = zip(*map(self._unit_cache.__getitem__, combos), strict=True)
+        n = len(names)
+        return {
+            "name": names,
+            "first_line": [lines[i] for i in first],
+            "reaction_id": ids,
+            "reaction_key": keys,
+            "order": orders,
+            "third_body": third_bodies,
+            "k_units": units,
+            "reference": [texts.references[i] for i in first],
+            "method": [texts.methods[i] for i in first],
+            "bath_gas": [texts.baths[i] for i in first],
+            "factor": factor,
+            "effective": effective,
+            "valid": np.ones(n, dtype=bool),
+            "id": np.full(n, -1, dtype=np.int64),
+            "systematic_text": [""] * n,
+            "systematic_uncertainty": np.full(n, np.nan),
+            "with_uncertainty": np.zeros(n, dtype=np.int64),
+            "without_uncertainty": np.zeros(n, dtype=np.int64),
+            "mixed": np.zeros(n, dtype=bool),
+            "stored": [name in existing for name in names] if existing else np.zeros(n, bool),
+        }
+
+    def _new_set_slowly(
+        self, name: str, i: int, existing: set[str], texts: _TextColumns, lines: Sequence[int]
+    ) -> MeasurementSetRecord:
+        """One new set, each of its problems reported."""
+        record = self._new_set_quickly(name, texts, i, lines[i]) or self._new_set(
+            name, texts, i, lines[i]
+        )
+        self._set_systematic(record, texts.systematic[i], lines[i])
+        if name in existing and self.update:
+            record.stored = True
+        elif name in existing:
+            self.problems.add(
+                lines[i],
+                "set",
+                f"measurement set {name!r} is already in the store; an import that "
+                "updates compares it with the stored one",
             )
-            self._set_systematic(record, texts.systematic[i], lines[i])
-            if name in existing and self.update:
-                record.stored = True
-            elif name in existing:
-                self.problems.add(
-                    lines[i],
-                    "set",
-                    f"measurement set {name!r} is already in the store; an import that "
-                    "updates compares it with the stored one",
-                )
-                record.valid = False
-            elif (problem := input_rules.name_problem(name, "set name")) is not None:
-                self.problems.add(lines[i], "set", problem)
-                record.valid = False
-            self.by_name[name] = len(self.sets)
-            self.sets.append(record)
-            new_sets.append(record)
-        return new_sets
+            record.valid = False
+        elif (problem := input_rules.name_problem(name, "set name")) is not None:
+            self.problems.add(lines[i], "set", problem)
+            record.valid = False
+        return record
 
     def _new_set_quickly(
         self, name: str, texts: _TextColumns, i: int, line: int
@@ -503,15 +763,14 @@ class MeasurementValidator:
         """The points of sets given as effective k (one concentration fewer than their
         reaction written with M) as the reaction's coefficient k / [M], [M] = P / (R T);
         such a point without a pressure is reported."""
-        effective = np.array([r is not None and r.effective for r in rows.touched], dtype=bool)
+        effective = rows.of_touched(self.sets.column("effective"), False).astype(bool)
         if not effective.any():
             return rate_si
         effective = effective[rows.local_index]
         with np.errstate(invalid="ignore"):
             usable = effective & np.isfinite(pressure) & (pressure > 0) & (T > 0)
         for i in np.flatnonzero(effective & np.isnan(pressure)).tolist():
-            record = rows.touched[rows.local_index[i]]
-            assert record is not None
+            record = self.sets.record(int(rows.set_index[i]))
             self.problems.add(
                 lines[i],
                 "pressure_bar",
@@ -529,20 +788,19 @@ class MeasurementValidator:
 
     def _sets_of_rows(self, set_names: Sequence[str], runs: _Runs) -> _SetsOfRows:
         n = len(set_names)
-        run_index = np.array(
-            [self.by_name.get(set_names[i], -1) for i in runs.starts], dtype=np.int64
-        )
+        by_name = self.by_name
+        run_index = np.array([by_name.get(set_names[i], -1) for i in runs.starts], dtype=np.int64)
         run_lengths = np.diff(np.append(runs.starts, n))
         set_index = np.repeat(run_index, run_lengths)
         starts = np.asarray(runs.starts, dtype=np.int64)
         # work on the sets this chunk touches only, so that cost does not grow with the file
-        local_sets, local_index = np.unique(set_index, return_inverse=True)
+        touched, local_index = np.unique(set_index, return_inverse=True)
         return _SetsOfRows(
             set_index=set_index,
             run_first_row=np.repeat(starts, run_lengths),
             starts=starts,
             local_index=local_index.reshape(-1),
-            touched=[self.sets[i] if i >= 0 else None for i in local_sets.tolist()],
+            touched=touched,
         )
 
     # ------------------------------------------------------------------ rows
@@ -564,6 +822,14 @@ class MeasurementValidator:
         ):
             self._check_agreement(rows, texts.set_names, values, column, lines)
 
+    def _expected(self, rows: _SetsOfRows, column: str) -> np.ndarray:
+        """What each touched set's rows must say in ``column`` (None: nothing to compare)."""
+        if column != "reaction":
+            return rows.of_touched(self.sets.column(column), None)
+        keys = rows.of_touched(self.sets.column("reaction_key"), None)
+        resolved = rows.of_touched(self.sets.column("reaction_id"), -1).astype(np.int64) != -1
+        return np.where(resolved, keys, None)
+
     def _check_agreement(
         self,
         rows: _SetsOfRows,
@@ -572,14 +838,8 @@ class MeasurementValidator:
         column: str,
         lines: Sequence[int],
     ) -> None:
-        touched, local_index = rows.touched, rows.local_index
-        if column == "reaction":
-            expected = [
-                r.reaction.key if r is not None and r.reaction.id != -1 else None for r in touched
-            ]
-        else:
-            expected = [(getattr(r, column) or "") if r is not None else None for r in touched]
-        expected_array = np.array(expected, dtype=object)
+        local_index = rows.local_index
+        expected_array = self._expected(rows, column)
         n = len(values)
         # one text in the whole chunk (a unit, an absent column): every row
         # repeats its run's first cell, so the run starts decide
@@ -607,10 +867,11 @@ class MeasurementValidator:
             if uniform:
                 given = np.array(values, dtype=object)
             suspects = np.flatnonzero(disagree(slice(None), given))
-        for i in suspects:
-            record = touched[local_index[i]]
-            assert record is not None
-            if lines[i] != record.first_line:
+        first_lines = self.sets.column("first_line")
+        for i in suspects.tolist():
+            index = int(rows.set_index[i])
+            if lines[i] != first_lines[index]:
+                record = self.sets.record(index)
                 self._report_disagreement(record, column, values[i], set_names[i], lines[i])
 
     def _report_disagreement(
@@ -647,6 +908,9 @@ class MeasurementValidator:
         self, kinds: Sequence[str], lines: Sequence[int]
     ) -> tuple[np.ndarray, np.ndarray]:
         """(absolute, percent) per row; an unknown kind is reported."""
+        n = len(kinds)
+        if n and kinds[0] in ("", "relative") and kinds.count(kinds[0]) == n:
+            return np.zeros(n, dtype=bool), np.zeros(n, dtype=bool)  # one plain kind throughout
         kind_array = np.array(kinds, dtype=object)
         absolute = kind_array == "absolute"
         percent = kind_array == "percent"
@@ -670,9 +934,9 @@ class MeasurementValidator:
         lines: Sequence[int],
     ) -> None:
         """A k outside what its order can be, and a relative uncertainty of 1 or more."""
-        orders = np.array(
-            [r.reaction.order if r is not None and r.valid else 0 for r in rows.touched]
-        )[rows.local_index]
+        valid = rows.of_touched(self.sets.column("valid"), False).astype(bool)
+        order = rows.of_touched(self.sets.column("order"), 0).astype(np.int64)
+        orders = np.where(valid, order, 0)[rows.local_index]
         for order in np.unique(orders[orders > 0]).tolist():
             low, high, said = input_rules.rate_constant_bounds_si(order)
             with np.errstate(invalid="ignore"):
@@ -682,8 +946,8 @@ class MeasurementValidator:
                 self.problems.add(
                     lines[i],
                     "k",
-                    f"{given[i]:g} {units[i]} is outside what a rate constant of order {order} "
-                    f"can be ({said}); check the value and its unit",
+                    f"{given[i]:g} {units[i] or self.default_k_units} is outside what a rate "
+                    f"constant of order {order} can be ({said}); check the value and its unit",
                 )
         with np.errstate(invalid="ignore"):
             large = (relative >= 1.0) & ~converted
@@ -706,21 +970,28 @@ class MeasurementValidator:
         size = len(rows.touched)
         total = np.bincount(rows.local_index, minlength=size)
         with_counts = np.bincount(rows.local_index, weights=stated, minlength=size).astype(int)
-        for local, record in enumerate(rows.touched):
-            if record is None:
-                continue
-            record.with_uncertainty += int(with_counts[local])
-            record.without_uncertainty += int(total[local] - with_counts[local])
-            if record.with_uncertainty and record.without_uncertainty and not record.mixed:
-                record.mixed = True
-                if self.fill_uncertainty is not None:
-                    continue  # filled once the set is complete, and said so
-                missing = np.flatnonzero(~stated & (rows.local_index == local))
-                first = lines[int(missing[0])] if missing.size else record.first_line
-                self.problems.add(
-                    first,
-                    "k_uncertainty",
-                    f"set {record.name!r} states an uncertainty for some points but not for "
-                    "this one; give every point of a set an uncertainty, or none, or fill the "
-                    "missing ones with the set's median",
-                )
+        named = rows.touched >= 0
+        sets = rows.touched[named]
+        with_column = self.sets.column("with_uncertainty")
+        without_column = self.sets.column("without_uncertainty")
+        mixed_column = self.sets.column("mixed")
+        with_column[sets] += with_counts[named]
+        without_column[sets] += (total - with_counts)[named]
+        newly = (with_column[sets] > 0) & (without_column[sets] > 0) & ~mixed_column[sets]
+        if not newly.any():
+            return
+        mixed_column[sets[newly]] = True
+        if self.fill_uncertainty is not None:
+            return  # filled once the set is complete, and said so
+        first_lines = self.sets.column("first_line")
+        for local in np.flatnonzero(named)[newly].tolist():
+            index = int(rows.touched[local])
+            missing = np.flatnonzero(~stated & (rows.local_index == local))
+            first = lines[int(missing[0])] if missing.size else int(first_lines[index])
+            self.problems.add(
+                first,
+                "k_uncertainty",
+                f"set {self.sets.column('name')[index]!r} states an uncertainty for some "
+                "points but not for this one; give every point of a set an uncertainty, or "
+                "none, or fill the missing ones with the set's median",
+            )

@@ -59,15 +59,11 @@ def points(session: Session, reaction_ids: Sequence[int] | None = None) -> Point
         empty = np.zeros(0)
         ids = empty.astype(np.int64)
         return PointColumns(ids, ids, empty, empty, empty, empty, empty)
-    reaction_id, set_id, T, k, u, p, systematic = zip(*rows, strict=True)
+    # one conversion of the whole result (None becomes NaN); ids are exact as floats below 2**53
+    table = np.array(rows, dtype=float)
+    reaction_id, set_id, T, k, u, p, systematic = (table[:, j].copy() for j in range(7))
     return PointColumns(
-        np.asarray(reaction_id, dtype=np.int64),
-        np.asarray(set_id, dtype=np.int64),
-        np.asarray(T, dtype=float),
-        np.asarray(k, dtype=float),
-        np.array(u, dtype=float),  # None becomes NaN
-        np.array(p, dtype=float),
-        np.array(systematic, dtype=float),
+        reaction_id.astype(np.int64), set_id.astype(np.int64), T, k, u, p, systematic
     )
 
 
