@@ -166,6 +166,9 @@ class MechanismTable:
     gaps: list[str]
     left_out: list[str] = field(default_factory=list)
     reverse: ReverseInfo = field(default_factory=ReverseInfo)
+    #: ``sha256:<hex>`` of the expressions the rows are made of, as stored (numbers in SI,
+    #: further terms, full provenance); empty for a table read back from a release
+    source_digest: str = ""
 
 
 def _check_form_options(form: str, linearise_at: float | None) -> None:
@@ -247,7 +250,7 @@ def mechanism_table(
     own (:func:`ratebank.services.reverse.with_reverse`).
     """
     _check_form_options(form, linearise_at)
-    chosen, gaps = chosen_rows(session)
+    chosen, gaps, digest = chosen_rows(session)
     if gaps and not leave_out_gaps:
         raise ExportGapsError(gaps)
     linear: dict[int, _Linearised] = {}
@@ -278,7 +281,9 @@ def mechanism_table(
     ]
     rows, reverse = with_reverse(session, rows, units, as_fit=reverse_as_fit)
     left_out = gaps if leave_out_gaps else []
-    return MechanismTable(rows, units, form, gaps, left_out=left_out, reverse=reverse)
+    return MechanismTable(
+        rows, units, form, gaps, left_out=left_out, reverse=reverse, source_digest=digest
+    )
 
 
 #: The forms whose row is one Arrhenius term, which a two-parameter export linearises.

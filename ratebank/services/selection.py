@@ -22,6 +22,7 @@ from ratebank.science.rate_laws import pressure_free_rate, rate_law
 from ratebank.science.uncertainty import panel_uncertainty_factor
 from ratebank.store import audit, queries
 from ratebank.store.expressions import form_of, set_recommended
+from ratebank.store.fingerprint import expression_records
 from ratebank.store.queries import ExpressionRow, ReactionRow
 
 #: Why an expression was chosen, in order of precedence.
@@ -57,12 +58,19 @@ def choose(expressions: Iterable[ExpressionRow]) -> tuple[ExpressionRow, str] | 
 
 
 def chosen_expressions(
-    session: Session, reactions: Sequence[ReactionRow] | None = None
+    session: Session,
+    reactions: Sequence[ReactionRow] | None = None,
+    *,
+    provenance_keys: Sequence[str] | None = None,
 ) -> tuple[list[Chosen], list[ReactionRow]]:
-    """(reactions with a usable expression, reactions without one), by key."""
+    """(reactions with a usable expression, reactions without one), by key; with
+    ``provenance_keys``, each expression's provenance holds only those keys
+    (:func:`ratebank.store.queries.expressions_of`)."""
     if reactions is None:
         reactions = queries.reactions(session)
-    by_reaction = queries.expressions_of(session, [r.id for r in reactions])
+    by_reaction = queries.expressions_of(
+        session, [r.id for r in reactions], provenance_keys=provenance_keys
+    )
     found: list[Chosen] = []
     gaps: list[ReactionRow] = []
     for reaction in reactions:
@@ -227,9 +235,37 @@ class ChosenRow(NamedTuple):
     third_body: bool = False
 
 
-def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
-    """(the exported expression of every reaction, keys of reactions without one), by key."""
-    chosen, gaps = chosen_expressions(session)
+class ChosenRows(NamedTuple):
+    """The exported expression of every reaction, and what it is made of."""
+
+    rows: list[ChosenRow]
+    #: keys of the reactions without a usable expression
+    gaps: list[str]
+    #: ``sha256:<hex>`` of the chosen expressions as stored, provenance included
+    #: (:func:`ratebank.store.fingerprint.expression_records`)
+    digest: str
+
+
+def chosen_rows(session: Session) -> ChosenRows:
+    """The exported expression of every reaction, by key, with the keys of reactions
+    without one and the digest of the expressions chosen.
+
+    The provenance of the whole store is not held at once: it is read for the chosen
+    expressions only, a batch at a time, keeping each one's ``steric_factor``.
+    """
+    reactions = queries.reactions(session)
+    wanted = {r.id for r in reactions}
+    # one pass over the expressions, a reaction at a time: only each choice is kept
+    choices = {
+        reaction_id: choice
+        for reaction_id, expressions in queries.expressions_by_reaction(session)
+        if reaction_id in wanted and (choice := choose(expressions)) is not None
+    }
+    chosen = [Chosen(r, *choices[r.id]) for r in reactions if r.id in choices]
+    gaps = [r for r in reactions if r.id not in choices]
+    picked, digest = expression_records(
+        session, [c.expression.id for c in chosen], ("steric_factor",)
+    )
     rows = [
         ChosenRow(
             c.reaction.key,
@@ -245,11 +281,11 @@ def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
             c.expression.uncertainty_factor,
             c.expression.uncertainty_g,
             c.expression.reference,
-            c.expression.provenance.get("steric_factor"),
+            picked[c.expression.id].get("steric_factor"),
             c.rule,
             c.expression,
             c.reaction.third_body,
         )
         for c in chosen
     ]
-    return rows, [r.key for r in gaps]
+    return ChosenRows(rows, [r.key for r in gaps], digest)
