@@ -656,13 +656,18 @@ def package_files(
     """({file name: text} of the package, its descriptor), nothing written."""
     files, descriptor = _package_parts(content, name, created)
     fields = descriptor["resources"][0]["schema"]["fields"]
-    return {MECHANISM: _table_text(content.table, fields), **files}, descriptor
+    texts = {
+        name: data.decode("utf-8") if isinstance(data, bytes) else data
+        for name, data in files.items()
+    }
+    return {MECHANISM: _table_text(content.table, fields), **texts}, descriptor
 
 
 def _package_parts(
     content: PackageContent, name: str, created: str
-) -> tuple[dict[str, str], dict[str, Any]]:
-    """({file name: text} of every file but the mechanism table, the descriptor)."""
+) -> tuple[dict[str, str | bytes], dict[str, Any]]:
+    """({file name: text, or bytes for the descriptor} of every file but the mechanism
+    table, the descriptor)."""
     descriptor: dict[str, Any] = {
         "profile": "tabular-data-package",
         "name": _slug(name),
@@ -677,7 +682,7 @@ def _package_parts(
         EFFICIENCIES: _efficiencies_text(content.efficiencies),
         SPECIES: _species_text(content.species),
         # a mechanism's descriptor lists every reaction: the C encoder, not json's
-        DESCRIPTOR: json_codec.dumps_indented(descriptor) + "\n",
+        DESCRIPTOR: json_codec.indented_line_bytes(descriptor),
     }
     return files, descriptor
 

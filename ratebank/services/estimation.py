@@ -62,6 +62,7 @@ from ratebank.store.expressions import (
     write_expressions,
 )
 from ratebank.store.queries import ExpressionRow, ReactionRow, StericRuleRow
+from ratebank.store.runs import write_run
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
 DEFAULT_UNCERTAINTY_FACTOR = 10.0
@@ -107,7 +108,7 @@ class EstimateReport:
     written: bool
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class StericChoice:
     """The steric factor an estimate uses, the rule that supplied it, and its uncertainty."""
 
@@ -115,6 +116,10 @@ class StericChoice:
     rule: str
     uncertainty_factor: float
     detail: dict[str, Any]
+
+
+#: The choice of a steric factor given by the user, by (value, uncertainty factor).
+_GIVEN: dict[tuple[float, float], StericChoice] = {}
 
 
 @dataclass(frozen=True)
@@ -127,11 +132,20 @@ class StericSources:
     fallback: float | None
     uncertainty_factor: float | None
 
+    def _given_choice(self, default: float) -> StericChoice:
+        # one choice shared by every reaction of the run
+        found = _GIVEN.get((self.given, default))
+        if found is None:
+            found = _GIVEN[(self.given, default)] = StericChoice(
+                self.given, "given by the user", default, {}
+            )
+        return found
+
     def choose(self, reaction: ReactionRow) -> StericChoice | str:
         """P for ``reaction``, or why there is none."""
         default = self.uncertainty_factor or DEFAULT_UNCERTAINTY_FACTOR
         if self.given is not None:
-            return StericChoice(self.given, "given by the user", default, {})
+            return self._given_choice(default)
         if reaction.steric_factor is not None:
             detail = {"source": reaction.steric_source}
             return StericChoice(reaction.steric_factor, "stored for the reaction", default, detail)
@@ -197,7 +211,7 @@ def _check_options(
         )
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class _Candidate:
     reaction: ReactionRow
     partial: ExpressionRow
@@ -239,7 +253,7 @@ def estimate(
         reactions = queries.reactions(session, reaction_class=reaction_class)
     # of the stored provenance, an estimate reads only a relation's record (Ea and its spread)
     expressions = queries.expressions_of(
-        session, [r.id for r in reactions], provenance_keys=("evans_polanyi",)
+        session, [r.id for r in reactions], provenance_keys=("evans_polanyi",), lean=True
     )
     filled, refused = relation_activation_energies(session, reactions, expressions)
     for reaction_id, partial in filled.items():
@@ -491,10 +505,18 @@ def _provenance_columns(
     }
 
 
-def _split_run(columns: dict[str, list[Any]]) -> tuple[dict[str, Any], list[dict[str, Any]]]:
-    """(the fields every estimate of the run shares, each estimate's own fields)."""
-    common = {k: v[0] for k, v in columns.items() if all(x == v[0] for x in v)}
-    varying = [k for k in columns if k not in common]
+def _split_run(
+    columns: dict[str, list[Any]], common: dict[str, Any] | None = None
+) -> tuple[dict[str, Any], list[dict[str, Any]]]:
+    """(the fields the estimates of the run share, each estimate's own fields).
+
+    Without ``common``, the shared fields are those equal in every row of ``columns``;
+    with it (the run's, from its first slice), a row's own fields are every field that
+    differs from it in any row of this slice.
+    """
+    if common is None:
+        common = {k: v[0] for k, v in columns.items() if all(x == v[0] for x in v)}
+    varying = [k for k, v in columns.items() if k not in common or any(x != common[k] for x in v)]
     rows = zip(*(columns[k] for k in varying), strict=True)
     own = [dict(zip(varying, values, strict=True)) for values in rows]
     return common, own or [{} for _ in next(iter(columns.values()))]
@@ -541,9 +563,31 @@ def _write(
         replaced.extend(row.replaced)
     remove_expressions(session, replaced)
     partners: dict[int, dict[str, object]] = {}
-    # the provenance every estimate of this run shares is stored once (the run's)
-    common, own = _split_run(_provenance_columns(written, partners))
-    records = [
+    # the provenance every estimate of this run shares is stored once (the run's, taken
+    # from its first slice); the rows are written a slice at a time, so that their records,
+    # provenance and history are never all in memory at once
+    common: dict[str, Any] | None = None
+    run_id = None
+    for start in range(0, len(written), _WRITE_SLICE):
+        part = written[start : start + _WRITE_SLICE]
+        common, own = _split_run(_provenance_columns(part, partners), common)
+        if run_id is None:
+            run_id = write_run(session, "estimate", common)
+        ids = write_expressions(
+            session, _records(part, own), action="estimate", history=_history(part), run_id=run_id
+        )
+        for (_, row), new_id in zip(part, ids, strict=True):
+            row.expression_id = new_id
+
+
+#: Estimates written at a time.
+_WRITE_SLICE = 10_000
+
+
+def _records(
+    part: list[tuple[_Candidate, EstimateRow]], own: list[dict[str, Any]]
+) -> list[ExpressionRecord]:
+    return [
         ExpressionRecord(
             reaction_id=c.reaction.id,
             origin="collision-estimate",
@@ -558,9 +602,13 @@ def _write(
             provenance=provenance,
             **_form_fields(c),
         )
-        for (c, row), provenance in zip(written, own, strict=True)
+        for (c, row), provenance in zip(part, own, strict=True)
     ]
-    history = [
+
+
+def _history(part: list[tuple[_Candidate, EstimateRow]]) -> list[tuple[str, dict[str, Any]]]:
+    """One history entry per estimate (the write path adds its expression and run)."""
+    return [
         (
             row.key,
             {
@@ -570,8 +618,5 @@ def _write(
                 "replaced": row.replaced,
             },
         )
-        for _, row in written
+        for _, row in part
     ]
-    ids = write_expressions(session, records, action="estimate", history=history, run=common)
-    for (_, row), new_id in zip(written, ids, strict=True):
-        row.expression_id = new_id

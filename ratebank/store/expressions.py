@@ -201,6 +201,7 @@ def write_expressions(
     action: str,
     history: Sequence[tuple[str | None, dict[str, Any]]] = (),
     run: dict[str, Any] | None = None,
+    run_id: int | None = None,
 ) -> list[int]:
     """Insert ``records`` in one bulk write and return their new ids, in order.
 
@@ -212,7 +213,8 @@ def write_expressions(
     ``run`` is the provenance every record has in common: it is stored once
     (:func:`ratebank.store.runs.write_run`) and each record's ``provenance``
     holds only what differs; a reader gets ``{**run, **provenance}``. Each
-    history entry then names the run too.
+    history entry then names the run too. ``run_id`` names a run stored before
+    instead (a run written a slice at a time).
     """
     if not records:
         return []
@@ -221,7 +223,8 @@ def write_expressions(
     now = db_timestamp(session)
     encode = json_adapter(session)
     author = session.info.get("author")
-    run_id = runs.write_run(session, action, run) if run is not None else None
+    if run is not None:
+        run_id = runs.write_run(session, action, run)
     ids = insert_returning_ids(
         session,
         "expression",

@@ -187,12 +187,13 @@ _RECORD_BATCH = 1000
 
 
 def expression_records(
-    session: Session, expression_ids: Sequence[int], keys: Sequence[str] = ()
-) -> tuple[dict[int, dict[str, Any]], str]:
+    session: Session, expression_ids: Sequence[int], keys: Sequence[str], digest: Any
+) -> dict[int, dict[str, Any]]:
     """What an export takes from the expressions it is made of, read in one pass.
 
-    Returns ({expression id: {key: value} of ``keys`` in its full provenance},
-    ``sha256:<hex>`` over every one of these expressions, by id: its stored columns
+    Returns {expression id: {key: value} of ``keys`` in its full provenance}, and
+    updates the hash ``digest`` (a ``hashlib`` object) with every one of these
+    expressions, by id: its stored columns
     (numbers exactly as stored, in SI), its further terms and its full provenance (the
     run's part completed by its own, :mod:`ratebank.store.runs`; keys sorted, so that how
     the provenance is split between a run and a row does not matter). Any change to
@@ -206,7 +207,6 @@ def expression_records(
     from ratebank.store.runs import RunCache
 
     option = orjson.OPT_SORT_KEYS | orjson.OPT_SERIALIZE_NUMPY | orjson.OPT_NON_STR_KEYS
-    digest = hashlib.sha256(b"expressions\n")
     picked: dict[int, dict[str, Any]] = {}
     provenances = RunCache(session)
     ids = sorted(set(expression_ids))
@@ -231,4 +231,4 @@ def expression_records(
             picked[columns[0]] = {k: full[k] for k in keys if k in full}
             records.append((columns, sorted(terms.get(columns[0], ())), full))
         digest.update(orjson.dumps(records, option=option))
-    return picked, "sha256:" + digest.hexdigest()
+    return picked

@@ -209,6 +209,21 @@ class _Rows:
     def __init__(self, session: Session, keys: Sequence[str] | None = None) -> None:
         self.runs = RunCache(session)
         self.keys = keys
+        #: leave out who made and changed each row, and when
+        self.lean = False
+
+    def columns(self) -> list[Any]:
+        """The columns to select: without the provenance when no key of it is wanted,
+        without the bookkeeping when lean."""
+        columns: list[Any] = list(_EXPRESSION_COLUMNS)
+        if self.keys is not None and not self.keys:
+            columns[_PROVENANCE] = null().label("provenance")
+            columns[_RUN] = null().label("run_id")
+        if self.lean:
+            for name in ("created_at", "created_by", "updated_at", "updated_by"):
+                where = ExpressionRow._fields.index(name)
+                columns[where] = null().label(name)
+        return columns
 
     def __call__(self, row: Sequence[Any]) -> ExpressionRow:
         values = list(row)
@@ -319,6 +334,7 @@ def expressions_of(
     reaction_ids: Sequence[int] | None = None,
     *,
     provenance_keys: Sequence[str] | None = None,
+    lean: bool = False,
 ) -> dict[int, list[ExpressionRow]]:
     """Every expression in use of each reaction (all reactions when ``reaction_ids`` is None),
     oldest first; withdrawn expressions, and those of withdrawn reactions, are left out.
@@ -326,8 +342,11 @@ def expressions_of(
     With ``provenance_keys``, each row's provenance holds only those keys (a reader of a
     whole mechanism that needs one of them keeps no more in memory); with none, ``()``, it
     is left empty and not read at all (:func:`ratebank.store.fingerprint.expression_records`
-    reads it for chosen expressions)."""
-    found = _expressions_by_reaction(session, reaction_ids, _Rows(session, provenance_keys))
+    reads it for chosen expressions). ``lean`` leaves out who made and changed each
+    expression, and when (a whole mechanism's computation needs neither)."""
+    make = _Rows(session, provenance_keys)
+    make.lean = lean
+    found = _expressions_by_reaction(session, reaction_ids, make)
     if any(row.form == "sum" for rows in found.values() for row in rows):
         for reaction_id, rows in found.items():
             found[reaction_id] = with_terms(session, rows)
@@ -337,12 +356,7 @@ def expressions_of(
 def _expressions_by_reaction(
     session: Session, reaction_ids: Sequence[int] | None, make: _Rows
 ) -> dict[int, list[ExpressionRow]]:
-    columns = list(_EXPRESSION_COLUMNS)
-    if make.keys is not None and not make.keys:
-        # no provenance wanted: its text is not even read
-        columns[_PROVENANCE] = null().label("provenance")
-        columns[_RUN] = null().label("run_id")
-    query = select(*columns).where(expression_in_use()).order_by(Expression.id)
+    query = select(*make.columns()).where(expression_in_use()).order_by(Expression.id)
     found: dict[int, list[ExpressionRow]] = {}
     if reaction_ids is None:
         make.runs.load(_runs_in_use(session))
@@ -365,7 +379,7 @@ def _expressions_by_reaction(
 
 
 #: Expression rows fetched at a time by :func:`expressions_by_reaction`.
-_STREAM_BATCH = 20_000
+_STREAM_BATCH = 2_000
 
 
 def expressions_by_reaction(
@@ -374,16 +388,16 @@ def expressions_by_reaction(
     """(reaction id, its expressions in use, oldest first) for every reaction that has one,
     by reaction id, read in one pass a batch at a time: a reader of the whole mechanism that
     keeps one expression per reaction never holds them all. ``provenance_keys`` as for
-    :func:`expressions_of` (none by default)."""
+    :func:`expressions_of` (none by default); who made and changed each, and when, are left
+    out."""
     make = _Rows(session, provenance_keys)
-    columns = list(_EXPRESSION_COLUMNS)
-    if make.keys is not None and not make.keys:
-        columns[_PROVENANCE] = null().label("provenance")
-        columns[_RUN] = null().label("run_id")
-    else:
+    make.lean = True
+    if make.keys is None or make.keys:
         make.runs.load(_runs_in_use(session))
     query = (
-        select(*columns).where(expression_in_use()).order_by(Expression.reaction_id, Expression.id)
+        select(*make.columns())
+        .where(expression_in_use())
+        .order_by(Expression.reaction_id, Expression.id)
     )
     connection = session.connection()
     compiled = query.compile(dialect=connection.dialect, compile_kwargs={"literal_binds": True})
