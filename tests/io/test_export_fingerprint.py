@@ -151,3 +151,18 @@ def test_a_release_fingerprint_follows_the_check_results(store, monkeypatch):
     assert other.fingerprint != plain.fingerprint
     assert other.store_fingerprint == plain.store_fingerprint  # the same exported content
     assert store.release("flagged").checks["flags"]["SYNTHETIC-flag"] == 1
+
+
+def test_the_mechanism_file_written_a_slice_at_a_time_is_the_table_text(
+    store, tmp_path, monkeypatch
+):
+    from ratebank.io import export
+
+    monkeypatch.setattr(export, "_STREAM_ROWS", 1)  # a slice per row
+    written = store.export(tmp_path / "sliced", preset="si", leave_out_gaps=True)
+    with store.session() as session:
+        content = package_content(session, units=export_units("si"), leave_out_gaps=True)
+    files, _ = export.package_files(content, "sliced", "")
+    assert len(content.table.rows) > 2
+    assert written.table_path.read_text(encoding="utf-8") == files[export.MECHANISM]
+    assert files[export.MECHANISM].count("key,equation,order") == 1
