@@ -581,7 +581,7 @@ def _write(
 
 
 #: Estimates written at a time.
-_WRITE_SLICE = 10_000
+_WRITE_SLICE = 2_000
 
 
 def _records(

@@ -25,6 +25,7 @@ from ratebank.science.equation import looks_like_equation, parse_equation
 from ratebank.store.bulk import fetch_all, fetch_in
 from ratebank.store.in_use import EXPRESSION_IN_USE_SQL, expression_in_use, reaction_in_use
 from ratebank.store.models import (
+    ORIGINS,
     Expression,
     ProvenanceRun,
     Reaction,
@@ -200,6 +201,8 @@ _EXPRESSION_COLUMNS = (
 )
 _PROVENANCE = ExpressionRow._fields.index("provenance")
 _RUN = ExpressionRow._fields.index("run_id")
+_ORIGIN = ExpressionRow._fields.index("origin")
+_ORIGINS = {origin: origin for origin in ORIGINS}
 
 
 class _Rows:
@@ -227,6 +230,7 @@ class _Rows:
 
     def __call__(self, row: Sequence[Any]) -> ExpressionRow:
         values = list(row)
+        values[_ORIGIN] = _ORIGINS.get(values[_ORIGIN], values[_ORIGIN])  # one string each
         provenance = self.runs.full(values[_PROVENANCE], values[_RUN])
         if self.keys is not None:
             provenance = {k: provenance[k] for k in self.keys if k in provenance}
@@ -356,21 +360,16 @@ def expressions_of(
 def _expressions_by_reaction(
     session: Session, reaction_ids: Sequence[int] | None, make: _Rows
 ) -> dict[int, list[ExpressionRow]]:
-    query = select(*make.columns()).where(expression_in_use()).order_by(Expression.id)
-    found: dict[int, list[ExpressionRow]] = {}
     if reaction_ids is None:
-        make.runs.load(_runs_in_use(session))
-        for row in fetch_all(session, query):
-            found.setdefault(row[1], []).append(make(row))
-        return found
-    found = {i: [] for i in reaction_ids}
+        return dict(_stream(session, make))
+    found: dict[int, list[ExpressionRow]] = {i: [] for i in reaction_ids}
     wanted = list(found)
     if len(wanted) > 5000:  # most of the store: one pass beats thousands of IN lists
-        make.runs.load(_runs_in_use(session))
-        for row in fetch_all(session, query):
-            if row[1] in found:
-                found[row[1]].append(make(row))
+        for reaction_id, rows in _stream(session, make):
+            if reaction_id in found:
+                found[reaction_id] = rows
         return found
+    query = select(*make.columns()).where(expression_in_use()).order_by(Expression.id)
     for start in range(0, len(wanted), 500):
         chunk = wanted[start : start + 500]
         for row in make.all(session.execute(query.where(Expression.reaction_id.in_(chunk)))):
@@ -392,6 +391,12 @@ def expressions_by_reaction(
     out."""
     make = _Rows(session, provenance_keys)
     make.lean = True
+    return _stream(session, make)
+
+
+def _stream(session: Session, make: _Rows) -> Iterator[tuple[int, list[ExpressionRow]]]:
+    """The expressions in use grouped by reaction, by reaction id, fetched a batch at a time
+    through the raw driver (no list of every row)."""
     if make.keys is None or make.keys:
         make.runs.load(_runs_in_use(session))
     query = (
@@ -445,7 +450,7 @@ def _sql_column(column: Any) -> str:
 def with_terms(session: Session, rows: list[ExpressionRow]) -> list[ExpressionRow]:
     """``rows`` with the further terms of each ``sum`` filled in (one query, none without
     a sum)."""
-    sums = [row.id for row in rows if row.form == "sum"]
+    sums = [row.id for row in rows if row.form == "sum" and not row.terms]
     if not sums:
         return rows
     query = (
