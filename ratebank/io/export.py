@@ -32,15 +32,17 @@ from __future__ import annotations
 
 import csv
 import datetime as dt
+import hashlib
 import io
 import os
 import re
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from operator import itemgetter
 from pathlib import Path
-from typing import Any
+from typing import Any, BinaryIO
 
+import orjson
 from sqlalchemy.orm import Session
 
 from ratebank import __version__, safe_output
@@ -49,9 +51,8 @@ from ratebank.errors import RatebankError
 from ratebank.services import mechanism
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.reverse import REVERSE_ORIGIN, descriptor_block
-from ratebank.store import json_codec, queries
+from ratebank.store import audit, json_codec, queries
 from ratebank.store.efficiencies import DEFAULT_EFFICIENCY, efficiencies
-from ratebank.store.fingerprint import store_fingerprint
 
 #: The files of a package, inside its folder.
 DESCRIPTOR = "datapackage.json"
@@ -393,6 +394,30 @@ def _table_text(table: mechanism.MechanismTable, fields: Sequence[dict[str, Any]
     return _csv_text(mechanism.COLUMNS, rows, _text_columns(fields))
 
 
+#: Mechanism rows turned into CSV text at a time when the table is streamed to its file.
+_STREAM_ROWS = 10_000
+
+
+def _table_writer(
+    table: mechanism.MechanismTable, fields: Sequence[dict[str, Any]]
+) -> Callable[[BinaryIO], None]:
+    """A function that writes the mechanism table to a file, a slice of rows at a time: the
+    same bytes as :func:`_table_text`, without the whole text in memory."""
+    text_columns = _text_columns(fields)
+    columns = itemgetter(slice(0, len(mechanism.COLUMNS)))
+
+    def write(stream: BinaryIO) -> None:
+        rows = table.rows
+        for start in range(0, max(len(rows), 1), _STREAM_ROWS):
+            part = list(map(columns, rows[start : start + _STREAM_ROWS]))
+            text = _csv_text(mechanism.COLUMNS, part, text_columns)
+            if start:
+                text = text.split("\n", 1)[1]  # the header once
+            stream.write(text.encode("utf-8"))
+
+    return write
+
+
 def _efficiency_rows(session: Session, table: mechanism.MechanismTable) -> list[tuple[Any, ...]]:
     keys = {row.key for row in table.rows}
     return [
@@ -499,7 +524,8 @@ def _ratebank_block(content: PackageContent, created: str) -> dict[str, Any]:
         "version": __version__,
         "created": created,
         "store": content.store_label,
-        "store_fingerprint": content.fingerprint,
+        content.fingerprint_field: content.fingerprint,
+        "history_mark": content.history_mark,
         "rows": len(table.rows),
         "rate_expression": "k = A * T**n * exp(-Ea / (R * T)), T in K, A in k_units times K**-n "
         "(for each form see forms)",
@@ -541,9 +567,54 @@ class PackageContent:
     reverse: dict[str, Any]
     efficiencies: list[tuple[Any, ...]]
     species: list[tuple[Any, ...]]
-    #: the store's content fingerprint when the content was read
+    #: the content fingerprint (:func:`content_fingerprint`)
     fingerprint: str
     store_label: str | None
+    #: the id of the store's newest history entry when the content was read (None: no entry)
+    history_mark: int | None = None
+    #: the descriptor's name of ``fingerprint``: ``store_fingerprint`` for a release made
+    #: before exports fingerprinted their own content (a fingerprint of the whole store)
+    fingerprint_field: str = "content_fingerprint"
+
+
+#: Mechanism rows hashed at a time.
+_FINGERPRINT_ROWS = 10_000
+
+
+def content_fingerprint(
+    table: mechanism.MechanismTable,
+    reverse: dict[str, Any],
+    efficiencies: Sequence[Sequence[Any]],
+    species: Sequence[Sequence[Any]],
+) -> str:
+    """``sha256:<hex>`` of what a package holds and the records it derives from.
+
+    It covers the units and form of the table, every mechanism row (all its
+    columns, with the expression id and the rule that chose it), the rows left
+    out, the reverse block, the efficiency and species rows, and the chosen
+    expressions as stored (numbers in SI, further terms, full provenance:
+    ``table.source_digest``). Any change to an exported number, unit or
+    provenance changes it; a change elsewhere in the store (a history entry, a
+    record not exported) does not. Nothing is read from the store here.
+    """
+    option = orjson.OPT_SORT_KEYS | orjson.OPT_SERIALIZE_NUMPY | orjson.OPT_NON_STR_KEYS
+    units = table.units
+    digest = hashlib.sha256(b"ratebank package content 1\n")
+    head = {
+        "units": [units.label, sorted(units.k_units.items()), units.e_units],
+        "form": table.form,
+        "fields": list(mechanism.MechanismRow._fields),
+        "left_out": table.left_out,
+        "reverse": reverse,
+        "sources": table.source_digest,
+    }
+    digest.update(orjson.dumps(head, option=option))
+    rows = table.rows
+    for start in range(0, len(rows), _FINGERPRINT_ROWS):
+        part = [tuple(row) for row in rows[start : start + _FINGERPRINT_ROWS]]
+        digest.update(orjson.dumps(part, option=option))
+    digest.update(orjson.dumps([list(map(list, efficiencies)), list(map(list, species))]))
+    return "sha256:" + digest.hexdigest()
 
 
 def package_content(
@@ -565,13 +636,17 @@ def package_content(
         leave_out_gaps=leave_out_gaps,
         reverse_as_fit=reverse_as_fit,
     )
+    reverse = descriptor_block(table.reverse)
+    efficiency_rows = _efficiency_rows(session, table)
+    species_rows = _species_rows(session)
     return PackageContent(
         table,
-        descriptor_block(table.reverse),
-        _efficiency_rows(session, table),
-        _species_rows(session),
-        store_fingerprint(session),
+        reverse,
+        efficiency_rows,
+        species_rows,
+        content_fingerprint(table, reverse, efficiency_rows, species_rows),
         store_label,
+        history_mark=audit.newest_entry_id(session),
     )
 
 
@@ -579,6 +654,20 @@ def package_files(
     content: PackageContent, name: str, created: str
 ) -> tuple[dict[str, str], dict[str, Any]]:
     """({file name: text} of the package, its descriptor), nothing written."""
+    files, descriptor = _package_parts(content, name, created)
+    fields = descriptor["resources"][0]["schema"]["fields"]
+    texts = {
+        name: data.decode("utf-8") if isinstance(data, bytes) else data
+        for name, data in files.items()
+    }
+    return {MECHANISM: _table_text(content.table, fields), **texts}, descriptor
+
+
+def _package_parts(
+    content: PackageContent, name: str, created: str
+) -> tuple[dict[str, str | bytes], dict[str, Any]]:
+    """({file name: text, or bytes for the descriptor} of every file but the mechanism
+    table, the descriptor)."""
     descriptor: dict[str, Any] = {
         "profile": "tabular-data-package",
         "name": _slug(name),
@@ -589,13 +678,11 @@ def package_files(
         "resources": _resources(content.table.units),
         "ratebank": _ratebank_block(content, created),
     }
-    fields = descriptor["resources"][0]["schema"]["fields"]
     files = {
-        MECHANISM: _table_text(content.table, fields),
         EFFICIENCIES: _efficiencies_text(content.efficiencies),
         SPECIES: _species_text(content.species),
         # a mechanism's descriptor lists every reaction: the C encoder, not json's
-        DESCRIPTOR: json_codec.dumps_indented(descriptor) + "\n",
+        DESCRIPTOR: json_codec.indented_line_bytes(descriptor),
     }
     return files, descriptor
 
@@ -642,10 +729,14 @@ def write_package(
     out = Path(out)
     store_file = _store_file(session)
     _check_out(out, store_file)
-    files, descriptor = package_files(content, out.name, _now())
+    texts, descriptor = _package_parts(content, out.name, _now())
+    fields = descriptor["resources"][0]["schema"]["fields"]
+    # the mechanism table is streamed to its file, never held as one text
+    files: dict[str, safe_output.Content] = {
+        MECHANISM: _table_writer(content.table, fields),
+        **texts,
+    }
     safe_output.write_folder(out, files, store_path=store_file)
-    from ratebank.store import audit
-
     table = content.table
     audit.record(
         session,
@@ -655,6 +746,7 @@ def write_package(
         left_out=len(table.left_out),
         units=table.units.label,
         fingerprint=content.fingerprint,
+        history_mark=content.history_mark,
         **audit_detail,
     )
     target = Path(out).expanduser().absolute()

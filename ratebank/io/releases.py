@@ -2,7 +2,7 @@
 
 ``create_release`` reads what ``export`` would write now (the mechanism rows in
 store units, SI, with their provenance; the efficiencies and species rows; the
-descriptor's reverse block and the store's content fingerprint), adds the
+descriptor's reverse block, the content fingerprint and the history mark), adds the
 check results, and stores it as JSON text with a fingerprint of that text, who
 made it and when (:mod:`ratebank.store.releases`). ``export_release`` writes
 that content again as a data package: the same bytes as an SI export made
@@ -49,7 +49,11 @@ class ReleaseView:
     species: int | None = None
     left_out: list[str] = field(default_factory=list)
     store: str | None = None
+    #: the content fingerprint of what the release holds (of the whole store for a release
+    #: made before exports fingerprinted their own content)
     store_fingerprint: str | None = None
+    #: the id of the store's newest history entry when the release was made
+    history_mark: int | None = None
     #: {"clean": bool, "flags": {code: count}, "unchecked": n, "notes": {code: count}}
     checks: dict[str, Any] = field(default_factory=dict)
     #: the stored content still has the fingerprint it was stored with
@@ -82,7 +86,8 @@ def _content_record(content: PackageContent, check_report: checks.CheckReport) -
         "efficiencies": [list(row) for row in content.efficiencies],
         "species": [list(row) for row in content.species],
         "store": content.store_label,
-        "store_fingerprint": content.fingerprint,
+        "content_fingerprint": content.fingerprint,
+        "history_mark": content.history_mark,
         "checks": _check_summary(check_report),
     }
 
@@ -150,7 +155,8 @@ def _view(row: ReleaseRow) -> ReleaseView:
         species=len(record.get("species", [])),
         left_out=list(record.get("left_out", [])),
         store=record.get("store"),
-        store_fingerprint=record.get("store_fingerprint"),
+        store_fingerprint=record.get("content_fingerprint") or record.get("store_fingerprint"),
+        history_mark=record.get("history_mark"),
         checks=record.get("checks", {}),
         intact=content_fingerprint(row.content or "") == row.fingerprint,
     )
@@ -188,13 +194,16 @@ def release_content(session: Session, name: str) -> PackageContent:
         gaps=[],
         left_out=list(record["left_out"]),
     )
+    legacy = "content_fingerprint" not in record
     return PackageContent(
         table,
         record["reverse"],
         [tuple(r) for r in record["efficiencies"]],
         [tuple(r) for r in record["species"]],
-        record["store_fingerprint"],
+        record["store_fingerprint" if legacy else "content_fingerprint"],
         record["store"],
+        history_mark=record.get("history_mark"),
+        fingerprint_field="store_fingerprint" if legacy else "content_fingerprint",
     )
 
 

@@ -30,7 +30,8 @@ def release_record(view: Any) -> dict[str, Any]:
             "left_out": view.left_out,
             "units": "SI",
             "store": view.store,
-            "store_fingerprint": view.store_fingerprint,
+            "content_fingerprint": view.store_fingerprint,
+            "history_mark": view.history_mark,
             "checks": view.checks,
             "intact": view.intact,
         }
@@ -65,7 +66,8 @@ def release_table(view: Any) -> ReportTable:
         ("species", str(view.species)),
         ("left out", ", ".join(view.left_out) or "none"),
         ("store", view.store or ""),
-        ("store fingerprint", view.store_fingerprint or ""),
+        ("content fingerprint", view.store_fingerprint or ""),
+        ("history mark", "" if view.history_mark is None else str(view.history_mark)),
         ("checks", summary),
     )
     for label, value in rows:

@@ -62,6 +62,7 @@ from ratebank.store.expressions import (
     write_expressions,
 )
 from ratebank.store.queries import ExpressionRow, ReactionRow, StericRuleRow
+from ratebank.store.runs import write_run
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
 DEFAULT_UNCERTAINTY_FACTOR = 10.0
@@ -107,7 +108,7 @@ class EstimateReport:
     written: bool
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class StericChoice:
     """The steric factor an estimate uses, the rule that supplied it, and its uncertainty."""
 
@@ -115,6 +116,10 @@ class StericChoice:
     rule: str
     uncertainty_factor: float
     detail: dict[str, Any]
+
+
+#: The choice of a steric factor given by the user, by (value, uncertainty factor).
+_GIVEN: dict[tuple[float, float], StericChoice] = {}
 
 
 @dataclass(frozen=True)
@@ -127,11 +132,20 @@ class StericSources:
     fallback: float | None
     uncertainty_factor: float | None
 
+    def _given_choice(self, default: float) -> StericChoice:
+        # one choice shared by every reaction of the run
+        found = _GIVEN.get((self.given, default))
+        if found is None:
+            found = _GIVEN[(self.given, default)] = StericChoice(
+                self.given, "given by the user", default, {}
+            )
+        return found
+
     def choose(self, reaction: ReactionRow) -> StericChoice | str:
         """P for ``reaction``, or why there is none."""
         default = self.uncertainty_factor or DEFAULT_UNCERTAINTY_FACTOR
         if self.given is not None:
-            return StericChoice(self.given, "given by the user", default, {})
+            return self._given_choice(default)
         if reaction.steric_factor is not None:
             detail = {"source": reaction.steric_source}
             return StericChoice(reaction.steric_factor, "stored for the reaction", default, detail)
@@ -197,7 +211,7 @@ def _check_options(
         )
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class _Candidate:
     reaction: ReactionRow
     partial: ExpressionRow
@@ -237,7 +251,10 @@ def estimate(
         reactions = queries.find_reactions(session, keys)
     else:
         reactions = queries.reactions(session, reaction_class=reaction_class)
-    expressions = queries.expressions_of(session, [r.id for r in reactions])
+    # of the stored provenance, an estimate reads only a relation's record (Ea and its spread)
+    expressions = queries.expressions_of(
+        session, [r.id for r in reactions], provenance_keys=("evans_polanyi",), lean=True
+    )
     filled, refused = relation_activation_energies(session, reactions, expressions)
     for reaction_id, partial in filled.items():
         expressions[reaction_id] = [*expressions[reaction_id], partial]
@@ -443,37 +460,66 @@ def _estimate_rows_of(
     return rows
 
 
-def _provenance(c: _Candidate, row: EstimateRow, partners: dict) -> dict[str, Any]:
+def _provenance_columns(
+    written: list[tuple[_Candidate, EstimateRow]], partners: dict
+) -> dict[str, list[Any]]:
+    """Each provenance field of the estimates as a column, in the record's order."""
+    pairs = [c for c, _ in written]
+    rows = [row for _, row in written]
+    model = rows[0].collision_model
+    shortfall = [row.threshold_shortfall for row in rows]
     return {
-        "method": "simple collision theory times a steric factor",
-        "collision_model": row.collision_model,
-        "steric_factor": row.steric_factor,
-        "steric_rule": c.choice.rule,
-        "steric_detail": c.choice.detail,
-        "uncertainty_factor": row.uncertainty_factor,
-        "activation_energy_J_per_mol": row.activation_energy,
-        "activation_energy_expression_id": c.partial.id,
-        "activation_energy_from_relation": c.partial.provenance.get("evans_polanyi"),
-        "threshold_energy_J_per_mol": row.threshold_energy,
-        "threshold_energy_held_at_zero": row.threshold_shortfall > 0,
-        "activation_energy_below_collision_rate_J_per_mol": row.threshold_shortfall,
-        "collision_activation_energy_J_per_mol": row.collision_activation_energy,
-        "T_ref": row.T_ref,
-        "T_ref_from": "given by the user" if c.T_ref_given else "middle of the valid range",
-        "valid_range_stated": row.T_min is not None and row.T_max is not None,
-        "collision_rate_at_T_ref_SI": row.collision_rate_at_T_ref,
-        "self_reaction": c.pair.identical,
-        "partners": c.pair.as_record(cache=partners),
-        "estimated_diameters": row.estimated_diameters,
-        "form": "n = 1/2 exactly"
-        if row.collision_model == "hard-sphere"
-        else "modified-Arrhenius fit",
-        "max_relative_deviation_of_fit": row.max_fit_deviation,
-        "estimated_part": "k_inf of a falloff; k0 and broadening kept from expression "
-        f"{c.partial.id}"
-        if c.partial.form == "falloff"
-        else None,
+        "method": ["simple collision theory times a steric factor"] * len(rows),
+        "collision_model": [row.collision_model for row in rows],
+        "steric_factor": [row.steric_factor for row in rows],
+        "steric_rule": [c.choice.rule for c in pairs],
+        "steric_detail": [c.choice.detail for c in pairs],
+        "uncertainty_factor": [row.uncertainty_factor for row in rows],
+        "activation_energy_J_per_mol": [row.activation_energy for row in rows],
+        "activation_energy_expression_id": [c.partial.id for c in pairs],
+        "activation_energy_from_relation": [
+            c.partial.provenance.get("evans_polanyi") for c in pairs
+        ],
+        "threshold_energy_J_per_mol": [row.threshold_energy for row in rows],
+        "threshold_energy_held_at_zero": [value > 0 for value in shortfall],
+        "activation_energy_below_collision_rate_J_per_mol": shortfall,
+        "collision_activation_energy_J_per_mol": [row.collision_activation_energy for row in rows],
+        "T_ref": [row.T_ref for row in rows],
+        "T_ref_from": [
+            "given by the user" if c.T_ref_given else "middle of the valid range" for c in pairs
+        ],
+        "valid_range_stated": [row.T_min is not None and row.T_max is not None for row in rows],
+        "collision_rate_at_T_ref_SI": [row.collision_rate_at_T_ref for row in rows],
+        "self_reaction": [c.pair.identical for c in pairs],
+        "partners": [c.pair.as_record(cache=partners) for c in pairs],
+        "estimated_diameters": [row.estimated_diameters for row in rows],
+        "form": ["n = 1/2 exactly" if model == "hard-sphere" else "modified-Arrhenius fit"]
+        * len(rows),
+        "max_relative_deviation_of_fit": [row.max_fit_deviation for row in rows],
+        "estimated_part": [
+            f"k_inf of a falloff; k0 and broadening kept from expression {c.partial.id}"
+            if c.partial.form == "falloff"
+            else None
+            for c in pairs
+        ],
     }
+
+
+def _split_run(
+    columns: dict[str, list[Any]], common: dict[str, Any] | None = None
+) -> tuple[dict[str, Any], list[dict[str, Any]]]:
+    """(the fields the estimates of the run share, each estimate's own fields).
+
+    Without ``common``, the shared fields are those equal in every row of ``columns``;
+    with it (the run's, from its first slice), a row's own fields are every field that
+    differs from it in any row of this slice.
+    """
+    if common is None:
+        common = {k: v[0] for k, v in columns.items() if all(x == v[0] for x in v)}
+    varying = [k for k, v in columns.items() if k not in common or any(x != common[k] for x in v)]
+    rows = zip(*(columns[k] for k in varying), strict=True)
+    own = [dict(zip(varying, values, strict=True)) for values in rows]
+    return common, own or [{} for _ in next(iter(columns.values()))]
 
 
 def _reference(c: _Candidate, row: EstimateRow) -> str:
@@ -517,36 +563,60 @@ def _write(
         replaced.extend(row.replaced)
     remove_expressions(session, replaced)
     partners: dict[int, dict[str, object]] = {}
-    records, history = [], []
-    for c, row in written:
-        provenance = _provenance(c, row, partners)
-        records.append(
-            ExpressionRecord(
-                reaction_id=c.reaction.id,
-                origin="collision-estimate",
-                A=row.A,
-                n=row.n,
-                Ea=row.Ea,
-                T_min=row.T_min,
-                T_max=row.T_max,
-                uncertainty_factor=row.uncertainty_factor,
-                uncertainty_g=0.0,
-                reference=_reference(c, row),
-                provenance=provenance,
-                **_form_fields(c),
-            )
+    # the provenance every estimate of this run shares is stored once (the run's, taken
+    # from its first slice); the rows are written a slice at a time, so that their records,
+    # provenance and history are never all in memory at once
+    common: dict[str, Any] | None = None
+    run_id = None
+    for start in range(0, len(written), _WRITE_SLICE):
+        part = written[start : start + _WRITE_SLICE]
+        common, own = _split_run(_provenance_columns(part, partners), common)
+        if run_id is None:
+            run_id = write_run(session, "estimate", common)
+        ids = write_expressions(
+            session, _records(part, own), action="estimate", history=_history(part), run_id=run_id
         )
-        history.append(
-            (
-                row.key,
-                {
-                    "model": row.collision_model,
-                    "steric_factor": row.steric_factor,
-                    "steric_rule": row.steric_rule,
-                    "replaced": row.replaced,
-                },
-            )
+        for (_, row), new_id in zip(part, ids, strict=True):
+            row.expression_id = new_id
+
+
+#: Estimates written at a time.
+_WRITE_SLICE = 2_000
+
+
+def _records(
+    part: list[tuple[_Candidate, EstimateRow]], own: list[dict[str, Any]]
+) -> list[ExpressionRecord]:
+    return [
+        ExpressionRecord(
+            reaction_id=c.reaction.id,
+            origin="collision-estimate",
+            A=row.A,
+            n=row.n,
+            Ea=row.Ea,
+            T_min=row.T_min,
+            T_max=row.T_max,
+            uncertainty_factor=row.uncertainty_factor,
+            uncertainty_g=0.0,
+            reference=_reference(c, row),
+            provenance=provenance,
+            **_form_fields(c),
         )
-    ids = write_expressions(session, records, action="estimate", history=history)
-    for (_, row), new_id in zip(written, ids, strict=True):
-        row.expression_id = new_id
+        for (c, row), provenance in zip(part, own, strict=True)
+    ]
+
+
+def _history(part: list[tuple[_Candidate, EstimateRow]]) -> list[tuple[str, dict[str, Any]]]:
+    """One history entry per estimate (the write path adds its expression and run)."""
+    return [
+        (
+            row.key,
+            {
+                "model": row.collision_model,
+                "steric_factor": row.steric_factor,
+                "steric_rule": row.steric_rule,
+                "replaced": row.replaced,
+            },
+        )
+        for _, row in part
+    ]

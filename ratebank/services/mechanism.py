@@ -42,12 +42,9 @@ from ratebank.science.units import (
     rate_from_si,
     rate_units_by_order,
 )
-from ratebank.services.form_validation import FORM_COLUMNS, LIMIT_FORMS, high_pressure_order
+from ratebank.services.form_validation import FORM_COLUMNS, high_pressure_order
 from ratebank.services.reverse import ReverseInfo, with_reverse
-from ratebank.services.selection import (
-    ChosenRow,
-    chosen_rows,
-)
+from ratebank.services.selection import ChosenRow, ChosenStream
 from ratebank.store.expressions import form_of
 from ratebank.store.queries import ExpressionRow
 
@@ -166,6 +163,9 @@ class MechanismTable:
     gaps: list[str]
     left_out: list[str] = field(default_factory=list)
     reverse: ReverseInfo = field(default_factory=ReverseInfo)
+    #: ``sha256:<hex>`` of the expressions the rows are made of, as stored (numbers in SI,
+    #: further terms, full provenance); empty for a table read back from a release
+    source_digest: str = ""
 
 
 def _check_form_options(form: str, linearise_at: float | None) -> None:
@@ -247,38 +247,49 @@ def mechanism_table(
     own (:func:`ratebank.services.reverse.with_reverse`).
     """
     _check_form_options(form, linearise_at)
-    chosen, gaps = chosen_rows(session)
+    factors = _Factors(units)
+    energy_factor = float(energy_from_si(1.0, units.e_units))
+    # the chosen expressions stream past: only the rows made of them are kept
+    stream = ChosenStream(session)
+    by_key: dict[str, list[MechanismRow]] = {}
+    refused: dict[str, str] = {}
+    for c in stream:
+        linear = None
+        if form == "arrhenius" and c.n != 0 and _form(c) in LINEARISED_FORMS:
+            found = _linearised(c, linearise_at)
+            if isinstance(found, str):
+                refused[c.reaction_key] = found
+                continue
+            linear = found
+        by_key[c.reaction_key] = _rows(c, linear, units, factors, energy_factor)
+    gaps = stream.gaps
     if gaps and not leave_out_gaps:
         raise ExportGapsError(gaps)
-    linear: dict[int, _Linearised] = {}
-    if form == "arrhenius":
-        refused = []
-        for c in chosen:
-            if c.n != 0 and _form(c) in LINEARISED_FORMS:
-                found = _linearised(c, linearise_at)
-                if isinstance(found, str):
-                    refused.append(found)
-                else:
-                    linear[c.expression_id] = found
-        if refused:
-            raise BadInputError(
-                f"{len(refused)} expression(s) with n != 0 cannot be written as two-parameter "
-                f"rows: {'; '.join(refused[:20])}",
-                argument="linearise_at",
-            )
-    orders = {c.order for c in chosen} | {
-        high_pressure_order(_form(c), c.order) for c in chosen if _form(c) in LIMIT_FORMS
-    }
-    factors = {order: float(rate_from_si(1.0, units.k_unit(order), order)) for order in orders}
-    energy_factor = float(energy_from_si(1.0, units.e_units))
-    rows = [
-        row
-        for c in chosen
-        for row in _rows(c, linear.get(c.expression_id), units, factors, energy_factor)
-    ]
+    if refused:
+        reasons = [refused[key] for key in stream.keys if key in refused]
+        raise BadInputError(
+            f"{len(reasons)} expression(s) with n != 0 cannot be written as two-parameter "
+            f"rows: {'; '.join(reasons[:20])}",
+            argument="linearise_at",
+        )
+    rows = [row for key in stream.keys if key in by_key for row in by_key.pop(key)]
     rows, reverse = with_reverse(session, rows, units, as_fit=reverse_as_fit)
     left_out = gaps if leave_out_gaps else []
-    return MechanismTable(rows, units, form, gaps, left_out=left_out, reverse=reverse)
+    return MechanismTable(
+        rows, units, form, gaps, left_out=left_out, reverse=reverse, source_digest=stream.digest
+    )
+
+
+class _Factors(dict[int, float]):
+    """The factor from SI to the table's k unit of each reaction order, found when needed."""
+
+    def __init__(self, units: ExportUnits) -> None:
+        super().__init__()
+        self._units = units
+
+    def __missing__(self, order: int) -> float:
+        factor = self[order] = float(rate_from_si(1.0, self._units.k_unit(order), order))
+        return factor
 
 
 #: The forms whose row is one Arrhenius term, which a two-parameter export linearises.

@@ -8,9 +8,10 @@ estimate. Expressions without A are never used.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+import hashlib
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
-from typing import NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
 from sqlalchemy.orm import Session
@@ -22,6 +23,7 @@ from ratebank.science.rate_laws import pressure_free_rate, rate_law
 from ratebank.science.uncertainty import panel_uncertainty_factor
 from ratebank.store import audit, queries
 from ratebank.store.expressions import form_of, set_recommended
+from ratebank.store.fingerprint import expression_records
 from ratebank.store.queries import ExpressionRow, ReactionRow
 
 #: Why an expression was chosen, in order of precedence.
@@ -57,12 +59,19 @@ def choose(expressions: Iterable[ExpressionRow]) -> tuple[ExpressionRow, str] | 
 
 
 def chosen_expressions(
-    session: Session, reactions: Sequence[ReactionRow] | None = None
+    session: Session,
+    reactions: Sequence[ReactionRow] | None = None,
+    *,
+    provenance_keys: Sequence[str] | None = None,
 ) -> tuple[list[Chosen], list[ReactionRow]]:
-    """(reactions with a usable expression, reactions without one), by key."""
+    """(reactions with a usable expression, reactions without one), by key; with
+    ``provenance_keys``, each expression's provenance holds only those keys
+    (:func:`ratebank.store.queries.expressions_of`)."""
     if reactions is None:
         reactions = queries.reactions(session)
-    by_reaction = queries.expressions_of(session, [r.id for r in reactions])
+    by_reaction = queries.expressions_of(
+        session, [r.id for r in reactions], provenance_keys=provenance_keys
+    )
     found: list[Chosen] = []
     gaps: list[ReactionRow] = []
     for reaction in reactions:
@@ -227,29 +236,90 @@ class ChosenRow(NamedTuple):
     third_body: bool = False
 
 
-def chosen_rows(session: Session) -> tuple[list[ChosenRow], list[str]]:
-    """(the exported expression of every reaction, keys of reactions without one), by key."""
-    chosen, gaps = chosen_expressions(session)
-    rows = [
-        ChosenRow(
-            c.reaction.key,
-            c.reaction.equation,
-            c.reaction.order,
-            c.expression.id,
-            c.expression.origin,
-            c.expression.A,  # type: ignore[arg-type]
-            c.expression.n,
-            c.expression.Ea,
-            c.expression.T_min,
-            c.expression.T_max,
-            c.expression.uncertainty_factor,
-            c.expression.uncertainty_g,
-            c.expression.reference,
-            c.expression.provenance.get("steric_factor"),
-            c.rule,
-            c.expression,
-            c.reaction.third_body,
+class ChosenRows(NamedTuple):
+    """The exported expression of every reaction, and what it is made of."""
+
+    rows: list[ChosenRow]
+    #: keys of the reactions without a usable expression
+    gaps: list[str]
+    #: ``sha256:<hex>`` of the chosen expressions as stored, provenance included
+    #: (:func:`ratebank.store.fingerprint.expression_records`)
+    digest: str
+
+
+def chosen_rows(session: Session) -> ChosenRows:
+    """The exported expression of every reaction, by key, with the keys of reactions
+    without one and the digest of the expressions chosen (:class:`ChosenStream`, held)."""
+    stream = ChosenStream(session)
+    found = {row.reaction_key: row for row in stream}
+    rows = [found[key] for key in stream.keys if key in found]
+    return ChosenRows(rows, stream.gaps, stream.digest)
+
+
+class ChosenStream:
+    """The exported expression of every reaction, one :class:`ChosenRow` at a time.
+
+    The expressions are read in one pass, by reaction id (not by key: ``keys`` gives the
+    order of the table), and only each reaction's choice is kept; the provenance is read
+    for the chosen expressions only, a batch at a time, for each one's ``steric_factor``
+    and the digest of what the rows are made of. After the iteration, ``gaps`` holds the
+    keys of the reactions without a usable expression and ``digest`` the ``sha256:<hex>``
+    of the chosen expressions (:func:`ratebank.store.fingerprint.expression_records`).
+    """
+
+    #: chosen expressions whose provenance is read at a time
+    BATCH = 1000
+
+    def __init__(self, session: Session) -> None:
+        self._session = session
+        reactions = queries.reactions(session)
+        self._reactions = {r.id: r for r in reactions}
+        #: every reaction's key, in the table's order
+        self.keys = [r.key for r in reactions]
+        self.gaps: list[str] = []
+        self.digest = ""
+
+    def __iter__(self) -> Iterator[ChosenRow]:
+        digest = hashlib.sha256(b"expressions\n")
+        batch: list[Chosen] = []
+        waiting = self._reactions  # a chosen reaction leaves it: what is left are the gaps
+        for reaction_id, expressions in queries.expressions_by_reaction(self._session):
+            choice = choose(expressions) if reaction_id in waiting else None
+            if choice is None:
+                continue
+            batch.append(Chosen(waiting.pop(reaction_id), *choice))
+            if len(batch) >= self.BATCH:
+                yield from self._rows(batch, digest)
+                batch = []
+        yield from self._rows(batch, digest)
+        self.gaps = [r.key for r in waiting.values()]  # by key, as the reactions were read
+        self._reactions = {}
+        self.digest = "sha256:" + digest.hexdigest()
+
+    def _rows(self, batch: list[Chosen], digest: Any) -> Iterator[ChosenRow]:
+        if not batch:
+            return
+        picked = expression_records(
+            self._session, [c.expression.id for c in batch], ("steric_factor",), digest
         )
-        for c in chosen
-    ]
-    return rows, [r.key for r in gaps]
+        for c in batch:
+            e = c.expression
+            yield ChosenRow(
+                c.reaction.key,
+                c.reaction.equation,
+                c.reaction.order,
+                e.id,
+                e.origin,
+                e.A,  # type: ignore[arg-type]
+                e.n,
+                e.Ea,
+                e.T_min,
+                e.T_max,
+                e.uncertainty_factor,
+                e.uncertainty_g,
+                e.reference,
+                picked[e.id].get("steric_factor"),
+                c.rule,
+                e,
+                c.reaction.third_body,
+            )

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from sqlalchemy import insert
+from sqlalchemy import func, insert, select
 from sqlalchemy.orm import Session
 
 from ratebank.store.models import AuditEntry, utc_now
@@ -43,4 +43,16 @@ def record_many(
         AuditEntry.__tablename__,
         ("at", "author", "action", "target", "detail"),
         [(at, author, action, target, encode(detail)) for target, detail in entries],
+    )
+
+
+#: Actions that record a reading of the store, not a change to it.
+READING_ACTIONS = ("export", "release.create")
+
+
+def newest_entry_id(session: Session) -> int | None:
+    """The history's high-water mark: the id of the newest entry that records a change
+    (an export or a release records only a reading), None when there is none."""
+    return session.scalar(
+        select(func.max(AuditEntry.id)).where(AuditEntry.action.not_in(READING_ACTIONS))
     )

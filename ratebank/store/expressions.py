@@ -26,7 +26,7 @@ from sqlalchemy import delete, update
 from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError
-from ratebank.store import audit
+from ratebank.store import audit, runs
 from ratebank.store.bulk import db_timestamp, insert_returning_ids, insert_rows, json_adapter
 from ratebank.store.models import (
     BROADENINGS,
@@ -68,6 +68,7 @@ _COLUMNS = (
     "troe_t3",
     "troe_t1",
     "troe_t2",
+    "run_id",
 )
 _TERM_COLUMNS = ("expression_id", "term", "A", "n", "Ea", "T_min", "T_max")
 
@@ -199,6 +200,8 @@ def write_expressions(
     *,
     action: str,
     history: Sequence[tuple[str | None, dict[str, Any]]] = (),
+    run: dict[str, Any] | None = None,
+    run_id: int | None = None,
 ) -> list[int]:
     """Insert ``records`` in one bulk write and return their new ids, in order.
 
@@ -206,6 +209,12 @@ def write_expressions(
     a file) and the details to record under ``action``; each entry also gets
     the new expression's id. With no ``history``, no entries are written (the
     caller records one for the whole batch).
+
+    ``run`` is the provenance every record has in common: it is stored once
+    (:func:`ratebank.store.runs.write_run`) and each record's ``provenance``
+    holds only what differs; a reader gets ``{**run, **provenance}``. Each
+    history entry then names the run too. ``run_id`` names a run stored before
+    instead (a run written a slice at a time).
     """
     if not records:
         return []
@@ -214,6 +223,8 @@ def write_expressions(
     now = db_timestamp(session)
     encode = json_adapter(session)
     author = session.info.get("author")
+    if run is not None:
+        run_id = runs.write_run(session, action, run)
     ids = insert_returning_ids(
         session,
         "expression",
@@ -236,6 +247,7 @@ def write_expressions(
                 now,
                 author,
                 *_form_columns(r),
+                run_id,
             )
             for r in records
         ],
@@ -248,11 +260,12 @@ def write_expressions(
     if terms:
         insert_rows(session, "expression_term", _TERM_COLUMNS, terms)
     if history:
+        named = {"run": run_id} if run_id is not None else {}
         audit.record_many(
             session,
             action,
             [
-                (target, {"expression": new_id, **detail})
+                (target, {"expression": new_id, **named, **detail})
                 for (target, detail), new_id in zip(history, ids, strict=True)
             ],
         )
@@ -266,6 +279,8 @@ def remove_expressions(session: Session, expression_ids: Sequence[int]) -> None:
         chunk = ids[start : start + 500]
         session.execute(delete(ExpressionTerm).where(ExpressionTerm.expression_id.in_(chunk)))
         session.execute(delete(Expression).where(Expression.id.in_(chunk)))
+    if ids:
+        runs.remove_unused_runs(session)
 
 
 #: Fields :func:`update_expression` may change, by record name.
@@ -285,6 +300,9 @@ UPDATABLE = (
 def update_expression(session: Session, expression: Expression, changes: Mapping[str, Any]) -> None:
     """Write ``changes`` (record names, SI units) onto a loaded expression and flush.
 
+    A ``provenance`` among the changes is the whole provenance (read through
+    :mod:`ratebank.store.runs`): the row stops naming its run.
+
     The expression's version rises by one (optimistic locking); a concurrent
     change since it was loaded raises SQLAlchemy's ``StaleDataError``, which
     the caller turns into its own message.
@@ -294,6 +312,8 @@ def update_expression(session: Session, expression: Expression, changes: Mapping
         raise BadInputError(f"expression fields {', '.join(unknown)} cannot be changed")
     for name, value in changes.items():
         setattr(expression, name, value)
+    if "provenance" in changes:
+        expression.run_id = None  # the provenance written is whole
     expression.updated_at = utc_now()
     expression.updated_by = session.info.get("author")
     session.flush()

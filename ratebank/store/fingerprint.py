@@ -30,6 +30,7 @@ from ratebank.store.models import (
     MeasurementSet,
     Participant,
     Point,
+    ProvenanceRun,
     Reaction,
     Species,
     SpeciesThermo,
@@ -52,7 +53,13 @@ _FORMER_NAMES = {"a": "pre_exponential", "n": "temperature_exponent", "ea": "act
 TABLES = (Species, Reaction, Participant, MeasurementSet, Point, Expression, StericRule)
 #: Tables a later revision added: hashed only when they hold a row, so that an upgrade which
 #: adds them empty keeps the fingerprint (as for columns, above).
-LATER_TABLES = (SpeciesThermo, EvansPolanyiRule, ExpressionTerm, ThirdBodyEfficiency)
+LATER_TABLES = (
+    SpeciesThermo,
+    EvansPolanyiRule,
+    ExpressionTerm,
+    ThirdBodyEfficiency,
+    ProvenanceRun,
+)
 #: Rows fetched and hashed at a time.
 _BATCH = 50_000
 
@@ -167,3 +174,61 @@ def store_fingerprint(session: Session) -> str:
     finally:
         cursor.close()
     return "sha256:" + digest.hexdigest()
+
+
+#: The stored columns of an expression that its content fingerprint covers, in order.
+_EXPRESSION_CONTENT = (
+    "id, reaction_id, origin, a, n, ea, t_min, t_max, uncertainty_factor, uncertainty_g, "
+    "reference, recommended, form, a_low, n_low, ea_low, broadening, fc, fc_width, troe_alpha, "
+    "troe_t3, troe_t1, troe_t2"
+)
+#: Expressions read and hashed at a time by :func:`expression_records`.
+_RECORD_BATCH = 1000
+
+
+def expression_records(
+    session: Session, expression_ids: Sequence[int], keys: Sequence[str], digest: Any
+) -> dict[int, dict[str, Any]]:
+    """What an export takes from the expressions it is made of, read in one pass.
+
+    Returns {expression id: {key: value} of ``keys`` in its full provenance}, and
+    updates the hash ``digest`` (a ``hashlib`` object) with every one of these
+    expressions, by id: its stored columns
+    (numbers exactly as stored, in SI), its further terms and its full provenance (the
+    run's part completed by its own, :mod:`ratebank.store.runs`; keys sorted, so that how
+    the provenance is split between a run and a row does not matter). Any change to
+    an exported expression's numbers, form or provenance changes the digest; nothing
+    else in the store enters it. The expressions are read a batch at a time, so memory
+    does not grow with the mechanism.
+    """
+    import orjson
+
+    from ratebank.store.bulk import fetch_in
+    from ratebank.store.runs import RunCache
+
+    option = orjson.OPT_SORT_KEYS | orjson.OPT_SERIALIZE_NUMPY | orjson.OPT_NON_STR_KEYS
+    picked: dict[int, dict[str, Any]] = {}
+    provenances = RunCache(session)
+    ids = sorted(set(expression_ids))
+    rows_query = (
+        f"SELECT {_EXPRESSION_CONTENT}, provenance, run_id FROM expression "
+        "WHERE id IN ({marks}) ORDER BY id"
+    )
+    terms_query = (
+        "SELECT expression_id, term, a, n, ea, t_min, t_max FROM expression_term "
+        "WHERE expression_id IN ({marks}) ORDER BY expression_id, term"
+    )
+    for start in range(0, len(ids), _RECORD_BATCH):
+        batch = ids[start : start + _RECORD_BATCH]
+        rows = sorted(fetch_in(session, rows_query, batch))
+        terms: dict[int, list[Any]] = {}
+        for expression_id, *term in fetch_in(session, terms_query, batch):
+            terms.setdefault(expression_id, []).append(term)
+        provenances.load(row[-1] for row in rows)
+        records = []
+        for *columns, own, run_id in rows:
+            full = provenances.full(own, run_id)
+            picked[columns[0]] = {k: full[k] for k in keys if k in full}
+            records.append((columns, sorted(terms.get(columns[0], ())), full))
+        digest.update(orjson.dumps(records, option=option))
+    return picked

@@ -315,17 +315,16 @@ def _set_of_point(session: Session, point_id: int) -> int:
 
 def _fits_naming_set(session: Session, reaction_id: int | None, set_id: int) -> list[int]:
     rows = session.execute(
-        select(Expression.id, Expression.provenance).where(
+        select(Expression.id, Expression.provenance, Expression.run_id).where(
             Expression.reaction_id == reaction_id, Expression.origin == "measured-fit"
         )
     ).all()
-    from ratebank.store.json_codec import loads
+    from ratebank.store.runs import RunCache
 
+    provenances = RunCache(session)
     named = []
-    for expression_id, provenance in rows:
-        if isinstance(provenance, str | bytes):
-            provenance = loads(provenance)
-        if set_id in ((provenance or {}).get("set_ids") or []):
+    for expression_id, provenance, run_id in rows:
+        if set_id in (provenances.full(provenance, run_id).get("set_ids") or []):
             named.append(expression_id)
     return named
 

@@ -31,6 +31,7 @@ from ratebank.store.models import (
     Species,
 )
 from ratebank.store.queries import FORM_COLUMNS, find_reaction, find_species
+from ratebank.store.runs import RunCache
 
 # --------------------------------------------------------------------------- rows
 
@@ -448,6 +449,7 @@ _EXPRESSION_COLUMNS = (
     Reaction.third_body,
     *FORM_COLUMNS,
     func.coalesce(Expression.withdrawn_reason, Reaction.withdrawn_reason),
+    Expression.run_id,
 )
 _BROADENING_FIELDS = ("Fc", "N", "alpha", "T3", "T1", "T2")
 
@@ -481,11 +483,13 @@ def _expression_summaries(
         query = query.where(expression_in_use())
     rows = session.execute(query).all()
     terms = _sum_terms(session, [row[0] for row in rows if row[18] == "sum"])
+    provenances = RunCache(session)
+    provenances.load(row[-1] for row in rows)
     summaries = []
     for row in rows:
         head, (provenance, version, third_body, form, A_low, n_low, Ea_low, kind, *b) = (
             row[:15],
-            row[15:-1],
+            row[15:-2],
         )
         broadening = None
         if kind is not None:
@@ -494,13 +498,13 @@ def _expression_summaries(
         summaries.append(
             ExpressionSummary(
                 *head,
-                dict(provenance or {}),
+                provenances.full(provenance, row[-1]),
                 version,
                 form=form or ("third-body" if third_body else "arrhenius"),
                 low=None if A_low is None else (A_low, n_low or 0.0, Ea_low or 0.0),
                 broadening=broadening,
                 terms=tuple(terms.get(row[0], ())),
-                withdrawn=row[-1],
+                withdrawn=row[-2],
             )
         )
     return summaries

@@ -276,6 +276,24 @@ class Point(Withdrawable, Base):
     measurement_set: Mapped[MeasurementSet] = relationship(back_populates="points")
 
 
+class ProvenanceRun(Base):
+    """What every expression written by one run (an estimate of a mechanism, say) has in
+    common: the common part of their provenance, stored once (revision 0011).
+
+    An expression of the run names it in ``run_id`` and keeps only what differs in its own
+    ``provenance``; the store reads the full provenance as this ``content`` updated by the
+    row's own part (:mod:`ratebank.store.runs`).
+    """
+
+    __tablename__ = "provenance_run"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    action: Mapped[str] = mapped_column(String(100))
+    created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utc_now)
+    created_by: Mapped[str | None] = mapped_column(String(200))
+    content: Mapped[dict[str, Any]] = mapped_column(JSON, default=dict)
+
+
 class Expression(Withdrawable, Base):
     """A rate expression k = A T^n exp(-Ea/RT) of a reaction, with its origin.
 
@@ -360,6 +378,9 @@ class Expression(Withdrawable, Base):
     troe_T3: Mapped[float | None] = mapped_column("troe_t3", Float)
     troe_T1: Mapped[float | None] = mapped_column("troe_t1", Float)
     troe_T2: Mapped[float | None] = mapped_column("troe_t2", Float)
+    #: the run whose common provenance this row's own ``provenance`` completes (revision
+    #: 0011); empty when ``provenance`` is whole
+    run_id: Mapped[int | None] = mapped_column(ForeignKey("provenance_run.id"))
 
     reaction: Mapped[Reaction] = relationship(back_populates="expressions")
 
@@ -554,3 +575,4 @@ Index("ix_reaction_reaction_class", Reaction.reaction_class)
 Index("ix_audit_at", AuditEntry.at)
 Index("ix_expression_term_expression_id", ExpressionTerm.expression_id)
 Index("ix_third_body_efficiency_reaction_id", ThirdBodyEfficiency.reaction_id)
+Index("ix_expression_run_id", Expression.run_id)

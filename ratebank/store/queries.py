@@ -14,23 +14,25 @@ The vocabulary is the rate law's own: ``A`` [SI k unit times K^-n], ``n``
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from typing import Any, NamedTuple
 
-from sqlalchemy import or_, select
+from sqlalchemy import null, or_, select
 from sqlalchemy.orm import Session
 
 from ratebank.errors import NotFoundError
 from ratebank.science.equation import looks_like_equation, parse_equation
 from ratebank.store.bulk import fetch_all, fetch_in
 from ratebank.store.in_use import EXPRESSION_IN_USE_SQL, expression_in_use, reaction_in_use
-from ratebank.store.json_codec import loads
 from ratebank.store.models import (
+    ORIGINS,
     Expression,
+    ProvenanceRun,
     Reaction,
     Species,
     StericRule,
 )
+from ratebank.store.runs import RunCache
 
 
 class ReactionRow(NamedTuple):
@@ -135,6 +137,8 @@ class ExpressionRow(NamedTuple):
     troe_T3: float | None = None
     troe_T1: float | None = None
     troe_T2: float | None = None
+    #: the run whose common provenance ``provenance`` includes (:mod:`ratebank.store.runs`)
+    run_id: int | None = None
     #: the further terms (2, 3, ...) of a ``sum``
     terms: tuple[TermRow, ...] = ()
 
@@ -193,16 +197,50 @@ _EXPRESSION_COLUMNS = (
     Expression.updated_at,
     Expression.updated_by,
     *FORM_COLUMNS,
+    Expression.run_id,
 )
+_PROVENANCE = ExpressionRow._fields.index("provenance")
+_RUN = ExpressionRow._fields.index("run_id")
+_ORIGIN = ExpressionRow._fields.index("origin")
+_ORIGINS = {origin: origin for origin in ORIGINS}
 
 
-def _expression_row(row: Sequence[Any]) -> ExpressionRow:
-    values = list(row)
-    where = ExpressionRow._fields.index("provenance")
-    provenance = values[where]
-    # PostgreSQL's driver decodes JSON already; SQLite hands over text
-    values[where] = (loads(provenance) if isinstance(provenance, str | bytes) else provenance) or {}
-    return ExpressionRow(*values)
+class _Rows:
+    """Turns stored rows into ExpressionRows with their whole provenance (the run's part
+    completed by the row's own, each run read once); with ``keys``, only those keys of it."""
+
+    def __init__(self, session: Session, keys: Sequence[str] | None = None) -> None:
+        self.runs = RunCache(session)
+        self.keys = keys
+        #: leave out who made and changed each row, and when
+        self.lean = False
+
+    def columns(self) -> list[Any]:
+        """The columns to select: without the provenance when no key of it is wanted,
+        without the bookkeeping when lean."""
+        columns: list[Any] = list(_EXPRESSION_COLUMNS)
+        if self.keys is not None and not self.keys:
+            columns[_PROVENANCE] = null().label("provenance")
+            columns[_RUN] = null().label("run_id")
+        if self.lean:
+            for name in ("created_at", "created_by", "updated_at", "updated_by"):
+                where = ExpressionRow._fields.index(name)
+                columns[where] = null().label(name)
+        return columns
+
+    def __call__(self, row: Sequence[Any]) -> ExpressionRow:
+        values = list(row)
+        values[_ORIGIN] = _ORIGINS.get(values[_ORIGIN], values[_ORIGIN])  # one string each
+        provenance = self.runs.full(values[_PROVENANCE], values[_RUN])
+        if self.keys is not None:
+            provenance = {k: provenance[k] for k in self.keys if k in provenance}
+        values[_PROVENANCE] = provenance
+        return ExpressionRow(*values)
+
+    def all(self, rows: Iterable[Sequence[Any]]) -> list[ExpressionRow]:
+        rows = list(rows)
+        self.runs.load(row[_RUN] for row in rows)
+        return [self(row) for row in rows]
 
 
 # --------------------------------------------------------------------------- lookups
@@ -292,15 +330,27 @@ def expression(session: Session, expression_id: int) -> ExpressionRow:
     ).first()
     if row is None:
         raise NotFoundError(f"no expression {expression_id} in the store")
-    return with_terms(session, [_expression_row(row)])[0]
+    return with_terms(session, _Rows(session).all([row]))[0]
 
 
 def expressions_of(
-    session: Session, reaction_ids: Sequence[int] | None = None
+    session: Session,
+    reaction_ids: Sequence[int] | None = None,
+    *,
+    provenance_keys: Sequence[str] | None = None,
+    lean: bool = False,
 ) -> dict[int, list[ExpressionRow]]:
     """Every expression in use of each reaction (all reactions when ``reaction_ids`` is None),
-    oldest first; withdrawn expressions, and those of withdrawn reactions, are left out."""
-    found = _expressions_by_reaction(session, reaction_ids)
+    oldest first; withdrawn expressions, and those of withdrawn reactions, are left out.
+
+    With ``provenance_keys``, each row's provenance holds only those keys (a reader of a
+    whole mechanism that needs one of them keeps no more in memory); with none, ``()``, it
+    is left empty and not read at all (:func:`ratebank.store.fingerprint.expression_records`
+    reads it for chosen expressions). ``lean`` leaves out who made and changed each
+    expression, and when (a whole mechanism's computation needs neither)."""
+    make = _Rows(session, provenance_keys)
+    make.lean = lean
+    found = _expressions_by_reaction(session, reaction_ids, make)
     if any(row.form == "sum" for rows in found.values() for row in rows):
         for reaction_id, rows in found.items():
             found[reaction_id] = with_terms(session, rows)
@@ -308,26 +358,77 @@ def expressions_of(
 
 
 def _expressions_by_reaction(
-    session: Session, reaction_ids: Sequence[int] | None
+    session: Session, reaction_ids: Sequence[int] | None, make: _Rows
 ) -> dict[int, list[ExpressionRow]]:
-    query = select(*_EXPRESSION_COLUMNS).where(expression_in_use()).order_by(Expression.id)
     if reaction_ids is None:
-        found: dict[int, list[ExpressionRow]] = {}
-        for row in fetch_all(session, query):
-            found.setdefault(row[1], []).append(_expression_row(row))
-        return found
-    found = {i: [] for i in reaction_ids}
+        return dict(_stream(session, make))
+    found: dict[int, list[ExpressionRow]] = {i: [] for i in reaction_ids}
     wanted = list(found)
     if len(wanted) > 5000:  # most of the store: one pass beats thousands of IN lists
-        for row in fetch_all(session, query):
-            if row[1] in found:
-                found[row[1]].append(_expression_row(row))
+        for reaction_id, rows in _stream(session, make):
+            if reaction_id in found:
+                found[reaction_id] = rows
         return found
+    query = select(*make.columns()).where(expression_in_use()).order_by(Expression.id)
     for start in range(0, len(wanted), 500):
         chunk = wanted[start : start + 500]
-        for row in session.execute(query.where(Expression.reaction_id.in_(chunk))):
-            found[row[1]].append(_expression_row(row))
+        for row in make.all(session.execute(query.where(Expression.reaction_id.in_(chunk)))):
+            found[row.reaction_id].append(row)
     return found
+
+
+#: Expression rows fetched at a time by :func:`expressions_by_reaction`.
+_STREAM_BATCH = 2_000
+
+
+def expressions_by_reaction(
+    session: Session, *, provenance_keys: Sequence[str] | None = ()
+) -> Iterator[tuple[int, list[ExpressionRow]]]:
+    """(reaction id, its expressions in use, oldest first) for every reaction that has one,
+    by reaction id, read in one pass a batch at a time: a reader of the whole mechanism that
+    keeps one expression per reaction never holds them all. ``provenance_keys`` as for
+    :func:`expressions_of` (none by default); who made and changed each, and when, are left
+    out."""
+    make = _Rows(session, provenance_keys)
+    make.lean = True
+    return _stream(session, make)
+
+
+def _stream(session: Session, make: _Rows) -> Iterator[tuple[int, list[ExpressionRow]]]:
+    """The expressions in use grouped by reaction, by reaction id, fetched a batch at a time
+    through the raw driver (no list of every row)."""
+    if make.keys is None or make.keys:
+        make.runs.load(_runs_in_use(session))
+    query = (
+        select(*make.columns())
+        .where(expression_in_use())
+        .order_by(Expression.reaction_id, Expression.id)
+    )
+    connection = session.connection()
+    compiled = query.compile(dialect=connection.dialect, compile_kwargs={"literal_binds": True})
+    raw = connection.connection.dbapi_connection
+    assert raw is not None
+    cursor = raw.cursor()
+    group: list[ExpressionRow] = []
+    try:
+        cursor.execute(str(compiled))
+        while batch := cursor.fetchmany(_STREAM_BATCH):
+            rows = [make(row) for row in batch]
+            if any(row.form == "sum" for row in rows):
+                rows = with_terms(session, rows)
+            for row in rows:
+                if group and group[0].reaction_id != row.reaction_id:
+                    yield group[0].reaction_id, group
+                    group = []
+                group.append(row)
+        if group:
+            yield group[0].reaction_id, group
+    finally:
+        cursor.close()
+
+
+def _runs_in_use(session: Session) -> list[int]:
+    return list(session.scalars(select(ProvenanceRun.id)))
 
 
 def newest_fits(session: Session, reaction_ids: Sequence[int]) -> dict[int, ExpressionRow]:
@@ -338,9 +439,7 @@ def newest_fits(session: Session, reaction_ids: Sequence[int]) -> dict[int, Expr
         f"WHERE origin = 'measured-fit' AND {EXPRESSION_IN_USE_SQL} "
         "AND reaction_id IN ({marks}) GROUP BY reaction_id)"
     )
-    rows = with_terms(
-        session, [_expression_row(row) for row in fetch_in(session, query, list(reaction_ids))]
-    )
+    rows = with_terms(session, _Rows(session).all(fetch_in(session, query, list(reaction_ids))))
     return {row.reaction_id: row for row in rows}
 
 
@@ -351,7 +450,7 @@ def _sql_column(column: Any) -> str:
 def with_terms(session: Session, rows: list[ExpressionRow]) -> list[ExpressionRow]:
     """``rows`` with the further terms of each ``sum`` filled in (one query, none without
     a sum)."""
-    sums = [row.id for row in rows if row.form == "sum"]
+    sums = [row.id for row in rows if row.form == "sum" and not row.terms]
     if not sums:
         return rows
     query = (
@@ -381,7 +480,7 @@ def measured_fits(session: Session, *, reaction_class: str | None = None) -> lis
     )
     if reaction_class is not None:
         query = query.where(Reaction.reaction_class == reaction_class)
-    return with_terms(session, [_expression_row(row) for row in session.execute(query)])
+    return with_terms(session, _Rows(session).all(session.execute(query)))
 
 
 def set_labels(session: Session, set_ids: Iterable[int]) -> dict[int, str]:

@@ -334,6 +334,18 @@ class EditableExpression:
         return self.reaction_order - 1 if limits else self.reaction_order
 
 
+def _full_provenance(expression: Expression) -> dict[str, Any]:
+    """The loaded expression's whole provenance (its run's part completed by its own)."""
+    from sqlalchemy.orm import object_session
+
+    from ratebank.store.runs import full_provenance
+
+    session = object_session(expression)
+    if expression.run_id is None or session is None:
+        return dict(expression.provenance or {})
+    return full_provenance(session, expression.provenance, expression.run_id)
+
+
 def _editable(expression: Expression, reaction: Reaction) -> EditableExpression:
     return EditableExpression(
         id=expression.id,
@@ -348,7 +360,7 @@ def _editable(expression: Expression, reaction: Reaction) -> EditableExpression:
         uncertainty_factor=expression.uncertainty_factor,
         uncertainty_g=expression.uncertainty_g,
         reference=expression.reference,
-        provenance=dict(expression.provenance or {}),
+        provenance=_full_provenance(expression),
         version=expression.version,
         created_at=expression.created_at,
         created_by=expression.created_by,

@@ -29,6 +29,7 @@ KNOWN_REVISIONS: tuple[str, ...] = (
     "0008",
     "0009",
     "0010",
+    "0011",
 )
 HEAD_REVISION = KNOWN_REVISIONS[-1]
 

@@ -18,6 +18,7 @@ from sqlalchemy.orm import Session
 from ratebank.store.bulk import fetch_all, fetch_in
 from ratebank.store.models import Expression, MeasurementSet, Point
 from ratebank.store.records import insert_points
+from ratebank.store.runs import RunCache
 
 #: Rows per ``IN (...)`` list.
 _CHUNK = 500
@@ -163,13 +164,14 @@ def fits_using_sets(session: Session, set_ids: Sequence[int]) -> dict[int, list[
     wanted = set(set_ids)
     reactions = select(MeasurementSet.reaction_id).where(MeasurementSet.id.in_(sorted(wanted)))
     query = (
-        select(Expression.id, Expression.provenance)
+        select(Expression.id, Expression.provenance, Expression.run_id)
         .where(Expression.reaction_id.in_(reactions))
         .order_by(Expression.id)
     )
     found: dict[int, list[int]] = {}
-    for expression_id, provenance in session.execute(query):
-        for set_id in (provenance or {}).get("set_ids") or ():
+    provenances = RunCache(session)
+    for expression_id, provenance, run_id in session.execute(query):
+        for set_id in provenances.full(provenance, run_id).get("set_ids") or ():
             if set_id in wanted:
                 found.setdefault(set_id, []).append(expression_id)
     return found

@@ -15,6 +15,7 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import NotFoundError
 from ratebank.store.models import Expression, MeasurementSet, Point, Reaction
+from ratebank.store.runs import RunCache
 from ratebank.store.set_updates import SetPoints, fits_using_sets, set_points
 
 
@@ -108,12 +109,15 @@ def _fits(session: Session, ids: list[int]) -> list[FitUse]:
             Expression.recommended,
             Expression.created_at,
             Expression.provenance,
+            Expression.run_id,
         )
         .where(Expression.id.in_(ids))
         .order_by(Expression.id)
     )
+    provenances = RunCache(session)
     return [
-        FitUse(*row[:6], n_points=(row[6] or {}).get("n_points")) for row in session.execute(query)
+        FitUse(*row[:6], n_points=provenances.full(row[6], row[7]).get("n_points"))
+        for row in session.execute(query)
     ]
 
 

@@ -33,6 +33,7 @@ from ratebank.store.models import (
     ThirdBodyEfficiency,
     utc_now,
 )
+from ratebank.store.runs import RunCache
 
 #: Rows per ``IN (...)`` list.
 _CHUNK = 500
@@ -234,6 +235,7 @@ def stored_expressions(
     """The stored expressions of these reactions and origins, with their further terms."""
     found: list[StoredExpression] = []
     columns = [getattr(Expression, name) for name in EXPRESSION_FIELDS]
+    provenances = RunCache(session)
     for chunk in _chunks(sorted(set(reaction_ids))):
         rows = session.execute(
             select(
@@ -243,15 +245,16 @@ def stored_expressions(
                 Expression.origin,
                 Expression.version,
                 Expression.provenance,
+                Expression.run_id,
                 *columns,
             ).where(Expression.reaction_id.in_(chunk), Expression.origin.in_(list(origins)))
         ).all()
         terms = _terms_of(session, [row[0] for row in rows])
+        provenances.load(row[6] for row in rows)
         for row in rows:
-            values = dict(zip(EXPRESSION_FIELDS, row[6:], strict=True))
-            found.append(
-                StoredExpression(*row[:5], values, terms.get(row[0], ()), dict(row[5] or {}))
-            )
+            values = dict(zip(EXPRESSION_FIELDS, row[7:], strict=True))
+            provenance = provenances.full(row[5], row[6])
+            found.append(StoredExpression(*row[:5], values, terms.get(row[0], ()), provenance))
     return found
 
 
@@ -307,6 +310,7 @@ def update_expression_numbers(
             raise ValueError(f"unknown expression field {name!r}")
         setattr(expression, name, value)
     expression.provenance = dict(provenance)
+    expression.run_id = None  # the provenance written is whole
     expression.updated_at = utc_now()
     expression.updated_by = session.info.get("author")
     if terms is not None:

@@ -509,7 +509,7 @@ def test_export_reproduces_independent_numbers(mechanism, out, choice):
     from ratebank import __version__
 
     assert extra["version"] == __version__
-    assert re.fullmatch(r"sha256:[0-9a-f]{64}", extra["store_fingerprint"])
+    assert re.fullmatch(r"sha256:[0-9a-f]{64}", extra["content_fingerprint"])
     created = dt.datetime.fromisoformat(extra["created"])
     assert abs((dt.datetime.now(dt.UTC) - created).total_seconds()) < 600
     assert meta["created"] == extra["created"]
@@ -529,7 +529,7 @@ def test_export_reproduces_independent_numbers(mechanism, out, choice):
     # the fingerprint is of the content: a second export of the same store gives the same
     ok(mechanism, "export", str(out / "again"), *options)
     again = json.loads((out / "again" / "datapackage.json").read_text(encoding="utf-8"))
-    assert again["ratebank"]["store_fingerprint"] == extra["store_fingerprint"]
+    assert again["ratebank"]["content_fingerprint"] == extra["content_fingerprint"]
 
 
 def test_descriptor_validation_catches_a_corrupted_table(mechanism, out, tmp_path):
@@ -872,7 +872,7 @@ def test_recommend_changes_the_exported_expression(mechanism, out, tmp_path):
     meta_first = json.loads((out / "first" / "datapackage.json").read_text(encoding="utf-8"))
     meta = json.loads((out / "second" / "datapackage.json").read_text(encoding="utf-8"))
     assert meta["ratebank"]["chosen_by"]["o-o3"] == {"expression_id": lit_id, "rule": "recommended"}
-    assert meta["ratebank"]["store_fingerprint"] != meta_first["ratebank"]["store_fingerprint"]
+    assert meta["ratebank"]["content_fingerprint"] != meta_first["ratebank"]["content_fingerprint"]
 
 
 # --------------------------------------------------------------------------- 7: fit forms
