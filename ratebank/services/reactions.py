@@ -1,4 +1,4 @@
-"""Reactions: import and add them, list them with what the store knows of each, show one.
+"""Reactions: import and add them, and show one (listed by :mod:`.quick_listings`).
 
 Every function takes an open :class:`~sqlalchemy.orm.Session` and works in
 its transaction; the caller commits. A reaction is found by its key or by any
@@ -9,18 +9,12 @@ from __future__ import annotations
 
 from sqlalchemy.orm import Session
 
-from ratebank.errors import BadInputError
 from ratebank.science.formula import parse_formula
 from ratebank.services.progress import NoProgress, Progress
 from ratebank.services.updates import UpdatePlan, change_text, differs, record_changes
 from ratebank.services.validate import ImportSummary, Problems, Row, cell, validate_reactions
 from ratebank.store import audit
-from ratebank.store.listings import (
-    ReactionDetail,
-    ReactionSummary,
-    reaction_detail,
-    reaction_summaries,
-)
+from ratebank.store.listings import ReactionDetail, reaction_detail
 from ratebank.store.records import (
     NewReaction,
     insert_reactions,
@@ -29,11 +23,6 @@ from ratebank.store.records import (
     species_formulas,
 )
 from ratebank.store.updates import StoredReaction, stored_reactions, update_reaction
-
-#: Reaction status words used by listings and filters, in order of precedence: has measured
-#: k(T) sets; has a complete expression (A, n, Ea) but no measurements; has only an activation
-#: energy (A still to be estimated); has neither measurements nor an expression.
-STATUSES = ("measured", "complete", "ea-only", "nothing")
 
 
 def import_reactions(
@@ -191,29 +180,6 @@ def add_reaction(
     """Add one reaction, checked exactly as an imported one."""
     row = {"key": key, "equation": equation, "class": reaction_class, "notes": notes}
     return import_reactions(session, [(None, row)], source="command line")
-
-
-def list_reactions(
-    session: Session,
-    *,
-    species: str | None = None,
-    reaction_class: str | None = None,
-    status: str | None = None,
-    include_withdrawn: bool = False,
-) -> list[ReactionSummary]:
-    """Reactions by key; only those involving ``species``, of a class, or of a status
-    (:data:`STATUSES`), when given."""
-    if status is not None and status not in STATUSES:
-        raise BadInputError(
-            f"unknown status {status!r}; expected one of {', '.join(STATUSES)}", argument="status"
-        )
-    return reaction_summaries(
-        session,
-        species=species,
-        reaction_class=reaction_class,
-        status=status,
-        include_withdrawn=include_withdrawn,
-    )
 
 
 def show_reaction(session: Session, key_or_equation: str) -> ReactionDetail:

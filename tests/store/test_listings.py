@@ -12,13 +12,12 @@ from ratebank.store.listings import (
     expression_summaries,
     history,
     reaction_detail,
-    reaction_summaries,
     set_sources,
     set_summaries,
     species_detail,
     species_summaries,
-    store_counts,
 )
+from ratebank.store.quick_listings import reaction_summaries, store_counts
 
 
 @pytest.fixture
