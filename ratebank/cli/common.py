@@ -33,6 +33,10 @@ if TYPE_CHECKING:  # rich.console is imported when a console is first made: JSON
     from rich.console import Console
 
 
+#: The ``--json`` option of every command that can print JSON instead of a table.
+JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
+
+
 @dataclass
 class GlobalOptions:
     db: str | None = None

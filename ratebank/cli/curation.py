@@ -1,7 +1,8 @@
 """Commands that let curation change its mind: edit species, reactions, sets and points;
 withdraw, reinstate and remove any record.
 
-Attached to the application by :func:`register`.
+Attached to the application by :func:`register`, the edits to their groups by
+:func:`attach_edits`.
 """
 
 from __future__ import annotations
@@ -23,13 +24,17 @@ RECORD_ARGUMENT = typer.Argument(
 )
 
 
-def register(
-    app: typer.Typer, species_app: typer.Typer, reactions_app: typer.Typer, data_app: typer.Typer
-) -> None:
-    """Attach ``withdraw``, ``reinstate``, ``remove`` and the edit commands."""
+def register(app: typer.Typer) -> None:
+    """Attach ``withdraw``, ``reinstate`` and ``remove``."""
     app.command("withdraw")(withdraw)
     app.command("reinstate")(reinstate)
     app.command("remove")(remove)
+
+
+def attach_edits(
+    species_app: typer.Typer, reactions_app: typer.Typer, data_app: typer.Typer
+) -> None:
+    """Attach the edit commands to their groups."""
     species_app.command("edit")(species_edit)
     reactions_app.command("edit")(reactions_edit)
     data_app.command("edit-set")(data_edit_set)
