@@ -62,7 +62,7 @@ COMMANDS: tuple[tuple[str, str | None], ...] = (
 
 
 @cache
-def _commands_of(module: str) -> dict[str, Any]:
+def commands_of(module: str) -> dict[str, Any]:
     """The commands that ``ratebank.cli.<module>.register`` attaches, built once."""
     part = typer.Typer(add_completion=False, pretty_exceptions_enable=False, rich_markup_mode=None)
     importlib.import_module(f"ratebank.cli.{module}").register(part)
@@ -79,7 +79,7 @@ class _CommandsOnDemand(MutableMapping[str, Any]):
 
     def __getitem__(self, name: str) -> Any:
         if name not in self._built and name in self._module:
-            self._built.update(_commands_of(self._module[name]))
+            self._built.update(commands_of(self._module[name]))
         return self._built[name]
 
     def __setitem__(self, name: str, command: Any) -> None:

@@ -12,6 +12,7 @@ import typer
 
 from ratebank.cli import admin as admin_commands
 from ratebank.cli import curation as curation_commands
+from ratebank.cli import species_options
 from ratebank.cli.common import (
     JSON_OPTION,
     STATE,
@@ -86,49 +87,27 @@ def species_add(
     molar_mass: float = typer.Option(
         None, "--molar-mass", help="g/mol (default: from formula).", parser=number
     ),
-    diameter: float = typer.Option(
-        None, "--diameter", help="Collision diameter in Å.", parser=number
-    ),
-    diameter_kind: str = typer.Option(
-        None, "--diameter-kind", help="hard-sphere or lennard-jones."
-    ),
-    well_depth: float = typer.Option(
-        None, "--well-depth", help="Well depth ε/k_B in K.", parser=number
-    ),
-    critical_temperature: float = typer.Option(
-        None, "--tc", help="Critical temperature in K.", parser=number
-    ),
-    critical_pressure: float = typer.Option(
-        None, "--pc", help="Critical pressure in bar.", parser=number
-    ),
-    acentric_factor: float = typer.Option(
-        None, "--acentric", help="Acentric factor.", parser=number
-    ),
+    diameter: float = species_options.DIAMETER,
+    diameter_kind: str = species_options.DIAMETER_KIND,
+    well_depth: float = species_options.WELL_DEPTH,
+    critical_temperature: float = species_options.CRITICAL_TEMPERATURE,
+    critical_pressure: float = species_options.CRITICAL_PRESSURE,
+    acentric_factor: float = species_options.ACENTRIC_FACTOR,
     boiling_volume: float = typer.Option(
         None,
         "--boiling-volume",
         help="Molar volume at the normal boiling point, cm3/mol.",
         parser=number,
     ),
-    source: str = typer.Option(None, "--source", help="Where the numbers come from."),
+    source: str = species_options.SOURCE,
 ) -> None:
     """Add one species.
 
     Example: ratebank species add CH3OH CH3OH --tc 512.6 --pc 80.97
     """
-    fields = {
-        "molar_mass_g_per_mol": molar_mass,
-        "diameter_angstrom": diameter,
-        "diameter_kind": diameter_kind,
-        "well_depth_K": well_depth,
-        "critical_temperature_K": critical_temperature,
-        "critical_pressure_bar": critical_pressure,
-        "acentric_factor": acentric_factor,
-        "boiling_volume_cm3_per_mol": boiling_volume,
-        "source": source,
-    }
+    fields = species_options.species_fields(locals())
     with opened_store() as store:
-        store.add_species(name, formula, **fields)
+        store.add_species(name, **fields)
     say(f"Added species {name}.")
 
 

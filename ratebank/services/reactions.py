@@ -7,13 +7,14 @@ spelling of its equation.
 
 from __future__ import annotations
 
+from operator import attrgetter
+
 from sqlalchemy.orm import Session
 
 from ratebank.science.formula import parse_formula
 from ratebank.services.progress import NoProgress, Progress
-from ratebank.services.updates import UpdatePlan, change_text, differs, record_changes
+from ratebank.services.updates import RecordKind, UpdatePlan, apply_import, change_text, differs
 from ratebank.services.validate import ImportSummary, Problems, Row, cell, validate_reactions
-from ratebank.store import audit
 from ratebank.store.listings import ReactionDetail, reaction_detail
 from ratebank.store.records import (
     NewReaction,
@@ -55,19 +56,19 @@ def import_reactions(
     plan = _reaction_plan(rows, reactions, stored, problems)
     problems.raise_if_any(source)
     new = [r for r in reactions if r.key not in keys]
-    plan.added = len(new)
-    if not dry_run:
-        _write_reactions(session, source, new, plan, stored)
-    return ImportSummary(
-        "reactions",
-        source,
-        len(rows),
-        len(new),
-        dry_run,
-        update=update,
-        changed=plan.changed,
-        unchanged=plan.unchanged,
+
+    def write() -> None:
+        _update_reactions(session, plan, stored)
+
+    return apply_import(
+        session, REACTIONS, new, plan, write, source, rows, dry_run=dry_run, update=update
     )
+
+
+#: How an import writes reactions.
+REACTIONS = RecordKind(
+    "reactions", "reactions.add", "reaction.update", "keys", attrgetter("key"), insert_reactions
+)
 
 
 #: The reaction fields an update compares: (stored name, file column).
@@ -127,18 +128,11 @@ def _reaction_plan(
     return plan
 
 
-def _write_reactions(
-    session: Session,
-    source: str,
-    new: list[NewReaction],
-    plan: _ReactionPlan,
-    stored: dict[str, StoredReaction],
+def _update_reactions(
+    session: Session, plan: _ReactionPlan, stored: dict[str, StoredReaction]
 ) -> None:
-    if new:
-        insert_reactions(session, new)
-        audit.record(
-            session, "reactions.add", source, count=len(new), keys=[r.key for r in new[:20]]
-        )
+    """Write each changed reaction of ``plan``: the fields the file has, and a new equation
+    with its participants."""
     for reaction in plan.writes:
         before = stored[reaction.key]
         values = {
@@ -166,7 +160,6 @@ def _write_reactions(
                 for name, count in counts.items()
             ]
         update_reaction(session, before.id, values, participants)
-    record_changes(session, "reaction.update", source, plan.changes)
 
 
 def add_reaction(
