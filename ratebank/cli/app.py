@@ -43,7 +43,8 @@ Example: ratebank --db group.db species list
 
 #: Every command of ``ratebank`` in the order its help lists them, with the module of
 #: ``ratebank.cli`` whose ``register`` attaches it (None: this module). A command's module,
-#: and what it renders with, is imported only when that command runs or is listed.
+#: and what it renders with, is imported, and the command (or group) built, only when that
+#: command runs or is listed.
 COMMANDS: tuple[tuple[str, str | None], ...] = (
     *((name, "kinetics") for name in ("fit", "estimate", "check", "rate", "recommend")),
     ("export", "kinetics"),
@@ -61,13 +62,28 @@ COMMANDS: tuple[tuple[str, str | None], ...] = (
 )
 
 
-@cache
-def commands_of(module: str) -> dict[str, Any]:
-    """The commands that ``ratebank.cli.<module>.register`` attaches, built once."""
+def attached(module: str) -> typer.Typer:
+    """A typer app holding what ``ratebank.cli.<module>.register`` attaches, as the
+    ``ratebank`` app would (no markup in help texts)."""
     part = typer.Typer(add_completion=False, pretty_exceptions_enable=False, rich_markup_mode=None)
     importlib.import_module(f"ratebank.cli.{module}").register(part)
+    return part
+
+
+def names_attached(module: str) -> list[str]:
+    """The names of the commands and groups that ``module`` attaches."""
+    part = attached(module)
+    return [info.name for info in (*part.registered_commands, *part.registered_groups)]
+
+
+@cache
+def command_named(module: str, name: str) -> Any:
+    """The command (or group) ``name`` that ``module`` attaches, built once, alone."""
+    part = attached(module)
+    part.registered_commands = [i for i in part.registered_commands if i.name == name]
+    part.registered_groups = [i for i in part.registered_groups if i.name == name]
     built = typer.main.get_command(part)
-    return dict(getattr(built, "commands", None) or {built.name: built})
+    return built.commands[name] if hasattr(built, "commands") else built
 
 
 class _CommandsOnDemand(MutableMapping[str, Any]):
@@ -79,7 +95,7 @@ class _CommandsOnDemand(MutableMapping[str, Any]):
 
     def __getitem__(self, name: str) -> Any:
         if name not in self._built and name in self._module:
-            self._built.update(commands_of(self._module[name]))
+            self._built[name] = command_named(self._module[name], name)
         return self._built[name]
 
     def __setitem__(self, name: str, command: Any) -> None:

@@ -74,7 +74,7 @@ def register(app: typer.Typer) -> None:
     app.command("recommend")(recommend)
     app.command("export")(export)
     app.add_typer(steric_app, name="steric")
-    plot_commands.register(app, steric_app)
+    plot_commands.register(app)
 
 
 def _fixed_values(texts: list[str] | None) -> dict[str, float]:
@@ -575,3 +575,7 @@ def steric_derived(
         print_json(derived_records(groups))
     else:
         show(derived_table(groups, collision))
+
+
+# the group's last command, as its help lists them
+steric_app.command("plot")(plot_commands.steric_plot)
