@@ -58,12 +58,12 @@ if TYPE_CHECKING:
         ExpressionSummary,
         HistoryEntry,
         ReactionDetail,
-        ReactionSummary,
         SetSummary,
         SpeciesDetail,
         SpeciesSummary,
     )
     from ratebank.store.queries import ExpressionRow, ReactionRow
+    from ratebank.store.quick_listings import ReactionSummary
     from ratebank.store.schema import InitResult
 
 __all__ = ["PlotResult", "Store", "backup", "demo", "init", "open", "restore"]
@@ -321,7 +321,7 @@ class Store:
         of ``status`` (``measured``, ``complete``, ``ea-only``, ``nothing``), when given; a
         list of ReactionSummary."""
         return self._read(
-            "reactions", "list_reactions",
+            "quick_listings", "list_reactions",
             species=species, reaction_class=reaction_class, status=status,
             include_withdrawn=include_withdrawn,
         )  # fmt: skip

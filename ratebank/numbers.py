@@ -34,6 +34,10 @@ def round_significant(value: float, digits: int = SIGNIFICANT_DIGITS) -> float:
     return float(f"{value:.{digits}g}")
 
 
+#: Types passed through as they are; checked first, as most values of a listing are these.
+_UNCHANGED = frozenset((str, int, bool, type(None)))
+
+
 def rounded(data: Any, digits: int = SIGNIFICANT_DIGITS) -> Any:
     """``data`` (nested dicts, lists and tuples) with every float rounded.
 
@@ -43,7 +47,10 @@ def rounded(data: Any, digits: int = SIGNIFICANT_DIGITS) -> Any:
     if isinstance(data, float):
         return round_significant(data, digits)
     if isinstance(data, dict):
-        return {key: rounded(value, digits) for key, value in data.items()}
+        return {
+            key: value if type(value) in _UNCHANGED else rounded(value, digits)
+            for key, value in data.items()
+        }
     if isinstance(data, list | tuple):
-        return [rounded(value, digits) for value in data]
+        return [value if type(value) in _UNCHANGED else rounded(value, digits) for value in data]
     return data

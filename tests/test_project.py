@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import doctest
 import importlib
+import json
 import pkgutil
 import shutil
 import subprocess
@@ -134,26 +135,56 @@ def test_every_command_is_documented_in_the_readme():
     assert missing == []
 
 
-def test_listing_does_not_import_heavy_modules(tmp_path):
-    db = tmp_path / "s.db"
+#: What ``reactions list`` must not import: the numerics, the migrations, the plots, typer's
+#: validators (pydantic), the terminal console (JSON draws nothing), the ORM model registry,
+#: the validators and the commands and services of other groups.
+NOT_FOR_A_LISTING = (
+    "numpy",
+    "scipy",
+    "alembic",
+    "matplotlib",
+    "pydantic",
+    "rich.console",
+    "ratebank.store.models",
+    "ratebank.store.listings",
+    "ratebank.services.validate",
+    "ratebank.services.reactions",
+    "ratebank.science.units",
+    "ratebank.io",
+    "ratebank.cli.kinetics",
+    "ratebank.cli.plot",
+    "ratebank.cli.thermo",
+    "ratebank.cli.release",
+    "ratebank.cli.review",
+    "ratebank.cli.efficiencies",
+)
+
+
+def test_listing_does_not_import_what_it_does_not_use(tmp_path):
+    db = str(tmp_path / "s.db")
+    store, _ = ratebank.init(db)
+    with store:
+        for name, formula in (("OH", "HO"), ("O", "O"), ("H2O", "H2O")):
+            store.add_species(name, formula)
+        store.add_reaction("oh-oh", "OH + OH -> O + H2O")
     code = f"""
-import sys
+import json, sys
 from ratebank.cli.app import app
-from ratebank.services.store_access import init_store
-store, _ = init_store({str(db)!r}); store.close()
-for name in list(sys.modules):
-    if name.startswith(("numpy", "scipy", "alembic", "matplotlib")):
-        del sys.modules[name]
 try:
-    app(["--db", {str(db)!r}, "reactions", "list", "--json"], standalone_mode=False)
-except SystemExit:
-    pass
-heavy = sorted(n for n in sys.modules if n.split(".")[0] in ("numpy", "scipy", "alembic", "matplotlib"))
-print("HEAVY", heavy[:5])
+    app(["--db", {db!r}, "reactions", "list", "--species", "OH", "--json"], prog_name="ratebank")
+except SystemExit as stop:
+    assert not stop.code, stop.code
+print(json.dumps(sorted(sys.modules)), file=sys.stderr)
 """
     result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert result.returncode == 0, result.stderr
-    assert "HEAVY []" in result.stdout, result.stdout
+    assert [row["key"] for row in json.loads(result.stdout)] == ["oh-oh"]
+    loaded = json.loads(result.stderr.splitlines()[-1])
+    unwanted = [m for m in loaded if m in NOT_FOR_A_LISTING or m.startswith(_PREFIXES)]
+    assert unwanted == []
+
+
+_PREFIXES = tuple(f"{name}." for name in NOT_FOR_A_LISTING)
 
 
 def test_version():

@@ -1,6 +1,7 @@
 """Commands that keep the store trustworthy: edit an expression, back up, restore.
 
-Attached to the application by :func:`register`.
+Attached to the application by :func:`register`; ``expressions edit`` is attached to its
+group by ``ratebank.cli.records``.
 """
 
 from __future__ import annotations
@@ -23,9 +24,8 @@ _FIELD_WORDS = {
 }
 
 
-def register(app: typer.Typer, expressions_app: typer.Typer) -> None:
-    """Attach ``expressions edit``, ``backup`` and ``restore``."""
-    expressions_app.command("edit")(expressions_edit)
+def register(app: typer.Typer) -> None:
+    """Attach ``backup`` and ``restore``."""
     app.command("backup")(backup)
     app.command("restore")(restore)
 

@@ -15,10 +15,9 @@ import warnings
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import typer
-from rich.console import Console
 from sqlalchemy.exc import DataError, DBAPIError, IntegrityError, OperationalError, SQLAlchemyError
 from sqlalchemy.orm.exc import StaleDataError
 from typer.core import TyperGroup
@@ -26,9 +25,16 @@ from typer.core import TyperGroup
 from ratebank import api
 from ratebank.api import Store
 from ratebank.errors import BadInputError, ExportGapsError, RatebankError, RefusedEstimateError
-from ratebank.services.input_rules import NUMBER_PADDING, number_text_problem
+from ratebank.services.number_syntax import NUMBER_PADDING, number_text_problem
 from ratebank.store.constraints import explain_integrity_error
 from ratebank.store.engine import database_url, explain_sqlite_error, mask_url, redact
+
+if TYPE_CHECKING:  # rich.console is imported when a console is first made: JSON needs none
+    from rich.console import Console
+
+
+#: The ``--json`` option of every command that can print JSON instead of a table.
+JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 
 
 @dataclass
@@ -49,6 +55,8 @@ def console() -> Console:
     """The stdout console; wide when not a terminal so tables are not cut."""
     global _console
     if _console is None:
+        from rich.console import Console
+
         width = None if sys.stdout.isatty() else int(os.environ.get("COLUMNS", "200"))
         _console = Console(width=width, highlight=False)
     return _console
@@ -57,6 +65,8 @@ def console() -> Console:
 def error_console() -> Console:
     global _error_console
     if _error_console is None:
+        from rich.console import Console
+
         _error_console = Console(stderr=True, highlight=False, soft_wrap=True)
     return _error_console
 
@@ -252,8 +262,52 @@ def with_option_names(exc: RatebankError, command: Any, leaf: Any = None) -> str
     return f"{message} (option {option})" if option else message
 
 
+class _AsTyped:
+    """The value of a text option or a flag as the parser gives it: what typer's own
+    coercion makes of it.
+
+    typer coerces every value through a validator it builds on first use, and building
+    the first one imports pydantic, which costs a listing more than its query. Text and
+    flags need no validator, so :func:`take_as_typed` gives such options this stand-in
+    instead (typer < 0.30 looks it up as ``_runtime_param``; ``tests/test_project.py``
+    fails when a listing imports pydantic again).
+    """
+
+    def coerce(self, value: Any, param: Any, ctx: Any) -> Any:
+        if value is None or isinstance(value, str | bool):
+            return value
+        return str(value)
+
+
+_AS_TYPED = _AsTyped()
+
+
+def _plain(param: Any) -> bool:
+    """A text option or argument (one value, no parser), or a flag not read from the
+    environment (so always True, False or None)."""
+    described = getattr(param, "type_descriptor", None)
+    if described is None or param.nargs != 1 or param.multiple:
+        return False
+    if described.annotation is bool:
+        return bool(getattr(param, "is_flag", False)) and not param.envvar
+    return described.annotation is str and described.parameter_info.parser is None
+
+
+def take_as_typed(command: Any, ctx: Any) -> None:
+    """Let the plain options of ``command`` (:func:`_plain`), its help option among them,
+    skip typer's validator; ``ctx`` is its context or its parent's (whose help option
+    names it inherits)."""
+    for param in command.get_params(ctx):
+        if getattr(param, "_runtime_param", "") is None and _plain(param):
+            param._runtime_param = _AS_TYPED
+
+
 class RatebankGroup(TyperGroup):
     """A command group that turns every error into one line and an exit code."""
+
+    def parse_args(self, ctx: Any, args: list[str]) -> list[str]:
+        take_as_typed(self, ctx)
+        return super().parse_args(ctx, args)
 
     def resolve_command(self, ctx: Any, args: list[str]) -> Any:
         name, command, rest = super().resolve_command(ctx, args)
@@ -261,9 +315,11 @@ class RatebankGroup(TyperGroup):
         depth = 0
         leaf = command
         while leaf is not None and hasattr(leaf, "commands"):
+            take_as_typed(leaf, ctx)
             leaf = leaf.commands.get(rest[depth]) if depth < len(rest) else None
             depth += 1
         if leaf is not None:
+            take_as_typed(leaf, ctx)
             ctx.meta["ratebank.leaf"] = leaf
             path = " ".join([name, *rest[:depth]])
             rest = [*rest[:depth], *prepare_arguments(leaf, rest[depth:], path)]

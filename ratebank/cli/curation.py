@@ -1,7 +1,8 @@
 """Commands that let curation change its mind: edit species, reactions, sets and points;
 withdraw, reinstate and remove any record.
 
-Attached to the application by :func:`register`.
+Attached to the application by :func:`register`, the edits to their groups by
+:func:`attach_edits`.
 """
 
 from __future__ import annotations
@@ -10,6 +11,7 @@ from typing import Any
 
 import typer
 
+from ratebank.cli import species_options
 from ratebank.cli.common import calls, number, opened_store, say
 
 EXPECT_VERSION = typer.Option(
@@ -23,13 +25,17 @@ RECORD_ARGUMENT = typer.Argument(
 )
 
 
-def register(
-    app: typer.Typer, species_app: typer.Typer, reactions_app: typer.Typer, data_app: typer.Typer
-) -> None:
-    """Attach ``withdraw``, ``reinstate``, ``remove`` and the edit commands."""
+def register(app: typer.Typer) -> None:
+    """Attach ``withdraw``, ``reinstate`` and ``remove``."""
     app.command("withdraw")(withdraw)
     app.command("reinstate")(reinstate)
     app.command("remove")(remove)
+
+
+def attach_edits(
+    species_app: typer.Typer, reactions_app: typer.Typer, data_app: typer.Typer
+) -> None:
+    """Attach the edit commands to their groups."""
     species_app.command("edit")(species_edit)
     reactions_app.command("edit")(reactions_edit)
     data_app.command("edit-set")(data_edit_set)
@@ -97,45 +103,22 @@ def species_edit(
     expect_version: int = EXPECT_VERSION,
     formula: str = typer.Option(None, "--formula", help="Formula, e.g. CH3OH."),
     molar_mass: float = typer.Option(None, "--molar-mass", help="g/mol.", parser=number),
-    diameter: float = typer.Option(
-        None, "--diameter", help="Collision diameter in Å.", parser=number
-    ),
-    diameter_kind: str = typer.Option(
-        None, "--diameter-kind", help="hard-sphere or lennard-jones."
-    ),
-    well_depth: float = typer.Option(
-        None, "--well-depth", help="Well depth ε/k_B in K.", parser=number
-    ),
-    critical_temperature: float = typer.Option(
-        None, "--tc", help="Critical temperature in K.", parser=number
-    ),
-    critical_pressure: float = typer.Option(
-        None, "--pc", help="Critical pressure in bar.", parser=number
-    ),
-    acentric_factor: float = typer.Option(
-        None, "--acentric", help="Acentric factor.", parser=number
-    ),
+    diameter: float = species_options.DIAMETER,
+    diameter_kind: str = species_options.DIAMETER_KIND,
+    well_depth: float = species_options.WELL_DEPTH,
+    critical_temperature: float = species_options.CRITICAL_TEMPERATURE,
+    critical_pressure: float = species_options.CRITICAL_PRESSURE,
+    acentric_factor: float = species_options.ACENTRIC_FACTOR,
     dipole_moment: float = typer.Option(
         None, "--dipole", help="Dipole moment in debye.", parser=number
     ),
-    source: str = typer.Option(None, "--source", help="Where the numbers come from."),
+    source: str = species_options.SOURCE,
 ) -> None:
     """Change a species (refused if it changed since you read it).
 
     Example: ratebank species edit OH --diameter 2.75 --expect-version 1
     """
-    fields = {
-        "formula": formula,
-        "molar_mass_g_per_mol": molar_mass,
-        "diameter_angstrom": diameter,
-        "diameter_kind": diameter_kind,
-        "well_depth_K": well_depth,
-        "critical_temperature_K": critical_temperature,
-        "critical_pressure_bar": critical_pressure,
-        "acentric_factor": acentric_factor,
-        "dipole_moment_debye": dipole_moment,
-        "source": source,
-    }
+    fields = species_options.species_fields(locals())
     with opened_store() as store:
         result = store.edit_species(name, expected_version=expect_version, **fields)
     _said(result)

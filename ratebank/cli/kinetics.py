@@ -7,7 +7,17 @@ from typing import Any
 
 import typer
 
-from ratebank.cli.common import STATE, calls, number, opened_store, print_json, say, show
+from ratebank.cli import plot as plot_commands
+from ratebank.cli.common import (
+    JSON_OPTION,
+    STATE,
+    calls,
+    number,
+    opened_store,
+    print_json,
+    say,
+    show,
+)
 from ratebank.cli.progress import progress_bar
 from ratebank.errors import RefusedEstimateError
 from ratebank.report.kinetics import (
@@ -30,7 +40,6 @@ from ratebank.report.kinetics import (
 )
 from ratebank.report.thermo import reverse_rate_records, reverse_rate_table
 
-JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 PRESET_OPTION = typer.Option(
     "combustion", "--units", help="Unit preset for the table: combustion, atmospheric or si."
 )
@@ -65,6 +74,7 @@ def register(app: typer.Typer) -> None:
     app.command("recommend")(recommend)
     app.command("export")(export)
     app.add_typer(steric_app, name="steric")
+    plot_commands.register(app)
 
 
 def _fixed_values(texts: list[str] | None) -> dict[str, float]:
@@ -565,3 +575,7 @@ def steric_derived(
         print_json(derived_records(groups))
     else:
         show(derived_table(groups, collision))
+
+
+# the group's last command, as its help lists them
+steric_app.command("plot")(plot_commands.steric_plot)

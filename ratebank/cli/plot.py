@@ -35,10 +35,12 @@ DPI_OPTION = typer.Option(
 )
 
 
-def register(app: typer.Typer, steric_app: typer.Typer) -> None:
-    """Add ``plot`` to ``app`` and ``plot`` to the ``steric`` group ``steric_app``."""
+def register(app: typer.Typer, steric_app: typer.Typer | None = None) -> None:
+    """Add ``plot`` to ``app``, and ``plot`` to the ``steric`` group ``steric_app`` when given
+    (``ratebank.cli.kinetics`` attaches it to its own group once)."""
     app.command("plot")(plot)
-    steric_app.command("plot")(steric_plot)
+    if steric_app is not None:
+        steric_app.command("plot")(steric_plot)
 
 
 def _written(kind: str, result) -> str:  # type: ignore[no-untyped-def]

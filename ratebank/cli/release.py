@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import typer
 
-from ratebank.cli.common import calls, number, opened_store, print_json, say, show
+from ratebank.cli.common import JSON_OPTION, calls, number, opened_store, print_json, say, show
 from ratebank.report.releases import (
     diff_record,
     diff_summary,
@@ -13,8 +13,6 @@ from ratebank.report.releases import (
     release_table,
     releases_table,
 )
-
-JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 
 release_app = typer.Typer(
     help="Releases: the content of an export frozen under a name, never changed.\n\n"

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import typer
 
-from ratebank.cli.common import calls, opened_store, print_json, say, show
+from ratebank.cli.common import JSON_OPTION, calls, opened_store, print_json, say, show
 from ratebank.errors import BadInputError
 from ratebank.report.thermo import (
     import_message,
@@ -24,7 +24,6 @@ from ratebank.report.thermo import (
 )
 from ratebank.science.unit_presets import energy_unit_for
 
-JSON_OPTION = typer.Option(False, "--json", help="Print JSON (full precision) instead of a table.")
 PRESET_OPTION = typer.Option(
     "combustion", "--units", help="Unit preset: combustion, atmospheric or si."
 )

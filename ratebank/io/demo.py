@@ -17,7 +17,7 @@ from ratebank.io.export import ExportResult, export_mechanism
 from ratebank.services.checks import CheckReport, check_store
 from ratebank.services.estimation import EstimateReport, estimate
 from ratebank.services.fitting import FitReport, fit_reactions
-from ratebank.services.reactions import list_reactions
+from ratebank.services.quick_listings import list_reactions
 from ratebank.services.steric import set_reaction_steric
 from ratebank.services.store_access import store_counts
 from ratebank.services.validate import ImportSummary

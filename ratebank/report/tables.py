@@ -17,19 +17,18 @@ from ratebank.report.layout import ReportTable
 from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
 
 if TYPE_CHECKING:  # types only: the overview pulls in the checks, the import summary the
-    # validators; a listing should not pay for them
+    # validators, the listings the ORM models; a listing should not pay for them
     from ratebank.services.overview import ReactionOverview
     from ratebank.services.validate import ImportSummary
-
-from ratebank.store.listings import (
-    ExpressionSummary,
-    HistoryEntry,
-    ReactionDetail,
-    ReactionSummary,
-    SetSummary,
-    SpeciesDetail,
-    SpeciesSummary,
-)
+    from ratebank.store.listings import (
+        ExpressionSummary,
+        HistoryEntry,
+        ReactionDetail,
+        SetSummary,
+        SpeciesDetail,
+        SpeciesSummary,
+    )
+    from ratebank.store.quick_listings import ReactionSummary
 
 #: The one meaning of ★ in every table.
 RECOMMENDED_LEGEND = "★ recommended by the curator"

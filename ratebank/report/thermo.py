@@ -9,7 +9,6 @@ from typing import TYPE_CHECKING, Any
 from rich.table import Table
 
 from ratebank.report.format import shown, sig, trange
-from ratebank.science.unit_presets import kc_unit
 
 if TYPE_CHECKING:  # types only: a report module must stay light to import
     from ratebank.services.evans_polanyi import ClassRelation
@@ -188,6 +187,8 @@ def species_thermo_table(name: str, view: SpeciesThermoView | None) -> Table:
 
 
 def reaction_thermo_records(report: ReactionThermoReport, preset: str) -> dict[str, Any]:
+    from ratebank.science.unit_presets import kc_unit  # as in _energy: listings skip units
+
     unit, factor = kc_unit(preset, report.delta_n)
     return {
         "key": report.key,

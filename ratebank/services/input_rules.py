@@ -9,7 +9,9 @@ Numbers
     something it should not have, so it is refused with the reason. Values too
     close to zero to be stored at full precision (subnormal doubles, below
     about 2.2e-308) are refused too. Every importer and every command-line
-    number go through :func:`number_text_problem` (one cell) or
+    number go through :func:`number_text_problem` (one cell; the number rule
+    lives in :mod:`ratebank.services.number_syntax`, which needs neither the
+    equation parser nor the units, and is given here under the same names) or
     :func:`~ratebank.services.measurement_validation.number_problems` (a column,
     looking closely only at suspect cells);
     a property test checks that the two agree.
@@ -29,79 +31,21 @@ Temperatures
 
 from __future__ import annotations
 
-import math
-import re
-import sys
 import unicodedata
 
 from ratebank.errors import EquationError
 from ratebank.science.equation import check_species_name
 from ratebank.science.units import rate_to_si
+from ratebank.services.number_syntax import NUMBER_HINT as NUMBER_HINT
+from ratebank.services.number_syntax import NUMBER_PADDING as NUMBER_PADDING
+from ratebank.services.number_syntax import NUMBER_SYNTAX as NUMBER_SYNTAX
+from ratebank.services.number_syntax import PLAIN_CHARACTERS as PLAIN_CHARACTERS
+from ratebank.services.number_syntax import SMALLEST_NORMAL as SMALLEST_NORMAL
+from ratebank.services.number_syntax import number_text_problem as number_text_problem
+from ratebank.services.number_syntax import parse_number as parse_number
 
-#: The one accepted spelling of a number (after surrounding spaces are removed).
-NUMBER_SYNTAX = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
-#: Spaces allowed around a number.
-NUMBER_PADDING = " \t"
-#: The smallest positive value stored at full precision (the smallest normal double).
-SMALLEST_NORMAL = sys.float_info.min
 #: Temperatures [K] ratebank accepts for measurements and validity ranges.
 TEMPERATURE_RANGE_K = (10.0, 10000.0)
-#: How the number syntax is explained in messages.
-NUMBER_HINT = "written with the digits 0-9, an optional sign, '.' and exponent (e.g. 1.5e-12)"
-
-
-def number_text_problem(text: str) -> str | None:
-    """Why ``text`` is not a number in the accepted syntax, or None when it is one.
-
-    >>> number_text_problem("1.5e-12") is None, number_text_problem(" 300 ") is None
-    (True, True)
-    >>> number_text_problem("1_000")
-    "'1_000' is not a number written with the digits 0-9, an optional sign, '.' and exponent \
-(e.g. 1.5e-12)"
-    >>> number_text_problem("nan")
-    "'nan' is not a finite number"
-    """
-    stripped = text.strip(NUMBER_PADDING)
-    if NUMBER_SYNTAX.fullmatch(stripped):
-        value = float(stripped)
-        if not math.isfinite(value):
-            return f"{stripped} is too large for a number"
-        if value != 0 and abs(value) < SMALLEST_NORMAL:
-            return (
-                f"{stripped} is too close to zero to be stored at full precision (below "
-                f"{SMALLEST_NORMAL:.1e})"
-            )
-        return None
-    shown = text.strip()
-    try:
-        value = float(text)
-    except ValueError:
-        return f"{shown!r} is not a number"
-    if not math.isfinite(value):
-        return f"{shown!r} is not a finite number"
-    return f"{shown!r} is not a number {NUMBER_HINT}"
-
-
-def parse_number(text: str, what: str = "a number") -> float:
-    """The value of ``text`` in the accepted syntax; ValueError naming ``what`` otherwise.
-
-    >>> parse_number("-4.9")
-    -4.9
-    >>> parse_number("３００", "a temperature in K")
-    Traceback (most recent call last):
-    ...
-    ValueError: '３００' is not a number written with the digits 0-9, an optional sign, '.' \
-and exponent (e.g. 1.5e-12); expected a temperature in K
-    """
-    problem = number_text_problem(text)
-    if problem is not None:
-        raise ValueError(f"{problem}; expected {what}")
-    return float(text.strip(NUMBER_PADDING))
-
-
-#: Characters of the plain syntax: where a column holds only these, Python's ``float``
-#: reads exactly the texts :data:`NUMBER_SYNTAX` accepts.
-PLAIN_CHARACTERS = re.compile(r"[0-9+\-.eE \t]*")
 
 
 def temperature_problem(value: float) -> str | None:

@@ -1,4 +1,4 @@
-"""Reactions: import and add them, list them with what the store knows of each, show one.
+"""Reactions: import and add them, and show one (listed by :mod:`.quick_listings`).
 
 Every function takes an open :class:`~sqlalchemy.orm.Session` and works in
 its transaction; the caller commits. A reaction is found by its key or by any
@@ -7,20 +7,15 @@ spelling of its equation.
 
 from __future__ import annotations
 
+from operator import attrgetter
+
 from sqlalchemy.orm import Session
 
-from ratebank.errors import BadInputError
 from ratebank.science.formula import parse_formula
 from ratebank.services.progress import NoProgress, Progress
-from ratebank.services.updates import UpdatePlan, change_text, differs, record_changes
+from ratebank.services.updates import RecordKind, UpdatePlan, apply_import, change_text, differs
 from ratebank.services.validate import ImportSummary, Problems, Row, cell, validate_reactions
-from ratebank.store import audit
-from ratebank.store.listings import (
-    ReactionDetail,
-    ReactionSummary,
-    reaction_detail,
-    reaction_summaries,
-)
+from ratebank.store.listings import ReactionDetail, reaction_detail
 from ratebank.store.records import (
     NewReaction,
     insert_reactions,
@@ -29,11 +24,6 @@ from ratebank.store.records import (
     species_formulas,
 )
 from ratebank.store.updates import StoredReaction, stored_reactions, update_reaction
-
-#: Reaction status words used by listings and filters, in order of precedence: has measured
-#: k(T) sets; has a complete expression (A, n, Ea) but no measurements; has only an activation
-#: energy (A still to be estimated); has neither measurements nor an expression.
-STATUSES = ("measured", "complete", "ea-only", "nothing")
 
 
 def import_reactions(
@@ -66,19 +56,19 @@ def import_reactions(
     plan = _reaction_plan(rows, reactions, stored, problems)
     problems.raise_if_any(source)
     new = [r for r in reactions if r.key not in keys]
-    plan.added = len(new)
-    if not dry_run:
-        _write_reactions(session, source, new, plan, stored)
-    return ImportSummary(
-        "reactions",
-        source,
-        len(rows),
-        len(new),
-        dry_run,
-        update=update,
-        changed=plan.changed,
-        unchanged=plan.unchanged,
+
+    def write() -> None:
+        _update_reactions(session, plan, stored)
+
+    return apply_import(
+        session, REACTIONS, new, plan, write, source, rows, dry_run=dry_run, update=update
     )
+
+
+#: How an import writes reactions.
+REACTIONS = RecordKind(
+    "reactions", "reactions.add", "reaction.update", "keys", attrgetter("key"), insert_reactions
+)
 
 
 #: The reaction fields an update compares: (stored name, file column).
@@ -138,18 +128,11 @@ def _reaction_plan(
     return plan
 
 
-def _write_reactions(
-    session: Session,
-    source: str,
-    new: list[NewReaction],
-    plan: _ReactionPlan,
-    stored: dict[str, StoredReaction],
+def _update_reactions(
+    session: Session, plan: _ReactionPlan, stored: dict[str, StoredReaction]
 ) -> None:
-    if new:
-        insert_reactions(session, new)
-        audit.record(
-            session, "reactions.add", source, count=len(new), keys=[r.key for r in new[:20]]
-        )
+    """Write each changed reaction of ``plan``: the fields the file has, and a new equation
+    with its participants."""
     for reaction in plan.writes:
         before = stored[reaction.key]
         values = {
@@ -177,7 +160,6 @@ def _write_reactions(
                 for name, count in counts.items()
             ]
         update_reaction(session, before.id, values, participants)
-    record_changes(session, "reaction.update", source, plan.changes)
 
 
 def add_reaction(
@@ -191,29 +173,6 @@ def add_reaction(
     """Add one reaction, checked exactly as an imported one."""
     row = {"key": key, "equation": equation, "class": reaction_class, "notes": notes}
     return import_reactions(session, [(None, row)], source="command line")
-
-
-def list_reactions(
-    session: Session,
-    *,
-    species: str | None = None,
-    reaction_class: str | None = None,
-    status: str | None = None,
-    include_withdrawn: bool = False,
-) -> list[ReactionSummary]:
-    """Reactions by key; only those involving ``species``, of a class, or of a status
-    (:data:`STATUSES`), when given."""
-    if status is not None and status not in STATUSES:
-        raise BadInputError(
-            f"unknown status {status!r}; expected one of {', '.join(STATUSES)}", argument="status"
-        )
-    return reaction_summaries(
-        session,
-        species=species,
-        reaction_class=reaction_class,
-        status=status,
-        include_withdrawn=include_withdrawn,
-    )
 
 
 def show_reaction(session: Session, key_or_equation: str) -> ReactionDetail:

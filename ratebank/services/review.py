@@ -41,7 +41,8 @@ from ratebank.services.plot_data import (
     steric_plot_data,
 )
 from ratebank.services.progress import NoProgress, Progress
-from ratebank.services.reactions import list_reactions, show_reaction
+from ratebank.services.quick_listings import list_reactions
+from ratebank.services.reactions import show_reaction
 from ratebank.services.reverse import ReverseRateReport, reverse_rate
 from ratebank.services.selection import Chosen, chosen_expressions, uncertainty_factor
 from ratebank.services.steric import ClassSteric, RuleView, derived_steric_factors, list_rules
@@ -56,11 +57,11 @@ from ratebank.store.listings import (
     ExpressionSummary,
     HistoryEntry,
     ParticipantInfo,
-    ReactionSummary,
     SetSummary,
     SpeciesSummary,
 )
 from ratebank.store.queries import ExpressionRow
+from ratebank.store.quick_listings import ReactionSummary
 from ratebank.store.thermo import reverse_rules
 
 #: Status words of the book, in the order the index counts them.

@@ -8,12 +8,19 @@ transaction; the caller commits. Values in and out are SI-molar.
 from __future__ import annotations
 
 from collections.abc import Mapping
+from operator import attrgetter
 
 from sqlalchemy.orm import Session
 
 from ratebank.science.constants import DEBYE, ELECTRONVOLT_MOLAR
 from ratebank.services.progress import NoProgress, Progress
-from ratebank.services.updates import Shown, UpdatePlan, changed_fields, record_changes
+from ratebank.services.updates import (
+    RecordKind,
+    Shown,
+    UpdatePlan,
+    apply_import,
+    changed_fields,
+)
 from ratebank.services.validate import (
     ANGSTROM_M,
     BAR_PA,
@@ -25,7 +32,6 @@ from ratebank.services.validate import (
     cell,
     validate_species,
 )
-from ratebank.store import audit
 from ratebank.store.listings import (
     SpeciesDetail,
     SpeciesSummary,
@@ -53,6 +59,10 @@ SPECIES_SHOWN: dict[str, Shown] = {
     "ionization_energy": ("ionization_energy_eV", ELECTRONVOLT_MOLAR, "eV"),
     "source": ("source", None, ""),
 }
+#: How an import writes species.
+SPECIES = RecordKind(
+    "species", "species.add", "species.update", "names", attrgetter("name"), insert_species
+)
 #: Values ratebank estimates itself: a file that leaves them empty keeps the estimate.
 _ESTIMATED = {"diameter": "diameter_method", "well_depth": "well_depth_method"}
 
@@ -82,36 +92,14 @@ def import_species(
     problems.raise_if_any(source)
     new = [s for s in species if s.name not in existing]
     plan, writes = _species_plan(session, rows, species) if update else (UpdatePlan(), {})
-    plan.added = len(new)
-    if not dry_run:
-        _write_species(session, source, new, plan, writes)
-    return ImportSummary(
-        "species",
-        source,
-        len(rows),
-        len(new),
-        dry_run,
-        update=update,
-        changed=plan.changed,
-        unchanged=plan.unchanged,
+
+    def write() -> None:
+        for name, values in writes.items():
+            update_species(session, name, values)
+
+    return apply_import(
+        session, SPECIES, new, plan, write, source, rows, dry_run=dry_run, update=update
     )
-
-
-def _write_species(
-    session: Session,
-    source: str,
-    new: list[NewSpecies],
-    plan: UpdatePlan,
-    writes: dict[str, dict[str, object]],
-) -> None:
-    if new:
-        insert_species(session, new)
-        audit.record(
-            session, "species.add", source, count=len(new), names=[s.name for s in new[:20]]
-        )
-    for name, values in writes.items():
-        update_species(session, name, values)
-    record_changes(session, "species.update", source, plan.changes)
 
 
 def _species_plan(

@@ -24,7 +24,7 @@ from ratebank.store.engine import (
     mask_url,
     session_scope,
 )
-from ratebank.store.listings import store_counts as _store_counts
+from ratebank.store.quick_listings import store_counts as _store_counts
 from ratebank.store.schema import InitResult, check_revision, initialise_store
 
 

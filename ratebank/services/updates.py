@@ -10,13 +10,14 @@ its before and after in the units the file used, for example
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
 from sqlalchemy.orm import Session
 
 from ratebank.numbers import round_significant
+from ratebank.services.validate import ImportSummary
 from ratebank.store import audit
 
 #: How a field is shown in the history: its file column, the factor that turns the file's
@@ -126,4 +127,59 @@ def record_changes(
             (target, {"source": source, "changed": texts, **(extra or {}).get(target, {})})
             for target, texts in changes
         ],
+    )
+
+
+@dataclass(frozen=True)
+class RecordKind:
+    """How an import writes one kind of record: what it is called in the summary and the
+    history, and how its new records are inserted and named."""
+
+    #: the summary's word, e.g. ``species``
+    summary: str
+    #: the history's action of the new records and of each changed one
+    added_action: str
+    changed_action: str
+    #: the detail that names the first new records (``names``, ``keys``) and each one's name
+    names_detail: str
+    name_of: Callable[[Any], str]
+    #: writes the new records
+    insert: Callable[[Session, Sequence[Any]], None]
+
+
+def apply_import(
+    session: Session,
+    kind: RecordKind,
+    new: Sequence[Any],
+    plan: UpdatePlan,
+    write_changes: Callable[[], None],
+    source: str,
+    rows: Sequence[Any],
+    *,
+    dry_run: bool,
+    update: bool,
+) -> ImportSummary:
+    """The one way an import of species or reactions writes: unless ``dry_run``, the new
+    records (one history entry naming the first 20), then the changed ones
+    (``write_changes``, one history entry each); what the import of ``rows`` did or would
+    do."""
+    plan.added = len(new)
+    if not dry_run:
+        if new:
+            kind.insert(session, new)
+            names = [kind.name_of(record) for record in new[:20]]
+            audit.record(
+                session, kind.added_action, source, count=len(new), **{kind.names_detail: names}
+            )
+        write_changes()
+        record_changes(session, kind.changed_action, source, plan.changes)
+    return ImportSummary(
+        kind.summary,
+        source,
+        len(rows),
+        len(new),
+        dry_run,
+        update=update,
+        changed=plan.changed,
+        unchanged=plan.unchanged,
     )

@@ -1,8 +1,9 @@
 """The listing and detail reads of the curation commands, as typed rows.
 
-Species, reactions with their status, measurement sets, expressions, the
-history and the store's counts; and the detail of one species or one
-reaction. Values are SI-molar, as stored.
+Species, measurement sets, expressions and the history; and the detail of
+one species or one reaction. Values are SI-molar, as stored. The reactions
+listing and the store's counts, which must start fast, are in
+:mod:`ratebank.store.quick_listings`.
 
 A listing command must start fast, so nothing here imports numpy. A
 reaction or species named by a listing is found with
@@ -15,11 +16,11 @@ import datetime as dt
 from dataclasses import dataclass, field
 from typing import Any
 
-from sqlalchemy import and_, case, exists, func, select
+from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from ratebank.store.efficiencies import efficiencies
-from ratebank.store.in_use import expression_in_use, reaction_in_use, set_in_use, species_in_use
+from ratebank.store.in_use import expression_in_use, set_in_use, species_in_use
 from ratebank.store.models import (
     AuditEntry,
     Expression,
@@ -76,21 +77,6 @@ class SpeciesDetail:
     #: (a ``science.diameters.DiameterEstimate``, not stored, filled in by
     #: ``services.partners.species_detail``), else None
     estimated_diameter: Any = None
-
-
-@dataclass(frozen=True)
-class ReactionSummary:
-    key: str
-    equation: str
-    order: int
-    third_body: bool
-    reaction_class: str | None
-    sets: int
-    points: int
-    expressions: int
-    status: str
-    #: why it was withdrawn; None while it is in use
-    withdrawn: str | None = None
 
 
 @dataclass(frozen=True)
@@ -227,79 +213,6 @@ def species_detail(session: Session, name: str) -> SpeciesDetail:
 
 
 # --------------------------------------------------------------------------- reactions
-
-
-def _status_expression():  # type: ignore[no-untyped-def]
-    """The status of each reaction: measured, complete, ea-only or nothing, in that precedence."""
-    has_set = exists().where(MeasurementSet.reaction_id == Reaction.id)
-    has_complete = exists().where(
-        and_(Expression.reaction_id == Reaction.id, Expression.A.is_not(None))
-    )
-    has_any = exists().where(Expression.reaction_id == Reaction.id)
-    return case(
-        (has_set, "measured"),
-        (has_complete, "complete"),
-        (has_any, "ea-only"),
-        else_="nothing",
-    )
-
-
-def _reaction_counts():  # type: ignore[no-untyped-def]
-    """The number of sets, points and expressions of each reaction (correlated subqueries)."""
-    n_sets = (
-        select(func.count(MeasurementSet.id))
-        .where(MeasurementSet.reaction_id == Reaction.id)
-        .scalar_subquery()
-    )
-    n_points = (
-        select(func.count(Point.id))
-        .join(MeasurementSet, Point.set_id == MeasurementSet.id)
-        .where(MeasurementSet.reaction_id == Reaction.id)
-        .scalar_subquery()
-    )
-    n_expressions = (
-        select(func.count(Expression.id))
-        .where(Expression.reaction_id == Reaction.id)
-        .scalar_subquery()
-    )
-    return n_sets, n_points, n_expressions
-
-
-def reaction_summaries(
-    session: Session,
-    *,
-    species: str | None = None,
-    reaction_class: str | None = None,
-    status: str | None = None,
-    include_withdrawn: bool = False,
-) -> list[ReactionSummary]:
-    """Reactions in use by key (withdrawn ones too with ``include_withdrawn``) with their
-    counts and status; only those involving the species named ``species``, of
-    ``reaction_class``, or of ``status`` when given."""
-    query = select(
-        Reaction.key,
-        Reaction.equation,
-        Reaction.reaction_order,
-        Reaction.third_body,
-        Reaction.reaction_class,
-        *_reaction_counts(),
-        _status_expression().label("status"),
-        Reaction.withdrawn_reason,
-    ).order_by(Reaction.key)
-    if not include_withdrawn:
-        query = query.where(reaction_in_use())
-    if species is not None:
-        species_id = find_species(session, species).id
-        query = query.where(
-            exists().where(
-                and_(Participant.reaction_id == Reaction.id, Participant.species_id == species_id)
-            )
-        )
-    if reaction_class is not None:
-        query = query.where(Reaction.reaction_class == reaction_class)
-    if status is not None:
-        query = query.where(_status_expression() == status)
-    return [ReactionSummary(*row) for row in session.execute(query).all()]
 
 
 def reaction_detail(
@@ -565,20 +478,3 @@ def _aware(at: Any) -> Any:
     if isinstance(at, dt.datetime):
         return at.replace(tzinfo=dt.UTC) if at.tzinfo is None else at.astimezone(dt.UTC)
     return at
-
-
-# --------------------------------------------------------------------------- counts
-
-
-def store_counts(session: Session) -> dict[str, int]:
-    """How many species, reactions, measurement sets, points and expressions the store holds."""
-    return {
-        name: session.scalar(select(func.count(column))) or 0
-        for name, column in (
-            ("species", Species.id),
-            ("reactions", Reaction.id),
-            ("measurement_sets", MeasurementSet.id),
-            ("points", Point.id),
-            ("expressions", Expression.id),
-        )
-    }

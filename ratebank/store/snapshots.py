@@ -35,7 +35,6 @@ from sqlalchemy.orm import Session
 
 from ratebank.store.bulk import insert_rows
 from ratebank.store.fingerprint import store_fingerprint
-from ratebank.store.listings import store_counts
 from ratebank.store.models import (
     AuditEntry,
     Base,
@@ -49,6 +48,7 @@ from ratebank.store.models import (
     SpeciesThermo,
     StericRule,
 )
+from ratebank.store.quick_listings import store_counts
 
 #: Curated tables: a store with a row in any of them is not empty.
 CONTENT_TABLES = (

@@ -86,3 +86,18 @@ def test_every_command_makes_exactly_that_call(path, command, sqlite_url, tmp_pa
     outcome = run(sqlite_url, *path, *arguments)
     assert made == [method], (path, outcome.stderr)
     assert outcome.stderr.strip() == "Error: reached"
+
+
+def test_the_command_table_names_each_command_with_the_module_that_attaches_it():
+    from ratebank.cli.app import COMMANDS, command_named, names_attached
+
+    names = [name for name, _ in COMMANDS]
+    assert len(names) == len(set(names))
+    modules = {module for _, module in COMMANDS if module is not None}
+    attached = {name: module for module in modules for name in names_attached(module)}
+    assert {name: attached.get(name) for name, module in COMMANDS if module} == {
+        name: module for name, module in COMMANDS if module
+    }
+    # a command a module attaches but the table leaves out could never be run
+    assert set(attached) <= set(names)
+    assert all(command_named(module, name).name == name for name, module in attached.items())

@@ -429,7 +429,7 @@ def _downgrade(engine, target: str) -> None:
 
 
 def _previous_revision_rows(engine) -> dict[str, list[tuple]]:
-    """Every row of every table the previous revision (0007) has, columns in stored order."""
+    """Every row of every table the store has, columns in stored order."""
     with engine.connect() as connection:
         names = inspect(connection).get_table_names()
         return {
@@ -444,58 +444,15 @@ def _previous_revision_rows(engine) -> dict[str, list[tuple]]:
         }
 
 
-def test_a_store_at_the_previous_revision_upgrades_with_every_row_intact(db_url, cli, tmp_path):
-    # a store filled with what revision 0007 can hold (third-body expressions included),
-    # then taken back to 0007: the state a group's store is in before this release
-    from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+#: An expression of a reaction written with M, as a store before the rate-law forms held it.
+_THIRD_BODY_ROW = "h-o2-m,2.1e-32,-0.8,0,kJ/mol,cm6/molecule2/s,300,2000,2,test third body\n"
 
-    assert cli(db_url, "init").exit_code == 0
-    for kind, text_ in (
-        ("species", SPECIES_CSV),
-        ("reactions", REACTIONS_CSV),
-        ("data", MEASUREMENTS_CSV),
-        (
-            "expressions",
-            EXPRESSIONS_CSV + "h-o2-m,2.1e-32,-0.8,0,kJ/mol,cm6/molecule2/s,"
-            "300,2000,2,test third body\n",
-        ),
-    ):
-        path = write(tmp_path / f"{kind}.csv", text_)
-        assert cli(db_url, kind, "import", str(path)).exit_code == 0
-    assert cli(db_url, "fit", "oh-ch4").exit_code == 0
-    engine = create_store_engine(database_url(db_url))
-    try:
-        _downgrade(engine, "0007")
-        assert current_revision(engine) == "0007"
-        before = _previous_revision_rows(engine)
-        old = open_store(db_url, check=False)
-        with old.session() as session:
-            fingerprint_before = store_fingerprint(session)
-        old.close()
-        result = upgrade_store(engine)
-        assert (result.before, result.after) == ("0007", HEAD_REVISION)
-        after = _previous_revision_rows(engine)
-    finally:
-        engine.dispose()
-    # the tables 0008 adds start empty; every earlier table keeps every row, and each row
-    # keeps its values, the new expression columns empty
-    assert after.pop("expression_term") == []
-    assert after.pop("third_body_efficiency") == []
-    assert after.pop("release") == []  # revision 0010 adds it empty
-    assert after.pop("provenance_run") == []  # revision 0011 adds it empty
-    width = {name: len(rows[0]) for name, rows in before.items() if rows}
-    assert {name: [row[: width.get(name, 0)] for row in rows] for name, rows in after.items()} == (
-        before
-    )
+
+def _old_third_body_expressions_read_the_same(db_url, cli, before, after, columns):
+    # revision 0008 adds expression columns, empty on the old rows; an expression of a
+    # reaction written with M reads as third-body: its coefficient, and with a pressure
+    # k0 [M] (at 300 K and 1 bar, [M] = 1e5 / (R 300) mol/m3)
     assert all(set(row[len(before["expression"][0]) :]) == {None} for row in after["expression"])
-    store = open_store(db_url)
-    try:
-        with store.session() as session:
-            assert store_fingerprint(session) == fingerprint_before
-    finally:
-        store.close()
-    # an expression of a reaction written with M reads as third-body: its coefficient, and
-    # with a pressure k0 [M] (at 300 K and 1 bar, [M] = 1e5 / (R 300) mol/m3)
     listed = json.loads(cli(db_url, "expressions", "list", "--json").stdout)
     assert {e["reaction"]: e["form"] for e in listed}["h-o2-m"] == "third-body"
     plain = json.loads(
@@ -512,10 +469,55 @@ def test_a_store_at_the_previous_revision_upgrades_with_every_row_intact(db_url,
     assert at_one_bar["rates"][0]["k"] == pytest.approx(k0_si * M, rel=1e-12)
 
 
-def test_a_store_at_revision_0008_upgrades_to_withdrawal_and_versions(db_url, cli, tmp_path):
-    # a store with every kind of record (a fit too) taken back to 0008, then upgraded: every
-    # row keeps its values, every record is in use at version 1, the fingerprint is unchanged
-    # and the new lifecycle works on the old rows
+def _old_records_enter_the_lifecycle(db_url, cli, before, after, columns):
+    # revision 0009 adds withdrawal and versions: every old record is in use at version 1,
+    # and the lifecycle works on the old rows
+    width = {name: len(rows[0]) for name, rows in before.items() if rows}
+    for table, names in columns.items():
+        added = names[width[table] :]
+        assert set(added) >= {"withdrawn_at", "withdrawn_by", "withdrawn_reason"}
+        for row in after[table]:
+            values = dict(zip(names, row, strict=True))
+            assert values["withdrawn_at"] is None and values["withdrawn_reason"] is None
+            assert values["version"] == 1
+    assert (
+        cli(db_url, "species", "edit", "OH", "--tc", "500", "--expect-version", "1").exit_code == 0
+    )
+    assert cli(db_url, "withdraw", "set", "s2", "--reason", "checked later").exit_code == 0
+    listed = json.loads(cli(db_url, "data", "list", "--json").stdout)
+    assert [s["set"] for s in listed] == ["s1"]
+
+
+@pytest.mark.parametrize(
+    ("revision", "more_expressions", "new_tables", "then"),
+    [
+        # the state a group's store was in before the rate-law forms (third-body
+        # expressions included)
+        pytest.param(
+            "0007",
+            _THIRD_BODY_ROW,
+            ("expression_term", "third_body_efficiency", "release", "provenance_run"),
+            _old_third_body_expressions_read_the_same,
+            id="0007",
+        ),
+        # before withdrawal and versions
+        pytest.param(
+            "0008",
+            "",
+            ("release", "provenance_run"),
+            _old_records_enter_the_lifecycle,
+            id="0008",
+        ),
+    ],
+)
+def test_a_store_at_an_earlier_revision_upgrades_with_every_row_intact(
+    revision, more_expressions, new_tables, then, db_url, cli, tmp_path
+):
+    # a store with every kind of record (a fit too) taken back to ``revision``, then
+    # upgraded: the tables added since start empty (revision 0010 adds release, 0011
+    # provenance_run), every
+    # earlier table keeps every row and each row its values, the fingerprint is unchanged;
+    # ``then`` checks what the revisions since mean for the old rows
     from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
 
     assert cli(db_url, "init").exit_code == 0
@@ -523,22 +525,22 @@ def test_a_store_at_revision_0008_upgrades_to_withdrawal_and_versions(db_url, cl
         ("species", SPECIES_CSV),
         ("reactions", REACTIONS_CSV),
         ("data", MEASUREMENTS_CSV),
-        ("expressions", EXPRESSIONS_CSV),
+        ("expressions", EXPRESSIONS_CSV + more_expressions),
     ):
         path = write(tmp_path / f"{kind}.csv", text_)
         assert cli(db_url, kind, "import", str(path)).exit_code == 0
     assert cli(db_url, "fit", "oh-ch4").exit_code == 0
     engine = create_store_engine(database_url(db_url))
     try:
-        _downgrade(engine, "0008")
-        assert current_revision(engine) == "0008"
+        _downgrade(engine, revision)
+        assert current_revision(engine) == revision
         before = _previous_revision_rows(engine)
         old = open_store(db_url, check=False)
         with old.session() as session:
             fingerprint_before = store_fingerprint(session)
         old.close()
         result = upgrade_store(engine)
-        assert (result.before, result.after) == ("0008", HEAD_REVISION)
+        assert (result.before, result.after) == (revision, HEAD_REVISION)
         after = _previous_revision_rows(engine)
         with engine.connect() as connection:
             columns = {
@@ -547,28 +549,15 @@ def test_a_store_at_revision_0008_upgrades_to_withdrawal_and_versions(db_url, cl
             }
     finally:
         engine.dispose()
-    assert after.pop("release") == []  # revision 0010 adds it empty
-    assert after.pop("provenance_run") == []  # revision 0011 adds it empty
+    assert [after.pop(name) for name in new_tables] == [[] for _ in new_tables]
     width = {name: len(rows[0]) for name, rows in before.items() if rows}
     assert {name: [row[: width.get(name, 0)] for row in rows] for name, rows in after.items()} == (
         before
     )
-    for table, names in columns.items():
-        added = names[width[table] :]
-        assert set(added) >= {"withdrawn_at", "withdrawn_by", "withdrawn_reason"}
-        for row in after[table]:
-            values = dict(zip(names, row, strict=True))
-            assert values["withdrawn_at"] is None and values["withdrawn_reason"] is None
-            assert values["version"] == 1
     store = open_store(db_url)
     try:
         with store.session() as session:
             assert store_fingerprint(session) == fingerprint_before
     finally:
         store.close()
-    assert (
-        cli(db_url, "species", "edit", "OH", "--tc", "500", "--expect-version", "1").exit_code == 0
-    )
-    assert cli(db_url, "withdraw", "set", "s2", "--reason", "checked later").exit_code == 0
-    listed = json.loads(cli(db_url, "data", "list", "--json").stdout)
-    assert [s["set"] for s in listed] == ["s1"]
+    then(db_url, cli, before, after, columns)

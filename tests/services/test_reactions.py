@@ -9,13 +9,8 @@ import pytest
 from helpers.data import REACTIONS_CSV, SPECIES_CSV
 
 from ratebank.errors import BadInputError, ImportValidationError, NotFoundError
-from ratebank.services.reactions import (
-    STATUSES,
-    add_reaction,
-    import_reactions,
-    list_reactions,
-    show_reaction,
-)
+from ratebank.services.quick_listings import STATUSES, list_reactions
+from ratebank.services.reactions import add_reaction, import_reactions, show_reaction
 from ratebank.services.species import import_species
 from ratebank.services.store_access import init_store
 from ratebank.store.listings import history

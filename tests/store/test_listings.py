@@ -12,13 +12,12 @@ from ratebank.store.listings import (
     expression_summaries,
     history,
     reaction_detail,
-    reaction_summaries,
     set_sources,
     set_summaries,
     species_detail,
     species_summaries,
-    store_counts,
 )
+from ratebank.store.quick_listings import reaction_summaries, store_counts
 
 
 @pytest.fixture
@@ -69,6 +68,12 @@ def test_reaction_rows_carry_counts_and_status(session):
         (0, 0, 1, "ea-only"),  # ho2-ho2
         (2, 5, 1, "measured"),  # oh-ch4
     ]
+    # the flag is a bool on every database (SQLite stores 0 and 1)
+    assert {key: r.third_body for key, r in rows.items() if key in ("h-o2-m", "oh-ch4")} == {
+        "h-o2-m": True,
+        "oh-ch4": False,
+    }
+    assert all(type(r.third_body) is bool for r in rows.values())
     assert [r.key for r in reaction_summaries(session, species="HO2")] == ["h-o2-m", "ho2-ho2"]
     assert [r.key for r in reaction_summaries(session, status="ea-only")] == ["ho2-ho2"]
     assert [r.key for r in reaction_summaries(session, reaction_class="decomposition")] == [
