@@ -58,7 +58,13 @@ from ratebank.services.form_checks import (
     sum_range_findings,
 )
 from ratebank.services.memory import paused_garbage_collection
-from ratebank.services.partners import CollisionPair, PairColumns, check_model, collision_pairs
+from ratebank.services.partners import (
+    CollisionPair,
+    PairColumns,
+    PartnerData,
+    check_model,
+    collision_pairs,
+)
 from ratebank.services.selection import Chosen, choose, evaluate
 from ratebank.services.thermo import reaction_thermo_inputs
 from ratebank.services.thermo_checks import (
@@ -130,7 +136,7 @@ class CheckReport:
 
 #: Reactions checked at a time when the whole store is checked: the memory of a check is
 #: that of a batch, and only the flags are kept.
-BATCH = 20_000
+BATCH = 10_000
 
 
 @dataclass
@@ -385,7 +391,7 @@ def _limit_flags(
     for i, (e, _pair) in enumerate(rows):
         if e.form is not None or e.terms:
             k[i] = evaluate(e, T[i])  # a sum's total, k_inf of a fall-off, k0 of activated
-    columns = PairColumns.of([pair for _, pair in rows])
+    columns = _pair_columns([pair for _, pair in rows])
     arguments = columns.rate_arguments(model)
     z = collision_rate(T, **{name: _column(v) for name, v in arguments.items()})
     z = np.maximum(z, _capture_rate(T, columns))
@@ -412,6 +418,38 @@ def _limit_flags(
             )
         )
     return flags
+
+
+def _pair_columns(pairs: list[CollisionPair]) -> PairColumns:
+    """:meth:`PairColumns.of` the pairs, read once per partner: the pairs of a batch share
+    their partners' objects (:func:`ratebank.services.partners.collision_pairs`), so each
+    partner's values are taken once and spread to its pairs by index."""
+    index: dict[int, int] = {}
+    partners: list[PartnerData] = []
+
+    def at(partner: PartnerData) -> int:
+        i = index.get(id(partner))
+        if i is None:
+            i = index[id(partner)] = len(partners)
+            partners.append(partner)
+        return i
+
+    a = np.array([at(pair.a) for pair in pairs], dtype=np.intp)
+    b = np.array([at(pair.b) for pair in pairs], dtype=np.intp)
+    one = PairColumns.of([CollisionPair(0, "", p, p, False) for p in partners])
+    return PairColumns(
+        one.diameter_a[a],
+        one.diameter_a[b],
+        one.molar_mass_a[a],
+        one.molar_mass_a[b],
+        one.well_depth_a[a],
+        one.well_depth_a[b],
+        np.array([pair.identical for pair in pairs], dtype=bool),
+        one.polarizability_a[a],
+        one.polarizability_a[b],
+        one.ionization_energy_a[a],
+        one.ionization_energy_a[b],
+    )
 
 
 def _limited_part(e: ExpressionRow) -> str:

@@ -31,7 +31,10 @@ def reactions_in_batches(session: Session, size: int) -> Iterator[list[ReactionR
     compiled = query.compile(dialect=connection.dialect, compile_kwargs={"literal_binds": True})
     raw = connection.connection.dbapi_connection
     assert raw is not None
-    cursor = raw.cursor()
+    # PostgreSQL: a cursor on the server, which sends a batch when asked (a plain one would
+    # send every row at once)
+    postgres = connection.dialect.name == "postgresql"
+    cursor = raw.cursor(name="ratebank_reaction_batches") if postgres else raw.cursor()
     try:
         cursor.execute(str(compiled))
         while batch := cursor.fetchmany(size):
@@ -55,8 +58,10 @@ def expressions_of_batch(
         f"WHERE reaction_id IN ({{marks}}) AND {EXPRESSION_IN_USE_SQL}"
     )
     found: dict[int, list[ExpressionRow]] = {i: [] for i in reaction_ids}
-    rows = sorted(fetch_in(session, query, list(reaction_ids)), key=lambda row: row[0])
+    rows = fetch_in(session, query, list(reaction_ids))
+    rows.sort(key=lambda row: row[0])  # oldest first
     expressions = [queries._expression_row(row) for row in rows]
+    del rows  # the stored text, decoded now
     if any(e.form == "sum" for e in expressions):
         expressions = queries.with_terms(session, expressions)
     for e in expressions:
