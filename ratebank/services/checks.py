@@ -38,6 +38,7 @@ is flagged and nothing was left unchecked.
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -56,8 +57,15 @@ from ratebank.services.form_checks import (
     monotonic_findings,
     sum_range_findings,
 )
-from ratebank.services.partners import CollisionPair, PairColumns, check_model, collision_pairs
-from ratebank.services.selection import Chosen, chosen_expressions, evaluate
+from ratebank.services.memory import paused_garbage_collection
+from ratebank.services.partners import (
+    CollisionPair,
+    PairColumns,
+    PartnerData,
+    check_model,
+    collision_pairs,
+)
+from ratebank.services.selection import Chosen, choose, evaluate
 from ratebank.services.thermo import reaction_thermo_inputs
 from ratebank.services.thermo_checks import (
     THERMO_CODES,
@@ -68,6 +76,7 @@ from ratebank.services.thermo_checks import (
     reverse_limit_findings,
 )
 from ratebank.store import queries
+from ratebank.store.batches import expressions_of_batch, reactions_in_batches
 from ratebank.store.efficiency_species import stated_efficiencies
 from ratebank.store.queries import ExpressionRow, ReactionRow
 from ratebank.store.thermo import any_thermo, reverse_rules, stoichiometry, thermo_of
@@ -125,6 +134,26 @@ class CheckReport:
         return not self.flags and not self.unchecked
 
 
+#: Reactions checked at a time when the whole store is checked: the memory of a check is
+#: that of a batch, and only the flags are kept.
+BATCH = 10_000
+
+
+@dataclass
+class _Found:
+    """What the batches of one check have found so far."""
+
+    flags: list[Flag] = field(default_factory=list)
+    notes: list[Flag] = field(default_factory=list)
+    #: collision limits not checked, and reverse limits not checked (reported in this order)
+    unchecked: list[Unchecked] = field(default_factory=list)
+    reverse_unchecked: list[Unchecked] = field(default_factory=list)
+    reactions: int = 0
+    expressions: int = 0
+    #: species whose thermochemistry is checked once, at the end
+    species: set[int] = field(default_factory=set)
+
+
 def check_store(
     session: Session,
     *,
@@ -137,7 +166,8 @@ def check_store(
 
     ``collision`` chooses the collision model of the limit for every
     expression; by default each collision estimate is held to its own model
-    and everything else to hard spheres.
+    and everything else to hard spheres. The whole store is checked
+    :data:`BATCH` reactions at a time, keeping only what is found.
     """
     ignore = list(ignore or [])
     unknown = [c for c in ignore if c not in CHECK_CODES]
@@ -150,44 +180,109 @@ def check_store(
         raise BadInputError(
             "T_range needs two temperatures, the lower first, both above 0 K", argument="T_range"
         )
-    reactions = queries.find_reactions(session, keys) if keys else queries.reactions(session)
-    by_id = {r.id: r for r in reactions}
-    by_reaction = queries.expressions_of(session, list(by_id))
-    expressions = sorted((e for own in by_reaction.values() for e in own), key=lambda e: e.id)
     if collision is not None:
         check_model(collision)
-    # an association A + B + M is checked as the pair A + B (its k_inf is bimolecular)
-    limited = [_as_pair(r) for r in reactions if r.bimolecular or _association(r)]
-    pairs = {
-        model: collision_pairs(session, limited, model=model)
-        for model in ("hard-sphere", "lennard-jones")
-    }
-    chosen, gaps = chosen_expressions(session, reactions)
-    limit_flags, unchecked = _collision_limit_flags(expressions, pairs, by_id, collision)
-    flags = [
-        *limit_flags,
-        *_expression_flags(expressions, by_id),
-        *_gap_flags(gaps),
-        *_chosen_flags(chosen, T_range),
-        *_thermochemistry_flags(session, reactions, by_reaction, chosen, collision, unchecked),
-        *_form_flags(expressions, by_id),
-    ]
-    efficiency_flags, notes = efficiency_findings(
-        reactions, by_reaction, stated_efficiencies(session, list(by_id))
+    batches: Iterable[list[ReactionRow]] = (
+        [queries.find_reactions(session, keys)] if keys else reactions_in_batches(session, BATCH)
     )
-    flags.extend(Flag(*f) for f in efficiency_flags)
+    declared = reverse_rules(session)
+    thermo = bool(declared) or any_thermo(session)
+    found = _Found()
+    for reactions in batches:
+        with paused_garbage_collection():  # a batch's rows form no cycles; freed as it ends
+            _check_batch(
+                session,
+                reactions,
+                found,
+                T_range=T_range,
+                collision=collision,
+                declared=declared,
+                thermo=thermo,
+                whole_store=not keys,
+            )
+    flags = found.flags
+    if thermo:
+        midpoint = midpoint_findings(list(thermo_of(session, found.species).values()))
+        flags.extend(Flag(*f) for f in midpoint)
     flags = [f for f in flags if f.code not in ignore]
     flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
+    unchecked = sorted(found.unchecked, key=lambda u: u.expression_id)
     return CheckReport(
         flags,
-        len(reactions),
-        len(expressions),
+        found.reactions,
+        found.expressions,
         T_range,
         ignore,
-        unchecked,
+        [*unchecked, *found.reverse_unchecked],
         collision,
-        [Flag(*n) for n in notes if n.code not in ignore],
+        [n for n in found.notes if n.code not in ignore],
     )
+
+
+def _check_batch(
+    session: Session,
+    reactions: list[ReactionRow],
+    found: _Found,
+    *,
+    T_range: tuple[float, float] | None,
+    collision: str | None,
+    declared: dict[int, str],
+    thermo: bool,
+    whole_store: bool,
+) -> None:
+    """Check one batch of reactions (by key) and add what is found to ``found``."""
+    by_id = {r.id: r for r in reactions}
+    ids = list(by_id)
+    by_reaction = expressions_of_batch(session, ids)
+    expressions = sorted((e for own in by_reaction.values() for e in own), key=lambda e: e.id)
+    found.reactions += len(reactions)
+    found.expressions += len(expressions)
+    chosen, gaps = _chosen(reactions, by_reaction)
+    limit_flags, unchecked = _collision_limit_flags(session, expressions, by_id, collision)
+    found.unchecked.extend(unchecked)
+    found.flags.extend(
+        [
+            *limit_flags,
+            *_expression_flags(expressions, by_id),
+            *_gap_flags(gaps),
+            *_chosen_flags(chosen, T_range),
+            *_form_flags(expressions, by_id),
+        ]
+    )
+    if thermo:
+        found.flags.extend(
+            _thermochemistry_flags(
+                session,
+                reactions,
+                by_reaction,
+                chosen,
+                collision,
+                found,
+                {i: rule for i, rule in declared.items() if i in by_id},
+                whole_store,
+            )
+        )
+    efficiency_flags, notes = efficiency_findings(
+        reactions, by_reaction, stated_efficiencies(session, ids)
+    )
+    found.flags.extend(Flag(*f) for f in efficiency_flags)
+    found.notes.extend(Flag(*n) for n in notes)
+
+
+def _chosen(
+    reactions: list[ReactionRow], by_reaction: dict[int, list[ExpressionRow]]
+) -> tuple[list[Chosen], list[ReactionRow]]:
+    """(the exported expression of each reaction that has one, reactions without one), as
+    :func:`ratebank.services.selection.chosen_expressions` gives them, from rows read."""
+    chosen: list[Chosen] = []
+    gaps: list[ReactionRow] = []
+    for reaction in reactions:
+        choice = choose(by_reaction.get(reaction.id, ()))
+        if choice is None:
+            gaps.append(reaction)
+        else:
+            chosen.append(Chosen(reaction, *choice))
+    return chosen, gaps
 
 
 def _association(reaction: ReactionRow) -> bool:
@@ -216,26 +311,25 @@ def _thermochemistry_flags(
     by_reaction: dict[int, list[ExpressionRow]],
     chosen: list[Chosen],
     collision: str | None,
-    unchecked: list[Unchecked],
+    found: _Found,
+    declared: dict[int, str],
+    whole_store: bool,
 ) -> list[Flag]:
-    """The checks species thermochemistry makes possible (:mod:`.thermo_checks`)."""
-    declared = reverse_rules(session, [r.id for r in reactions])
-    if not declared and not any_thermo(session):
-        return []
+    """The checks species thermochemistry makes possible (:mod:`.thermo_checks`), but the
+    species' own (:func:`.thermo_checks.midpoint_findings`), made once for the whole check."""
     participants = stoichiometry(session, [r.id for r in reactions])
-    thermo = thermo_of(session, {p.species_id for ps in participants.values() for p in ps})
+    found.species.update(p.species_id for ps in participants.values() for p in ps)
     inputs, missing = reaction_thermo_inputs(session, reactions)
     reversible = [c for c in chosen if c.reaction.id in declared]
     limit, not_checked = reverse_limit_findings(
         session, reversible, inputs, collision or "hard-sphere"
     )
-    unchecked.extend(Unchecked(*u) for u in not_checked)
+    found.reverse_unchecked.extend(Unchecked(*u) for u in not_checked)
     findings = [
         *endothermic_findings(inputs, by_reaction),
         *limit,
-        *direction_findings(session, chosen, inputs, set(declared)),
+        *direction_findings(session, chosen, inputs, set(declared), whole_store=whole_store),
         *missing_thermo_findings([r for r in reactions if r.id in declared], missing),
-        *midpoint_findings(list(thermo.values())),
     ]
     return [Flag(*finding) for finding in findings]
 
@@ -249,29 +343,36 @@ def _model_of(expression: ExpressionRow, chosen: str | None) -> str:
 
 
 def _collision_limit_flags(
+    session: Session,
     expressions: list[ExpressionRow],
-    pairs: dict[str, dict[int, CollisionPair | str]],
     by_id: dict[int, ReactionRow],
     collision: str | None,
 ) -> tuple[list[Flag], list[Unchecked]]:
     """k(T) above the collision rate, every complete bimolecular expression at once per model."""
     flags: list[Flag] = []
     unchecked: list[Unchecked] = []
-    by_model: dict[str, list[tuple[ExpressionRow, CollisionPair]]] = {}
+    # an association A + B + M is checked as the pair A + B (its k_inf is bimolecular)
+    limited = {r.id: _as_pair(r) for r in by_id.values() if r.bimolecular or _association(r)}
+    candidates: dict[str, list[ExpressionRow]] = {}
     for e in expressions:
-        model = _model_of(e, collision)
-        pair = pairs[model].get(e.reaction_id)
-        if not e.complete or pair is None:
+        if not e.complete or e.reaction_id not in limited:
             continue
         if by_id[e.reaction_id].third_body and e.form != "falloff":
             continue  # a third-body coefficient has no collision limit; k_inf of a fall-off has
-        if isinstance(pair, str):
-            key = by_id[e.reaction_id].key
-            unchecked.append(Unchecked(key, e.id, f"{model} collision limit: {pair}"))
-            continue
-        by_model.setdefault(model, []).append((e, pair))
-    for model, rows in by_model.items():
-        flags.extend(_limit_flags(rows, by_id, model))
+        candidates.setdefault(_model_of(e, collision), []).append(e)
+    for model, own in candidates.items():
+        wanted = {e.reaction_id: limited[e.reaction_id] for e in own}
+        pairs = collision_pairs(session, list(wanted.values()), model=model)
+        rows = []
+        for e in own:
+            pair = pairs[e.reaction_id]
+            if isinstance(pair, str):
+                key = by_id[e.reaction_id].key
+                unchecked.append(Unchecked(key, e.id, f"{model} collision limit: {pair}"))
+            else:
+                rows.append((e, pair))
+        if rows:
+            flags.extend(_limit_flags(rows, by_id, model))
     return flags, unchecked
 
 
@@ -279,38 +380,76 @@ def _limit_flags(
     rows: list[tuple[ExpressionRow, CollisionPair]], by_id: dict[int, ReactionRow], model: str
 ) -> list[Flag]:
     grid_unit = np.geomspace(1.0, 2.0, 40) - 1.0  # 0..1, denser at the low end
-    low = np.array([[e.T_min or DEFAULT_LIMIT_RANGE[0]] for e, _ in rows])
-    high = np.array([[e.T_max or DEFAULT_LIMIT_RANGE[1]] for e, _ in rows])
+    low_default, high_default = DEFAULT_LIMIT_RANGE
+    values = np.array(
+        [(e.T_min or low_default, e.T_max or high_default, e.A, e.n, e.Ea) for e, _ in rows],
+        dtype=float,
+    ).reshape(len(rows), 5, 1)
+    low, high, A, n, Ea = (values[:, i] for i in range(5))
     T = low + (high - low) * grid_unit
-    A, n, Ea = (np.array([[getattr(e, name)] for e, _ in rows]) for name in ("A", "n", "Ea"))
     k = modified_arrhenius(T, A, n, Ea)
     for i, (e, _pair) in enumerate(rows):
         if e.form is not None or e.terms:
             k[i] = evaluate(e, T[i])  # a sum's total, k_inf of a fall-off, k0 of activated
-    columns = PairColumns.of([pair for _, pair in rows])
+    columns = _pair_columns([pair for _, pair in rows])
     arguments = columns.rate_arguments(model)
     z = collision_rate(T, **{name: _column(v) for name, v in arguments.items()})
     z = np.maximum(z, _capture_rate(T, columns))
     ratio, where = collision_limit_ratio(T, k, z)
+    ratio, where = np.atleast_1d(ratio), np.atleast_1d(where)
+    # an estimate made with P = 1 is the limit itself: within rounding, and within the
+    # deviation its modified-Arrhenius fit recorded, it is not a violation
+    deviation = np.array(
+        [e.provenance.get("max_relative_deviation_of_fit") or 0.0 for e, _ in rows], dtype=float
+    )
     flags = []
-    for (e, _pair), r, t in zip(rows, np.atleast_1d(ratio), np.atleast_1d(where), strict=True):
-        # an estimate made with P = 1 is the limit itself: within rounding, and within the
-        # deviation its modified-Arrhenius fit recorded, it is not a violation
-        allowed = 1.0 + 1e-9 + (e.provenance.get("max_relative_deviation_of_fit") or 0.0)
-        if r > allowed:
-            flags.append(
-                Flag(
-                    by_id[e.reaction_id].key,
-                    "above-collision-limit",
-                    f"{_limited_part(e)}expression {e.id} ({e.origin}) is {r:.3g} times the "
-                    "collision limit "
-                    f"({model}, or dispersion capture where larger) at {t:.4g} K",
-                    e.id,
-                    float(r),
-                    float(t),
-                )
+    for i in np.flatnonzero(ratio > 1.0 + 1e-9 + deviation).tolist():
+        e, r, t = rows[i][0], ratio[i], where[i]
+        flags.append(
+            Flag(
+                by_id[e.reaction_id].key,
+                "above-collision-limit",
+                f"{_limited_part(e)}expression {e.id} ({e.origin}) is {r:.3g} times the "
+                "collision limit "
+                f"({model}, or dispersion capture where larger) at {t:.4g} K",
+                e.id,
+                float(r),
+                float(t),
             )
+        )
     return flags
+
+
+def _pair_columns(pairs: list[CollisionPair]) -> PairColumns:
+    """:meth:`PairColumns.of` the pairs, read once per partner: the pairs of a batch share
+    their partners' objects (:func:`ratebank.services.partners.collision_pairs`), so each
+    partner's values are taken once and spread to its pairs by index."""
+    index: dict[int, int] = {}
+    partners: list[PartnerData] = []
+
+    def at(partner: PartnerData) -> int:
+        i = index.get(id(partner))
+        if i is None:
+            i = index[id(partner)] = len(partners)
+            partners.append(partner)
+        return i
+
+    a = np.array([at(pair.a) for pair in pairs], dtype=np.intp)
+    b = np.array([at(pair.b) for pair in pairs], dtype=np.intp)
+    one = PairColumns.of([CollisionPair(0, "", p, p, False) for p in partners])
+    return PairColumns(
+        one.diameter_a[a],
+        one.diameter_a[b],
+        one.molar_mass_a[a],
+        one.molar_mass_a[b],
+        one.well_depth_a[a],
+        one.well_depth_a[b],
+        np.array([pair.identical for pair in pairs], dtype=bool),
+        one.polarizability_a[a],
+        one.polarizability_a[b],
+        one.ionization_energy_a[a],
+        one.ionization_energy_a[b],
+    )
 
 
 def _limited_part(e: ExpressionRow) -> str:
@@ -362,6 +501,8 @@ def _expression_flags(
                 )
             )
         warnings = e.provenance.get("warnings") or [] if e.origin == "measured-fit" else []
+        if not warnings:
+            continue
         flags.extend(_scatter_flags(key, e, warnings))
         if "collinear-n-ea" in warnings:
             flags.append(

@@ -247,15 +247,22 @@ def direction_findings(
     chosen: Sequence[Chosen],
     inputs: dict[int, ReactionThermoInputs],
     reversible: set[int],
+    *,
+    whole_store: bool = False,
 ) -> list[Finding]:
-    """Pairs of reactions stored in both directions whose expressions disagree with Kc."""
+    """Pairs of reactions stored in both directions whose expressions disagree with Kc.
+
+    A pair is reported once, under the reaction stored first when both are checked. With
+    ``whole_store``, ``chosen`` is one batch of a check of every reaction: a stored reverse
+    with a chosen expression is checked too (in use, with the same species and so the same
+    thermochemistry), in whichever batch it falls."""
     chosen = [c for c in chosen if c.reaction.id in inputs]
     canonical = {c.reaction.id: _reverse_canonical(c.reaction) for c in chosen}
     stored = equation_keys(session, sorted({e for e in canonical.values() if e}))
     partners = queries.reactions(session, ids=sorted({i for i, _ in stored.values()}))
     others, _ = chosen_expressions(session, partners)
     by_id = {o.reaction.id: o for o in others}
-    checked = {c.reaction.id for c in chosen}
+    checked = {c.reaction.id for c in chosen} | (set(by_id) if whole_store else set())
     found = []
     for c in chosen:
         thermo = inputs.get(c.reaction.id)

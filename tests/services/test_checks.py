@@ -418,3 +418,28 @@ def test_an_efficiency_left_by_a_deleted_species_is_read_and_flagged(filled):
     (flag,) = [f for f in report.flags if f.code == "efficiency-unknown-species"]
     assert "species id 9999" in flag.message and flag.value == 3.0
     assert report.notes == []  # an efficiency is stated, so no note
+
+
+@pytest.mark.parametrize("batch", [1, 2, 3])
+def test_a_store_checked_in_batches_gives_what_one_batch_gives(
+    filled, tmp_path, monkeypatch, batch
+):
+    """Flags of every kind (a limit passed, a steric factor above 1, a sum's ranges, unused
+    efficiencies, reactions without an expression, extrapolation), the unchecked and the
+    notes come out the same, in the same order, however many reactions a batch holds."""
+    _with_forms(filled, tmp_path, SUM_ROWS.format(r1="300,1000", r2="1500,2000"))
+    _efficiency(filled, "oh-ch4", "N2", 1.0)
+    store = open_store(filled, author="tester")
+    try:
+        with store.session(write=True) as session:
+            estimation.estimate(session, ["ho2-ho2"], steric=50.0, T_ref=300.0)
+    finally:
+        store.close()
+    options = {"T_range": (250.0, 2500.0)}
+    whole = _check(filled, **options)
+    codes = {f.code for f in whole.flags}
+    assert {"above-collision-limit", "steric-above-one", "sum-ranges-inconsistent"} <= codes
+    assert {"efficiency-unused", "nothing-usable", "extrapolation"} <= codes
+    assert whole.notes and whole.reactions > batch
+    monkeypatch.setattr(checks, "BATCH", batch)
+    assert _check(filled, **options) == whole

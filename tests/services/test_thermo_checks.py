@@ -177,3 +177,17 @@ def test_polynomials_that_jump_at_their_midpoint_are_flagged(db_url, tmp_path):
     assert flag.key == "species H"
     assert flag.value == pytest.approx(0.01 * 8.314462618 * 1000.0, rel=1e-9)
     assert "H° by 83.1 J/mol" in flag.message
+
+
+def test_both_directions_in_different_batches_are_reported_once(db_url, tmp_path, monkeypatch):
+    """Checked a reaction at a time, the pair stored in both directions is still reported once,
+    under the reaction stored first, as when the whole store is checked at once."""
+    db = thermo_store(db_url, tmp_path, REACTIONS, FORWARD)
+    row = _consistent_reverse(db).split(",")
+    row[1] = repr(float(row[1]) * 10)
+    _add_expression(db, tmp_path, ",".join(row))
+    whole = _check(db)
+    monkeypatch.setattr(checks, "BATCH", 1)
+    batched = _check(db)
+    assert batched == whole
+    assert [(f.code, f.key) for f in batched.flags] == [("directions-disagree", "oh-h2")]
