@@ -270,6 +270,9 @@ def estimate(
         session, reactions, expressions, bool(keys), sources, collision, T_ref, T_range
     )
     named = {r.key: refused[r.id] for r in reactions if r.id in refused}
+    # of the expressions read, the write needs only the earlier estimates each replaces
+    replaced = _earlier_estimates(candidates, expressions)
+    del reactions, expressions, filled
     skipped = [s for s in skipped if s.key not in named] + [Skipped(*i) for i in named.items()]
     progress.start("estimating", len(candidates))
     rows = _estimate_rows(candidates, collision, skipped)
@@ -278,8 +281,29 @@ def estimate(
         raise RefusedEstimateError(_refusal(rows, skipped), EstimateReport(rows, skipped, False))
     written = [(c, row) for c, row in zip(candidates, rows, strict=True) if row is not None]
     if written:
-        _write(session, written, expressions)
+        _write(session, written, replaced)
     return EstimateReport([row for _, row in written], skipped, written=bool(written))
+
+
+#: The earlier estimates of a reaction that has none (one list shared by every such row).
+_NONE_REPLACED: list[int] = []
+
+
+def _earlier_estimates(
+    candidates: list[_Candidate], expressions: dict[int, list[ExpressionRow]]
+) -> dict[int, list[int]]:
+    """The ids of each candidate's earlier collision estimates (not recommended), which its
+    new estimate replaces, by reaction id (only reactions that have some)."""
+    found: dict[int, list[int]] = {}
+    for c in candidates:
+        ids = [
+            e.id
+            for e in expressions[c.reaction.id]
+            if e.origin == "collision-estimate" and not e.recommended
+        ]
+        if ids:
+            found[c.reaction.id] = ids
+    return found
 
 
 def _refusal(rows: Sequence[EstimateRow | None], skipped: list[Skipped]) -> str:
@@ -549,17 +573,13 @@ def _form_fields(c: _Candidate) -> dict[str, Any]:
 def _write(
     session: Session,
     written: list[tuple[_Candidate, EstimateRow]],
-    expressions: dict[int, list[ExpressionRow]],
+    earlier: dict[int, list[int]],
 ) -> None:
     # store the diameters estimated for the partners actually used, flagged
     store_estimated_partners(session, [c.pair for c, _ in written])
     replaced: list[int] = []
     for c, row in written:
-        row.replaced = [
-            e.id
-            for e in expressions[c.reaction.id]
-            if e.origin == "collision-estimate" and not e.recommended
-        ]
+        row.replaced = earlier.get(c.reaction.id, _NONE_REPLACED)
         replaced.extend(row.replaced)
     remove_expressions(session, replaced)
     partners: dict[int, dict[str, object]] = {}

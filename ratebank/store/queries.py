@@ -293,6 +293,33 @@ def reactions(
     return [ReactionRow(*row) for row in fetch_all(session, query)]
 
 
+class ReactionHeads(NamedTuple):
+    """What a whole-mechanism reader needs of every reaction in use, as plain columns (one
+    list per field, by key): no object per reaction."""
+
+    ids: list[int]
+    keys: list[str]
+    equations: list[str]
+    orders: list[int]
+    third_body: list[bool]
+
+
+def reaction_heads(session: Session) -> ReactionHeads:
+    """Id, key, equation, order and third body of every reaction in use, by key (the
+    reactions of :func:`reactions` without ids), as columns."""
+    query = (
+        select(Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order,
+               Reaction.third_body)
+        .where(reaction_in_use())
+        .order_by(Reaction.key)
+    )  # fmt: skip
+    rows = fetch_all(session, query)
+    if not rows:
+        return ReactionHeads([], [], [], [], [])
+    ids, keys, equations, orders, third_body = map(list, zip(*rows, strict=True))
+    return ReactionHeads(ids, keys, equations, orders, [bool(t) for t in third_body])
+
+
 def reactants(session: Session, reaction_ids: Sequence[int]) -> dict[int, list[tuple[int, int]]]:
     """(species id, coefficient) of each reaction's reactants, in the order written."""
     found: dict[int, list[tuple[int, int]]] = {i: [] for i in reaction_ids}
