@@ -109,6 +109,8 @@ class ExportResult:
     descriptor_path: Path
     table: mechanism.MechanismTable
     fingerprint: str
+    #: the descriptor as written, apart from ``ratebank.chosen_by`` (one entry per reaction,
+    #: in the file only: it is encoded straight into the file's bytes)
     descriptor: dict[str, Any]
 
 
