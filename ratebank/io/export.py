@@ -109,6 +109,8 @@ class ExportResult:
     descriptor_path: Path
     table: mechanism.MechanismTable
     fingerprint: str
+    #: the descriptor as written, apart from ``ratebank.chosen_by`` (one entry per reaction,
+    #: in the file only: it is encoded straight into the file's bytes)
     descriptor: dict[str, Any]
 
 
@@ -394,10 +396,6 @@ def _table_text(table: mechanism.MechanismTable, fields: Sequence[dict[str, Any]
     return _csv_text(mechanism.COLUMNS, rows, _text_columns(fields))
 
 
-#: Mechanism rows turned into CSV text at a time when the table is streamed to its file.
-_STREAM_ROWS = 10_000
-
-
 def _table_writer(
     table: mechanism.MechanismTable, fields: Sequence[dict[str, Any]]
 ) -> Callable[[BinaryIO], None]:
@@ -407,13 +405,16 @@ def _table_writer(
     columns = itemgetter(slice(0, len(mechanism.COLUMNS)))
 
     def write(stream: BinaryIO) -> None:
-        rows = table.rows
-        for start in range(0, max(len(rows), 1), _STREAM_ROWS):
-            part = list(map(columns, rows[start : start + _STREAM_ROWS]))
-            text = _csv_text(mechanism.COLUMNS, part, text_columns)
-            if start:
+        # the slices of rows as they are kept (packed rows are unpacked one slice at a time)
+        first = True
+        for part in mechanism.tuple_slices(table.rows):
+            text = _csv_text(mechanism.COLUMNS, list(map(columns, part)), text_columns)
+            if not first:
                 text = text.split("\n", 1)[1]  # the header once
+            first = False
             stream.write(text.encode("utf-8"))
+        if first:
+            stream.write(_csv_text(mechanism.COLUMNS, [], text_columns).encode("utf-8"))
 
     return write
 
@@ -549,9 +550,8 @@ def _ratebank_block(content: PackageContent, created: str) -> dict[str, Any]:
             if r.linearised_at_K is not None
         ],
         "left_out": table.left_out,
-        "chosen_by": {
-            r.key: {"expression_id": r.expression_id, "rule": r.chosen_by} for r in table.rows
-        },
+        # one entry per reaction: written into the descriptor's bytes by _chosen_by_bytes
+        "chosen_by": {},
         "caution": CAUTION,
         "text_cells": TEXT_CELL_RULE,
         "reverse": content.reverse,
@@ -575,10 +575,6 @@ class PackageContent:
     #: the descriptor's name of ``fingerprint``: ``store_fingerprint`` for a release made
     #: before exports fingerprinted their own content (a fingerprint of the whole store)
     fingerprint_field: str = "content_fingerprint"
-
-
-#: Mechanism rows hashed at a time.
-_FINGERPRINT_ROWS = 10_000
 
 
 def content_fingerprint(
@@ -609,9 +605,7 @@ def content_fingerprint(
         "sources": table.source_digest,
     }
     digest.update(orjson.dumps(head, option=option))
-    rows = table.rows
-    for start in range(0, len(rows), _FINGERPRINT_ROWS):
-        part = [tuple(row) for row in rows[start : start + _FINGERPRINT_ROWS]]
+    for part in mechanism.tuple_slices(table.rows):  # mechanism.ROW_SLICE rows at a time
         digest.update(orjson.dumps(part, option=option))
     digest.update(orjson.dumps([list(map(list, efficiencies)), list(map(list, species))]))
     return "sha256:" + digest.hexdigest()
@@ -681,10 +675,52 @@ def _package_parts(
     files = {
         EFFICIENCIES: _efficiencies_text(content.efficiencies),
         SPECIES: _species_text(content.species),
-        # a mechanism's descriptor lists every reaction: the C encoder, not json's
-        DESCRIPTOR: json_codec.indented_line_bytes(descriptor),
+        DESCRIPTOR: _descriptor_bytes(descriptor, content.table.rows),
     }
     return files, descriptor
+
+
+_INDENTED = orjson.OPT_SERIALIZE_NUMPY | orjson.OPT_NON_STR_KEYS | orjson.OPT_INDENT_2
+#: How the empty ``chosen_by`` of the descriptor's ``ratebank`` block is encoded.
+_CHOSEN_BY_EMPTY = b'\n    "chosen_by": {},\n'
+
+
+def _descriptor_bytes(descriptor: dict[str, Any], rows: Sequence[mechanism.MechanismRow]) -> bytes:
+    """The descriptor as UTF-8 JSON indented by two spaces, its ``ratebank.chosen_by`` (the
+    expression and rule behind each key) filled from ``rows``: the bytes of encoding the
+    whole mapping as one object, without a dictionary per reaction in memory.
+
+    The descriptor's bytes are encoded by the C encoder in one buffer; the entries are
+    encoded a slice of rows at a time, indented to their depth, and put in its place.
+    """
+    text = json_codec.indented_line_bytes(descriptor)
+    if not rows:
+        return text
+    at = text.find(_CHOSEN_BY_EMPTY)
+    assert at >= 0 and text.find(_CHOSEN_BY_EMPTY, at + 1) < 0
+    parts = [text[: at + len(_CHOSEN_BY_EMPTY) - 4], b"{\n"]
+    key_at = mechanism.COLUMNS.index("key")
+    id_at, rule_at = len(mechanism.COLUMNS), len(mechanism.COLUMNS) + 1
+    last = None
+    first = True
+    for part in mechanism.tuple_slices(rows):
+        entries: dict[str, dict[str, Any]] = {}
+        for row in part:
+            key = row[key_at]
+            if key != last and key not in entries:  # the rows of a sum share one entry
+                entries[key] = {"expression_id": row[id_at], "rule": row[rule_at]}
+            last = key
+        if not entries:
+            continue
+        # the encoding of json_codec.indented_line_bytes, without the object's braces
+        body = orjson.dumps(entries, option=_INDENTED)[2:-2]
+        if not first:
+            parts.append(b",\n")
+        first = False
+        parts.append(b"    " + body.replace(b"\n", b"\n    "))
+    parts.append(b"\n    },\n")
+    parts.append(text[at + len(_CHOSEN_BY_EMPTY) :])
+    return b"".join(parts)
 
 
 def _now() -> str:

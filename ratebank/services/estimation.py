@@ -28,7 +28,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 import numpy as np
 from sqlalchemy.orm import Session
@@ -211,10 +211,54 @@ def _check_options(
         )
 
 
+#: The provenance of an expression that states no relation (one dictionary, only read).
+_NO_PROVENANCE: dict[str, Any] = {}
+
+
+class _Slim(NamedTuple):
+    """What an estimate uses of a stored expression (the whole row only for a falloff, whose
+    k0 and broadening the estimate keeps)."""
+
+    id: int
+    origin: str
+    recommended: bool
+    complete: bool
+    Ea: float
+    T_min: float | None
+    T_max: float | None
+    form: str | None
+    #: the provenance read (the relation's record only)
+    provenance: dict[str, Any]
+    full: ExpressionRow | None
+
+
+def _slim(e: ExpressionRow) -> _Slim:
+    return _Slim(
+        e.id,
+        e.origin,
+        e.recommended,
+        e.complete,
+        e.Ea,
+        e.T_min,
+        e.T_max,
+        e.form,
+        e.provenance or _NO_PROVENANCE,
+        e if e.form == "falloff" else None,
+    )
+
+
+def _slim_rows(own: list[ExpressionRow]) -> list[_Slim]:
+    """One reaction's expressions as the estimate uses them: the complete ones and the
+    newest one awaiting A (the one an estimate completes), each as a :class:`_Slim`."""
+    waiting = [e for e in own if not e.complete]
+    kept = [e for e in own if e.complete or e is waiting[-1]] if waiting else own
+    return [_slim(e) for e in kept]
+
+
 @dataclass(frozen=True, slots=True)
 class _Candidate:
     reaction: ReactionRow
-    partial: ExpressionRow
+    partial: _Slim
     pair: CollisionPair
     choice: StericChoice
     T_ref: float
@@ -252,12 +296,18 @@ def estimate(
     else:
         reactions = queries.reactions(session, reaction_class=reaction_class)
     # of the stored provenance, an estimate reads only a relation's record (Ea and its spread)
-    expressions = queries.expressions_of(
-        session, [r.id for r in reactions], provenance_keys=("evans_polanyi",), lean=True
+    # and of each expression only what it uses (_Slim), kept as the rows stream past
+    slim = queries.expressions_reduced(
+        session,
+        [r.id for r in reactions],
+        _slim_rows,
+        provenance_keys=("evans_polanyi",),
+        lean=True,
     )
-    filled, refused = relation_activation_energies(session, reactions, expressions)
+    filled, refused = relation_activation_energies(session, reactions, slim)  # type: ignore[arg-type]
     for reaction_id, partial in filled.items():
-        expressions[reaction_id] = [*expressions[reaction_id], partial]
+        slim[reaction_id] = [*slim[reaction_id], _slim(partial)]
+    del filled
     sources = StericSources(
         steric,
         queries.steric_rules(session),
@@ -267,9 +317,12 @@ def estimate(
     )
     progress = progress or NoProgress()
     candidates, skipped = _candidates(
-        session, reactions, expressions, bool(keys), sources, collision, T_ref, T_range
+        session, reactions, slim, bool(keys), sources, collision, T_ref, T_range
     )
     named = {r.key: refused[r.id] for r in reactions if r.id in refused}
+    # of the expressions read, the write needs only the earlier estimates each replaces
+    replaced = _earlier_estimates(candidates, slim)
+    del reactions, slim
     skipped = [s for s in skipped if s.key not in named] + [Skipped(*i) for i in named.items()]
     progress.start("estimating", len(candidates))
     rows = _estimate_rows(candidates, collision, skipped)
@@ -278,8 +331,29 @@ def estimate(
         raise RefusedEstimateError(_refusal(rows, skipped), EstimateReport(rows, skipped, False))
     written = [(c, row) for c, row in zip(candidates, rows, strict=True) if row is not None]
     if written:
-        _write(session, written, expressions)
+        _write(session, written, replaced)
     return EstimateReport([row for _, row in written], skipped, written=bool(written))
+
+
+#: The earlier estimates of a reaction that has none (one list shared by every such row).
+_NONE_REPLACED: list[int] = []
+
+
+def _earlier_estimates(
+    candidates: list[_Candidate], expressions: dict[int, list[_Slim]]
+) -> dict[int, list[int]]:
+    """The ids of each candidate's earlier collision estimates (not recommended), which its
+    new estimate replaces, by reaction id (only reactions that have some)."""
+    found: dict[int, list[int]] = {}
+    for c in candidates:
+        ids = [
+            e.id
+            for e in expressions[c.reaction.id]
+            if e.origin == "collision-estimate" and not e.recommended
+        ]
+        if ids:
+            found[c.reaction.id] = ids
+    return found
 
 
 def _refusal(rows: Sequence[EstimateRow | None], skipped: list[Skipped]) -> str:
@@ -294,7 +368,7 @@ def _refusal(rows: Sequence[EstimateRow | None], skipped: list[Skipped]) -> str:
     )
 
 
-def _why_not_candidate(complete: list[ExpressionRow]) -> str:
+def _why_not_candidate(complete: list[_Slim]) -> str:
     if complete:
         return (
             f"already has a complete {complete[-1].origin} expression; estimates never "
@@ -306,7 +380,7 @@ def _why_not_candidate(complete: list[ExpressionRow]) -> str:
 def _candidates(
     session: Session,
     reactions: list[ReactionRow],
-    expressions: dict[int, list[ExpressionRow]],
+    expressions: dict[int, list[_Slim]],
     named: bool,
     sources: StericSources,
     model: str,
@@ -314,7 +388,7 @@ def _candidates(
     T_range: tuple[float, float] | None,
 ) -> tuple[list[_Candidate], list[Skipped]]:
     skipped: list[Skipped] = []
-    waiting: list[tuple[ReactionRow, ExpressionRow]] = []
+    waiting: list[tuple[ReactionRow, _Slim]] = []
     for reaction in reactions:
         own = expressions[reaction.id]
         complete = [e for e in own if e.complete and e.origin != "collision-estimate"]
@@ -349,14 +423,14 @@ def _candidates(
     return candidates, skipped
 
 
-def _colliding(reaction: ReactionRow, partial: ExpressionRow) -> ReactionRow:
+def _colliding(reaction: ReactionRow, partial: _Slim) -> ReactionRow:
     """The reaction as its colliding pair: an association's k_inf is the rate of A + B."""
     if reaction.third_body and reaction.order == 3 and partial.form == "falloff":
         return reaction._replace(order=2, third_body=False)
     return reaction
 
 
-def _third_body_refusal(reaction: ReactionRow, partial: ExpressionRow) -> str | None:
+def _third_body_refusal(reaction: ReactionRow, partial: _Slim) -> str | None:
     if not reaction.third_body or partial.form == "falloff":
         return None
     return (
@@ -422,7 +496,7 @@ def _estimate_rows_of(
 ) -> list[EstimateRow]:
     rows = []
     lists = {
-        name: np.asarray(getattr(estimates, name)).tolist()
+        name: _shared_values(np.asarray(getattr(estimates, name)))
         for name in estimates.__dataclass_fields__
     }
     for i, c in enumerate(candidates):
@@ -454,10 +528,22 @@ def _estimate_rows_of(
                 estimated_diameters=c.pair.estimated_diameters,
                 threshold_shortfall=lists["threshold_shortfall"][i],
                 max_fit_deviation=deviation,
+                replaced=_NONE_REPLACED,
                 activation_energy_rule=c.partial.provenance.get("evans_polanyi", {}).get("rule"),
             )
         )
     return rows
+
+
+def _shared_values(values: np.ndarray) -> list[float]:
+    """``values`` as a list of floats; a column of few distinct values (n, a shortfall
+    that is mostly 0) shares one float object per value instead of one per row."""
+    found = values.tolist()
+    distinct = np.unique(values)
+    if len(distinct) > 16:
+        return found
+    one = {v: v for v in distinct.tolist()}
+    return [one.get(v, v) for v in found]
 
 
 def _provenance_columns(
@@ -532,8 +618,8 @@ def _reference(c: _Candidate, row: EstimateRow) -> str:
 
 def _form_fields(c: _Candidate) -> dict[str, Any]:
     """A falloff estimate keeps the curated k0 and broadening of the expression it completes."""
-    e = c.partial
-    if e.form != "falloff":
+    e = c.partial.full
+    if e is None or e.form != "falloff":
         return {}
     assert e.A_low is not None
     return {
@@ -549,17 +635,13 @@ def _form_fields(c: _Candidate) -> dict[str, Any]:
 def _write(
     session: Session,
     written: list[tuple[_Candidate, EstimateRow]],
-    expressions: dict[int, list[ExpressionRow]],
+    earlier: dict[int, list[int]],
 ) -> None:
     # store the diameters estimated for the partners actually used, flagged
     store_estimated_partners(session, [c.pair for c, _ in written])
     replaced: list[int] = []
     for c, row in written:
-        row.replaced = [
-            e.id
-            for e in expressions[c.reaction.id]
-            if e.origin == "collision-estimate" and not e.recommended
-        ]
+        row.replaced = earlier.get(c.reaction.id, _NONE_REPLACED)
         replaced.extend(row.replaced)
     remove_expressions(session, replaced)
     partners: dict[int, dict[str, object]] = {}

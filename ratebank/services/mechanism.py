@@ -20,8 +20,10 @@ in ``k_low_units`` (the equation's order, M counted).
 from __future__ import annotations
 
 import math
+import pickle
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
-from typing import Any, NamedTuple
+from typing import Any, NamedTuple, overload
 
 import numpy as np
 from sqlalchemy.orm import Session
@@ -155,9 +157,76 @@ class MechanismRow(NamedTuple):
         return [getattr(self, c) for c in COLUMNS]
 
 
+#: Mechanism rows kept together as one packed slice (and hashed and written at a time).
+ROW_SLICE = 10_000
+
+
+class PackedRows(Sequence[MechanismRow]):
+    """Mechanism rows kept packed: each slice of :data:`ROW_SLICE` rows is one pickled
+    list of plain tuples (about a third of the memory of the rows as objects), unpacked
+    when it is read. Rows are appended in order; every slice but the last is full."""
+
+    def __init__(self, rows: Iterable[MechanismRow] = ()) -> None:
+        self._packed: list[bytes] = []
+        self._open: list[tuple[Any, ...]] = []
+        self._length = 0
+        self.extend(rows)
+
+    def append(self, row: Sequence[Any]) -> None:
+        self._open.append(tuple(row))
+        self._length += 1
+        if len(self._open) >= ROW_SLICE:
+            self._packed.append(pickle.dumps(self._open, pickle.HIGHEST_PROTOCOL))
+            self._open = []
+
+    def extend(self, rows: Iterable[Sequence[Any]]) -> None:
+        for row in rows:
+            self.append(row)
+
+    def tuple_slices(self) -> Iterator[list[tuple[Any, ...]]]:
+        """The rows as plain tuples (the fields in order), a slice at a time."""
+        for packed in self._packed:
+            yield pickle.loads(packed)
+        if self._open:
+            yield list(self._open)
+
+    def __len__(self) -> int:
+        return self._length
+
+    def __iter__(self) -> Iterator[MechanismRow]:
+        make = MechanismRow._make
+        for part in self.tuple_slices():
+            yield from map(make, part)
+
+    @overload
+    def __getitem__(self, index: int) -> MechanismRow: ...
+    @overload
+    def __getitem__(self, index: slice) -> list[MechanismRow]: ...
+    def __getitem__(self, index: int | slice) -> MechanismRow | list[MechanismRow]:
+        if isinstance(index, slice):
+            return list(self)[index]
+        if index < 0:
+            index += self._length
+        if not 0 <= index < self._length:
+            raise IndexError("mechanism row index out of range")
+        number, within = divmod(index, ROW_SLICE)
+        part = pickle.loads(self._packed[number]) if number < len(self._packed) else self._open
+        return MechanismRow._make(part[within])
+
+
+def tuple_slices(rows: Sequence[MechanismRow]) -> Iterator[list[tuple[Any, ...]]]:
+    """``rows`` as plain tuples, :data:`ROW_SLICE` at a time (packed or listed rows)."""
+    if isinstance(rows, PackedRows):
+        yield from rows.tuple_slices()
+        return
+    for start in range(0, len(rows), ROW_SLICE):
+        yield [tuple(row) for row in rows[start : start + ROW_SLICE]]
+
+
 @dataclass
 class MechanismTable:
-    rows: list[MechanismRow]
+    #: a list, or (for a table read from the store) :class:`PackedRows`
+    rows: Sequence[MechanismRow]
     units: ExportUnits
     form: str
     gaps: list[str]
@@ -251,7 +320,9 @@ def mechanism_table(
     energy_factor = float(energy_from_si(1.0, units.e_units))
     # the chosen expressions stream past: only the rows made of them are kept
     stream = ChosenStream(session)
-    by_key: dict[str, list[MechanismRow]] = {}
+    # each reaction's rows, pickled as plain tuples, until they are put in the table's order
+    by_key: dict[str, bytes] = {}
+    dumps, protocol = pickle.dumps, pickle.HIGHEST_PROTOCOL
     refused: dict[str, str] = {}
     for c in stream:
         linear = None
@@ -261,7 +332,8 @@ def mechanism_table(
                 refused[c.reaction_key] = found
                 continue
             linear = found
-        by_key[c.reaction_key] = _rows(c, linear, units, factors, energy_factor)
+        found_rows = _rows(c, linear, units, factors, energy_factor)
+        by_key[c.reaction_key] = dumps([tuple(row) for row in found_rows], protocol)
     gaps = stream.gaps
     if gaps and not leave_out_gaps:
         raise ExportGapsError(gaps)
@@ -272,7 +344,11 @@ def mechanism_table(
             f"rows: {'; '.join(reasons[:20])}",
             argument="linearise_at",
         )
-    rows = [row for key in stream.keys if key in by_key for row in by_key.pop(key)]
+    rows = PackedRows()
+    for key in stream.keys:
+        packed = by_key.pop(key, None)
+        if packed is not None:
+            rows.extend(pickle.loads(packed))
     rows, reverse = with_reverse(session, rows, units, as_fit=reverse_as_fit)
     left_out = gaps if leave_out_gaps else []
     return MechanismTable(

@@ -68,6 +68,11 @@ class PartnerData:
         }
 
 
+#: The estimated diameters of a pair with none: one list shared by every such pair (read
+#: only; a mechanism's estimates hold one each).
+_NO_ESTIMATED_DIAMETERS: list[str] = []
+
+
 class CollisionPair(NamedTuple):
     """The two reactants of a bimolecular reaction."""
 
@@ -85,7 +90,7 @@ class CollisionPair(NamedTuple):
     def estimated_diameters(self) -> list[str]:
         """Names of the partners whose diameter is an estimate, sorted."""
         if not self.uses_estimated_diameter:
-            return []
+            return _NO_ESTIMATED_DIAMETERS
         return sorted({p.name for p in (self.a, self.b) if p.diameter_estimated})
 
     def as_record(self, cache: dict[int, dict[str, object]] | None = None) -> dict[str, object]:
@@ -289,20 +294,27 @@ def collision_pairs(
     :func:`store_estimated_partners`).
     """
     check_model(model)
-    reactants = queries.reactants(session, [r.id for r in reactions])
-    species = queries.species_by_id(
-        session, {sid for rows in reactants.values() for sid, _ in rows}
-    )
+    # the reactants as two columns; each reaction's first two found by bisection, as arrays
+    reaction_column, species_column = queries.reactant_columns(session, [r.id for r in reactions])
+    by_reaction = np.frombuffer(reaction_column, dtype=np.int64)
+    by_species = np.frombuffer(species_column, dtype=np.int64)
+    species = queries.species_by_id(session, set(np.unique(by_species).tolist()))
+    ids = np.array([r.id for r in reactions], dtype=np.int64)
+    first = np.searchsorted(by_reaction, ids, side="left")
+    counts = np.searchsorted(by_reaction, ids, side="right") - first
+    last = max(len(by_species) - 1, 0)
+    a_ids = by_species[np.minimum(first, last)].tolist() if len(by_species) else [0] * len(ids)
+    b_ids = by_species[np.minimum(first + 1, last)].tolist() if len(by_species) else a_ids
+    identical_flags = (counts == 1).tolist()
     completed: dict[int, PartnerData | str] = {}
     result: dict[int, CollisionPair | str] = {}
-    for reaction in reactions:
+    for i, reaction in enumerate(reactions):
         if not reaction.bimolecular:
             kind = "a third-body reaction" if reaction.third_body else f"of order {reaction.order}"
             result[reaction.id] = f"not bimolecular ({kind}); collision theory does not apply"
             continue
-        rows = reactants[reaction.id]
-        identical = len(rows) == 1
-        pair_ids = (rows[0][0], rows[0][0]) if identical else (rows[0][0], rows[1][0])
+        identical = identical_flags[i]
+        pair_ids = (a_ids[i], a_ids[i]) if identical else (a_ids[i], b_ids[i])
         partners = []
         for sid in pair_ids:
             if sid not in completed:

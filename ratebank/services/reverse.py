@@ -206,8 +206,8 @@ def _thermo_record(row) -> dict[str, Any]:  # type: ignore[no-untyped-def]
 
 
 def with_reverse(
-    session: Session, rows: list[MechanismRow], units: ExportUnits, *, as_fit: bool = False
-) -> tuple[list[MechanismRow], ReverseInfo]:
+    session: Session, rows: Sequence[MechanismRow], units: ExportUnits, *, as_fit: bool = False
+) -> tuple[Sequence[MechanismRow], ReverseInfo]:
     """The rows with their ``reverse`` column filled; with ``as_fit``, each reversible
     reaction's row is followed by the modified-Arrhenius fit of its reverse over the row's
     range.
@@ -223,7 +223,8 @@ def with_reverse(
     reversible = [reactions[row.key] for row in rows if row.key in reactions]
     inputs, missing = reaction_thermo_inputs(session, reversible)
     refused = [lacking_thermo_message(r, missing[r.id]) for r in reversible if r.id in missing]
-    found: list[MechanismRow] = []
+    # a new sequence of the same kind (the table's packed rows are streamed, never listed)
+    found: Any = type(rows)()
     fitted: list[str] = []
     for row in rows:
         reaction = reactions.get(row.key)

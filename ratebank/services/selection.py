@@ -272,42 +272,48 @@ class ChosenStream:
 
     def __init__(self, session: Session) -> None:
         self._session = session
-        reactions = queries.reactions(session)
-        self._reactions = {r.id: r for r in reactions}
+        # every reaction as plain columns, not an object each
+        self._heads = queries.reaction_heads(session)
         #: every reaction's key, in the table's order
-        self.keys = [r.key for r in reactions]
+        self.keys = self._heads.keys
         self.gaps: list[str] = []
         self.digest = ""
 
     def __iter__(self) -> Iterator[ChosenRow]:
         digest = hashlib.sha256(b"expressions\n")
-        batch: list[Chosen] = []
-        waiting = self._reactions  # a chosen reaction leaves it: what is left are the gaps
+        heads = self._heads
+        position = {reaction_id: i for i, reaction_id in enumerate(heads.ids)}
+        chosen = bytearray(len(heads.ids))  # 1 where the reaction's expression was chosen
+        batch: list[tuple[int, ExpressionRow, str]] = []
         for reaction_id, expressions in queries.expressions_by_reaction(self._session):
-            choice = choose(expressions) if reaction_id in waiting else None
+            at = position.get(reaction_id)
+            choice = choose(expressions) if at is not None and not chosen[at] else None
             if choice is None:
                 continue
-            batch.append(Chosen(waiting.pop(reaction_id), *choice))
+            chosen[at] = 1  # type: ignore[index]
+            batch.append((at, *choice))  # type: ignore[arg-type]
             if len(batch) >= self.BATCH:
                 yield from self._rows(batch, digest)
                 batch = []
         yield from self._rows(batch, digest)
-        self.gaps = [r.key for r in waiting.values()]  # by key, as the reactions were read
-        self._reactions = {}
+        # by key, as the reactions were read
+        self.gaps = [key for key, done in zip(heads.keys, chosen, strict=True) if not done]
         self.digest = "sha256:" + digest.hexdigest()
 
-    def _rows(self, batch: list[Chosen], digest: Any) -> Iterator[ChosenRow]:
+    def _rows(
+        self, batch: list[tuple[int, ExpressionRow, str]], digest: Any
+    ) -> Iterator[ChosenRow]:
         if not batch:
             return
         picked = expression_records(
-            self._session, [c.expression.id for c in batch], ("steric_factor",), digest
+            self._session, [e.id for _, e, _ in batch], ("steric_factor",), digest
         )
-        for c in batch:
-            e = c.expression
+        heads = self._heads
+        for at, e, rule in batch:
             yield ChosenRow(
-                c.reaction.key,
-                c.reaction.equation,
-                c.reaction.order,
+                heads.keys[at],
+                heads.equations[at],
+                heads.orders[at],
                 e.id,
                 e.origin,
                 e.A,  # type: ignore[arg-type]
@@ -319,7 +325,7 @@ class ChosenStream:
                 e.uncertainty_g,
                 e.reference,
                 picked[e.id].get("steric_factor"),
-                c.rule,
+                rule,
                 e,
-                c.reaction.third_body,
+                heads.third_body[at],
             )

@@ -14,7 +14,8 @@ The vocabulary is the rate law's own: ``A`` [SI k unit times K^-n], ``n``
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator, Sequence
+from array import array
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from typing import Any, NamedTuple
 
 from sqlalchemy import null, or_, select
@@ -293,6 +294,33 @@ def reactions(
     return [ReactionRow(*row) for row in fetch_all(session, query)]
 
 
+class ReactionHeads(NamedTuple):
+    """What a whole-mechanism reader needs of every reaction in use, as plain columns (one
+    list per field, by key): no object per reaction."""
+
+    ids: list[int]
+    keys: list[str]
+    equations: list[str]
+    orders: list[int]
+    third_body: list[bool]
+
+
+def reaction_heads(session: Session) -> ReactionHeads:
+    """Id, key, equation, order and third body of every reaction in use, by key (the
+    reactions of :func:`reactions` without ids), as columns."""
+    query = (
+        select(Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order,
+               Reaction.third_body)
+        .where(reaction_in_use())
+        .order_by(Reaction.key)
+    )  # fmt: skip
+    rows = fetch_all(session, query)
+    if not rows:
+        return ReactionHeads([], [], [], [], [])
+    ids, keys, equations, orders, third_body = map(list, zip(*rows, strict=True))
+    return ReactionHeads(ids, keys, equations, orders, [bool(t) for t in third_body])
+
+
 def reactants(session: Session, reaction_ids: Sequence[int]) -> dict[int, list[tuple[int, int]]]:
     """(species id, coefficient) of each reaction's reactants, in the order written."""
     found: dict[int, list[tuple[int, int]]] = {i: [] for i in reaction_ids}
@@ -304,6 +332,23 @@ def reactants(session: Session, reaction_ids: Sequence[int]) -> dict[int, list[t
     ):
         found[reaction_id].append((species_id, coefficient))
     return found
+
+
+def reactant_columns(session: Session, reaction_ids: Sequence[int]) -> tuple[array, array]:
+    """(reaction ids, species ids) of the reactants of ``reaction_ids``, one entry per
+    reactant row, by reaction id and then in the order written, as two int64 arrays (the
+    reactants of :func:`reactants` as columns: no list per reaction)."""
+    reactions, species = array("q"), array("q")
+    wanted = sorted(set(reaction_ids))
+    query = (
+        "SELECT reaction_id, species_id FROM participant "
+        "WHERE role = 'reactant' AND reaction_id IN ({marks}) ORDER BY reaction_id, id"
+    )
+    for start in range(0, len(wanted), 5000):
+        for reaction_id, species_id in fetch_in(session, query, wanted[start : start + 5000]):
+            reactions.append(reaction_id)
+            species.append(species_id)
+    return reactions, species
 
 
 def species_by_id(session: Session, species_ids: Iterable[int]) -> dict[int, SpeciesRow]:
@@ -355,6 +400,41 @@ def expressions_of(
         for reaction_id, rows in found.items():
             found[reaction_id] = with_terms(session, rows)
     return found
+
+
+#: Reactions from which :func:`expressions_reduced` reads the whole store in one pass.
+_STREAM_FROM = 5000
+
+
+def expressions_reduced(
+    session: Session,
+    reaction_ids: Sequence[int],
+    reduce: Callable[[list[ExpressionRow]], list[Any]],
+    *,
+    provenance_keys: Sequence[str] | None = None,
+    lean: bool = False,
+) -> dict[int, list[Any]]:
+    """:func:`expressions_of` with each reaction's rows passed through ``reduce`` as soon as
+    they are read (a reader of most of the store that keeps a little of each expression
+    never holds every row); a reaction without expressions gets ``reduce([])``."""
+    make = _Rows(session, provenance_keys)
+    make.lean = lean
+    wanted = list(dict.fromkeys(reaction_ids))
+    if len(wanted) > _STREAM_FROM:  # most of the store: one pass, reduced as they stream
+        found: dict[int, list[Any]] = dict.fromkeys(wanted)  # type: ignore[arg-type]
+        for reaction_id, rows in _stream(session, make):
+            if reaction_id in found:
+                found[reaction_id] = reduce(rows)
+        empty = [key for key, value in found.items() if value is None]
+        for key in empty:
+            found[key] = reduce([])
+        return found
+    read = _expressions_by_reaction(session, wanted, make)
+    for reaction_id, rows in read.items():
+        if any(row.form == "sum" for row in rows):
+            rows = with_terms(session, rows)
+        read[reaction_id] = reduce(rows)
+    return read
 
 
 def _expressions_by_reaction(

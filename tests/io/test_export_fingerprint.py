@@ -157,8 +157,9 @@ def test_the_mechanism_file_written_a_slice_at_a_time_is_the_table_text(
     store, tmp_path, monkeypatch
 ):
     from ratebank.io import export
+    from ratebank.services import mechanism
 
-    monkeypatch.setattr(export, "_STREAM_ROWS", 1)  # a slice per row
+    monkeypatch.setattr(mechanism, "ROW_SLICE", 1)  # a packed slice per row
     written = store.export(tmp_path / "sliced", preset="si", leave_out_gaps=True)
     with store.session() as session:
         content = package_content(session, units=export_units("si"), leave_out_gaps=True)
@@ -166,3 +167,47 @@ def test_the_mechanism_file_written_a_slice_at_a_time_is_the_table_text(
     assert len(content.table.rows) > 2
     assert written.table_path.read_text(encoding="utf-8") == files[export.MECHANISM]
     assert files[export.MECHANISM].count("key,equation,order") == 1
+
+
+def test_packed_rows_read_back_as_the_rows_they_hold(monkeypatch):
+    from ratebank.services import mechanism
+
+    monkeypatch.setattr(mechanism, "ROW_SLICE", 3)  # several slices and an open one
+    rows = [
+        mechanism.MechanismRow(*([f"r{i}", "A + B -> C", 2, 1.5e-12 * i, 0.5, -2.5]
+                                 + [None] * 27 + [i, "newest literature"]))
+        for i in range(8)
+    ]  # fmt: skip
+    packed = mechanism.PackedRows(rows)
+    assert len(packed) == 8 and list(packed) == rows
+    assert packed[0] == rows[0] and packed[4] == rows[4] and packed[-1] == rows[7]
+    assert packed[2:5] == rows[2:5]
+    assert [len(part) for part in mechanism.tuple_slices(packed)] == [3, 3, 2]
+    assert [len(part) for part in mechanism.tuple_slices(rows)] == [3, 3, 2]
+    with pytest.raises(IndexError):
+        packed[8]
+
+
+@pytest.mark.parametrize("row_slice", [1, 2, 10_000])
+def test_the_streamed_descriptor_is_the_whole_one_encoded(store, tmp_path, monkeypatch, row_slice):
+    """The descriptor's chosen_by, filled a slice of rows at a time, gives the bytes of the
+    whole mapping encoded at once (as exports wrote it before)."""
+    from ratebank.io import export
+    from ratebank.services import mechanism
+    from ratebank.store import json_codec
+
+    monkeypatch.setattr(mechanism, "ROW_SLICE", row_slice)
+    with store.session() as session:
+        content = package_content(session, units=export_units("si"), leave_out_gaps=True)
+    files, descriptor = export.package_files(content, "whole", "2026-01-01T00:00:00Z")
+    whole = json.loads(json.dumps(descriptor))
+    whole["ratebank"]["chosen_by"] = {
+        r.key: {"expression_id": r.expression_id, "rule": r.chosen_by} for r in content.table.rows
+    }
+    assert len(whole["ratebank"]["chosen_by"]) > 2
+    expected = json_codec.indented_line_bytes(whole).decode("utf-8")
+    assert files[export.DESCRIPTOR] == expected
+    # and what an export writes, from the store's packed rows
+    written = store.export(tmp_path / "whole", preset="si", leave_out_gaps=True)
+    on_disk = json.loads(written.descriptor_path.read_text(encoding="utf-8"))
+    assert on_disk["ratebank"]["chosen_by"] == whole["ratebank"]["chosen_by"]

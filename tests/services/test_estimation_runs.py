@@ -132,3 +132,31 @@ def test_a_run_stores_the_common_provenance_once_and_readers_see_it_whole(thousa
             assert only.content["steric_factor"] == 0.2
     finally:
         store.close()
+
+
+def test_estimates_read_in_one_pass_are_those_read_by_ids(thousand, monkeypatch):
+    """Reading the whole store in one pass (as for a large store) and by lists of ids give the
+    same estimates and provenance; a second run replaces the first."""
+
+    def estimated():
+        with ratebank.open(thousand, author="tester") as store:
+            report = store.estimate(steric=0.1)
+            with store.session() as session:
+                stored = queries.expressions_of(session)
+            provenance = {
+                e.reaction_id: e.provenance
+                for rows in stored.values()
+                for e in rows
+                if e.origin == "collision-estimate"
+            }
+            return report, provenance
+
+    by_ids, first = estimated()
+    monkeypatch.setattr(queries, "_STREAM_FROM", 0)
+    streamed, second = estimated()
+    assert len(first) == 1000 and first == second  # the whole provenance, run's part included
+    assert [(r.key, r.A, r.Ea, r.uncertainty_factor) for r in streamed.rows] == [
+        (r.key, r.A, r.Ea, r.uncertainty_factor) for r in by_ids.rows
+    ]
+    assert streamed.rows[0].replaced == [by_ids.rows[0].expression_id]
+    assert all(len(r.replaced) == 1 for r in streamed.rows)
