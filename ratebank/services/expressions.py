@@ -52,6 +52,7 @@ from ratebank.store.records import (
     stale_edit_error,
     write_expression_edit,
 )
+from ratebank.store.runs import take_common
 
 #: Origins a curator may edit by hand.
 EDITABLE_ORIGINS = ("literature", "manual")
@@ -89,7 +90,9 @@ def import_expressions(
     problems.raise_if_any(source)
     new = [records[i] for i in plan.new]
     if not dry_run and new:
-        write_expressions(session, new, action="expressions.import")
+        # what the rows of one file share (the file, the units it gives) is stored once
+        run = take_common([r.provenance for r in new], _RUN_FIELDS)
+        write_expressions(session, new, action="expressions.import", run=run)
         audit.record(session, "expressions.import", source, count=len(new))
     if not dry_run and plan.writes:
         write_expression_updates(session, plan, source)
@@ -106,6 +109,10 @@ def import_expressions(
         changed=plan.changed,
         unchanged=plan.unchanged,
     )
+
+
+#: Provenance fields an import's rows usually share, stored once in the run when they do.
+_RUN_FIELDS = ("source_file", "given_units")
 
 
 def _record(expression: ValidExpression, source: str) -> ExpressionRecord:

@@ -38,7 +38,7 @@ from ratebank.science.uncertainty import (
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import CollisionPair, PairColumns, collision_pairs
 from ratebank.services.progress import NoProgress, Progress
-from ratebank.store import queries
+from ratebank.store import queries, runs
 from ratebank.store.expressions import ExpressionRecord, write_expressions
 from ratebank.store.points import PointColumns
 from ratebank.store.points import points as points_of
@@ -246,7 +246,7 @@ def _store_fits(
     records: list[ExpressionRecord] = []
     history: list[tuple[str, dict[str, Any]]] = []
     stored: list[FitRow] = []
-    partner_records: dict[int, dict[str, object]] = {}
+    run = _Run(fixed_n)
     columns = _FitColumns(fits)
     for i in sorted(range(len(rids)), key=lambda i: reactions[rids[i]].key):
         progress.advance()
@@ -255,17 +255,17 @@ def _store_fits(
         rows.append(row)
         if row.status == "failed":
             continue
-        provenance = _provenance(columns, i, row, set_ids[rid], derived, fixed_n, partner_records)
+        provenance = run.own(columns, i, row, set_ids[rid], derived)
         _note_pressures(row, provenance, spreads.get(rid))
         old = previous.get(rid)
-        if old is not None and _same_fit(old, row, provenance):
+        if old is not None and _same_fit(old, row, fixed_n, provenance):
             row.status, row.expression_id = "unchanged", old.id
             continue
         row.status = "stored"
         records.append(_record(rid, row, provenance, [labels[s] for s in set_ids[rid]]))
         history.append((row.key, {"form": row.form, "points": row.n_points, "sets": row.n_sets}))
         stored.append(row)
-    ids = write_expressions(session, records, action="fit", history=history)
+    ids = write_expressions(session, records, action="fit", history=history, run=run.common())
     for row, new_id in zip(stored, ids, strict=True):
         row.expression_id = new_id
     return rows
@@ -412,41 +412,102 @@ _WEIGHTED_METHOD = (
 _UNWEIGHTED_METHOD = "unweighted least squares in ln k (covariance scaled by reduced chi-square)"
 
 
-def _provenance(
-    fits: _FitColumns,
-    i: int,
-    row: FitRow,
-    set_ids: list[int],
-    derived: _Derived,
-    fixed_n: float | None,
-    partner_records: dict[int, dict[str, object]],
-) -> dict[str, Any]:
-    pair = derived.pairs.get(fits.groups[i])
-    steric = row.steric_factor
-    weighted = fits.weighted[i]
-    return {
-        "method": _WEIGHTED_METHOD if weighted else _UNWEIGHTED_METHOD,
-        "form": row.form,
-        "form_reason": row.message,
-        "fixed_n": fixed_n,
-        "T_ref": fits.T_ref[i],
-        "covariance": fits.covariance[i],
-        "covariance_parameters": ["ln A", "n", "Ea [J/mol]"],
-        "absolute_sigma": weighted,
-        "reduced_chi_square": row.reduced_chi_square,
-        "covariance_scale": fits.covariance_scale[i],
-        "between_set_variance_ln_k": fits.between_set_variance[i],
-        "n_points": row.n_points,
-        "n_sets": row.n_sets,
-        "set_ids": set_ids,
-        "warnings": [w.code for w in fits.warnings[i]],
-        "steric_factor": steric,
-        "steric_factor_T_K": fits.mean_T[i] if steric is not None else None,
-        "steric_factor_model": "hard-sphere" if steric is not None else None,
-        "partners": pair.as_record(cache=partner_records)
-        if isinstance(pair, CollisionPair)
-        else None,
-    }
+#: The provenance fields that describe the run rather than one reaction's fit.
+_RUN_FIELDS = (
+    "method",
+    "form",
+    "form_reason",
+    "fixed_n",
+    "covariance_parameters",
+    "absolute_sigma",
+    "steric_factor_model",
+)
+_COVARIANCE_PARAMETERS = ["ln A", "n", "Ea [J/mol]"]
+
+
+class _Run:
+    """The provenance of one fit run, split into the part its fits share and each fit's own.
+
+    The run's part (:data:`_RUN_FIELDS`, with the first fit's values, and the record of
+    each collision partner by species name) is stored once, in the run
+    (:mod:`ratebank.store.runs`); each fit keeps what is its own (its sets, covariance,
+    chi-square, steric factor, the names of its partners) and any run field whose value
+    differs from the run's (an unweighted fit, a form chosen by ``auto``). The run's part
+    updated by a fit's own is the whole provenance the readers see.
+    """
+
+    def __init__(self, fixed_n: float | None):
+        self.fixed_n = fixed_n
+        self.shared: dict[str, Any] | None = None
+        self._shared_values: tuple[Any, ...] = ()
+        self.partners: dict[str, dict[str, object]] = {}
+        self._partner_of: dict[str, object] = {}
+
+    def own(
+        self, fits: _FitColumns, i: int, row: FitRow, set_ids: list[int], derived: _Derived
+    ) -> dict[str, Any]:
+        """The fit's own provenance (the run's part is taken from the first fit)."""
+        steric = row.steric_factor
+        weighted = fits.weighted[i]
+        shared = (
+            _WEIGHTED_METHOD if weighted else _UNWEIGHTED_METHOD,
+            row.form,
+            row.message,
+            self.fixed_n,
+            _COVARIANCE_PARAMETERS,
+            weighted,
+            "hard-sphere" if steric is not None else None,
+        )
+        if self.shared is None:
+            self.shared = dict(zip(_RUN_FIELDS, shared, strict=True))
+            self._shared_values = shared
+        pair = derived.pairs.get(fits.groups[i])
+        provenance = (
+            {}
+            if shared == self._shared_values
+            else {
+                name: value
+                for name, value in zip(_RUN_FIELDS, shared, strict=True)
+                if self.shared[name] != value
+            }
+        )
+        provenance.update(
+            {
+                "T_ref": fits.T_ref[i],
+                "covariance": fits.covariance[i],
+                "reduced_chi_square": row.reduced_chi_square,
+                "covariance_scale": fits.covariance_scale[i],
+                "between_set_variance_ln_k": fits.between_set_variance[i],
+                "n_points": row.n_points,
+                "n_sets": row.n_sets,
+                "set_ids": set_ids,
+                "warnings": [w.code for w in fits.warnings[i]],
+                "steric_factor": steric,
+                "steric_factor_T_K": fits.mean_T[i] if steric is not None else None,
+                "partners": self._pair(pair) if isinstance(pair, CollisionPair) else None,
+            }
+        )
+        return provenance
+
+    def _pair(self, pair: CollisionPair) -> dict[str, object]:
+        """The pair naming its partners, whose records the run keeps once by name."""
+        names: list[object] = []
+        for partner in (pair.a, pair.b):
+            name = partner.name
+            known = self._partner_of.get(name)
+            if known is None:
+                self._partner_of[name] = partner
+                self.partners[name] = partner.as_record()
+            elif known is not partner and self.partners[name] != partner.as_record():
+                return pair.as_record()  # a different record under one name: kept whole
+            names.append(name)
+        return {"identical": pair.identical, "a": names[0], "b": names[1]}
+
+    def common(self) -> dict[str, Any] | None:
+        """What the run's fits share, as the run stores it (None before any fit)."""
+        if self.shared is None:
+            return None
+        return {**self.shared, runs.PARTNERS: self.partners} if self.partners else self.shared
 
 
 def _note_pressures(row: FitRow, provenance: dict[str, Any], spread: PressureSpread | None) -> None:
@@ -461,12 +522,14 @@ def _note_pressures(row: FitRow, provenance: dict[str, Any], spread: PressureSpr
         provenance["warnings"] = [*provenance["warnings"], "pressures-pooled"]
 
 
-def _same_fit(previous: ExpressionRow, row: FitRow, provenance: dict[str, Any]) -> bool:
+def _same_fit(
+    previous: ExpressionRow, row: FitRow, fixed_n: float | None, provenance: dict[str, Any]
+) -> bool:
     old = previous.provenance
     return (
         old.get("set_ids") == provenance["set_ids"]
-        and old.get("form") == provenance["form"]
-        and old.get("fixed_n") == provenance["fixed_n"]
+        and old.get("form") == row.form
+        and old.get("fixed_n") == fixed_n
         and old.get("n_points") == provenance["n_points"]
         and previous.A is not None
         and abs(previous.A - (row.A or 0.0)) <= 1e-12 * abs(previous.A)

@@ -174,10 +174,16 @@ def _refuse_unstorable(record: ExpressionRecord) -> None:
         )
 
 
+#: The limit and broadening columns of a form without them.
+_NO_LIMITS = (None,) * 10
+
+
 def _form_columns(record: ExpressionRecord) -> tuple[Any, ...]:
     """The form's own columns of a record (empty for the reaction's plain form)."""
     stored_form = None if record.form == plain_form(record.third_body) else record.form
     low = record.low_pressure
+    if low is None and record.broadening is None:
+        return (stored_form, *_NO_LIMITS)
     b = record.broadening or (Broadening() if low is not None else None)
     return (
         stored_form,
@@ -221,10 +227,11 @@ def write_expressions(
     for record in records:
         _refuse_unstorable(record)
     now = db_timestamp(session)
-    encode = json_adapter(session)
+    encode = json_adapter(session)  # each row's own provenance encoded once, by orjson
     author = session.info.get("author")
     if run is not None:
         run_id = runs.write_run(session, action, run)
+    # plain tuples straight to the driver's executemany (COPY on PostgreSQL)
     ids = insert_returning_ids(
         session,
         "expression",

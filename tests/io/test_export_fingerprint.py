@@ -72,7 +72,7 @@ def _edit_provenance(store, expression_id: int) -> None:
 
 def _edit_run(store) -> None:
     with store.session(write=True) as session:
-        (found,) = session.query(ProvenanceRun).all()
+        (found,) = session.query(ProvenanceRun).filter(ProvenanceRun.action == "estimate")
         content = {**found.content, "steric_rule": "a rule of another name"}
         session.execute(
             update(ProvenanceRun).where(ProvenanceRun.id == found.id).values(content=content)

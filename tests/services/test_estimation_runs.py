@@ -74,7 +74,11 @@ def test_the_history_of_a_thousand_estimates_lists_each_reaction(thousand):
         one = store.history(target="r-7-42")
         assert [e.action for e in one][:1] == ["estimate"]
         with store.session() as session:
-            runs = session.query(ProvenanceRun).all()
+            runs = (
+                session.query(ProvenanceRun)
+                .filter(ProvenanceRun.action != "expressions.import")
+                .all()
+            )
             assert len(runs) == 1 and runs[0].action == "estimate"
             assert {e.detail["run"] for e in estimates} == {runs[0].id}
     # the command line shows it too
@@ -128,7 +132,7 @@ def test_a_run_stores_the_common_provenance_once_and_readers_see_it_whole(thousa
         with store.session(write=True) as session:
             estimation.estimate(session, steric=0.2)
         with store.session() as session:
-            (only,) = session.query(ProvenanceRun).all()
+            (only,) = session.query(ProvenanceRun).filter(ProvenanceRun.action == "estimate")
             assert only.content["steric_factor"] == 0.2
     finally:
         store.close()
