@@ -5,21 +5,13 @@ from __future__ import annotations
 import json
 
 import pytest
-from helpers.cli import run, snapshot, write
-from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+from helpers.cli import fill_store, run, snapshot, write
+from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, SPECIES_CSV
 
 
 @pytest.fixture
 def filled(db_url, tmp_path):
-    assert run(db_url, "init").exit_code == 0
-    for command, name, text in (
-        ("species", "species.csv", SPECIES_CSV),
-        ("reactions", "reactions.csv", REACTIONS_CSV),
-        ("data", "points.csv", MEASUREMENTS_CSV),
-        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
-    ):
-        assert run(db_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
-    return db_url
+    return fill_store(db_url, tmp_path)
 
 
 def test_update_reports_added_changed_and_unchanged(filled, tmp_path):

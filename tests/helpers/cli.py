@@ -52,6 +52,23 @@ def write(path: Path, text: str) -> Path:
     return path
 
 
+def fill_store(db: str, folder: Path) -> str:
+    """``init`` the store at ``db`` and import helpers.data's species, reactions, points and
+    expressions through the command line (the files written in ``folder``); ``db``."""
+    from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+
+    assert run(db, "init").exit_code == 0
+    for command, name, text in (
+        ("species", "species.csv", SPECIES_CSV),
+        ("reactions", "reactions.csv", REACTIONS_CSV),
+        ("data", "points.csv", MEASUREMENTS_CSV),
+        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
+    ):
+        outcome = run(db, command, "import", str(write(folder / name, text)))
+        assert outcome.exit_code == 0, outcome.stdout + outcome.stderr
+    return db
+
+
 def csv_rows(text: str) -> list[tuple[int, dict[str, str]]]:
     """The rows of a CSV text as the importers take them: (line, cells by column)."""
     import csv

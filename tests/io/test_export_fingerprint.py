@@ -6,8 +6,7 @@ from __future__ import annotations
 import json
 
 import pytest
-from helpers.cli import run, write
-from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+from helpers.cli import fill_store
 from sqlalchemy import update
 
 import ratebank
@@ -23,14 +22,7 @@ from ratebank.store.models import Expression, ProvenanceRun
 def store(db_url, tmp_path):
     """helpers.data's store (rate numbers made up), with a fit of oh-ch4 (which outranks its
     literature expression) and a collision estimate of ho2-ho2 (a run)."""
-    assert run(db_url, "init").exit_code == 0
-    for command, name, text in (
-        ("species", "species.csv", SPECIES_CSV),
-        ("reactions", "reactions.csv", REACTIONS_CSV),
-        ("data", "points.csv", MEASUREMENTS_CSV),
-        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
-    ):
-        assert run(db_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
+    fill_store(db_url, tmp_path)
     with ratebank.open(db_url, author="tester") as opened:
         opened.fit(["oh-ch4"])
         opened.estimate(["ho2-ho2"], steric=0.1, T_ref=500.0)

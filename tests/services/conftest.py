@@ -3,8 +3,7 @@
 from __future__ import annotations
 
 import pytest
-from helpers.cli import csv_rows, run, write
-from helpers.data import EXPRESSIONS_CSV, MEASUREMENTS_CSV, REACTIONS_CSV, SPECIES_CSV
+from helpers.cli import csv_rows, fill_store
 
 from ratebank.services.store_access import open_store
 
@@ -13,15 +12,7 @@ from ratebank.services.store_access import open_store
 def filled(db_url, tmp_path):
     """The address of a store holding tests/helpers/data.py's species, reactions, points and
     expressions."""
-    assert run(db_url, "init").exit_code == 0
-    for command, name, text in (
-        ("species", "species.csv", SPECIES_CSV),
-        ("reactions", "reactions.csv", REACTIONS_CSV),
-        ("data", "points.csv", MEASUREMENTS_CSV),
-        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
-    ):
-        assert run(db_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
-    return db_url
+    return fill_store(db_url, tmp_path)
 
 
 @pytest.fixture
