@@ -341,13 +341,16 @@ def _cover_rows(u: np.ndarray, s: np.ndarray, a_floor: np.ndarray):
         group = np.flatnonzero(level == k)
         Uq, Sq = U_sorted[group, :k], S_sorted[group, :k]
         Up, Sp = U_sorted[group, k:], S_sorted[group, k:]
+        # the crossings in two buffers, without further temporaries
+        crossing = np.subtract(Sp[:, np.newaxis, :], Sq[:, :, np.newaxis])
+        run = np.subtract(Up[:, np.newaxis, :], Uq[:, :, np.newaxis])
         with np.errstate(divide="ignore", invalid="ignore"):
-            crossing = (Sp[:, np.newaxis, :] - Sq[:, :, np.newaxis]) / (
-                Up[:, np.newaxis, :] - Uq[:, :, np.newaxis]
-            )
+            np.divide(crossing, run, out=crossing)
         gap = m[group, np.newaxis] - Uq
         rising = gap >= 0
-        chosen = np.where(rising, crossing.max(axis=2), crossing.min(axis=2))
+        chosen = crossing.max(axis=2)
+        if not rising.all():  # a line within rounding of level, on the falling side of m
+            chosen = np.where(rising, chosen, crossing.min(axis=2))
         value = Sq + np.maximum(chosen, 0.0) * gap
         t[group] = np.maximum(t[group], value.max(axis=1))
     with np.errstate(divide="ignore", invalid="ignore"):

@@ -21,7 +21,6 @@ Points without a pressure take no part in the rule.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from itertools import pairwise
 from typing import Any
@@ -248,21 +247,27 @@ def _store_fits(
     stored: list[FitRow] = []
     run = _Run(fixed_n)
     columns = _FitColumns(fits)
-    for i in sorted(range(len(rids)), key=lambda i: reactions[rids[i]].key):
-        progress.advance()
+    chosen = [reactions[rid] for rid in rids]
+    advance = progress.advance
+    for i in sorted(range(len(rids)), key=[r.key for r in chosen].__getitem__):
+        advance()
         rid = rids[i]
-        row = _fit_row(reactions[rid], columns, i, derived, len(set_ids[rid]))
+        sets = set_ids[rid]
+        pair = pairs.get(rid)
+        row = _fit_row(chosen[i], columns, i, derived, len(sets), pair)
         rows.append(row)
         if row.status == "failed":
             continue
-        provenance = run.own(columns, i, row, set_ids[rid], derived)
-        _note_pressures(row, provenance, spreads.get(rid))
+        provenance = run.own(columns, i, row, sets, pair)
+        spread = spreads.get(rid)
+        if spread is not None:
+            _note_pressures(row, provenance, spread)
         old = previous.get(rid)
         if old is not None and _same_fit(old, row, fixed_n, provenance):
             row.status, row.expression_id = "unchanged", old.id
             continue
         row.status = "stored"
-        records.append(_record(rid, row, provenance, [labels[s] for s in set_ids[rid]]))
+        records.append(_record(rid, row, provenance, [labels[s] for s in sets]))
         history.append((row.key, {"form": row.form, "points": row.n_points, "sets": row.n_sets}))
         stored.append(row)
     ids = write_expressions(session, records, action="fit", history=history, run=run.common())
@@ -331,24 +336,21 @@ class _Derived:
     def _steric_factors(self, fits: GroupFits) -> list[float | None]:
         """P implied by each fit at the geometric-mean T of its data (hard spheres)."""
         implied: list[float | None] = [None] * len(fits)
+        pairs = [self.pairs.get(rid) for rid in fits.groups.tolist()]
         rows = [
             i
-            for i, rid in enumerate(fits.groups.tolist())
-            if fits.ok[i] and isinstance(self.pairs.get(rid), CollisionPair)
+            for i, (fitted, pair) in enumerate(zip(fits.ok.tolist(), pairs, strict=True))
+            if fitted and isinstance(pair, CollisionPair)
         ]
         if not rows:
             return implied
-        columns = PairColumns.of([self.pairs[fits.groups[i]] for i in rows])
+        columns = PairColumns.of([pairs[i] for i in rows])
         T = fits.mean_T[rows]
         z = collision_rate(T, **columns.rate_arguments("hard-sphere"))
         steric = steric_factor_of_expression(T, fits.A[rows], fits.n[rows], fits.Ea[rows], z)
         for i, p in zip(rows, np.atleast_1d(steric).tolist(), strict=True):
             implied[i] = p
         return implied
-
-
-def _finite(value: float) -> float | None:
-    return float(value) if math.isfinite(value) else None
 
 
 class _FitColumns:
@@ -376,33 +378,64 @@ class _FitColumns:
         self.covariance_scale = fits.covariance_scale.tolist()
         self.between_set_variance = fits.between_set_variance.tolist()
         chi = fits.reduced_chi_square
-        self.reduced_chi_square = np.where(np.isfinite(chi), chi, np.nan).tolist()
+        #: the reduced chi-square where finite, else None
+        self.reduced_chi_square = np.where(np.isfinite(chi), chi, None).tolist()
         covariance = fits.covariance
         self.covariance = np.where(np.isfinite(covariance), covariance, 0.0).tolist()
         self.warnings = fits.warnings.tolist()
 
 
-def _fit_row(reaction: ReactionRow, fits: _FitColumns, i: int, derived: _Derived, n_sets: int):
-    row = FitRow(reaction.key, reaction.equation, reaction.order, "failed", "")
-    row.n_points, row.n_sets = fits.n_points[i], n_sets
+def _fit_row(
+    reaction: ReactionRow,
+    fits: _FitColumns,
+    i: int,
+    derived: _Derived,
+    n_sets: int,
+    pair: CollisionPair | str | None,
+) -> FitRow:
+    """The report row of one fit (``pair``: the reaction's collision pair or why none)."""
     if not fits.ok[i]:
-        row.message = fits.status[i]
-        return row
-    row.status, row.message, row.form = "fitted", fits.reason[i], fits.form[i]
-    row.A, row.n, row.Ea = fits.A[i], fits.n[i], fits.Ea[i]
-    row.T_min, row.T_max = fits.T_min[i], fits.T_max[i]
-    row.reduced_chi_square = _finite(fits.reduced_chi_square[i])
-    row.uncertainty_factor_min, row.uncertainty_factor_max = derived.factor_range[i]
-    row.uncertainty_f298, row.uncertainty_g = derived.panel[i]
-    row.warnings = [w.message for w in fits.warnings[i]]
-    pair = derived.pairs.get(fits.groups[i])
+        return FitRow(
+            reaction.key,
+            reaction.equation,
+            reaction.order,
+            "failed",
+            fits.status[i],
+            n_points=fits.n_points[i],
+            n_sets=n_sets,
+        )
+    steric = note = None
     if isinstance(pair, str):
-        row.steric_note = pair
+        note = pair
     elif pair is not None:
-        row.steric_factor = derived.steric[i]
+        steric = derived.steric[i]
         if pair.uses_estimated_diameter:
-            row.steric_note = "uses an estimated diameter"
-    return row
+            note = "uses an estimated diameter"
+    low, high = derived.factor_range[i]
+    f298, g = derived.panel[i]
+    return FitRow(
+        reaction.key,
+        reaction.equation,
+        reaction.order,
+        "fitted",
+        fits.reason[i],
+        fits.form[i],
+        fits.A[i],
+        fits.n[i],
+        fits.Ea[i],
+        fits.T_min[i],
+        fits.T_max[i],
+        fits.n_points[i],
+        n_sets,
+        fits.reduced_chi_square[i],
+        low,
+        high,
+        f298,
+        g,
+        steric,
+        note,
+        [w.message for w in fits.warnings[i]],
+    )
 
 
 _WEIGHTED_METHOD = (
@@ -442,9 +475,16 @@ class _Run:
         self._shared_values: tuple[Any, ...] = ()
         self.partners: dict[str, dict[str, object]] = {}
         self._partner_of: dict[str, object] = {}
+        #: what _pair gave each pair of partner objects (shared by many reactions)
+        self._pairs: dict[tuple[int, int, bool], dict[str, object]] = {}
 
     def own(
-        self, fits: _FitColumns, i: int, row: FitRow, set_ids: list[int], derived: _Derived
+        self,
+        fits: _FitColumns,
+        i: int,
+        row: FitRow,
+        set_ids: list[int],
+        pair: CollisionPair | str | None,
     ) -> dict[str, Any]:
         """The fit's own provenance (the run's part is taken from the first fit)."""
         steric = row.steric_factor
@@ -461,36 +501,42 @@ class _Run:
         if self.shared is None:
             self.shared = dict(zip(_RUN_FIELDS, shared, strict=True))
             self._shared_values = shared
-        pair = derived.pairs.get(fits.groups[i])
-        provenance = (
-            {}
-            if shared == self._shared_values
-            else {
-                name: value
-                for name, value in zip(_RUN_FIELDS, shared, strict=True)
-                if self.shared[name] != value
-            }
-        )
-        provenance.update(
-            {
-                "T_ref": fits.T_ref[i],
-                "covariance": fits.covariance[i],
-                "reduced_chi_square": row.reduced_chi_square,
-                "covariance_scale": fits.covariance_scale[i],
-                "between_set_variance_ln_k": fits.between_set_variance[i],
-                "n_points": row.n_points,
-                "n_sets": row.n_sets,
-                "set_ids": set_ids,
-                "warnings": [w.code for w in fits.warnings[i]],
-                "steric_factor": steric,
-                "steric_factor_T_K": fits.mean_T[i] if steric is not None else None,
-                "partners": self._pair(pair) if isinstance(pair, CollisionPair) else None,
-            }
-        )
-        return provenance
+        own = {
+            "T_ref": fits.T_ref[i],
+            "covariance": fits.covariance[i],
+            "reduced_chi_square": row.reduced_chi_square,
+            "covariance_scale": fits.covariance_scale[i],
+            "between_set_variance_ln_k": fits.between_set_variance[i],
+            "n_points": row.n_points,
+            "n_sets": row.n_sets,
+            "set_ids": set_ids,
+            "warnings": [w.code for w in fits.warnings[i]],
+            "steric_factor": steric,
+            "steric_factor_T_K": fits.mean_T[i] if steric is not None else None,
+            "partners": self._pair(pair) if isinstance(pair, CollisionPair) else None,
+        }
+        if shared == self._shared_values:
+            return own
+        differing = {
+            name: value
+            for name, value in zip(_RUN_FIELDS, shared, strict=True)
+            if self.shared[name] != value
+        }
+        return {**differing, **own}
 
     def _pair(self, pair: CollisionPair) -> dict[str, object]:
-        """The pair naming its partners, whose records the run keeps once by name."""
+        """The pair naming its partners, whose records the run keeps once by name.
+
+        The answer depends only on the two partner objects (the same objects for every
+        reaction between the same species), so it is worked out once per pair of them."""
+        # (the partners stay alive in the run's pairs, so their ids are not reused)
+        seen = (id(pair.a), id(pair.b), pair.identical)
+        known = self._pairs.get(seen)
+        if known is None:
+            known = self._pairs[seen] = self._named_pair(pair)
+        return dict(known) if isinstance(known["a"], str) else pair.as_record()
+
+    def _named_pair(self, pair: CollisionPair) -> dict[str, object]:
         names: list[object] = []
         for partner in (pair.a, pair.b):
             name = partner.name
