@@ -511,11 +511,15 @@ def sigma_ln_k_from_covariance(T, covariance):
     extra = T.ndim - (cov.ndim - 2)
     if extra > 0:
         cov = cov.reshape(cov.shape[:-2] + (1,) * extra + (3, 3))
-    gradient = np.stack(
-        np.broadcast_arrays(np.ones_like(T), np.log(T), -1.0 / (GAS_CONSTANT * T)), axis=-1
-    )
+    # d' C d as its nine terms d_i C_ij d_j, summed from zero in the order (i, j) row by
+    # row, each multiplied left to right: the order of the "...i,...ij,...j" contraction,
+    # without the stacked gradient or the contraction's own loop
+    gradient = (np.ones_like(T), np.log(T), -1.0 / (GAS_CONSTANT * T))
     try:
-        variance = np.einsum("...i,...ij,...j->...", gradient, cov, gradient)
+        variance = np.zeros(np.broadcast_shapes(T.shape, cov.shape[:-2]))
+        for i in range(3):
+            for j in range(3):
+                variance += gradient[i] * cov[..., i, j] * gradient[j]
     except ValueError:
         raise ScienceInputError(
             f"T with shape {T.shape} does not broadcast against {cov.shape[:-2]} covariances; "
