@@ -475,8 +475,8 @@ class _Run:
         self._shared_values: tuple[Any, ...] = ()
         self.partners: dict[str, dict[str, object]] = {}
         self._partner_of: dict[str, object] = {}
-        #: what _pair gave each pair of partner objects (shared by many reactions)
-        self._pairs: dict[tuple[int, int, bool], dict[str, object]] = {}
+        #: each partner object's verdict: may it be named (its record is the run's)?
+        self._named: dict[int, bool] = {}
 
     def own(
         self,
@@ -525,29 +525,28 @@ class _Run:
         return {**differing, **own}
 
     def _pair(self, pair: CollisionPair) -> dict[str, object]:
-        """The pair naming its partners, whose records the run keeps once by name.
-
-        The answer depends only on the two partner objects (the same objects for every
-        reaction between the same species), so it is worked out once per pair of them."""
-        # (the partners stay alive in the run's pairs, so their ids are not reused)
-        seen = (id(pair.a), id(pair.b), pair.identical)
-        known = self._pairs.get(seen)
-        if known is None:
-            known = self._pairs[seen] = self._named_pair(pair)
-        return dict(known) if isinstance(known["a"], str) else pair.as_record()
-
-    def _named_pair(self, pair: CollisionPair) -> dict[str, object]:
+        """The pair naming its partners, whose records the run keeps once by name."""
         names: list[object] = []
         for partner in (pair.a, pair.b):
-            name = partner.name
-            known = self._partner_of.get(name)
-            if known is None:
-                self._partner_of[name] = partner
-                self.partners[name] = partner.as_record()
-            elif known is not partner and self.partners[name] != partner.as_record():
+            # a partner object is judged once (the partner objects are shared by every
+            # reaction of their species and stay alive in the run's pairs)
+            named = self._named.get(id(partner))
+            if named is None:
+                named = self._named[id(partner)] = self._judge(partner)
+            if not named:
                 return pair.as_record()  # a different record under one name: kept whole
-            names.append(name)
+            names.append(partner.name)
         return {"identical": pair.identical, "a": names[0], "b": names[1]}
+
+    def _judge(self, partner: Any) -> bool:
+        """Whether the run's record under the partner's name is its own (kept if new)."""
+        name = partner.name
+        known = self._partner_of.get(name)
+        if known is None:
+            self._partner_of[name] = partner
+            self.partners[name] = partner.as_record()
+            return True
+        return known is partner or self.partners[name] == partner.as_record()
 
     def common(self) -> dict[str, Any] | None:
         """What the run's fits share, as the run stores it (None before any fit)."""
