@@ -132,11 +132,8 @@ def fit_reactions(
     )
     reactions = {r.id: r for r in asked or queries.reactions(session, ids=fits.groups.tolist())}
     skipped = {r.id for r, _ in refused}
-    rows = [
-        _without_points(r)
-        for r in asked or ()
-        if r.id not in set(fits.groups.tolist()) and r.id not in skipped
-    ]
+    fitted = set(fits.groups.tolist())
+    rows = [_without_points(r) for r in asked or () if r.id not in fitted and r.id not in skipped]
     rows += [_pressure_refusal(r, spreads[r.id]) for r, _ in refused]
     if len(fits):
         rows += _store_fits(
