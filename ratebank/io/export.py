@@ -420,7 +420,7 @@ def _table_writer(
 
 
 def _efficiency_rows(session: Session, table: mechanism.MechanismTable) -> list[tuple[Any, ...]]:
-    keys = {row.key for row in table.rows}
+    keys = set(mechanism.row_keys(table.rows))
     return [
         (e.reaction_key, e.species, e.efficiency, e.source)
         for e in efficiencies(session)
@@ -545,9 +545,13 @@ def _ratebank_block(content: PackageContent, created: str) -> dict[str, Any]:
         },
         "form": table.form,
         "linearised": [
-            {"key": r.key, "at_K": r.linearised_at_K}
-            for r in table.rows
-            if r.linearised_at_K is not None
+            {"key": key, "at_K": at_K}
+            for key, at_K in zip(
+                mechanism.row_keys(table.rows),
+                mechanism.column(table.rows, "linearised_at_K"),
+                strict=True,
+            )
+            if at_K is not None
         ],
         "left_out": table.left_out,
         # one entry per reaction: written into the descriptor's bytes by _chosen_by_bytes

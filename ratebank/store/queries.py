@@ -16,6 +16,8 @@ from __future__ import annotations
 
 from array import array
 from collections.abc import Callable, Iterable, Iterator, Sequence
+from itertools import chain, groupby
+from operator import itemgetter
 from typing import Any, NamedTuple
 
 from sqlalchemy import null, or_, select
@@ -505,6 +507,57 @@ def _stream(session: Session, make: _Rows) -> Iterator[tuple[int, list[Expressio
             yield group[0].reaction_id, group
     finally:
         cursor.close()
+
+
+def stored_expressions_by_reaction(
+    session: Session,
+) -> Iterator[tuple[int, list[tuple[Any, ...]]]]:
+    """(reaction id, its expressions in use as stored rows, oldest first) for every reaction
+    that has one, by reaction id, in one pass through the driver: no object per row.
+
+    Each row holds the columns :data:`ratebank.store.fingerprint.EXPRESSION_CONTENT`
+    names (values as stored: SI numbers, the form's columns), then its own provenance as
+    stored and its run (:class:`ratebank.store.fingerprint.ExpressionDigest` takes them)."""
+    from ratebank.store.fingerprint import EXPRESSION_CONTENT
+
+    query = (
+        f"SELECT {EXPRESSION_CONTENT}, provenance, run_id FROM expression "
+        f"WHERE {EXPRESSION_IN_USE_SQL} ORDER BY reaction_id, id"
+    )
+    connection = session.connection()
+    raw = connection.connection.dbapi_connection
+    assert raw is not None
+    cursor = raw.cursor()
+    try:
+        cursor.execute(query)
+        rows = iter(lambda: cursor.fetchmany(_STREAM_BATCH), [])
+        for reaction_id, group in groupby(chain.from_iterable(rows), itemgetter(1)):
+            yield reaction_id, list(group)
+    finally:
+        cursor.close()
+
+
+def expression_row(stored: Sequence[Any], terms: Sequence[Sequence[Any]] = ()) -> ExpressionRow:
+    """The :class:`ExpressionRow` of a stored row of :func:`stored_expressions_by_reaction`
+    as a whole-mechanism reader has it (the rows of :func:`expressions_by_reaction`):
+    without its provenance, its run and its bookkeeping; ``terms`` are the further terms
+    of a ``sum`` (term, A, n, Ea, T_min, T_max)."""
+    origin = stored[2]
+    return ExpressionRow(
+        *stored[:2],
+        _ORIGINS.get(origin, origin),  # one string each
+        *stored[3:11],
+        {},
+        stored[11],
+        None,
+        None,
+        None,
+        None,
+        None,
+        *stored[12:23],
+        None,
+        tuple(TermRow(*t) for t in terms) if stored[12] == "sum" else (),
+    )
 
 
 def _runs_in_use(session: Session) -> list[int]:
