@@ -261,8 +261,9 @@ def chosen_rows(session: Session) -> ChosenRows:
 class ChosenStream:
     """The exported expression of every reaction, one :class:`ChosenRow` at a time.
 
-    The expressions are read in one pass, by reaction id (not by key: ``keys`` gives the
-    order of the table), as stored rows (no object per expression), and only each
+    The expressions that state A are read in one pass (one without A is never chosen), by
+    reaction id (not by key: ``keys`` gives the order of the table), as stored rows (no
+    object per expression), and only each
     reaction's choice is kept; its provenance, read in the same pass, gives its
     ``steric_factor`` and enters the digest of what the rows are made of, a batch of
     chosen expressions at a time. After the iteration, ``gaps`` holds the keys of the
@@ -289,7 +290,9 @@ class ChosenStream:
         position = {reaction_id: i for i, reaction_id in enumerate(heads.ids)}
         chosen = bytearray(len(heads.ids))  # 1 where the reaction's expression was chosen
         batch: list[tuple[int, tuple[Any, ...], str]] = []
-        for reaction_id, stored in queries.stored_expressions_by_reaction(self._session):
+        for reaction_id, stored in queries.stored_expressions_by_reaction(
+            self._session, with_a=True
+        ):
             at = position.get(reaction_id)
             if at is None or chosen[at]:
                 continue

@@ -310,13 +310,17 @@ class ReactionHeads(NamedTuple):
 def reaction_heads(session: Session) -> ReactionHeads:
     """Id, key, equation, order and third body of every reaction in use, by key (the
     reactions of :func:`reactions` without ids), as columns."""
-    query = (
-        select(Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order,
-               Reaction.third_body)
-        .where(reaction_in_use())
-        .order_by(Reaction.key)
-    )  # fmt: skip
-    rows = fetch_all(session, query)
+    query = select(
+        Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order, Reaction.third_body
+    ).where(reaction_in_use())
+    if session.get_bind().dialect.name == "sqlite":
+        # along the primary key, as the rows are stored, then by key here: SQLite orders
+        # text by its bytes, which for UTF-8 is Python's order of the characters (reading
+        # by the key's index would visit the table's pages in random order)
+        rows = fetch_all(session, query.order_by(Reaction.id))
+        rows.sort(key=itemgetter(1))
+    else:
+        rows = fetch_all(session, query.order_by(Reaction.key))  # the database's collation
     if not rows:
         return ReactionHeads([], [], [], [], [])
     ids, keys, equations, orders, third_body = map(list, zip(*rows, strict=True))
@@ -510,10 +514,12 @@ def _stream(session: Session, make: _Rows) -> Iterator[tuple[int, list[Expressio
 
 
 def stored_expressions_by_reaction(
-    session: Session,
+    session: Session, *, with_a: bool = False
 ) -> Iterator[tuple[int, list[tuple[Any, ...]]]]:
     """(reaction id, its expressions in use as stored rows, oldest first) for every reaction
-    that has one, by reaction id, in one pass through the driver: no object per row.
+    that has one, by reaction id, in one pass through the driver: no object per row. With
+    ``with_a``, only the expressions that state A (those awaiting an estimate are never
+    exported, and are not read).
 
     Each row holds the columns :data:`ratebank.store.fingerprint.EXPRESSION_CONTENT`
     names (values as stored: SI numbers, the form's columns), then its own provenance as
@@ -522,7 +528,8 @@ def stored_expressions_by_reaction(
 
     query = (
         f"SELECT {EXPRESSION_CONTENT}, provenance, run_id FROM expression "
-        f"WHERE {EXPRESSION_IN_USE_SQL} ORDER BY reaction_id, id"
+        f"WHERE {EXPRESSION_IN_USE_SQL}{' AND a IS NOT NULL' if with_a else ''} "
+        "ORDER BY reaction_id, id"
     )
     connection = session.connection()
     raw = connection.connection.dbapi_connection
