@@ -567,13 +567,7 @@ def _ratebank_block(content: PackageContent, created: str) -> dict[str, Any]:
         },
         "form": table.form,
         "linearised": [
-            {"key": key, "at_K": at_K}
-            for key, at_K in zip(
-                mechanism.row_keys(table.rows),
-                mechanism.column(table.rows, "linearised_at_K"),
-                strict=True,
-            )
-            if at_K is not None
+            {"key": key, "at_K": at_K} for key, at_K in mechanism.linearised(table.rows)
         ],
         "left_out": table.left_out,
         # one entry per reaction: written into the descriptor's bytes by _chosen_by_bytes

@@ -157,6 +157,8 @@ class MechanismRow(NamedTuple):
         return [getattr(self, c) for c in COLUMNS]
 
 
+_LINEARISED_AT = MechanismRow._fields.index("linearised_at_K")
+
 #: Mechanism rows kept together as one packed slice (and hashed and written at a time).
 ROW_SLICE = 10_000
 
@@ -173,11 +175,15 @@ class PackedRows(Sequence[MechanismRow]):
         #: each row's key, in order (kept beside the packed slices: the readers that need
         #: only the keys unpack nothing)
         self.keys: list[str] = []
+        #: (key, linearised_at_K) of each row linearised, in order (kept beside them too)
+        self.linearised: list[tuple[str, float]] = []
         self.extend(rows)
 
     def append(self, row: Sequence[Any]) -> None:
         self._open.append(tuple(row))
         self.keys.append(row[0])
+        if row[_LINEARISED_AT] is not None:
+            self.linearised.append((row[0], row[_LINEARISED_AT]))
         self._length += 1
         if len(self._open) >= ROW_SLICE:
             self._packed.append(pickle.dumps(self._open, pickle.HIGHEST_PROTOCOL))
@@ -225,12 +231,12 @@ def row_keys(rows: Sequence[MechanismRow]) -> list[str]:
     return [row[0] for row in rows]
 
 
-def column(rows: Sequence[MechanismRow], name: str) -> Iterator[Any]:
-    """The values of one column (a :class:`MechanismRow` field) of every row, in order,
-    from the rows as plain tuples (no object per row)."""
-    at = MechanismRow._fields.index(name)
-    for part in tuple_slices(rows):
-        yield from (row[at] for row in part)
+def linearised(rows: Sequence[MechanismRow]) -> list[tuple[str, float]]:
+    """(key, linearised_at_K) of each linearised row, in order (nothing unpacked)."""
+    if isinstance(rows, PackedRows):
+        return rows.linearised
+    at = _LINEARISED_AT
+    return [(row[0], row[at]) for row in rows if row[at] is not None]
 
 
 def tuple_slices(rows: Sequence[MechanismRow]) -> Iterator[list[tuple[Any, ...]]]:
