@@ -460,7 +460,7 @@ def export(
         )
     left = result.table.left_out
     say(
-        f"Wrote {len({row.key for row in result.table.rows})} reactions to the data package "
+        f"Wrote {result.table.reaction_count} reactions to the data package "
         f"{result.folder} "
         f"({result.descriptor_path.name}, {result.table_path.name}, efficiencies.csv, "
         "species.csv)" + (f"; left out {len(left)}: {', '.join(left[:10])}" if left else "")

@@ -380,6 +380,9 @@ def _csv_text(header: Sequence[str], rows: list[Sequence[Any]], text_columns: li
     # The csv module writes a float as its repr, the shortest text that reads back as
     # the same float (full precision), and None as an empty cell.
     leading = FORMULA_LEADING
+    if rows and not _formula_like(rows, text_columns):
+        writer.writerows(rows)  # no cell to protect (the common case, found column-wise)
+        return buffer.getvalue()
     for position, row in enumerate(rows):
         if any(isinstance(row[i], str) and row[i][:1] in leading for i in text_columns):
             rows[position] = tuple(
@@ -388,6 +391,25 @@ def _csv_text(header: Sequence[str], rows: list[Sequence[Any]], text_columns: li
             )
     writer.writerows(rows)
     return buffer.getvalue()
+
+
+#: A line that begins as a formula-like cell does (FORMULA_LEADING).
+_FORMULA_LINE = re.compile("(?:^|\n)[" + re.escape("".join(sorted(FORMULA_LEADING))) + "]")
+
+
+def _formula_like(rows: list[Sequence[Any]], text_columns: list[int]) -> bool:
+    """False when no text cell of ``rows`` can begin as a formula, found a column at a time
+    without a Python step per cell: each column's texts joined by newlines and searched
+    once. True when one may (a text holding a newline can give a false alarm; the rows are
+    then looked at one by one)."""
+    for i in text_columns:
+        try:
+            joined = "\n".join(filter(None, map(itemgetter(i), rows)))
+        except TypeError:  # a value that is not text: the rows are looked at one by one
+            return True
+        if _FORMULA_LINE.search(joined):
+            return True
+    return False
 
 
 def _table_text(table: mechanism.MechanismTable, fields: Sequence[dict[str, Any]]) -> str:
@@ -420,7 +442,7 @@ def _table_writer(
 
 
 def _efficiency_rows(session: Session, table: mechanism.MechanismTable) -> list[tuple[Any, ...]]:
-    keys = {row.key for row in table.rows}
+    keys = set(mechanism.row_keys(table.rows))
     return [
         (e.reaction_key, e.species, e.efficiency, e.source)
         for e in efficiencies(session)
@@ -545,9 +567,7 @@ def _ratebank_block(content: PackageContent, created: str) -> dict[str, Any]:
         },
         "form": table.form,
         "linearised": [
-            {"key": r.key, "at_K": r.linearised_at_K}
-            for r in table.rows
-            if r.linearised_at_K is not None
+            {"key": key, "at_K": at_K} for key, at_K in mechanism.linearised(table.rows)
         ],
         "left_out": table.left_out,
         # one entry per reaction: written into the descriptor's bytes by _chosen_by_bytes

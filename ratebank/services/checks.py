@@ -167,7 +167,8 @@ def check_store(
     ``collision`` chooses the collision model of the limit for every
     expression; by default each collision estimate is held to its own model
     and everything else to hard spheres. The whole store is checked
-    :data:`BATCH` reactions at a time, keeping only what is found.
+    :data:`BATCH` reactions at a time, in the order they are stored (by id), keeping only
+    what is found; what is reported comes by key.
     """
     ignore = list(ignore or [])
     unknown = [c for c in ignore if c not in CHECK_CODES]
@@ -207,16 +208,26 @@ def check_store(
     flags = [f for f in flags if f.code not in ignore]
     flags.sort(key=lambda f: (f.key, CHECK_CODES.index(f.code), f.expression_id or 0))
     unchecked = sorted(found.unchecked, key=lambda u: u.expression_id)
+    reverse_unchecked, notes = found.reverse_unchecked, found.notes
+    if not keys:
+        # the batches come by id: what is reported by reaction is put by key (a stable
+        # sort keeps each reaction's own order)
+        reverse_unchecked = sorted(reverse_unchecked, key=_by_key)
+        notes = sorted(notes, key=_by_key)
     return CheckReport(
         flags,
         found.reactions,
         found.expressions,
         T_range,
         ignore,
-        [*unchecked, *found.reverse_unchecked],
+        [*unchecked, *reverse_unchecked],
         collision,
-        [n for n in found.notes if n.code not in ignore],
+        [n for n in notes if n.code not in ignore],
     )
+
+
+def _by_key(found: Flag | Unchecked) -> str:
+    return found.key
 
 
 def _check_batch(
@@ -230,7 +241,7 @@ def _check_batch(
     thermo: bool,
     whole_store: bool,
 ) -> None:
-    """Check one batch of reactions (by key) and add what is found to ``found``."""
+    """Check one batch of reactions and add what is found to ``found``."""
     by_id = {r.id: r for r in reactions}
     ids = list(by_id)
     by_reaction = expressions_of_batch(session, ids)
@@ -397,6 +408,12 @@ def _limit_flags(
     z = np.maximum(z, _capture_rate(T, columns))
     ratio, where = collision_limit_ratio(T, k, z)
     ratio, where = np.atleast_1d(ratio), np.atleast_1d(where)
+    # where k/z is flat (an estimate's own model times P), its largest value is a matter of
+    # rounding, which the shape of the batch's arrays changes: the lowest temperature
+    # within 1e-9 of it is reported, whatever the batch
+    ratios = k / z
+    near = ratios >= ratio[:, None] * (1.0 - 1e-9)
+    where = np.take_along_axis(T, np.argmax(near, axis=1)[:, None], axis=1)[:, 0]
     # an estimate made with P = 1 is the limit itself: within rounding, and within the
     # deviation its modified-Arrhenius fit recorded, it is not a violation
     deviation = np.array(

@@ -157,6 +157,8 @@ class MechanismRow(NamedTuple):
         return [getattr(self, c) for c in COLUMNS]
 
 
+_LINEARISED_AT = MechanismRow._fields.index("linearised_at_K")
+
 #: Mechanism rows kept together as one packed slice (and hashed and written at a time).
 ROW_SLICE = 10_000
 
@@ -170,10 +172,18 @@ class PackedRows(Sequence[MechanismRow]):
         self._packed: list[bytes] = []
         self._open: list[tuple[Any, ...]] = []
         self._length = 0
+        #: each row's key, in order (kept beside the packed slices: the readers that need
+        #: only the keys unpack nothing)
+        self.keys: list[str] = []
+        #: (key, linearised_at_K) of each row linearised, in order (kept beside them too)
+        self.linearised: list[tuple[str, float]] = []
         self.extend(rows)
 
     def append(self, row: Sequence[Any]) -> None:
         self._open.append(tuple(row))
+        self.keys.append(row[0])
+        if row[_LINEARISED_AT] is not None:
+            self.linearised.append((row[0], row[_LINEARISED_AT]))
         self._length += 1
         if len(self._open) >= ROW_SLICE:
             self._packed.append(pickle.dumps(self._open, pickle.HIGHEST_PROTOCOL))
@@ -214,6 +224,21 @@ class PackedRows(Sequence[MechanismRow]):
         return MechanismRow._make(part[within])
 
 
+def row_keys(rows: Sequence[MechanismRow]) -> list[str]:
+    """The key of each row, in order (packed or listed rows; nothing unpacked)."""
+    if isinstance(rows, PackedRows):
+        return rows.keys
+    return [row[0] for row in rows]
+
+
+def linearised(rows: Sequence[MechanismRow]) -> list[tuple[str, float]]:
+    """(key, linearised_at_K) of each linearised row, in order (nothing unpacked)."""
+    if isinstance(rows, PackedRows):
+        return rows.linearised
+    at = _LINEARISED_AT
+    return [(row[0], row[at]) for row in rows if row[at] is not None]
+
+
 def tuple_slices(rows: Sequence[MechanismRow]) -> Iterator[list[tuple[Any, ...]]]:
     """``rows`` as plain tuples, :data:`ROW_SLICE` at a time (packed or listed rows)."""
     if isinstance(rows, PackedRows):
@@ -235,6 +260,11 @@ class MechanismTable:
     #: ``sha256:<hex>`` of the expressions the rows are made of, as stored (numbers in SI,
     #: further terms, full provenance); empty for a table read back from a release
     source_digest: str = ""
+
+    @property
+    def reaction_count(self) -> int:
+        """How many reactions the rows hold (a sum has one row per term)."""
+        return len(set(row_keys(self.rows)))
 
 
 def _check_form_options(form: str, linearise_at: float | None) -> None:
@@ -320,9 +350,9 @@ def mechanism_table(
     energy_factor = float(energy_from_si(1.0, units.e_units))
     # the chosen expressions stream past: only the rows made of them are kept
     stream = ChosenStream(session)
-    # each reaction's rows, pickled as plain tuples, until they are put in the table's order
-    by_key: dict[str, bytes] = {}
-    dumps, protocol = pickle.dumps, pickle.HIGHEST_PROTOCOL
+    # each reaction's row as a plain tuple (a list of them for a sum), at its place in the
+    # table's order (the stream comes by reaction id)
+    placed: list[Any] = [None] * len(stream.keys)
     refused: dict[str, str] = {}
     for c in stream:
         linear = None
@@ -332,8 +362,11 @@ def mechanism_table(
                 refused[c.reaction_key] = found
                 continue
             linear = found
-        found_rows = _rows(c, linear, units, factors, energy_factor)
-        by_key[c.reaction_key] = dumps([tuple(row) for row in found_rows], protocol)
+        first = _row(c, linear, units, factors, energy_factor)
+        if c.expression is not None and c.expression.terms:
+            placed[c.at] = _rows(c, first, factors, energy_factor)  # type: ignore[index]
+        else:
+            placed[c.at] = first  # type: ignore[index]
     gaps = stream.gaps
     if gaps and not leave_out_gaps:
         raise ExportGapsError(gaps)
@@ -345,10 +378,16 @@ def mechanism_table(
             argument="linearise_at",
         )
     rows = PackedRows()
-    for key in stream.keys:
-        packed = by_key.pop(key, None)
-        if packed is not None:
-            rows.extend(pickle.loads(packed))
+    append = rows.append
+    for at, found_rows in enumerate(placed):
+        if found_rows is None:
+            continue
+        placed[at] = None
+        if isinstance(found_rows, list):
+            rows.extend(found_rows)
+        else:
+            append(found_rows)
+    del placed
     rows, reverse = with_reverse(session, rows, units, as_fit=reverse_as_fit)
     left_out = gaps if leave_out_gaps else []
     return MechanismTable(
@@ -403,26 +442,27 @@ def _limit_columns(
     }
 
 
+#: The form columns of a row whose expression has one limit (all but ``form`` and ``term``).
+_NO_LIMIT = (None,) * (len(FORM_COLUMNS) - 2)
+
+
 def _rows(
-    c: ChosenRow,
-    linear: _Linearised | None,
-    units: ExportUnits,
-    factors: dict[int, float],
-    energy_factor: float,
-) -> list[MechanismRow]:
-    """The rows of one reaction: one, or one per term of a ``sum``."""
-    first = _row(c, linear, units, factors, energy_factor)
-    if c.expression is None or not c.expression.terms:
-        return [first]
+    c: ChosenRow, first: tuple[Any, ...], factors: dict[int, float], energy_factor: float
+) -> list[tuple[Any, ...]]:
+    """The rows of a ``sum``: ``first`` (term 1), then one per further term."""
+    assert c.expression is not None
     factor = factors[c.order]
+    head = MechanismRow._make(first)
     return [first] + [
-        first._replace(
-            term=t.term,
-            A=round_significant(t.A * factor),
-            n=float(t.n),
-            Ea=round_significant(t.Ea * energy_factor),
-            T_min_K=t.T_min,
-            T_max_K=t.T_max,
+        tuple(
+            head._replace(
+                term=t.term,
+                A=round_significant(t.A * factor),
+                n=float(t.n),
+                Ea=round_significant(t.Ea * energy_factor),
+                T_min_K=t.T_min,
+                T_max_K=t.T_max,
+            )
         )
         for t in c.expression.terms
     ]
@@ -434,39 +474,47 @@ def _row(
     units: ExportUnits,
     factors: dict[int, float],
     energy_factor: float,
-) -> MechanismRow:
+) -> tuple[Any, ...]:
+    """The (first) row of one reaction, as a plain tuple of the :class:`MechanismRow`
+    fields."""
     A, n, Ea, f298 = c.A, c.n, c.Ea, c.uncertainty_factor
     if linear is not None:
         A, n, Ea, f298 = linear.A, 0.0, linear.Ea, linear.f298
-    form = _form(c)
+    e = c.expression
+    form = form_of(e.form if e is not None else None, c.third_body)
     # A of falloff and activated is k_inf, one concentration fewer than the equation
     order = high_pressure_order(form, c.order)
-    return MechanismRow(
-        key=c.reaction_key,
-        equation=c.equation,
-        order=c.order,
+    limits = (
+        _NO_LIMIT
+        if e is None or e.A_low is None
+        else tuple(_limit_columns(e, c.order, units, factors, energy_factor).values())
+    )
+    return (
+        c.reaction_key,
+        c.equation,
+        c.order,
         # unit conversion is a pure factor (k and A scale alike; K^-n is unchanged),
         # rounded to 15 digits so that a value given in these units reads back as given
-        A=round_significant(A * factors[order]),
-        n=float(n),
-        Ea=round_significant(Ea * energy_factor),
-        k_units=units.k_unit(order),
-        Ea_units=units.e_units,
-        T_min_K=c.T_min,
-        T_max_K=c.T_max,
-        origin=c.origin,
-        steric_factor=c.steric_factor,
-        uncertainty_factor=_largest_factor(c, f298),
-        references=c.reference or "",
-        uncertainty_f298=f298,
-        uncertainty_g_K=(c.uncertainty_g or 0.0) if f298 is not None else None,
-        linearised_at_K=linear.T_lin if linear is not None else None,
-        linearisation_max_ln_deviation=linear.max_ln_deviation if linear is not None else None,
-        reverse="none",  # filled by services.reverse
-        reverse_max_relative_deviation=None,
-        form=form,
-        term=1,
-        **_limit_columns(c.expression, c.order, units, factors, energy_factor),
-        expression_id=c.expression_id,
-        chosen_by=c.rule,
+        round_significant(A * factors[order]),
+        float(n),
+        round_significant(Ea * energy_factor),
+        units.k_unit(order),
+        units.e_units,
+        c.T_min,
+        c.T_max,
+        c.origin,
+        c.steric_factor,
+        _largest_factor(c, f298),
+        c.reference or "",
+        f298,
+        (c.uncertainty_g or 0.0) if f298 is not None else None,
+        linear.T_lin if linear is not None else None,
+        linear.max_ln_deviation if linear is not None else None,
+        "none",  # the reverse, filled by services.reverse
+        None,
+        form,
+        1,
+        *limits,
+        c.expression_id,
+        c.rule,
     )

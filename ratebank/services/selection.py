@@ -23,7 +23,7 @@ from ratebank.science.rate_laws import pressure_free_rate, rate_law
 from ratebank.science.uncertainty import panel_uncertainty_factor
 from ratebank.store import audit, queries
 from ratebank.store.expressions import form_of, set_recommended
-from ratebank.store.fingerprint import expression_records
+from ratebank.store.fingerprint import ExpressionDigest
 from ratebank.store.queries import ExpressionRow, ReactionRow
 
 #: Why an expression was chosen, in order of precedence.
@@ -234,6 +234,8 @@ class ChosenRow(NamedTuple):
     expression: ExpressionRow | None = None
     #: whether the reaction is written with M (its plain form is then third-body)
     third_body: bool = False
+    #: the reaction's place in the table's order (:attr:`ChosenStream.keys`)
+    at: int | None = None
 
 
 class ChosenRows(NamedTuple):
@@ -259,15 +261,17 @@ def chosen_rows(session: Session) -> ChosenRows:
 class ChosenStream:
     """The exported expression of every reaction, one :class:`ChosenRow` at a time.
 
-    The expressions are read in one pass, by reaction id (not by key: ``keys`` gives the
-    order of the table), and only each reaction's choice is kept; the provenance is read
-    for the chosen expressions only, a batch at a time, for each one's ``steric_factor``
-    and the digest of what the rows are made of. After the iteration, ``gaps`` holds the
-    keys of the reactions without a usable expression and ``digest`` the ``sha256:<hex>``
-    of the chosen expressions (:func:`ratebank.store.fingerprint.expression_records`).
+    The expressions that state A are read in one pass (one without A is never chosen), by
+    reaction id (not by key: ``keys`` gives the order of the table), as stored rows (no
+    object per expression), and only each
+    reaction's choice is kept; its provenance, read in the same pass, gives its
+    ``steric_factor`` and enters the digest of what the rows are made of, a batch of
+    chosen expressions at a time. After the iteration, ``gaps`` holds the keys of the
+    reactions without a usable expression and ``digest`` the ``sha256:<hex>`` of the
+    chosen expressions (:class:`ratebank.store.fingerprint.ExpressionDigest`).
     """
 
-    #: chosen expressions whose provenance is read at a time
+    #: chosen expressions hashed at a time
     BATCH = 1000
 
     def __init__(self, session: Session) -> None:
@@ -281,51 +285,79 @@ class ChosenStream:
 
     def __iter__(self) -> Iterator[ChosenRow]:
         digest = hashlib.sha256(b"expressions\n")
+        hashing = ExpressionDigest(self._session, digest)
         heads = self._heads
         position = {reaction_id: i for i, reaction_id in enumerate(heads.ids)}
         chosen = bytearray(len(heads.ids))  # 1 where the reaction's expression was chosen
-        batch: list[tuple[int, ExpressionRow, str]] = []
-        for reaction_id, expressions in queries.expressions_by_reaction(self._session):
+        batch: list[tuple[int, tuple[Any, ...], str]] = []
+        for reaction_id, stored in queries.stored_expressions_by_reaction(
+            self._session, with_a=True
+        ):
             at = position.get(reaction_id)
-            choice = choose(expressions) if at is not None and not chosen[at] else None
+            if at is None or chosen[at]:
+                continue
+            choice = _choose_stored(stored)
             if choice is None:
                 continue
-            chosen[at] = 1  # type: ignore[index]
-            batch.append((at, *choice))  # type: ignore[arg-type]
+            chosen[at] = 1
+            batch.append((at, *choice))
             if len(batch) >= self.BATCH:
-                yield from self._rows(batch, digest)
+                yield from self._rows(batch, hashing)
                 batch = []
-        yield from self._rows(batch, digest)
+        yield from self._rows(batch, hashing)
         # by key, as the reactions were read
         self.gaps = [key for key, done in zip(heads.keys, chosen, strict=True) if not done]
         self.digest = "sha256:" + digest.hexdigest()
 
     def _rows(
-        self, batch: list[tuple[int, ExpressionRow, str]], digest: Any
+        self, batch: list[tuple[int, tuple[Any, ...], str]], hashing: ExpressionDigest
     ) -> Iterator[ChosenRow]:
         if not batch:
             return
-        picked = expression_records(
-            self._session, [e.id for _, e, _ in batch], ("steric_factor",), digest
-        )
+        provenances, terms = hashing.add([stored for _, stored, _ in batch])
         heads = self._heads
-        for at, e, rule in batch:
+        keys, equations, orders, third_body = (
+            heads.keys,
+            heads.equations,
+            heads.orders,
+            heads.third_body,
+        )
+        make = queries.expression_row
+        for at, stored, rule in batch:
+            expression_id = stored[0]
             yield ChosenRow(
-                heads.keys[at],
-                heads.equations[at],
-                heads.orders[at],
-                e.id,
-                e.origin,
-                e.A,  # type: ignore[arg-type]
-                e.n,
-                e.Ea,
-                e.T_min,
-                e.T_max,
-                e.uncertainty_factor,
-                e.uncertainty_g,
-                e.reference,
-                picked[e.id].get("steric_factor"),
+                keys[at],
+                equations[at],
+                orders[at],
+                expression_id,
+                *stored[2:11],
+                provenances[expression_id].get("steric_factor"),
                 rule,
-                e,
-                heads.third_body[at],
+                make(stored, terms.get(expression_id, ())),
+                third_body[at],
+                at,
             )
+
+
+#: The columns of a stored expression row (:func:`queries.stored_expressions_by_reaction`).
+_ID, _ORIGIN, _A, _RECOMMENDED, _FORM, _A_LOW = 0, 2, 3, 11, 12, 13
+_TWO_LIMITS = ("falloff", "activated")
+
+
+def _choose_stored(stored: Sequence[tuple[Any, ...]]) -> tuple[tuple[Any, ...], str] | None:
+    """:func:`choose` of one reaction's stored rows (oldest first)."""
+    recommended = best = None
+    best_rank = len(CHOICE_RULES)
+    for row in stored:
+        if row[_A] is None or (row[_FORM] in _TWO_LIMITS and row[_A_LOW] is None):
+            continue  # not complete
+        if row[_RECOMMENDED] and (recommended is None or row[_ID] > recommended[_ID]):
+            recommended = row
+        rank = _ORIGIN_RANK[row[_ORIGIN]]
+        if rank < best_rank or (rank == best_rank and row[_ID] > best[_ID]):  # type: ignore[index]
+            best, best_rank = row, rank
+    if recommended is not None:
+        return recommended, "recommended"
+    if best is None:
+        return None
+    return best, CHOICE_RULES[best_rank]

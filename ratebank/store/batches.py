@@ -9,12 +9,11 @@ from __future__ import annotations
 
 from collections.abc import Iterator, Sequence
 
-from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from ratebank.store import queries
 from ratebank.store.bulk import fetch_in
-from ratebank.store.in_use import EXPRESSION_IN_USE_SQL, reaction_in_use
+from ratebank.store.in_use import EXPRESSION_IN_USE_SQL, REACTION_IN_USE_SQL
 from ratebank.store.models import Reaction
 from ratebank.store.queries import ExpressionRow, ReactionRow
 
@@ -24,23 +23,33 @@ _COLUMNS = tuple(
 
 
 def reactions_in_batches(session: Session, size: int) -> Iterator[list[ReactionRow]]:
-    """Every reaction in use, by key, ``size`` at a time (one pass through the driver)."""
-    query = select(*_COLUMNS).where(reaction_in_use()).order_by(Reaction.key)
+    """Every reaction in use, by id (the order rows are stored in), ``size`` at a time.
+
+    Each batch is one query that starts after the last id of the one before (``WHERE id >
+    last ORDER BY id LIMIT size``): the table is read along its primary key, each page
+    where the last one ended, never through the key's index (which on a large store would
+    visit the table's pages in random order), and no cursor stays open between batches. A
+    reader that shows what it finds by key sorts it itself.
+    """
+    columns = ", ".join(queries._sql_column(c) for c in _COLUMNS)
+    first = f"SELECT {columns} FROM reaction WHERE {REACTION_IN_USE_SQL}"
+    page = f" ORDER BY id LIMIT {max(int(size), 1)}"
     connection = session.connection()
-    # only constants in the query: its values may be written inline
-    compiled = query.compile(dialect=connection.dialect, compile_kwargs={"literal_binds": True})
     raw = connection.connection.dbapi_connection
     assert raw is not None
-    # PostgreSQL: a cursor on the server, which sends a batch when asked (a plain one would
-    # send every row at once)
-    postgres = connection.dialect.name == "postgresql"
-    cursor = raw.cursor(name="ratebank_reaction_batches") if postgres else raw.cursor()
-    try:
-        cursor.execute(str(compiled))
-        while batch := cursor.fetchmany(size):
+    query = first + page
+    while True:
+        cursor = raw.cursor()
+        try:
+            cursor.execute(query)
+            batch = cursor.fetchall()
+        finally:
+            cursor.close()
+        if batch:
             yield [ReactionRow(*row) for row in batch]
-    finally:
-        cursor.close()
+        if len(batch) < max(size, 1):
+            return
+        query = f"{first} AND id > {int(batch[-1][0])}{page}"  # the next page, after the last id
 
 
 def expressions_of_batch(

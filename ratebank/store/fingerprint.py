@@ -177,13 +177,88 @@ def store_fingerprint(session: Session) -> str:
 
 
 #: The stored columns of an expression that its content fingerprint covers, in order.
-_EXPRESSION_CONTENT = (
+EXPRESSION_CONTENT = (
     "id, reaction_id, origin, a, n, ea, t_min, t_max, uncertainty_factor, uncertainty_g, "
     "reference, recommended, form, a_low, n_low, ea_low, broadening, fc, fc_width, troe_alpha, "
     "troe_t3, troe_t1, troe_t2"
 )
+#: How many columns :data:`EXPRESSION_CONTENT` names (a stored record's provenance as stored
+#: and its run follow them in the rows :class:`ExpressionDigest` takes).
+CONTENT_WIDTH = EXPRESSION_CONTENT.count(",") + 1
 #: Expressions read and hashed at a time by :func:`expression_records`.
 _RECORD_BATCH = 1000
+_TERMS_QUERY = (
+    "SELECT expression_id, term, a, n, ea, t_min, t_max FROM expression_term "
+    "WHERE expression_id IN ({marks}) ORDER BY expression_id, term"
+)
+
+
+class ExpressionDigest:
+    """Hashes the expressions an export is made of, a batch of stored rows at a time.
+
+    Each row is the :data:`EXPRESSION_CONTENT` columns, then the row's own provenance as
+    stored and its run. :meth:`add` updates the hash ``digest`` (a ``hashlib`` object)
+    with one batch, by id: every expression's stored columns (numbers exactly as stored,
+    in SI), its further terms and its full provenance (the run's part completed by its
+    own, :mod:`ratebank.store.runs`; keys sorted, so that how the provenance is split
+    between a run and a row does not matter). Any change to an exported expression's
+    numbers, form or provenance changes the digest; nothing else in the store enters it.
+    """
+
+    def __init__(self, session: Session, digest: Any) -> None:
+        from ratebank.store.runs import RunCache
+
+        self._session = session
+        self._digest = digest
+        self._runs = RunCache(session)
+        self._terms_stored: bool | None = None
+
+    def add(
+        self, rows: Sequence[Sequence[Any]]
+    ) -> tuple[dict[int, dict[str, Any]], dict[int, list[list[Any]]]]:
+        """Hash one batch of stored rows; ({id: full provenance}, {id: further terms as
+        lists of term, a, n, ea, t_min, t_max}) of its expressions."""
+        import orjson
+
+        from ratebank.store.bulk import fetch_in
+
+        option = orjson.OPT_SORT_KEYS | orjson.OPT_SERIALIZE_NUMPY | orjson.OPT_NON_STR_KEYS
+        rows = sorted(rows, key=_first)
+        width = CONTENT_WIDTH
+        terms: dict[int, list[list[Any]]] = {}
+        if rows and self._has_terms():
+            for expression_id, *term in fetch_in(
+                self._session, _TERMS_QUERY, [row[0] for row in rows]
+            ):
+                terms.setdefault(expression_id, []).append(term)
+        runs = self._runs
+        runs.load(row[width + 1] for row in rows)
+        full_of = runs.full
+        provenances: dict[int, dict[str, Any]] = {}
+        records = []
+        for row in rows:
+            full = full_of(row[width], row[width + 1])
+            provenances[row[0]] = full
+            records.append((row[:width], sorted(terms.get(row[0], ())), full))
+        self._digest.update(orjson.dumps(records, option=option))
+        return provenances, terms
+
+    def _has_terms(self) -> bool:
+        if self._terms_stored is None:
+            connection = self._session.connection()
+            raw = connection.connection.dbapi_connection
+            assert raw is not None
+            cursor = raw.cursor()
+            try:
+                cursor.execute("SELECT 1 FROM expression_term LIMIT 1")
+                self._terms_stored = cursor.fetchone() is not None
+            finally:
+                cursor.close()
+        return self._terms_stored
+
+
+def _first(row: Sequence[Any]) -> Any:
+    return row[0]
 
 
 def expression_records(
@@ -192,43 +267,22 @@ def expression_records(
     """What an export takes from the expressions it is made of, read in one pass.
 
     Returns {expression id: {key: value} of ``keys`` in its full provenance}, and
-    updates the hash ``digest`` (a ``hashlib`` object) with every one of these
-    expressions, by id: its stored columns
-    (numbers exactly as stored, in SI), its further terms and its full provenance (the
-    run's part completed by its own, :mod:`ratebank.store.runs`; keys sorted, so that how
-    the provenance is split between a run and a row does not matter). Any change to
-    an exported expression's numbers, form or provenance changes the digest; nothing
-    else in the store enters it. The expressions are read a batch at a time, so memory
-    does not grow with the mechanism.
+    updates the hash ``digest`` with every one of these expressions, by id, as
+    :class:`ExpressionDigest` does, :data:`_RECORD_BATCH` at a time, so memory does
+    not grow with the mechanism.
     """
-    import orjson
-
     from ratebank.store.bulk import fetch_in
-    from ratebank.store.runs import RunCache
 
-    option = orjson.OPT_SORT_KEYS | orjson.OPT_SERIALIZE_NUMPY | orjson.OPT_NON_STR_KEYS
     picked: dict[int, dict[str, Any]] = {}
-    provenances = RunCache(session)
+    hashing = ExpressionDigest(session, digest)
     ids = sorted(set(expression_ids))
     rows_query = (
-        f"SELECT {_EXPRESSION_CONTENT}, provenance, run_id FROM expression "
+        f"SELECT {EXPRESSION_CONTENT}, provenance, run_id FROM expression "
         "WHERE id IN ({marks}) ORDER BY id"
-    )
-    terms_query = (
-        "SELECT expression_id, term, a, n, ea, t_min, t_max FROM expression_term "
-        "WHERE expression_id IN ({marks}) ORDER BY expression_id, term"
     )
     for start in range(0, len(ids), _RECORD_BATCH):
         batch = ids[start : start + _RECORD_BATCH]
-        rows = sorted(fetch_in(session, rows_query, batch))
-        terms: dict[int, list[Any]] = {}
-        for expression_id, *term in fetch_in(session, terms_query, batch):
-            terms.setdefault(expression_id, []).append(term)
-        provenances.load(row[-1] for row in rows)
-        records = []
-        for *columns, own, run_id in rows:
-            full = provenances.full(own, run_id)
-            picked[columns[0]] = {k: full[k] for k in keys if k in full}
-            records.append((columns, sorted(terms.get(columns[0], ())), full))
-        digest.update(orjson.dumps(records, option=option))
+        provenances, _ = hashing.add(fetch_in(session, rows_query, batch))
+        for expression_id, full in provenances.items():
+            picked[expression_id] = {k: full[k] for k in keys if k in full}
     return picked

@@ -16,6 +16,8 @@ from __future__ import annotations
 
 from array import array
 from collections.abc import Callable, Iterable, Iterator, Sequence
+from itertools import chain, groupby
+from operator import itemgetter
 from typing import Any, NamedTuple
 
 from sqlalchemy import null, or_, select
@@ -308,13 +310,17 @@ class ReactionHeads(NamedTuple):
 def reaction_heads(session: Session) -> ReactionHeads:
     """Id, key, equation, order and third body of every reaction in use, by key (the
     reactions of :func:`reactions` without ids), as columns."""
-    query = (
-        select(Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order,
-               Reaction.third_body)
-        .where(reaction_in_use())
-        .order_by(Reaction.key)
-    )  # fmt: skip
-    rows = fetch_all(session, query)
+    query = select(
+        Reaction.id, Reaction.key, Reaction.equation, Reaction.reaction_order, Reaction.third_body
+    ).where(reaction_in_use())
+    if session.get_bind().dialect.name == "sqlite":
+        # along the primary key, as the rows are stored, then by key here: SQLite orders
+        # text by its bytes, which for UTF-8 is Python's order of the characters (reading
+        # by the key's index would visit the table's pages in random order)
+        rows = fetch_all(session, query.order_by(Reaction.id))
+        rows.sort(key=itemgetter(1))
+    else:
+        rows = fetch_all(session, query.order_by(Reaction.key))  # the database's collation
     if not rows:
         return ReactionHeads([], [], [], [], [])
     ids, keys, equations, orders, third_body = map(list, zip(*rows, strict=True))
@@ -505,6 +511,60 @@ def _stream(session: Session, make: _Rows) -> Iterator[tuple[int, list[Expressio
             yield group[0].reaction_id, group
     finally:
         cursor.close()
+
+
+def stored_expressions_by_reaction(
+    session: Session, *, with_a: bool = False
+) -> Iterator[tuple[int, list[tuple[Any, ...]]]]:
+    """(reaction id, its expressions in use as stored rows, oldest first) for every reaction
+    that has one, by reaction id, in one pass through the driver: no object per row. With
+    ``with_a``, only the expressions that state A (those awaiting an estimate are never
+    exported, and are not read).
+
+    Each row holds the columns :data:`ratebank.store.fingerprint.EXPRESSION_CONTENT`
+    names (values as stored: SI numbers, the form's columns), then its own provenance as
+    stored and its run (:class:`ratebank.store.fingerprint.ExpressionDigest` takes them)."""
+    from ratebank.store.fingerprint import EXPRESSION_CONTENT
+
+    query = (
+        f"SELECT {EXPRESSION_CONTENT}, provenance, run_id FROM expression "
+        f"WHERE {EXPRESSION_IN_USE_SQL}{' AND a IS NOT NULL' if with_a else ''} "
+        "ORDER BY reaction_id, id"
+    )
+    connection = session.connection()
+    raw = connection.connection.dbapi_connection
+    assert raw is not None
+    cursor = raw.cursor()
+    try:
+        cursor.execute(query)
+        rows = iter(lambda: cursor.fetchmany(_STREAM_BATCH), [])
+        for reaction_id, group in groupby(chain.from_iterable(rows), itemgetter(1)):
+            yield reaction_id, list(group)
+    finally:
+        cursor.close()
+
+
+def expression_row(stored: Sequence[Any], terms: Sequence[Sequence[Any]] = ()) -> ExpressionRow:
+    """The :class:`ExpressionRow` of a stored row of :func:`stored_expressions_by_reaction`
+    as a whole-mechanism reader has it (the rows of :func:`expressions_by_reaction`):
+    without its provenance, its run and its bookkeeping; ``terms`` are the further terms
+    of a ``sum`` (term, A, n, Ea, T_min, T_max)."""
+    origin = stored[2]
+    return ExpressionRow(
+        *stored[:2],
+        _ORIGINS.get(origin, origin),  # one string each
+        *stored[3:11],
+        {},
+        stored[11],
+        None,
+        None,
+        None,
+        None,
+        None,
+        *stored[12:23],
+        None,
+        tuple(TermRow(*t) for t in terms) if stored[12] == "sum" else (),
+    )
 
 
 def _runs_in_use(session: Session) -> list[int]:

@@ -28,14 +28,16 @@ def store(db_url, tmp_path):
 
 
 @pytest.mark.parametrize("size", [1, 2, 100])
-def test_reactions_come_by_key_in_batches_of_the_size_asked(store, size):
+def test_reactions_come_by_id_in_batches_of_the_size_asked(store, size):
     with store.session(write=True) as session:
         withdraw_record(session, "reaction", "oh-ch4", reason="SYNTHETIC: a test")
     with store.session() as session:
         batches = list(reactions_in_batches(session, size))
         whole = queries.reactions(session)
-    assert all(len(batch) <= size for batch in batches)
-    assert [r for batch in batches for r in batch] == whole
+    assert all(len(batch) == size for batch in batches[:-1]) and 0 < len(batches[-1]) <= size
+    read = [r for batch in batches for r in batch]
+    assert [r.id for r in read] == sorted(r.id for r in whole)  # by id, each once
+    assert sorted(read, key=lambda r: r.key) == whole
     assert "oh-ch4" not in {r.key for r in whole} and len(whole) >= 3
 
 
