@@ -272,6 +272,8 @@ def _padded(values: Sequence[str]) -> bool:
     """True unless no cell of ``values`` starts or ends with a space ``str.strip`` removes
     (a column of ASCII cells is answered in a few passes over its joined bytes; any other
     may be padded)."""
+    if values and values[0] == values[-1] and values.count(values[0]) == len(values):
+        return values[0] != values[0].strip()  # one text throughout (a unit, say)
     joined = "\x00".join(values)
     if not joined.isascii() or joined.count("\x00") != len(values) - 1:
         return True  # a space of another script, or a NUL in a cell: strip cell by cell
@@ -527,7 +529,7 @@ class MeasurementValidator:
         runs = _Runs.of(texts.set_names)
         self._check_set_names(texts, runs, lines)
         new = self._add_new_sets(texts, runs, lines)
-        rows = self._sets_of_rows(texts.set_names, runs)
+        rows = self._sets_of_rows(texts.set_names, runs, new)
         self._check_agreement_with_first_rows(texts, rows, lines)
         absolute, percent = self._uncertainty_kinds(texts.kinds, lines)
         factor = rows.per_row(self.sets.column("factor"), np.nan).astype(float)
@@ -824,13 +826,26 @@ class MeasurementValidator:
         converted[effective & ~usable] = np.nan
         return converted
 
-    def _sets_of_rows(self, set_names: Sequence[str], runs: _Runs) -> _SetsOfRows:
+    def _sets_of_rows(self, set_names: Sequence[str], runs: _Runs, new: range) -> _SetsOfRows:
         n = len(set_names)
+        starts = np.asarray(runs.starts, dtype=np.int64)
+        run_lengths = np.diff(np.append(starts, n))
+        if len(new) == len(runs.starts):
+            # every run is a set of its own that this chunk named first, in order (the new
+            # sets are appended in the order of their first rows): no look-up, no sort
+            touched = np.arange(new.start, new.stop, dtype=np.int64)
+            set_index = np.repeat(touched, run_lengths)
+            local_index = np.repeat(np.arange(len(new), dtype=np.int64), run_lengths)
+            return _SetsOfRows(
+                set_index=set_index,
+                run_first_row=np.repeat(starts, run_lengths),
+                starts=starts,
+                local_index=local_index,
+                touched=touched,
+            )
         by_name = self.by_name
         run_index = np.array([by_name.get(set_names[i], -1) for i in runs.starts], dtype=np.int64)
-        run_lengths = np.diff(np.append(runs.starts, n))
         set_index = np.repeat(run_index, run_lengths)
-        starts = np.asarray(runs.starts, dtype=np.int64)
         # work on the sets this chunk touches only, so that cost does not grow with the file
         touched, local_index = np.unique(set_index, return_inverse=True)
         return _SetsOfRows(
