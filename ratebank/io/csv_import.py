@@ -21,12 +21,9 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError
 from ratebank.services import validate as v
-from ratebank.services.expressions import import_expressions
 from ratebank.services.measurement_import import MeasurementImporter
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.progress import Progress
-from ratebank.services.reactions import import_reactions
-from ratebank.services.species import import_species
 from ratebank.services.validate import ImportSummary
 
 #: Longest accepted cell, in characters (a guard against runaway quoting).
@@ -379,6 +376,8 @@ def _import_file(
 
 def import_species_file(session: Session, path: str | Path, **options: Any) -> ImportSummary:
     """Import a species file (``dry_run``, ``update``, ``progress``)."""
+    from ratebank.services.species import import_species  # a measurements import needs none
+
     return _import_file(
         session, path, v.SPECIES_COLUMNS, v.SPECIES_REQUIRED, import_species, **options
     )
@@ -386,6 +385,8 @@ def import_species_file(session: Session, path: str | Path, **options: Any) -> I
 
 def import_reactions_file(session: Session, path: str | Path, **options: Any) -> ImportSummary:
     """Import a reactions file (``dry_run``, ``update``, ``progress``)."""
+    from ratebank.services.reactions import import_reactions
+
     return _import_file(
         session, path, v.REACTION_COLUMNS, v.REACTION_REQUIRED, import_reactions, **options
     )
@@ -401,6 +402,8 @@ def import_expressions_file(
     session: Session, path: str | Path, *, progress: Progress | None = None, **options: Any
 ) -> ImportSummary:
     """Import an expressions file (``dry_run``, ``update``; it reports no progress)."""
+    from ratebank.services.expressions import import_expressions
+
     return _import_file(
         session, path, v.EXPRESSION_FILE_COLUMNS, ("Ea",), import_expressions, _expression_rows,
         **options,

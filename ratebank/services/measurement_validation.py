@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -239,6 +240,8 @@ class _TextColumns:
     methods: Sequence[str]
     baths: Sequence[str]
     systematic: Sequence[str]
+    #: the list every absent column is (empty cells)
+    empty: Sequence[str]
 
     @classmethod
     def of(cls, columns: Mapping[str, Sequence[str]], n: int) -> _TextColumns:
@@ -256,13 +259,35 @@ class _TextColumns:
                     "bath_gas",
                     "systematic_uncertainty",
                 )
-            )
+            ),
+            empty,
         )
+
+
+#: Maps every ASCII character ``str.strip`` removes to a space (the rest unchanged).
+_ASCII_SPACES = bytes.maketrans(b"\t\n\x0b\x0c\r\x1c\x1d\x1e\x1f", b" " * 9)
+
+
+def _padded(values: Sequence[str]) -> bool:
+    """True unless no cell of ``values`` starts or ends with a space ``str.strip`` removes
+    (a column of ASCII cells is answered in a few passes over its joined bytes; any other
+    may be padded)."""
+    if values and values[0] == values[-1] and values.count(values[0]) == len(values):
+        return values[0] != values[0].strip()  # one text throughout (a unit, say)
+    joined = "\x00".join(values)
+    if not joined.isascii() or joined.count("\x00") != len(values) - 1:
+        return True  # a space of another script, or a NUL in a cell: strip cell by cell
+    data = joined.encode("ascii").translate(_ASCII_SPACES)
+    return (
+        data.startswith(b" ") or data.endswith(b" ") or b"\x00 " in data or b" \x00" in data
+    )
 
 
 def _stripped(values: Sequence[str] | None, empty: Sequence[str]) -> Sequence[str]:
     if values is None:
         return empty
+    if not _padded(values):
+        return values
     # strip each distinct text once: a million cells hold few distinct ones
     table = {text: text.strip() for text in dict.fromkeys(values)}
     if all(text == clean for text, clean in table.items()):
@@ -481,6 +506,8 @@ class MeasurementValidator:
         self.sets = SetRegistry()
         self.by_name: dict[str, int] = self.sets.by_name
         self._unit_cache: dict[tuple[str, int, bool], tuple[float, bool] | str] = {}
+        #: (id, key, order, third body) by reaction text, of the texts met so far
+        self._reactions: dict[str, tuple[Any, ...]] = {}
 
     def validate_chunk(
         self, columns: Mapping[str, Sequence[str]], lines: Sequence[int]
@@ -502,7 +529,7 @@ class MeasurementValidator:
         runs = _Runs.of(texts.set_names)
         self._check_set_names(texts, runs, lines)
         new = self._add_new_sets(texts, runs, lines)
-        rows = self._sets_of_rows(texts.set_names, runs)
+        rows = self._sets_of_rows(texts.set_names, runs, new)
         self._check_agreement_with_first_rows(texts, rows, lines)
         absolute, percent = self._uncertainty_kinds(texts.kinds, lines)
         factor = rows.per_row(self.sets.column("factor"), np.nan).astype(float)
@@ -574,10 +601,10 @@ class MeasurementValidator:
             return range(len(self.sets), len(self.sets))
         existing = set(self.set_exists(fresh))
         first = [runs.first_rows[name] for name in fresh]
-        self.resolver.prefetch({texts.reactions[i] for i in first})
         columns = self._new_sets_quickly(fresh, first, existing, texts, lines)
         if columns is not _SLOW:
             return self.sets.append(columns)
+        self.resolver.prefetch({texts.reactions[i] for i in first})
         return self.sets.append_records(
             [
                 self._new_set_slowly(name, i, existing, texts, lines)
@@ -598,17 +625,11 @@ class MeasurementValidator:
         it, no systematic uncertainty; None when any needs the slow look."""
         if (existing and not self.update) or not "".join(names).isprintable():
             return _SLOW
-        if any(texts.systematic[i] for i in first):
+        if texts.systematic is not texts.empty and any(texts.systematic[i] for i in first):
             return _SLOW
-        reaction_texts = [texts.reactions[i] for i in first]
-        by_key = self.resolver.by_key
-        found = [by_key.get(text) for text in reaction_texts]
-        if None in found:
-            found = [
-                r or self.resolver.resolve(t) for r, t in zip(found, reaction_texts, strict=True)
-            ]
-            if not all(isinstance(r, ReactionRef) for r in found):
-                return _SLOW
+        found = self._reaction_rows([texts.reactions[i] for i in first])
+        if found is None:
+            return _SLOW
         ids, keys, orders, third_bodies = zip(*found, strict=True)
         default = self.default_k_units
         units = [texts.units[i] or default for i in first]
@@ -640,6 +661,25 @@ class MeasurementValidator:
             "mixed": np.zeros(n, dtype=bool),
             "stored": [name in existing for name in names] if existing else np.zeros(n, bool),
         }
+
+    def _reaction_rows(self, reaction_texts: list[str]) -> list[tuple[Any, ...]] | None:
+        """(id, key, order, third body) of the reaction each text names, or None when one
+        names none. The texts not met before are looked up as keys in one query; those
+        that are no stored key (equations) are resolved one by one."""
+        known = self._reactions
+        missing = [text for text in dict.fromkeys(reaction_texts) if text not in known]
+        if missing:
+            for row in self.resolver.rows_by_key(missing):
+                known[row[1]] = row
+            others = [text for text in missing if text not in known]
+            if others:
+                self.resolver.prefetch(others)
+                for text in others:
+                    resolved = self.resolver.resolve(text)
+                    if not isinstance(resolved, ReactionRef):
+                        return None
+                    known[text] = tuple(resolved)
+        return [known[text] for text in reaction_texts]
 
     def _new_set_slowly(
         self, name: str, i: int, existing: set[str], texts: _TextColumns, lines: Sequence[int]
@@ -786,13 +826,26 @@ class MeasurementValidator:
         converted[effective & ~usable] = np.nan
         return converted
 
-    def _sets_of_rows(self, set_names: Sequence[str], runs: _Runs) -> _SetsOfRows:
+    def _sets_of_rows(self, set_names: Sequence[str], runs: _Runs, new: range) -> _SetsOfRows:
         n = len(set_names)
+        starts = np.asarray(runs.starts, dtype=np.int64)
+        run_lengths = np.diff(np.append(starts, n))
+        if len(new) == len(runs.starts):
+            # every run is a set of its own that this chunk named first, in order (the new
+            # sets are appended in the order of their first rows): no look-up, no sort
+            touched = np.arange(new.start, new.stop, dtype=np.int64)
+            set_index = np.repeat(touched, run_lengths)
+            local_index = np.repeat(np.arange(len(new), dtype=np.int64), run_lengths)
+            return _SetsOfRows(
+                set_index=set_index,
+                run_first_row=np.repeat(starts, run_lengths),
+                starts=starts,
+                local_index=local_index,
+                touched=touched,
+            )
         by_name = self.by_name
         run_index = np.array([by_name.get(set_names[i], -1) for i in runs.starts], dtype=np.int64)
-        run_lengths = np.diff(np.append(runs.starts, n))
         set_index = np.repeat(run_index, run_lengths)
-        starts = np.asarray(runs.starts, dtype=np.int64)
         # work on the sets this chunk touches only, so that cost does not grow with the file
         touched, local_index = np.unique(set_index, return_inverse=True)
         return _SetsOfRows(
@@ -820,7 +873,8 @@ class MeasurementValidator:
             ("bath_gas", texts.baths),
             ("systematic_text", texts.systematic),
         ):
-            self._check_agreement(rows, texts.set_names, values, column, lines)
+            if values is not texts.empty:  # an absent column's empty cells agree with any
+                self._check_agreement(rows, texts.set_names, values, column, lines)
 
     def _expected(self, rows: _SetsOfRows, column: str) -> np.ndarray:
         """What each touched set's rows must say in ``column`` (None: nothing to compare)."""
