@@ -46,6 +46,7 @@ import numpy as np
 from ratebank.errors import FitError, ScienceInputError
 from ratebank.science import uncertainty
 from ratebank.science.constants import GAS_CONSTANT
+from ratebank.science.distributions import chi_square_cdf, chi_square_tail, f_tail
 
 __all__ = [
     "COLLINEARITY_THRESHOLD",
@@ -1163,9 +1164,7 @@ def compare_forms(T, k, sigma_ln_k=None, *, significance: float = 0.05) -> FormC
         f_statistic = np.inf
     else:
         f_statistic = max(two.chi_square - three.chi_square, 0.0) / (three.chi_square / dof)
-    from scipy.special import fdtrc
-
-    p_value = float(fdtrc(1, dof, f_statistic))
+    p_value = float(f_tail(f_statistic, 1, dof))
     if p_value < significance:
         reason = (
             f"Fitting n lowers chi-square significantly (F = {f_statistic:.3g}, "
@@ -1355,12 +1354,10 @@ def compare_forms_batch(T, k, sigma_ln_k, group, *, significance: float = 0.05) 
             np.maximum(two.chi_square - three.chi_square, 0.0) / (three.chi_square / dof),
         )
         exact = np.sqrt(two.chi_square / weight_sum) < _EXACT_RMS
-    from scipy.special import fdtrc
-
     enough = (n_points >= 4) & (n_distinct >= 3)
     tested = enough & three.ok & ~three.collinear & ~exact
     p_value = np.full(m, np.nan)
-    p_value[tested] = fdtrc(1, dof[tested], f_statistic[tested])
+    p_value[tested] = f_tail(f_statistic[tested], 1, dof[tested])
     supported = tested & (p_value < significance)
     reason = np.empty(m, dtype=object)
     for i in range(m):
@@ -1483,16 +1480,14 @@ def _add_scatter_warnings(out: dict, weighted: np.ndarray, tau2: np.ndarray) -> 
     below :data:`SCATTER_SIGNIFICANCE` on either side is reported (common
     practice; Bevington & Robinson 2003, ch. 11).
     """
-    from scipy.special import chdtr, chdtrc
-
     rows = np.flatnonzero(weighted & out["ok"])
     chi = out["reduced_chi_square"][rows]
     dof = out["n_points"][rows] - np.where(out["form"][rows] == "modified", 3, 2)
     usable = np.isfinite(chi) & (dof > 0)
     rows, chi, dof = rows[usable], chi[usable], dof[usable]
-    above = chdtrc(dof, chi * dof) < SCATTER_SIGNIFICANCE
+    above = chi_square_tail(chi * dof, dof) < SCATTER_SIGNIFICANCE
     # (with set offsets added the scatter is small by construction)
-    below = ~above & (tau2[rows] == 0) & (chdtr(dof, chi * dof) < SCATTER_SIGNIFICANCE)
+    below = ~above & (tau2[rows] == 0) & (chi_square_cdf(chi * dof, dof) < SCATTER_SIGNIFICANCE)
     for row, value, high in zip(
         rows[above | below].tolist(),
         chi[above | below].tolist(),
@@ -1543,8 +1538,6 @@ def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n, systema
     """sigma(ln k) widened by each set's own systematic variance and then by each pooled
     group's between-set variance; tau^2 and the heterogeneity p-value (Cochran's Q against
     chi-square with sets - 1 degrees of freedom) per group."""
-    from scipy.special import chdtrc
-
     tau2 = np.zeros(pooled.size)
     p_value = np.full(pooled.size, np.nan)
     widened = sigma.copy()
@@ -1567,7 +1560,7 @@ def _with_set_offsets(T, k, sigma, inverse, sets, pooled, form, fixed_n, systema
         except (FitError, ScienceInputError):
             continue  # the group's own fit reports why it cannot be fitted
         tau2[row] = result.tau_squared
-        p_value[row] = chdtrc(result.sets.size - 1, result.q_statistic)
+        p_value[row] = chi_square_tail(result.q_statistic, result.sets.size - 1)
         widened[mask] = uncertainty.random_effects_sigma_ln_k(
             sigma[mask], sets[mask], result.tau_squared
         )
