@@ -187,6 +187,68 @@ print(json.dumps(sorted(sys.modules)), file=sys.stderr)
 _PREFIXES = tuple(f"{name}." for name in NOT_FOR_A_LISTING)
 
 
+#: Commands of the whole job, with what they are given: none builds typer's validators
+#: (pydantic), and the fit does its statistics without scipy.
+JOB_COMMANDS = (
+    (["estimate", "--keep-going", "--steric", "0.1", "--t-range", "300", "2000"], ("pydantic",)),
+    (["fit"], ("pydantic", "scipy")),
+    (["check", "--ignore", "extrapolation", "--t-range", "300", "2000"], ("pydantic",)),
+    (["export", "{out}", "--leave-out-gaps"], ("pydantic",)),
+    (["reactions", "show", "oh-oh"], ("pydantic",)),
+)
+
+
+@pytest.mark.parametrize(("command", "not_imported"), JOB_COMMANDS, ids=lambda c: str(c[0]))
+def test_the_job_s_commands_do_not_import_typer_s_validators(tmp_path, command, not_imported):
+    db = str(tmp_path / "s.db")
+    store, _ = ratebank.init(db)
+    with store:
+        for name, formula in (("OH", "HO"), ("O", "O"), ("H2O", "H2O")):
+            store.add_species(name, formula)
+        store.add_reaction("oh-oh", "OH + OH -> O + H2O")
+    args = [arg.replace("{out}", str(tmp_path / "out")) for arg in command]
+    code = f"""
+import json, sys
+from ratebank.cli.app import app
+try:
+    app(["--db", {db!r}, "--quiet", *{args!r}], prog_name="ratebank")
+except SystemExit as stop:
+    print("exit", stop.code, file=sys.stderr)
+print(json.dumps(sorted(sys.modules)), file=sys.stderr)
+"""
+    result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert "Traceback" not in result.stderr, result.stderr
+    loaded = json.loads(result.stderr.splitlines()[-1])
+    assert "ratebank.cli.common" in loaded  # the command did run through the CLI
+    unwanted = [m for m in loaded if m.split(".")[0] in not_imported]
+    assert unwanted == []
+
+
+def test_options_given_without_typer_s_validators_keep_their_meaning(tmp_path):
+    from typer.testing import CliRunner
+
+    from ratebank.cli.app import app
+
+    db = str(tmp_path / "s.db")
+    runner = CliRunner()
+    assert runner.invoke(app, ["--db", db, "init"]).exit_code == 0
+    # a bad number is refused in one line naming the option
+    bad = runner.invoke(app, ["--db", db, "estimate", "--t-range", "300", "abc"])
+    assert bad.exit_code != 0
+    assert "Invalid value for '--t-range': 'abc' is not a number" in bad.output
+    # a path argument reaches the command as a path: the export writes where it is told
+    out = tmp_path / "pkg"
+    done = runner.invoke(app, ["--db", db, "export", str(out), "--leave-out-gaps"])
+    assert done.exit_code == 0, done.output
+    assert (out / "datapackage.json").is_file()
+    # a repeatable option keeps every value
+    refused = runner.invoke(
+        app, ["--db", db, "check", "--ignore", "extrapolation", "--ignore", "x"]
+    )
+    assert refused.exit_code != 0
+    assert "unknown check x" in refused.output
+
+
 def test_version():
     from typer.testing import CliRunner
 

@@ -263,18 +263,27 @@ def with_option_names(exc: RatebankError, command: Any, leaf: Any = None) -> str
 
 
 class _AsTyped:
-    """The value of a text option or a flag as the parser gives it: what typer's own
-    coercion makes of it.
+    """The value of an option as typer's own coercion makes of it, without its validator.
 
     typer coerces every value through a validator it builds on first use, and building
-    the first one imports pydantic, which costs a listing more than its query. Text and
-    flags need no validator, so :func:`take_as_typed` gives such options this stand-in
-    instead (typer < 0.30 looks it up as ``_runtime_param``; ``tests/test_project.py``
-    fails when a listing imports pydantic again).
+    the first one imports pydantic, which costs a listing more than its query and every
+    other command a tenth of a second. Options of three plain kinds need no validator, so
+    :func:`take_as_typed` gives them this stand-in instead (typer < 0.30 looks it up as
+    ``_runtime_param``; ``tests/test_project.py`` fails when a command imports pydantic
+    again): text and flags (as given), numbers read by their own ``parser`` (:func:`number`,
+    which raises typer's BadParameter itself), and paths (typer's own checks of an existing
+    path, then a :class:`~pathlib.Path`).
     """
 
+    def __init__(self, parse: Callable[[Any, Any, Any], Any] | None = None) -> None:
+        self._parse = parse
+
     def coerce(self, value: Any, param: Any, ctx: Any) -> Any:
-        if value is None or isinstance(value, str | bool):
+        if value is None:
+            return () if param.multiple or param.nargs == -1 else None
+        if self._parse is not None:
+            return self._parse(value, param, ctx)
+        if isinstance(value, str | bool):
             return value
         return str(value)
 
@@ -282,24 +291,91 @@ class _AsTyped:
 _AS_TYPED = _AsTyped()
 
 
-def _plain(param: Any) -> bool:
-    """A text option or argument (one value, no parser), or a flag not read from the
-    environment (so always True, False or None)."""
+def _parsed(parser: Callable[[Any], Any]) -> _AsTyped:
+    return _AsTyped(lambda value, param, ctx: parser(value))
+
+
+def _as_path(value: Any, param: Any, ctx: Any) -> Any:
+    from pathlib import Path
+
+    from typer._param_types import coerce_cli_path
+
+    checked = coerce_cli_path(
+        value, param.type_descriptor.parameter_info, path_type=None, param=param, ctx=ctx
+    )
+    return checked if isinstance(checked, Path) else Path(checked)
+
+
+def _texts(value: Any, param: Any, ctx: Any) -> list[str]:
+    return [item if isinstance(item, str) else str(item) for item in value]
+
+
+_AS_TEXTS = _AsTyped(_texts)
+
+
+def _numbers(parser: Callable[[Any], Any]) -> _AsTyped:
+    return _AsTyped(lambda value, param, ctx: tuple(parser(item) for item in value))
+
+
+def _stand_in(param: Any) -> _AsTyped | None:
+    """The stand-in for ``param``'s validator, or None where typer's own is needed: a
+    text option or argument (one value, no parser), a flag not read from the environment
+    (so always True, False or None), a number option with its own parser, or a path; a
+    list of texts or of numbers read by their own parser (a repeatable option, or an
+    argument of any number of values); a fixed number of numbers read by their own parser
+    (``--t-range TMIN TMAX``)."""
+    from typing import get_args, get_origin
+
     described = getattr(param, "type_descriptor", None)
-    if described is None or param.nargs != 1 or param.multiple:
-        return False
-    if described.annotation is bool:
-        return bool(getattr(param, "is_flag", False)) and not param.envvar
-    return described.annotation is str and described.parameter_info.parser is None
+    if described is None:
+        return None
+    annotation = described.annotation
+    info = described.parameter_info
+    if param.nargs == -1 or param.multiple:
+        many = param.nargs == -1 or (param.multiple and param.nargs == 1)
+        if not many or get_origin(annotation) is not list:
+            return None
+        if get_args(annotation) == (str,) and info.parser is None:
+            return _AS_TEXTS
+        if get_args(annotation) in ((float,), (int,)) and info.parser is not None:
+            return _AsTyped(lambda value, param, ctx: [info.parser(item) for item in value])
+        return None
+    if param.nargs > 1:
+        numbers = get_origin(annotation) is tuple and set(get_args(annotation)) <= {float}
+        sized = numbers and len(get_args(annotation)) == param.nargs
+        return _numbers(info.parser) if sized and info.parser is not None else None
+    if param.nargs != 1:
+        return None
+    if info.parser is not None:
+        return _parsed(info.parser) if annotation in (float, int) else None
+    if annotation is bool:
+        plain_flag = bool(getattr(param, "is_flag", False)) and not param.envvar
+        return _AS_TYPED if plain_flag else None
+    if annotation is str:
+        return _AS_TYPED
+    if _is_path(annotation) and getattr(info, "path_type", None) is None:
+        return _AS_PATH
+    return None
+
+
+def _is_path(annotation: Any) -> bool:
+    from pathlib import Path
+
+    return annotation is Path
+
+
+_AS_PATH = _AsTyped(_as_path)
 
 
 def take_as_typed(command: Any, ctx: Any) -> None:
-    """Let the plain options of ``command`` (:func:`_plain`), its help option among them,
-    skip typer's validator; ``ctx`` is its context or its parent's (whose help option
-    names it inherits)."""
+    """Let the plain options of ``command`` (:func:`_stand_in`), its help option among
+    them, skip typer's validator; ``ctx`` is its context or its parent's (whose help
+    option names it inherits)."""
     for param in command.get_params(ctx):
-        if getattr(param, "_runtime_param", "") is None and _plain(param):
-            param._runtime_param = _AS_TYPED
+        if getattr(param, "_runtime_param", "") is None:
+            stand_in = _stand_in(param)
+            if stand_in is not None:
+                param._runtime_param = stand_in
 
 
 class RatebankGroup(TyperGroup):

@@ -189,9 +189,7 @@ def _beta_fraction(a: np.ndarray, b: np.ndarray, x: np.ndarray) -> np.ndarray:
 def _regularized_beta(a, b, x, y, log_x, log_y) -> np.ndarray:
     """I_x(a, b) for 0 < x < 1, given y = 1 - x and both logarithms computed without
     cancellation; the fraction is used where it converges fast (NR 6.4)."""
-    log_front = (
-        _log_gamma(a + b) - _log_gamma(a) - _log_gamma(b) + a * log_x + b * log_y
-    )
+    log_front = _log_gamma(a + b) - _log_gamma(a) - _log_gamma(b) + a * log_x + b * log_y
     value = np.empty(a.size)
     direct = x < (a + 1.0) / (a + b + 2.0)
     if direct.any():

@@ -278,9 +278,7 @@ def _padded(values: Sequence[str]) -> bool:
     if not joined.isascii() or joined.count("\x00") != len(values) - 1:
         return True  # a space of another script, or a NUL in a cell: strip cell by cell
     data = joined.encode("ascii").translate(_ASCII_SPACES)
-    return (
-        data.startswith(b" ") or data.endswith(b" ") or b"\x00 " in data or b" \x00" in data
-    )
+    return data.startswith(b" ") or data.endswith(b" ") or b"\x00 " in data or b" \x00" in data
 
 
 def _stripped(values: Sequence[str] | None, empty: Sequence[str]) -> Sequence[str]:
