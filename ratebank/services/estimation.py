@@ -55,6 +55,7 @@ from ratebank.services.steric import (
     derived_steric_factors,
 )
 from ratebank.store import queries
+from ratebank.store.estimate_reads import expressions_with_key
 from ratebank.store.expressions import (
     ArrheniusTerm,
     Broadening,
@@ -384,13 +385,7 @@ def estimate(
         reactions = queries.reactions(session, reaction_class=reaction_class)
     # of the stored provenance, an estimate reads only a relation's record (Ea and its spread)
     # and of each expression only what it uses (_Slim), kept as the rows stream past
-    slim = queries.expressions_reduced(
-        session,
-        [r.id for r in reactions],
-        _slim_rows,
-        provenance_keys=("evans_polanyi",),
-        lean=True,
-    )
+    slim = expressions_with_key(session, [r.id for r in reactions], "evans_polanyi", _slim_rows)
     filled, refused = relation_activation_energies(session, reactions, slim)  # type: ignore[arg-type]
     for reaction_id, partial in filled.items():
         slim[reaction_id] = [*slim[reaction_id], _slim(partial)]

@@ -8,7 +8,7 @@ from helpers.cli import run, write
 
 import ratebank
 from ratebank.services import estimation
-from ratebank.store import queries
+from ratebank.store import estimate_reads, queries
 from ratebank.store.listings import expression_summaries
 from ratebank.store.models import Expression, ProvenanceRun
 from ratebank.store.records import expression_for_edit
@@ -157,6 +157,7 @@ def test_estimates_read_in_one_pass_are_those_read_by_ids(thousand, monkeypatch)
 
     by_ids, first = estimated()
     monkeypatch.setattr(queries, "_STREAM_FROM", 0)
+    monkeypatch.setattr(estimate_reads, "EXPRESSIONS_WHOLE_FROM", 0)
     streamed, second = estimated()
     assert len(first) == 1000 and first == second  # the whole provenance, run's part included
     assert [(r.key, r.A, r.Ea, r.uncertainty_factor) for r in streamed.rows] == [

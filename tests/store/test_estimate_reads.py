@@ -35,3 +35,41 @@ def test_reactant_table_is_reactant_columns(store, monkeypatch, whole_from, ever
         found = estimate_reads.reactant_table(session, list(reversed(ids)))
     assert [list(column) for column in found] == [list(column) for column in expected]
     assert len(set(found[0].tolist())) == len(ids)
+
+
+@pytest.fixture
+def estimated(db_url, tmp_path):
+    """helpers.data's store, its expressions imported and ho2-ho2 estimated (a run)."""
+    from helpers.data import EXPRESSIONS_CSV
+
+    assert run(db_url, "init").exit_code == 0
+    for command, name, text in (
+        ("species", "species.csv", SPECIES_CSV),
+        ("reactions", "reactions.csv", REACTIONS_CSV),
+        ("expressions", "expressions.csv", EXPRESSIONS_CSV),
+    ):
+        assert run(db_url, command, "import", str(write(tmp_path / name, text))).exit_code == 0
+    with ratebank.open(db_url, author="tester") as opened:
+        opened.estimate(["ho2-ho2"], steric=0.1, T_ref=300.0)
+        yield opened
+
+
+@pytest.mark.parametrize("whole_from", [0, 10**9])
+@pytest.mark.parametrize(
+    "key", ["line", "source_file", "steric_rule", "partners", "T_ref", "evans_polanyi"]
+)
+def test_expressions_with_key_are_the_reduced_expressions(estimated, monkeypatch, whole_from, key):
+    """Each reaction's expressions with one key of their whole provenance (the run's part or
+    the row's own, a partner's record put back), as the general read gives them."""
+    monkeypatch.setattr(estimate_reads, "EXPRESSIONS_WHOLE_FROM", whole_from)
+    with estimated.session() as session:
+        ids = [r.id for r in queries.reactions(session)]
+        expected = queries.expressions_reduced(
+            session, ids, list, provenance_keys=(key,), lean=True
+        )
+        found = estimate_reads.expressions_with_key(session, ids, key, list)
+    plain = {rid: [e._replace(terms=()) for e in rows] for rid, rows in expected.items()}
+    assert found == plain
+    assert any(rows for rows in found.values()) and any(not rows for rows in found.values())
+    if key != "evans_polanyi":
+        assert any(e.provenance for rows in found.values() for e in rows)
