@@ -43,6 +43,7 @@ from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import (
     CollisionPair,
     PairColumns,
+    PairTable,
     PartnerData,
     check_model,
     collision_pair_table,
@@ -283,48 +284,43 @@ class _Candidates:
         self.b: list[PartnerData] = []
         self.identical: list[bool] = []
         self.choices: list[StericChoice] = []
-        self._Ea: list[float] = []
-        self._T_ref: list[float] = []
-        self._T_min: list[float | None] = []
-        self._T_max: list[float | None] = []
         self.Ea = self.T_ref = self.T_min = self.T_max = np.empty(0)
 
-    def add(
-        self,
-        reaction: ReactionRow,
-        partial: _Slim,
-        a: PartnerData,
-        b: PartnerData,
-        identical: bool,
-        choice: StericChoice,
-        T_ref: float,
-        T_min: float | None,
-        T_max: float | None,
-    ) -> None:
-        if partial.full is not None or partial.provenance:
-            self.special[len(self.ids)] = partial
-        self.ids.append(reaction.id)
-        self.keys.append(reaction.key)
-        self.equations.append(reaction.equation)
-        self.third_body.append(reaction.third_body)
-        self.partial_ids.append(partial.id)
-        self.forms.append(partial.form)
-        self.a.append(a)
-        self.b.append(b)
-        self.identical.append(identical)
-        self.choices.append(choice)
-        self._Ea.append(partial.Ea)
-        self._T_ref.append(T_ref)
-        self._T_min.append(T_min)
-        self._T_max.append(T_max)
-
-    def freeze(self) -> None:
-        """The numbers as arrays (a missing range end is NaN)."""
-        self.Ea = np.array(self._Ea, dtype=float)
-        self.T_ref = np.array(self._T_ref, dtype=float)
-        self.T_min = np.array(self._T_min, dtype=float)
-        self.T_max = np.array(self._T_max, dtype=float)
-        del self._Ea, self._T_ref, self._T_min, self._T_max
+    @classmethod
+    def of(
+        cls,
+        model: str,
+        T_ref_given: bool,
+        reactions: list[ReactionRow],
+        partials: list[_Slim],
+        pairs: PairTable,
+        kept: list[int],
+        columns: tuple[list[StericChoice], list[float], list[float | None], list[float | None]],
+    ) -> _Candidates:
+        """The candidates at the positions ``kept`` of ``reactions`` (with their
+        ``partials`` and ``pairs``), whose steric choices, T_ref, T_min and T_max are
+        ``columns``."""
+        found = cls(model, T_ref_given)
+        chosen = [reactions[i] for i in kept]
+        completed = [partials[i] for i in kept]
+        found.ids = [r.id for r in chosen]
+        found.keys = [r.key for r in chosen]
+        found.equations = [r.equation for r in chosen]
+        found.third_body = [r.third_body for r in chosen]
+        found.partial_ids = [p.id for p in completed]
+        found.forms = [p.form for p in completed]
+        found.special = {
+            j: p for j, p in enumerate(completed) if p.full is not None or p.provenance
+        }
+        found.a = [pairs.a[i] for i in kept]  # type: ignore[misc]
+        found.b = [pairs.b[i] for i in kept]  # type: ignore[misc]
+        found.identical = [pairs.identical[i] for i in kept]
+        found.choices, T_ref, T_min, T_max = columns
+        found.Ea = np.array([p.Ea for p in completed], dtype=float)
+        found.T_ref = np.array(T_ref, dtype=float)
+        found.T_min = np.array(T_min, dtype=float)
+        found.T_max = np.array(T_max, dtype=float)
+        return found
 
     def __len__(self) -> int:
         return len(self.ids)
@@ -492,7 +488,11 @@ def _candidates(
     pairs = collision_pair_table(
         session, [_colliding(r, e) for r, e in zip(waiting, partials, strict=True)], model=model
     )
-    candidates = _Candidates(model, T_ref is not None)
+    kept: list[int] = []
+    choices: list[StericChoice] = []
+    references: list[float] = []
+    lows: list[float | None] = []
+    highs: list[float | None] = []
     # a steric factor given by the caller is every reaction's one choice
     given = sources.given_choice()
     reasons = pairs.reasons
@@ -518,10 +518,13 @@ def _candidates(
                 skipped.append(Skipped(reaction.key, reason))
                 continue
         assert reference is not None
-        a, b = pairs.a[i], pairs.b[i]
-        assert a is not None and b is not None
-        candidates.add(reaction, partial, a, b, pairs.identical[i], choice, reference, low, high)
-    candidates.freeze()
+        kept.append(i)
+        choices.append(choice)
+        references.append(reference)
+        lows.append(low)
+        highs.append(high)
+    columns = (choices, references, lows, highs)
+    candidates = _Candidates.of(model, T_ref is not None, waiting, partials, pairs, kept, columns)
     return candidates, skipped
 
 
@@ -755,6 +758,7 @@ class _Partners:
         seen: dict[str, PartnerData] = {}
         #: names under which different records were met (a row then keeps its records whole)
         self.ambiguous: set[str] = set()
+        self._pairs: dict[tuple[int, int, bool], dict[str, object]] = {}
         for partner in _distinct(candidates.a, candidates.b):
             known = seen.get(partner.name)
             if known is None:
@@ -764,9 +768,16 @@ class _Partners:
                 self.ambiguous.add(partner.name)
 
     def pair(self, a: PartnerData, b: PartnerData, identical: bool) -> dict[str, object]:
+        """The pair's record as a row keeps it (one, read only, per pair of partners)."""
+        found = self._pairs.get((id(a), id(b), identical))
+        if found is not None:
+            return found
         if a.name in self.ambiguous or b.name in self.ambiguous:
-            return {"identical": identical, "a": a.as_record(), "b": b.as_record()}
-        return {"identical": identical, "a": a.name, "b": b.name}
+            found = {"identical": identical, "a": a.as_record(), "b": b.as_record()}
+        else:
+            found = {"identical": identical, "a": a.name, "b": b.name}
+        self._pairs[(id(a), id(b), identical)] = found
+        return found
 
 
 def _provenance_columns(
