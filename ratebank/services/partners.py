@@ -354,7 +354,7 @@ def collision_pair_table(
     check_model(model)
     # the reactants as two columns; each reaction's first two found by bisection, as arrays
     ids = np.array([r.id for r in reactions], dtype=np.int64)
-    by_reaction, by_species = reactant_table(session, ids.tolist())
+    by_reaction, by_species = reactant_table(session, ids)
     species = queries.species_by_id(session, set(np.unique(by_species).tolist()))
     first = np.searchsorted(by_reaction, ids, side="left")
     counts = np.searchsorted(by_reaction, ids, side="right") - first

@@ -20,16 +20,18 @@ from ratebank.store.runs import RunCache
 WHOLE_TABLE_FROM = 20_000
 
 #: Rows fetched from the driver at a time.
-_FETCH = 50_000
+_FETCH = 10_000
 
 
-def reactant_table(session: Session, reaction_ids: Sequence[int]) -> tuple[np.ndarray, np.ndarray]:
+def reactant_table(
+    session: Session, reaction_ids: Sequence[int] | np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
     """(reaction ids, species ids) of the reactants of ``reaction_ids``, one entry per
     reactant row, by reaction id and then in the order written, as two int64 arrays (what
     :func:`ratebank.store.queries.reactant_columns` gives); most of the store is read in
     one pass and the reactions not asked for left out."""
     if len(reaction_ids) < WHOLE_TABLE_FROM:
-        reactions, species = reactant_columns(session, reaction_ids)
+        reactions, species = reactant_columns(session, np.asarray(reaction_ids).tolist())
         return np.frombuffer(reactions, dtype=np.int64), np.frombuffer(species, dtype=np.int64)
     chunks = [np.empty((0, 3), dtype=np.int64)]
     raw = session.connection().connection.dbapi_connection
