@@ -35,10 +35,6 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError, RefusedEstimateError
 from ratebank.science.collision import CollisionEstimate, collision_theory_estimate
-from ratebank.services.evans_polanyi import (
-    combined_uncertainty_factor,
-    relation_activation_energies,
-)
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import (
     CollisionPair,
@@ -382,7 +378,7 @@ def estimate(
     # of the stored provenance, an estimate reads only a relation's record (Ea and its spread)
     # and of each expression only what it uses (_Slim), kept as the rows stream past
     slim = expressions_with_key(session, [r.id for r in reactions], "evans_polanyi", _slim_rows)
-    filled, refused = relation_activation_energies(session, reactions, slim)  # type: ignore[arg-type]
+    filled, refused = _relation_energies(session, reactions, slim)
     for reaction_id, partial in filled.items():
         slim[reaction_id] = [*slim[reaction_id], _slim(partial)]
     del filled
@@ -413,6 +409,22 @@ def estimate(
     if len(rows):
         _write(session, rows, replaced)
     return EstimateReport(rows, skipped, written=bool(len(rows)))
+
+
+def _relation_energies(
+    session: Session, reactions: list[ReactionRow], slim: dict[int, list[_Slim]]
+) -> tuple[dict[int, ExpressionRow], dict[int, str]]:
+    """:func:`ratebank.services.evans_polanyi.relation_activation_energies`, whose module
+    (and the thermochemistry it reads) is loaded only when a reaction of a class has no
+    expression of its own, the only reactions a relation can give an Ea."""
+    if not any(
+        r.reaction_class is not None and all(e.origin == "collision-estimate" for e in slim[r.id])
+        for r in reactions
+    ):
+        return {}, {}
+    from ratebank.services.evans_polanyi import relation_activation_energies
+
+    return relation_activation_energies(session, reactions, slim)  # type: ignore[arg-type]
 
 
 #: The earlier estimates of a reaction that has none (one list shared by every such row).
@@ -661,10 +673,15 @@ class EstimateRows(Sequence[EstimateRow]):
         return f"EstimateRows({len(self)} rows)"
 
     def uncertainty_factor(self, i: int) -> float:
+        """The steric factor's uncertainty, widened by a relation's spread when the Ea came
+        from one (only such a partial is kept whole)."""
         c = self._c
-        return combined_uncertainty_factor(
-            float(c.choices[i].uncertainty_factor), c.partial(i), float(c.T_ref[i])
-        )
+        factor = float(c.choices[i].uncertainty_factor)
+        if i not in c.special:
+            return factor
+        from ratebank.services.evans_polanyi import combined_uncertainty_factor
+
+        return combined_uncertainty_factor(factor, c.special[i], float(c.T_ref[i]))
 
     def estimated_diameters(self, i: int) -> list[str]:
         c = self._c
