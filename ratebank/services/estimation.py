@@ -35,16 +35,14 @@ from sqlalchemy.orm import Session
 
 from ratebank.errors import BadInputError, RefusedEstimateError
 from ratebank.science.collision import CollisionEstimate, collision_theory_estimate
-from ratebank.services.evans_polanyi import (
-    combined_uncertainty_factor,
-    relation_activation_energies,
-)
 from ratebank.services.memory import paused_garbage_collection
 from ratebank.services.partners import (
     CollisionPair,
     PairColumns,
+    PairTable,
+    PartnerData,
     check_model,
-    collision_pairs,
+    collision_pair_table,
     store_estimated_partners,
 )
 from ratebank.services.progress import NoProgress, Progress
@@ -54,6 +52,7 @@ from ratebank.services.steric import (
     derived_steric_factors,
 )
 from ratebank.store import queries
+from ratebank.store.estimate_reads import expressions_with_key
 from ratebank.store.expressions import (
     ArrheniusTerm,
     Broadening,
@@ -62,7 +61,7 @@ from ratebank.store.expressions import (
     write_expressions,
 )
 from ratebank.store.queries import ExpressionRow, ReactionRow, StericRuleRow
-from ratebank.store.runs import write_run
+from ratebank.store.runs import PARTNERS, write_run
 
 #: Uncertainty factor of an estimate when nothing better is known (common practice).
 DEFAULT_UNCERTAINTY_FACTOR = 10.0
@@ -103,7 +102,7 @@ class Skipped:
 
 @dataclass
 class EstimateReport:
-    rows: list[EstimateRow]
+    rows: Sequence[EstimateRow]
     skipped: list[Skipped]
     written: bool
 
@@ -140,6 +139,12 @@ class StericSources:
                 self.given, "given by the user", default, {}
             )
         return found
+
+    def given_choice(self) -> StericChoice | None:
+        """The choice every reaction gets when the caller gives P (else None)."""
+        if self.given is None:
+            return None
+        return self._given_choice(self.uncertainty_factor or DEFAULT_UNCERTAINTY_FACTOR)
 
     def choose(self, reaction: ReactionRow) -> StericChoice | str:
         """P for ``reaction``, or why there is none."""
@@ -255,16 +260,91 @@ def _slim_rows(own: list[ExpressionRow]) -> list[_Slim]:
     return [_slim(e) for e in kept]
 
 
-@dataclass(frozen=True, slots=True)
-class _Candidate:
-    reaction: ReactionRow
-    partial: _Slim
-    pair: CollisionPair
-    choice: StericChoice
-    T_ref: float
-    T_min: float | None
-    T_max: float | None
-    T_ref_given: bool
+class _Candidates:
+    """The reactions an estimate completes, as columns by position (no object per
+    reaction): what the science call, the report's rows and the write need of each."""
+
+    def __init__(self, model: str, T_ref_given: bool) -> None:
+        self.model = model
+        self.T_ref_given = T_ref_given
+        self.ids: list[int] = []
+        self.keys: list[str] = []
+        self.equations: list[str] = []
+        self.third_body: list[bool] = []
+        self.partial_ids: list[int | None] = []
+        self.forms: list[str | None] = []
+        #: the partials that state a relation or keep a falloff's k0 (the whole _Slim), by
+        #: position; the others need only their id, form and Ea
+        self.special: dict[int, _Slim] = {}
+        self.a: list[PartnerData] = []
+        self.b: list[PartnerData] = []
+        self.identical: list[bool] = []
+        self.choices: list[StericChoice] = []
+        self.Ea = self.T_ref = self.T_min = self.T_max = np.empty(0)
+
+    @classmethod
+    def of(
+        cls,
+        model: str,
+        T_ref_given: bool,
+        reactions: list[ReactionRow],
+        partials: list[_Slim],
+        pairs: PairTable,
+        kept: list[int],
+        columns: tuple[list[StericChoice], list[float], list[float | None], list[float | None]],
+    ) -> _Candidates:
+        """The candidates at the positions ``kept`` of ``reactions`` (with their
+        ``partials`` and ``pairs``), whose steric choices, T_ref, T_min and T_max are
+        ``columns``."""
+        found = cls(model, T_ref_given)
+        chosen = [reactions[i] for i in kept]
+        completed = [partials[i] for i in kept]
+        found.ids = [r.id for r in chosen]
+        found.keys = [r.key for r in chosen]
+        found.equations = [r.equation for r in chosen]
+        found.third_body = [r.third_body for r in chosen]
+        found.partial_ids = [p.id for p in completed]
+        found.forms = [p.form for p in completed]
+        found.special = {
+            j: p for j, p in enumerate(completed) if p.full is not None or p.provenance
+        }
+        found.a = [pairs.a[i] for i in kept]  # type: ignore[misc]
+        found.b = [pairs.b[i] for i in kept]  # type: ignore[misc]
+        found.identical = [pairs.identical[i] for i in kept]
+        found.choices, T_ref, T_min, T_max = columns
+        found.Ea = np.array([p.Ea for p in completed], dtype=float)
+        found.T_ref = np.array(T_ref, dtype=float)
+        found.T_min = np.array(T_min, dtype=float)
+        found.T_max = np.array(T_max, dtype=float)
+        return found
+
+    def __len__(self) -> int:
+        return len(self.ids)
+
+    def partial(self, i: int) -> _Slim:
+        """The expression candidate ``i`` completes, as far as the estimate reads it."""
+        return self.special.get(i) or _PLAIN
+
+    def take(self, keep: Sequence[int]) -> _Candidates:
+        """The candidates at the positions ``keep``, in that order."""
+        taken = _Candidates(self.model, self.T_ref_given)
+        for name in (
+            "ids", "keys", "equations", "third_body", "partial_ids", "forms", "a", "b",
+            "identical", "choices",
+        ):  # fmt: skip
+            column = getattr(self, name)
+            setattr(taken, name, [column[i] for i in keep])
+        index = np.asarray(keep, dtype=np.intp)
+        for name in ("Ea", "T_ref", "T_min", "T_max"):
+            setattr(taken, name, getattr(self, name)[index])
+        taken.special = {
+            new: self.special[old] for new, old in enumerate(keep) if old in self.special
+        }
+        return taken
+
+
+#: What the estimate reads of an ordinary expression awaiting A beyond its id, form and Ea.
+_PLAIN = _Slim(0, "", False, False, 0.0, None, None, None, _NO_PROVENANCE, None)
 
 
 @paused_garbage_collection()
@@ -297,21 +377,18 @@ def estimate(
         reactions = queries.reactions(session, reaction_class=reaction_class)
     # of the stored provenance, an estimate reads only a relation's record (Ea and its spread)
     # and of each expression only what it uses (_Slim), kept as the rows stream past
-    slim = queries.expressions_reduced(
-        session,
-        [r.id for r in reactions],
-        _slim_rows,
-        provenance_keys=("evans_polanyi",),
-        lean=True,
-    )
-    filled, refused = relation_activation_energies(session, reactions, slim)  # type: ignore[arg-type]
+    slim = expressions_with_key(session, [r.id for r in reactions], "evans_polanyi", _slim_rows)
+    filled, refused = _relation_energies(session, reactions, slim)
     for reaction_id, partial in filled.items():
         slim[reaction_id] = [*slim[reaction_id], _slim(partial)]
     del filled
     sources = StericSources(
         steric,
         queries.steric_rules(session),
-        {g.reaction_class: g for g in derived_steric_factors(session, model=collision)},
+        # a steric factor given by the caller is every reaction's: nothing is derived
+        {}
+        if steric is not None
+        else {g.reaction_class: g for g in derived_steric_factors(session, model=collision)},
         fallback_steric,
         uncertainty_factor,
     )
@@ -329,10 +406,25 @@ def estimate(
     progress.advance(len(candidates))
     if skipped and not keep_going:
         raise RefusedEstimateError(_refusal(rows, skipped), EstimateReport(rows, skipped, False))
-    written = [(c, row) for c, row in zip(candidates, rows, strict=True) if row is not None]
-    if written:
-        _write(session, written, replaced)
-    return EstimateReport([row for _, row in written], skipped, written=bool(written))
+    if len(rows):
+        _write(session, rows, replaced)
+    return EstimateReport(rows, skipped, written=bool(len(rows)))
+
+
+def _relation_energies(
+    session: Session, reactions: list[ReactionRow], slim: dict[int, list[_Slim]]
+) -> tuple[dict[int, ExpressionRow], dict[int, str]]:
+    """:func:`ratebank.services.evans_polanyi.relation_activation_energies`, whose module
+    (and the thermochemistry it reads) is loaded only when a reaction of a class has no
+    expression of its own, the only reactions a relation can give an Ea."""
+    if not any(
+        r.reaction_class is not None and all(e.origin == "collision-estimate" for e in slim[r.id])
+        for r in reactions
+    ):
+        return {}, {}
+    from ratebank.services.evans_polanyi import relation_activation_energies
+
+    return relation_activation_energies(session, reactions, slim)  # type: ignore[arg-type]
 
 
 #: The earlier estimates of a reaction that has none (one list shared by every such row).
@@ -340,26 +432,26 @@ _NONE_REPLACED: list[int] = []
 
 
 def _earlier_estimates(
-    candidates: list[_Candidate], expressions: dict[int, list[_Slim]]
+    candidates: _Candidates, expressions: dict[int, list[_Slim]]
 ) -> dict[int, list[int]]:
     """The ids of each candidate's earlier collision estimates (not recommended), which its
     new estimate replaces, by reaction id (only reactions that have some)."""
     found: dict[int, list[int]] = {}
-    for c in candidates:
+    for reaction_id in candidates.ids:
         ids = [
             e.id
-            for e in expressions[c.reaction.id]
+            for e in expressions[reaction_id]
             if e.origin == "collision-estimate" and not e.recommended
         ]
         if ids:
-            found[c.reaction.id] = ids
+            found[reaction_id] = ids
     return found
 
 
-def _refusal(rows: Sequence[EstimateRow | None], skipped: list[Skipped]) -> str:
+def _refusal(rows: Sequence[EstimateRow], skipped: list[Skipped]) -> str:
     lines = [f"{s.key}: {s.reason}" for s in skipped[:20]]
     more = len(skipped) - len(lines)
-    total = len(skipped) + sum(1 for r in rows if r is not None)
+    total = len(skipped) + len(rows)
     return (
         f"{len(skipped)} of {total} requested reaction(s) cannot be estimated, so nothing was "
         "written (keep going to store the others):\n  "
@@ -386,40 +478,65 @@ def _candidates(
     model: str,
     T_ref: float | None,
     T_range: tuple[float, float] | None,
-) -> tuple[list[_Candidate], list[Skipped]]:
+) -> tuple[_Candidates, list[Skipped]]:
     skipped: list[Skipped] = []
-    waiting: list[tuple[ReactionRow, _Slim]] = []
+    waiting: list[ReactionRow] = []
+    partials: list[_Slim] = []
     for reaction in reactions:
         own = expressions[reaction.id]
-        complete = [e for e in own if e.complete and e.origin != "collision-estimate"]
-        partial = [e for e in own if not e.complete]
-        if complete or not partial:
+        last, completed = None, False
+        for e in own:
+            if not e.complete:
+                last = e
+            elif e.origin != "collision-estimate":
+                completed = True
+        if completed or last is None:
             if named:
+                complete = [e for e in own if e.complete and e.origin != "collision-estimate"]
                 skipped.append(Skipped(reaction.key, _why_not_candidate(complete)))
             continue
-        waiting.append((reaction, partial[-1]))
-    pairs = collision_pairs(session, [_colliding(r, e) for r, e in waiting], model=model)
-    candidates: list[_Candidate] = []
-    for reaction, partial in waiting:
-        pair = _third_body_refusal(reaction, partial) or pairs[reaction.id]
-        choice = sources.choose(reaction)
-        reason = pair if isinstance(pair, str) else choice if isinstance(choice, str) else None
+        waiting.append(reaction)
+        partials.append(last)
+    pairs = collision_pair_table(
+        session, [_colliding(r, e) for r, e in zip(waiting, partials, strict=True)], model=model
+    )
+    kept: list[int] = []
+    choices: list[StericChoice] = []
+    references: list[float] = []
+    lows: list[float | None] = []
+    highs: list[float | None] = []
+    # a steric factor given by the caller is every reaction's one choice
+    given = sources.given_choice()
+    reasons = pairs.reasons
+    sqrt = math.sqrt
+    for i, reaction in enumerate(waiting):
+        partial = partials[i]
+        pair = (
+            _third_body_refusal(reaction, partial) if reaction.third_body else None
+        ) or reasons.get(i)
+        choice = given or sources.choose(reaction)
+        reason = pair if pair is not None else choice if isinstance(choice, str) else None
         if reason is not None:
             skipped.append(Skipped(reaction.key, reason))
             continue
-        assert isinstance(pair, CollisionPair) and isinstance(choice, StericChoice)
+        assert isinstance(choice, StericChoice)
         low = partial.T_min if partial.T_min is not None else (T_range[0] if T_range else None)
         high = partial.T_max if partial.T_max is not None else (T_range[1] if T_range else None)
         # no silent defaults: T_ref comes from the caller or the activation energy's range
-        reference = T_ref or (math.sqrt(low * high) if low and high else None)
-        reason = _missing_temperatures(reference, low, high, model)
-        if reason:
-            skipped.append(Skipped(reaction.key, reason))
-            continue
+        reference = T_ref or (sqrt(low * high) if low and high else None)
+        if reference is None or model == "lennard-jones":
+            reason = _missing_temperatures(reference, low, high, model)
+            if reason:
+                skipped.append(Skipped(reaction.key, reason))
+                continue
         assert reference is not None
-        candidates.append(
-            _Candidate(reaction, partial, pair, choice, reference, low, high, T_ref is not None)
-        )
+        kept.append(i)
+        choices.append(choice)
+        references.append(reference)
+        lows.append(low)
+        highs.append(high)
+    columns = (choices, references, lows, highs)
+    candidates = _Candidates.of(model, T_ref is not None, waiting, partials, pairs, kept, columns)
     return candidates, skipped
 
 
@@ -456,137 +573,281 @@ def _missing_temperatures(
     return None
 
 
-def _estimate_rows(
-    candidates: list[_Candidate], model: str, skipped: list[Skipped]
-) -> list[EstimateRow | None]:
+def _estimate_rows(candidates: _Candidates, model: str, skipped: list[Skipped]) -> EstimateRows:
     """One science call for every candidate; a candidate the model refuses is skipped."""
-    if not candidates:
-        return []
+    if not len(candidates):
+        return EstimateRows(candidates, None)
     try:
         estimates = _science(candidates, model)
     except ValueError:
         # one bad input refuses the whole array: find it by estimating one at a time
-        rows: list[EstimateRow | None] = []
-        for candidate in candidates:
+        keep: list[int] = []
+        for i in range(len(candidates)):
             try:
-                rows.extend(_estimate_rows_of([candidate], _science([candidate], model), model))
+                _science(candidates.take([i]), model)
             except ValueError as exc:
-                skipped.append(Skipped(candidate.reaction.key, f"collision model failed: {exc}"))
-                rows.append(None)
-        return rows
-    return list(_estimate_rows_of(candidates, estimates, model))
+                skipped.append(Skipped(candidates.keys[i], f"collision model failed: {exc}"))
+            else:
+                keep.append(i)
+        candidates = candidates.take(keep)
+        if not keep:
+            return EstimateRows(candidates, None)
+        estimates = _science(candidates, model)
+    return EstimateRows(candidates, estimates)
 
 
-def _science(candidates: list[_Candidate], model: str) -> CollisionEstimate:
-    columns = PairColumns.of([c.pair for c in candidates])
+def _science(candidates: _Candidates, model: str) -> CollisionEstimate:
+    columns = PairColumns.of_partners(candidates.a, candidates.b, candidates.identical)
     arguments = columns.rate_arguments(model)
     ranged = model == "lennard-jones"
     return collision_theory_estimate(
-        np.array([c.partial.Ea for c in candidates]),
-        np.array([c.T_ref for c in candidates]),
-        np.array([c.choice.value for c in candidates]),
-        T_min=np.array([c.T_min for c in candidates], dtype=float) if ranged else None,
-        T_max=np.array([c.T_max for c in candidates], dtype=float) if ranged else None,
+        candidates.Ea,
+        candidates.T_ref,
+        np.array([c.value for c in candidates.choices], dtype=float),
+        T_min=candidates.T_min if ranged else None,
+        T_max=candidates.T_max if ranged else None,
         **arguments,
     )
 
 
-def _estimate_rows_of(
-    candidates: list[_Candidate], estimates: CollisionEstimate, model: str
-) -> list[EstimateRow]:
-    rows = []
-    lists = {
-        name: _shared_values(np.asarray(getattr(estimates, name)))
-        for name in estimates.__dataclass_fields__
-    }
-    for i, c in enumerate(candidates):
-        T_min, T_max, deviation = c.T_min, c.T_max, None
-        if model != "hard-sphere":
+def _number(value: float) -> float | None:
+    """A column's number as the report gives it (NaN: none)."""
+    return None if math.isnan(value) else value
+
+
+def _numbers(values: np.ndarray) -> list[float | None]:
+    """A column's numbers as the report gives them (NaN: none)."""
+    return [None if x != x else x for x in values.tolist()]
+
+
+#: The estimated diameters of a pair with none (one list shared by the rows of a slice).
+_NO_ESTIMATED: list[str] = []
+
+
+class _SliceColumns(NamedTuple):
+    """The derived numbers of a slice of the estimates, made once for its records and
+    provenance."""
+
+    T_min: list[float | None]
+    T_max: list[float | None]
+    uncertainty_factor: list[float]
+    estimated_diameters: list[list[str]]
+
+
+class EstimateRows(Sequence[EstimateRow]):
+    """The report's rows, kept as the estimate's columns: each :class:`EstimateRow` is made
+    when it is asked for (a mechanism's estimate holds no object per reaction)."""
+
+    def __init__(self, candidates: _Candidates, estimates: CollisionEstimate | None) -> None:
+        self._c = candidates
+        self._e = estimates
+        #: the new expressions' ids, once written
+        self.expression_ids: list[int] | None = None
+        #: the earlier estimates each reaction's new one replaced, once written
+        self.replaced: dict[int, list[int]] = {}
+
+    def __len__(self) -> int:
+        return len(self._c) if self._e is not None else 0
+
+    def __getitem__(self, index):  # type: ignore[no-untyped-def,override]
+        if isinstance(index, slice):
+            return [self.row(i) for i in range(*index.indices(len(self)))]
+        n = len(self)
+        if index < 0:
+            index += n
+        if not 0 <= index < n:
+            raise IndexError("estimate row index out of range")
+        return self.row(index)
+
+    def __iter__(self):  # type: ignore[no-untyped-def]
+        return (self.row(i) for i in range(len(self)))
+
+    def __eq__(self, other: object) -> bool:
+        if isinstance(other, EstimateRows | list | tuple):
+            return list(self) == list(other)
+        return NotImplemented
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"EstimateRows({len(self)} rows)"
+
+    def uncertainty_factor(self, i: int) -> float:
+        """The steric factor's uncertainty, widened by a relation's spread when the Ea came
+        from one (only such a partial is kept whole)."""
+        c = self._c
+        factor = float(c.choices[i].uncertainty_factor)
+        if i not in c.special:
+            return factor
+        from ratebank.services.evans_polanyi import combined_uncertainty_factor
+
+        return combined_uncertainty_factor(factor, c.special[i], float(c.T_ref[i]))
+
+    def estimated_diameters(self, i: int) -> list[str]:
+        c = self._c
+        pair = CollisionPair(c.ids[i], c.keys[i], c.a[i], c.b[i], c.identical[i])
+        return pair.estimated_diameters
+
+    def range(self, i: int) -> tuple[float | None, float | None]:
+        """The estimate's T_min and T_max (a fitted form's range holds T_ref)."""
+        c = self._c
+        T_min, T_max = _number(float(c.T_min[i])), _number(float(c.T_max[i]))
+        if c.model != "hard-sphere":
             assert T_min is not None and T_max is not None
-            T_min, T_max = min(T_min, c.T_ref), max(T_max, c.T_ref)
-            deviation = lists["max_relative_deviation"][i]
-        rows.append(
-            EstimateRow(
-                key=c.reaction.key,
-                equation=c.reaction.equation,
-                A=lists["A"][i],
-                n=lists["n"][i],
-                Ea=lists["Ea"][i],
-                activation_energy=float(c.partial.Ea),
-                T_ref=float(c.T_ref),
-                T_min=T_min,
-                T_max=T_max,
-                steric_factor=float(c.choice.value),
-                steric_rule=c.choice.rule,
-                uncertainty_factor=combined_uncertainty_factor(
-                    float(c.choice.uncertainty_factor), c.partial, c.T_ref
-                ),
-                collision_model=model,
-                collision_rate_at_T_ref=lists["collision_rate_at_T_ref"][i],
-                threshold_energy=lists["threshold_energy"][i],
-                collision_activation_energy=lists["collision_activation_energy"][i],
-                estimated_diameters=c.pair.estimated_diameters,
-                threshold_shortfall=lists["threshold_shortfall"][i],
-                max_fit_deviation=deviation,
-                replaced=_NONE_REPLACED,
-                activation_energy_rule=c.partial.provenance.get("evans_polanyi", {}).get("rule"),
-            )
+            T_ref = float(c.T_ref[i])
+            return min(T_min, T_ref), max(T_max, T_ref)
+        return T_min, T_max
+
+    def columns(self, part: range) -> _SliceColumns:
+        """The derived numbers of the rows at ``part`` (a slice being written) as lists."""
+        c = self._c
+        at = slice(part.start, part.stop)
+        T_min, T_max = c.T_min[at], c.T_max[at]
+        if c.model != "hard-sphere":
+            T_min, T_max = np.minimum(T_min, c.T_ref[at]), np.maximum(T_max, c.T_ref[at])
+        factors = [float(choice.uncertainty_factor) for choice in c.choices[at]]
+        for i in part:
+            if i in c.special:
+                factors[i - part.start] = self.uncertainty_factor(i)
+        diameters: dict[tuple[int, int], list[str]] = {}
+        estimated = []
+        for a, b, identical in zip(c.a[at], c.b[at], c.identical[at], strict=True):
+            if not (a.diameter_estimated or b.diameter_estimated):
+                estimated.append(_NO_ESTIMATED)
+                continue
+            found = diameters.get((id(a), id(b)))
+            if found is None:
+                pair = CollisionPair(0, "", a, b, identical)
+                found = diameters[(id(a), id(b))] = pair.estimated_diameters
+            estimated.append(found)
+        return _SliceColumns(_numbers(T_min), _numbers(T_max), factors, estimated)
+
+    def row(self, i: int) -> EstimateRow:
+        c, e = self._c, self._e
+        assert e is not None
+        T_min, T_max = self.range(i)
+        ids = self.expression_ids
+        choice = c.choices[i]
+        return EstimateRow(
+            key=c.keys[i],
+            equation=c.equations[i],
+            A=float(e.A[i]),
+            n=float(e.n[i]),
+            Ea=float(e.Ea[i]),
+            activation_energy=float(c.Ea[i]),
+            T_ref=float(c.T_ref[i]),
+            T_min=T_min,
+            T_max=T_max,
+            steric_factor=float(choice.value),
+            steric_rule=choice.rule,
+            uncertainty_factor=self.uncertainty_factor(i),
+            collision_model=c.model,
+            collision_rate_at_T_ref=float(e.collision_rate_at_T_ref[i]),
+            threshold_energy=float(e.threshold_energy[i]),
+            collision_activation_energy=float(e.collision_activation_energy[i]),
+            estimated_diameters=self.estimated_diameters(i),
+            threshold_shortfall=float(e.threshold_shortfall[i]),
+            max_fit_deviation=(
+                float(e.max_relative_deviation[i]) if c.model != "hard-sphere" else None
+            ),
+            expression_id=ids[i] if ids is not None else None,
+            replaced=self.replaced.get(c.ids[i], _NONE_REPLACED),
+            activation_energy_rule=c.partial(i).provenance.get("evans_polanyi", {}).get("rule"),
         )
-    return rows
 
 
-def _shared_values(values: np.ndarray) -> list[float]:
-    """``values`` as a list of floats; a column of few distinct values (n, a shortfall
-    that is mostly 0) shares one float object per value instead of one per row."""
-    found = values.tolist()
-    distinct = np.unique(values)
-    if len(distinct) > 16:
+def _distinct(*columns: list[PartnerData]) -> list[PartnerData]:
+    """The partner objects of ``columns``, each once, in order of appearance (by identity:
+    the pairs share one object per species)."""
+    found: dict[int, PartnerData] = {}
+    for column in columns:
+        for partner in column:
+            found.setdefault(id(partner), partner)
+    return list(found.values())
+
+
+class _Partners:
+    """The partners of a run's estimates, each one's record kept once by species name in the
+    run (:data:`ratebank.store.runs.PARTNERS`); a row names its partners."""
+
+    def __init__(self, candidates: _Candidates) -> None:
+        self.records: dict[str, dict[str, object]] = {}
+        seen: dict[str, PartnerData] = {}
+        #: names under which different records were met (a row then keeps its records whole)
+        self.ambiguous: set[str] = set()
+        self._pairs: dict[tuple[int, int, bool], dict[str, object]] = {}
+        for partner in _distinct(candidates.a, candidates.b):
+            known = seen.get(partner.name)
+            if known is None:
+                seen[partner.name] = partner
+                self.records[partner.name] = partner.as_record()
+            elif self.records[partner.name] != partner.as_record():
+                self.ambiguous.add(partner.name)
+
+    def pair(self, a: PartnerData, b: PartnerData, identical: bool) -> dict[str, object]:
+        """The pair's record as a row keeps it (one, read only, per pair of partners)."""
+        found = self._pairs.get((id(a), id(b), identical))
+        if found is not None:
+            return found
+        if a.name in self.ambiguous or b.name in self.ambiguous:
+            found = {"identical": identical, "a": a.as_record(), "b": b.as_record()}
+        else:
+            found = {"identical": identical, "a": a.name, "b": b.name}
+        self._pairs[(id(a), id(b), identical)] = found
         return found
-    one = {v: v for v in distinct.tolist()}
-    return [one.get(v, v) for v in found]
 
 
 def _provenance_columns(
-    written: list[tuple[_Candidate, EstimateRow]], partners: dict
+    rows: EstimateRows, part: range, partners: _Partners, derived: _SliceColumns
 ) -> dict[str, list[Any]]:
-    """Each provenance field of the estimates as a column, in the record's order."""
-    pairs = [c for c, _ in written]
-    rows = [row for _, row in written]
-    model = rows[0].collision_model
-    shortfall = [row.threshold_shortfall for row in rows]
+    """Each provenance field of the estimates at ``part`` as a column, in the record's
+    order."""
+    c, e = rows._c, rows._e
+    assert e is not None
+    model = c.model
+    size = len(part)
+    at = slice(part.start, part.stop)
+    shortfall = e.threshold_shortfall[at].tolist()
+    choices = c.choices[at]
+    special = c.special
+    relations = [special[i].provenance.get("evans_polanyi") if i in special else None for i in part]
     return {
-        "method": ["simple collision theory times a steric factor"] * len(rows),
-        "collision_model": [row.collision_model for row in rows],
-        "steric_factor": [row.steric_factor for row in rows],
-        "steric_rule": [c.choice.rule for c in pairs],
-        "steric_detail": [c.choice.detail for c in pairs],
-        "uncertainty_factor": [row.uncertainty_factor for row in rows],
-        "activation_energy_J_per_mol": [row.activation_energy for row in rows],
-        "activation_energy_expression_id": [c.partial.id for c in pairs],
-        "activation_energy_from_relation": [
-            c.partial.provenance.get("evans_polanyi") for c in pairs
-        ],
-        "threshold_energy_J_per_mol": [row.threshold_energy for row in rows],
+        "method": ["simple collision theory times a steric factor"] * size,
+        "collision_model": [model] * size,
+        "steric_factor": [float(choice.value) for choice in choices],
+        "steric_rule": [choice.rule for choice in choices],
+        "steric_detail": [choice.detail for choice in choices],
+        "uncertainty_factor": derived.uncertainty_factor,
+        "activation_energy_J_per_mol": c.Ea[at].tolist(),
+        "activation_energy_expression_id": c.partial_ids[at],
+        "activation_energy_from_relation": relations,
+        "threshold_energy_J_per_mol": e.threshold_energy[at].tolist(),
         "threshold_energy_held_at_zero": [value > 0 for value in shortfall],
         "activation_energy_below_collision_rate_J_per_mol": shortfall,
-        "collision_activation_energy_J_per_mol": [row.collision_activation_energy for row in rows],
-        "T_ref": [row.T_ref for row in rows],
-        "T_ref_from": [
-            "given by the user" if c.T_ref_given else "middle of the valid range" for c in pairs
+        "collision_activation_energy_J_per_mol": e.collision_activation_energy[at].tolist(),
+        "T_ref": c.T_ref[at].tolist(),
+        "T_ref_from": ["given by the user" if c.T_ref_given else "middle of the valid range"]
+        * size,
+        "valid_range_stated": [
+            low is not None and high is not None
+            for low, high in zip(derived.T_min, derived.T_max, strict=True)
         ],
-        "valid_range_stated": [row.T_min is not None and row.T_max is not None for row in rows],
-        "collision_rate_at_T_ref_SI": [row.collision_rate_at_T_ref for row in rows],
-        "self_reaction": [c.pair.identical for c in pairs],
-        "partners": [c.pair.as_record(cache=partners) for c in pairs],
-        "estimated_diameters": [row.estimated_diameters for row in rows],
-        "form": ["n = 1/2 exactly" if model == "hard-sphere" else "modified-Arrhenius fit"]
-        * len(rows),
-        "max_relative_deviation_of_fit": [row.max_fit_deviation for row in rows],
+        "collision_rate_at_T_ref_SI": e.collision_rate_at_T_ref[at].tolist(),
+        "self_reaction": c.identical[at],
+        "partners": [
+            partners.pair(a, b, identical)
+            for a, b, identical in zip(c.a[at], c.b[at], c.identical[at], strict=True)
+        ],
+        "estimated_diameters": derived.estimated_diameters,
+        "form": ["n = 1/2 exactly" if model == "hard-sphere" else "modified-Arrhenius fit"] * size,
+        "max_relative_deviation_of_fit": (
+            e.max_relative_deviation[at].tolist() if model != "hard-sphere" else [None] * size
+        ),
         "estimated_part": [
-            f"k_inf of a falloff; k0 and broadening kept from expression {c.partial.id}"
-            if c.partial.form == "falloff"
+            f"k_inf of a falloff; k0 and broadening kept from expression {c.partial_ids[i]}"
+            if c.forms[i] == "falloff"
             else None
-            for c in pairs
+            for i in part
         ],
     }
 
@@ -601,30 +862,30 @@ def _split_run(
     differs from it in any row of this slice.
     """
     if common is None:
-        common = {k: v[0] for k, v in columns.items() if all(x == v[0] for x in v)}
-    varying = [k for k, v in columns.items() if k not in common or any(x != common[k] for x in v)]
+        common = {k: v[0] for k, v in columns.items() if v.count(v[0]) == len(v)}
+    varying = [k for k, v in columns.items() if k not in common or v.count(common[k]) != len(v)]
     rows = zip(*(columns[k] for k in varying), strict=True)
     own = [dict(zip(varying, values, strict=True)) for values in rows]
     return common, own or [{} for _ in next(iter(columns.values()))]
 
 
-def _reference(c: _Candidate, row: EstimateRow) -> str:
-    what = "k_inf from " if c.partial.form == "falloff" else ""
+def _reference(form: str | None, model: str, choice: StericChoice) -> str:
+    what = "k_inf from " if form == "falloff" else ""
     return (
-        f"{what}collision theory ({row.collision_model}) x steric factor "
-        f"{row.steric_factor:.3g} ({row.steric_rule})"
+        f"{what}collision theory ({model}) x steric factor "
+        f"{float(choice.value):.3g} ({choice.rule})"
     )
 
 
-def _form_fields(c: _Candidate) -> dict[str, Any]:
+def _form_fields(partial: _Slim, third_body: bool) -> dict[str, Any]:
     """A falloff estimate keeps the curated k0 and broadening of the expression it completes."""
-    e = c.partial.full
+    e = partial.full
     if e is None or e.form != "falloff":
         return {}
     assert e.A_low is not None
     return {
         "form": "falloff",
-        "third_body": c.reaction.third_body,
+        "third_body": third_body,
         "low_pressure": ArrheniusTerm(e.A_low, e.n_low or 0.0, e.Ea_low or 0.0),
         "broadening": Broadening(
             e.broadening or "none", e.Fc, e.N, e.troe_alpha, e.troe_T3, e.troe_T1, e.troe_T2
@@ -632,34 +893,37 @@ def _form_fields(c: _Candidate) -> dict[str, Any]:
     }
 
 
-def _write(
-    session: Session,
-    written: list[tuple[_Candidate, EstimateRow]],
-    earlier: dict[int, list[int]],
-) -> None:
+def _write(session: Session, rows: EstimateRows, earlier: dict[int, list[int]]) -> None:
+    c = rows._c
     # store the diameters estimated for the partners actually used, flagged
-    store_estimated_partners(session, [c.pair for c, _ in written])
-    replaced: list[int] = []
-    for c, row in written:
-        row.replaced = earlier.get(c.reaction.id, _NONE_REPLACED)
-        replaced.extend(row.replaced)
-    remove_expressions(session, replaced)
-    partners: dict[int, dict[str, object]] = {}
+    store_estimated_partners(session, [], used=_distinct(c.a, c.b))
+    rows.replaced = {i: earlier[i] for i in c.ids if i in earlier}
+    remove_expressions(session, [e for i in c.ids for e in earlier.get(i, ())])
     # the provenance every estimate of this run shares is stored once (the run's, taken
-    # from its first slice); the rows are written a slice at a time, so that their records,
-    # provenance and history are never all in memory at once
+    # from its first slice, with each partner's record by name); the rows are written a
+    # slice at a time, so that their records, provenance and history are never all in
+    # memory at once
+    partners = _Partners(c)
     common: dict[str, Any] | None = None
     run_id = None
-    for start in range(0, len(written), _WRITE_SLICE):
-        part = written[start : start + _WRITE_SLICE]
-        common, own = _split_run(_provenance_columns(part, partners), common)
+    ids: list[int] = []
+    for start in range(0, len(rows), _WRITE_SLICE):
+        part = range(start, min(start + _WRITE_SLICE, len(rows)))
+        derived = rows.columns(part)
+        common, own = _split_run(_provenance_columns(rows, part, partners, derived), common)
         if run_id is None:
-            run_id = write_run(session, "estimate", common)
-        ids = write_expressions(
-            session, _records(part, own), action="estimate", history=_history(part), run_id=run_id
+            stored = {**common, PARTNERS: partners.records} if partners.records else common
+            run_id = write_run(session, "estimate", stored)
+        ids.extend(
+            write_expressions(
+                session,
+                _records(rows, part, own, derived),
+                action="estimate",
+                history=_history(rows, part),
+                run_id=run_id,
+            )
         )
-        for (_, row), new_id in zip(part, ids, strict=True):
-            row.expression_id = new_id
+    rows.expression_ids = ids
 
 
 #: Estimates written at a time.
@@ -667,38 +931,51 @@ _WRITE_SLICE = 2_000
 
 
 def _records(
-    part: list[tuple[_Candidate, EstimateRow]], own: list[dict[str, Any]]
+    rows: EstimateRows, part: range, own: list[dict[str, Any]], derived: _SliceColumns
 ) -> list[ExpressionRecord]:
-    return [
-        ExpressionRecord(
-            reaction_id=c.reaction.id,
-            origin="collision-estimate",
-            A=row.A,
-            n=row.n,
-            Ea=row.Ea,
-            T_min=row.T_min,
-            T_max=row.T_max,
-            uncertainty_factor=row.uncertainty_factor,
-            uncertainty_g=0.0,
-            reference=_reference(c, row),
-            provenance=provenance,
-            **_form_fields(c),
+    c, e = rows._c, rows._e
+    assert e is not None
+    at = slice(part.start, part.stop)
+    A, n, Ea = e.A[at].tolist(), e.n[at].tolist(), e.Ea[at].tolist()
+    special = c.special
+    references: dict[tuple[int, str | None], str] = {}
+    records = []
+    for j, (i, provenance) in enumerate(zip(part, own, strict=True)):
+        choice, form = c.choices[i], c.forms[i]
+        reference = references.get((id(choice), form))
+        if reference is None:
+            reference = references[(id(choice), form)] = _reference(form, c.model, choice)
+        records.append(
+            ExpressionRecord(
+                reaction_id=c.ids[i],
+                origin="collision-estimate",
+                A=A[j],
+                n=n[j],
+                Ea=Ea[j],
+                T_min=derived.T_min[j],
+                T_max=derived.T_max[j],
+                uncertainty_factor=derived.uncertainty_factor[j],
+                uncertainty_g=0.0,
+                reference=reference,
+                provenance=provenance,
+                **(_form_fields(special[i], c.third_body[i]) if i in special else {}),
+            )
         )
-        for (c, row), provenance in zip(part, own, strict=True)
-    ]
+    return records
 
 
-def _history(part: list[tuple[_Candidate, EstimateRow]]) -> list[tuple[str, dict[str, Any]]]:
+def _history(rows: EstimateRows, part: range) -> list[tuple[str, dict[str, Any]]]:
     """One history entry per estimate (the write path adds its expression and run)."""
+    c = rows._c
     return [
         (
-            row.key,
+            c.keys[i],
             {
-                "model": row.collision_model,
-                "steric_factor": row.steric_factor,
-                "steric_rule": row.steric_rule,
-                "replaced": row.replaced,
+                "model": c.model,
+                "steric_factor": float(c.choices[i].value),
+                "steric_rule": c.choices[i].rule,
+                "replaced": rows.replaced.get(c.ids[i], _NONE_REPLACED),
             },
         )
-        for _, row in part
+        for i in part
     ]

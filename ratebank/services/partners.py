@@ -8,7 +8,7 @@ estimating command stores it on the species with its method.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, replace
 from functools import cached_property
 from typing import NamedTuple
@@ -20,6 +20,7 @@ from ratebank.errors import BadInputError, DiameterError
 from ratebank.science import diameters
 from ratebank.science.collision import COLLISION_MODELS
 from ratebank.store import listings, queries
+from ratebank.store.estimate_reads import reactant_table
 from ratebank.store.listings import SpeciesDetail, SpeciesSummary
 from ratebank.store.partner_data import store_species_estimates
 from ratebank.store.queries import ReactionRow, SpeciesRow
@@ -144,6 +145,50 @@ class PairColumns:
             column("b", "polarizability"),
             column("a", "ionization_energy"),
             column("b", "ionization_energy"),
+        )
+
+    @classmethod
+    def of_partners(
+        cls,
+        a: Sequence[PartnerData],
+        b: Sequence[PartnerData],
+        identical: Sequence[bool],
+    ) -> PairColumns:
+        """The columns of the pairs (``a[i]``, ``b[i]``), read once per partner: pairs share
+        their partners' objects (:func:`collision_pair_table`), so each partner's values are
+        read once and spread by index."""
+        position: dict[int, int] = {}
+        partners: list[PartnerData] = []
+
+        def indices(side: Sequence[PartnerData]) -> np.ndarray:
+            found = np.empty(len(side), dtype=np.intp)
+            for i, partner in enumerate(side):
+                at = position.get(id(partner))
+                if at is None:
+                    at = position[id(partner)] = len(partners)
+                    partners.append(partner)
+                found[i] = at
+            return found
+
+        index_a, index_b = indices(a), indices(b)
+
+        def column(index: np.ndarray, name: str) -> np.ndarray:
+            values = [getattr(p, name) for p in partners]
+            table = np.array([np.nan if v is None else v for v in values], dtype=float)
+            return table[index] if len(table) else np.empty(len(index), dtype=float)
+
+        return cls(
+            column(index_a, "diameter"),
+            column(index_b, "diameter"),
+            column(index_a, "molar_mass"),
+            column(index_b, "molar_mass"),
+            column(index_a, "well_depth"),
+            column(index_b, "well_depth"),
+            np.array(identical, dtype=bool).reshape(len(index_a)),
+            column(index_a, "polarizability"),
+            column(index_b, "polarizability"),
+            column(index_a, "ionization_energy"),
+            column(index_b, "ionization_energy"),
         )
 
     @property
@@ -285,6 +330,64 @@ def check_model(model: str) -> None:
         )
 
 
+@dataclass(frozen=True)
+class PairTable:
+    """The collision pairs of many reactions as columns, by the reactions' positions: the two
+    partners (one shared object per species), whether they are one species, and why a
+    reaction has no pair (``a`` and ``b`` are None there). No object per reaction."""
+
+    a: list[PartnerData | None]
+    b: list[PartnerData | None]
+    identical: list[bool]
+    reasons: dict[int, str]
+
+
+def collision_pair_table(
+    session: Session, reactions: Sequence[ReactionRow], *, model: str = "hard-sphere"
+) -> PairTable:
+    """The collision pair of each bimolecular reaction as columns (:class:`PairTable`), or
+    the reason there is none.
+
+    Missing diameters and well depths are estimated here but not stored (see
+    :func:`store_estimated_partners`).
+    """
+    check_model(model)
+    # the reactants as two columns; each reaction's first two found by bisection, as arrays
+    ids = np.array([r.id for r in reactions], dtype=np.int64)
+    by_reaction, by_species = reactant_table(session, ids)
+    species = queries.species_by_id(session, set(np.unique(by_species).tolist()))
+    first = np.searchsorted(by_reaction, ids, side="left")
+    counts = np.searchsorted(by_reaction, ids, side="right") - first
+    last = max(len(by_species) - 1, 0)
+    a_ids = by_species[np.minimum(first, last)].tolist() if len(by_species) else [0] * len(ids)
+    b_ids = by_species[np.minimum(first + 1, last)].tolist() if len(by_species) else a_ids
+    identical_flags = (counts == 1).tolist()
+    del ids, first, counts
+    completed: dict[int, PartnerData | str] = {}
+    column_a: list[PartnerData | None] = [None] * len(reactions)
+    column_b: list[PartnerData | None] = [None] * len(reactions)
+    reasons: dict[int, str] = {}
+    for i, reaction in enumerate(reactions):
+        if not reaction.bimolecular:
+            kind = "a third-body reaction" if reaction.third_body else f"of order {reaction.order}"
+            reasons[i] = f"not bimolecular ({kind}); collision theory does not apply"
+            continue
+        a_id = a_ids[i]
+        b_id = a_id if identical_flags[i] else b_ids[i]
+        a = completed.get(a_id)
+        if a is None:
+            a = completed[a_id] = _completed(species[a_id], model)
+        b = completed.get(b_id)
+        if b is None:
+            b = completed[b_id] = _completed(species[b_id], model)
+        if isinstance(a, str) or isinstance(b, str):
+            reasons[i] = a if isinstance(a, str) else b  # type: ignore[assignment]
+            continue
+        column_a[i] = a
+        column_b[i] = b
+    return PairTable(column_a, column_b, identical_flags, reasons)
+
+
 def collision_pairs(
     session: Session, reactions: Sequence[ReactionRow], *, model: str = "hard-sphere"
 ) -> dict[int, CollisionPair | str]:
@@ -293,54 +396,32 @@ def collision_pairs(
     Missing diameters and well depths are estimated here but not stored (see
     :func:`store_estimated_partners`).
     """
-    check_model(model)
-    # the reactants as two columns; each reaction's first two found by bisection, as arrays
-    reaction_column, species_column = queries.reactant_columns(session, [r.id for r in reactions])
-    by_reaction = np.frombuffer(reaction_column, dtype=np.int64)
-    by_species = np.frombuffer(species_column, dtype=np.int64)
-    species = queries.species_by_id(session, set(np.unique(by_species).tolist()))
-    ids = np.array([r.id for r in reactions], dtype=np.int64)
-    first = np.searchsorted(by_reaction, ids, side="left")
-    counts = np.searchsorted(by_reaction, ids, side="right") - first
-    last = max(len(by_species) - 1, 0)
-    a_ids = by_species[np.minimum(first, last)].tolist() if len(by_species) else [0] * len(ids)
-    b_ids = by_species[np.minimum(first + 1, last)].tolist() if len(by_species) else a_ids
-    identical_flags = (counts == 1).tolist()
-    completed: dict[int, PartnerData | str] = {}
+    table = collision_pair_table(session, reactions, model=model)
     result: dict[int, CollisionPair | str] = {}
     for i, reaction in enumerate(reactions):
-        if not reaction.bimolecular:
-            kind = "a third-body reaction" if reaction.third_body else f"of order {reaction.order}"
-            result[reaction.id] = f"not bimolecular ({kind}); collision theory does not apply"
+        reason = table.reasons.get(i)
+        if reason is not None:
+            result[reaction.id] = reason
             continue
-        identical = identical_flags[i]
-        pair_ids = (a_ids[i], a_ids[i]) if identical else (a_ids[i], b_ids[i])
-        partners = []
-        for sid in pair_ids:
-            if sid not in completed:
-                completed[sid] = _completed(species[sid], model)
-            partners.append(completed[sid])
-        problem = next((p for p in partners if isinstance(p, str)), None)
-        if problem is not None:
-            result[reaction.id] = problem
-            continue
-        a, b = partners
-        assert isinstance(a, PartnerData) and isinstance(b, PartnerData)
-        result[reaction.id] = CollisionPair(reaction.id, reaction.key, a, b, identical)
+        a, b = table.a[i], table.b[i]
+        assert a is not None and b is not None
+        result[reaction.id] = CollisionPair(reaction.id, reaction.key, a, b, table.identical[i])
     return result
 
 
-def store_estimated_partners(session: Session, pairs: Sequence[CollisionPair]) -> None:
-    """Write the estimated diameters and well depths these pairs use onto their species.
+def store_estimated_partners(
+    session: Session, pairs: Sequence[CollisionPair], *, used: Iterable[PartnerData] = ()
+) -> None:
+    """Write the estimated diameters and well depths these pairs (and the partners ``used``)
+    use onto their species.
 
     Only species that have no value yet are changed; each change is recorded
     in the history with the correlation that produced it.
     """
     partners: dict[str, PartnerData] = {}
-    for pair in pairs:
-        for partner in (pair.a, pair.b):
-            if partner.diameter_estimated or partner.well_depth_estimated:
-                partners[partner.name] = partner
+    for partner in (*(p for pair in pairs for p in (pair.a, pair.b)), *used):
+        if partner.diameter_estimated or partner.well_depth_estimated:
+            partners[partner.name] = partner
     stored = queries.species_by_name(session, partners)
     for name, partner in sorted(partners.items()):
         species = stored.get(name)

@@ -120,6 +120,15 @@ class RunCache:
                 self._partners[run_id] = partners
             self._runs[run_id] = common
 
+    def ids(self) -> list[int]:
+        """The runs read."""
+        return list(self._runs)
+
+    def common(self, run_id: int) -> dict[str, Any]:
+        """The provenance run ``run_id`` (read before) gives its rows, its partners' records
+        aside."""
+        return self._runs.get(run_id, {})
+
     def full(self, own: Any, run_id: int | None) -> dict[str, Any]:
         """The full provenance of a row: its run's part updated by its ``own``."""
         own = decoded(own)

@@ -8,7 +8,7 @@ from helpers.cli import run, write
 
 import ratebank
 from ratebank.services import estimation
-from ratebank.store import queries
+from ratebank.store import estimate_reads, queries
 from ratebank.store.listings import expression_summaries
 from ratebank.store.models import Expression, ProvenanceRun
 from ratebank.store.records import expression_for_edit
@@ -157,6 +157,7 @@ def test_estimates_read_in_one_pass_are_those_read_by_ids(thousand, monkeypatch)
 
     by_ids, first = estimated()
     monkeypatch.setattr(queries, "_STREAM_FROM", 0)
+    monkeypatch.setattr(estimate_reads, "EXPRESSIONS_WHOLE_FROM", 0)
     streamed, second = estimated()
     assert len(first) == 1000 and first == second  # the whole provenance, run's part included
     assert [(r.key, r.A, r.Ea, r.uncertainty_factor) for r in streamed.rows] == [
@@ -164,3 +165,49 @@ def test_estimates_read_in_one_pass_are_those_read_by_ids(thousand, monkeypatch)
     ]
     assert streamed.rows[0].replaced == [by_ids.rows[0].expression_id]
     assert all(len(r.replaced) == 1 for r in streamed.rows)
+
+
+def test_a_run_keeps_each_partner_record_once_and_rows_name_their_partners(thousand):
+    """The partners' records are the run's, by species name; a row names its partners, and
+    its provenance read back holds the records in their place."""
+    from ratebank.services.store_access import open_store
+    from ratebank.store.runs import PARTNERS
+
+    store = open_store(thousand, author="tester")
+    try:
+        with store.session(write=True) as session:
+            report = estimation.estimate(session, steric=0.1)
+        row = report.rows[5]
+        with store.session() as session:
+            stored = session.get(Expression, row.expression_id)
+            run_row = session.get(ProvenanceRun, stored.run_id)
+            records = run_row.content[PARTNERS]
+            assert set(records) == {
+                f"C{x}H{y}" for x in range(1, N_X + 1) for y in range(2, N_Y + 2)
+            } | {"OH"}
+            named = stored.provenance["partners"]
+            assert {named["a"], named["b"]} == set(row.equation.split(" -> ")[0].split(" + "))
+            whole = queries.expression(session, row.expression_id).provenance
+        assert whole["partners"] == {
+            "identical": False, "a": records[named["a"]], "b": records[named["b"]]
+        }  # fmt: skip
+        assert whole["partners"]["a"]["species"] == named["a"]
+        assert PARTNERS not in whole
+    finally:
+        store.close()
+
+
+def test_the_report_rows_read_as_a_list(thousand):
+    """The report's rows (made from the estimate's columns as they are asked for) index,
+    slice, iterate and compare as a list of rows."""
+    with ratebank.open(thousand, author="tester") as store:
+        report = store.estimate(steric=0.1)
+    rows = list(report.rows)
+    assert len(rows) == len(report.rows) == 1000
+    assert report.rows[-1] == rows[-1] and report.rows[0] == rows[0]
+    assert report.rows[10:13] == rows[10:13]
+    assert report.rows == rows and report.rows != rows[:-1]
+    assert [r.key for r in rows] == sorted(_keys())
+    assert len({r.expression_id for r in rows}) == 1000
+    with pytest.raises(IndexError):
+        report.rows[1000]
