@@ -61,7 +61,7 @@ def expressions_of_batch(
     The ids go to the database as ``IN`` lists, so the reaction-id index finds the
     rows: a read per batch costs the batch's rows, not the store's.
     """
-    columns = ", ".join(queries._sql_column(c) for c in queries._EXPRESSION_COLUMNS)
+    columns = ", ".join(queries._sql_column(c) for c in queries.EXPRESSION_COLUMNS)
     query = (
         f"SELECT {columns} FROM expression "
         f"WHERE reaction_id IN ({{marks}}) AND {EXPRESSION_IN_USE_SQL}"

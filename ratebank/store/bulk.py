@@ -8,7 +8,7 @@ session's own connection, inside the session's transaction.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from typing import Any
 
 from sqlalchemy.orm import Session
@@ -214,6 +214,17 @@ def fetch_all(session: Session, query: Any) -> list[tuple[Any, ...]]:
     The query is compiled with its values inline, so it must carry no values
     from outside the program (keys, names): only ids and constants.
     """
+    rows: list[tuple[Any, ...]] = []
+    for batch in fetch_batches(session, query, size=None):
+        rows.extend(batch)
+    return rows
+
+
+def fetch_batches(
+    session: Session, query: Any, size: int | None = 2_000
+) -> Iterator[list[tuple[Any, ...]]]:
+    """The rows of a Core ``query`` through the raw driver, ``size`` at a time (all at
+    once for None); ids and constants only, as for :func:`fetch_all`."""
     connection = session.connection()
     compiled = query.compile(dialect=connection.dialect, compile_kwargs={"literal_binds": True})
     raw = connection.connection.dbapi_connection
@@ -221,6 +232,10 @@ def fetch_all(session: Session, query: Any) -> list[tuple[Any, ...]]:
     cursor = raw.cursor()
     try:
         cursor.execute(str(compiled))
-        return cursor.fetchall()
+        if size is None:
+            yield cursor.fetchall()
+            return
+        while batch := cursor.fetchmany(size):
+            yield batch
     finally:
         cursor.close()

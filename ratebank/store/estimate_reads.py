@@ -3,16 +3,17 @@ object per row."""
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from typing import Any
 
 import numpy as np
 from sqlalchemy import null, select
 from sqlalchemy.orm import Session
 
+from ratebank.store.bulk import fetch_batches
 from ratebank.store.in_use import expression_in_use
 from ratebank.store.models import ORIGINS, Expression, ProvenanceRun
-from ratebank.store.queries import FORM_COLUMNS, ExpressionRow, reactant_columns
+from ratebank.store.queries import EXPRESSION_COLUMNS, ExpressionRow, reactant_columns
 from ratebank.store.runs import RunCache
 
 #: From this many reactions on, the reactants are read in one pass over the table (tens
@@ -54,27 +55,10 @@ def reactant_table(
 
 #: The columns of an expression an estimate reads, in :class:`ExpressionRow` order (who made
 #: and changed it, and when, left out).
-_EXPRESSION_COLUMNS = (
-    Expression.id,
-    Expression.reaction_id,
-    Expression.origin,
-    Expression.A,
-    Expression.n,
-    Expression.Ea,
-    Expression.T_min,
-    Expression.T_max,
-    Expression.uncertainty_factor,
-    Expression.uncertainty_g,
-    Expression.reference,
-    Expression.provenance,
-    Expression.recommended,
-    Expression.version,
-    null().label("created_at"),
-    null().label("created_by"),
-    null().label("updated_at"),
-    null().label("updated_by"),
-    *FORM_COLUMNS,
-    Expression.run_id,
+_BOOKKEEPING = {"created_at", "created_by", "updated_at", "updated_by"}
+_EXPRESSION_COLUMNS = tuple(
+    null().label(column.key) if column.key in _BOOKKEEPING else column
+    for column in EXPRESSION_COLUMNS
 )
 _PROVENANCE = ExpressionRow._fields.index("provenance")
 _RUN = ExpressionRow._fields.index("run_id")
@@ -106,7 +90,7 @@ def expressions_with_key(
     query = select(*_EXPRESSION_COLUMNS).where(expression_in_use())
     batches: Iterable[Sequence[Sequence[Any]]]
     if len(wanted) >= EXPRESSIONS_WHOLE_FROM:
-        batches = _batches(session, query.order_by(Expression.reaction_id, Expression.id))
+        batches = fetch_batches(session, query.order_by(Expression.reaction_id, Expression.id))
     else:
         batches = (
             session.execute(
@@ -145,19 +129,3 @@ def expressions_with_key(
         if value is None:
             found[reaction_id] = reduce([])
     return found
-
-
-def _batches(session: Session, query: Any) -> Iterator[list[Any]]:
-    """The rows of ``query`` (ids and constants only) through the raw driver, a batch at a
-    time."""
-    connection = session.connection()
-    compiled = query.compile(dialect=connection.dialect, compile_kwargs={"literal_binds": True})
-    raw = connection.connection.dbapi_connection
-    assert raw is not None
-    cursor = raw.cursor()
-    try:
-        cursor.execute(str(compiled))
-        while batch := cursor.fetchmany(2_000):
-            yield batch
-    finally:
-        cursor.close()

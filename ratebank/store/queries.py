@@ -180,7 +180,8 @@ FORM_COLUMNS = (
     Expression.troe_T2,
 )
 
-_EXPRESSION_COLUMNS = (
+#: The columns of an expression in :class:`ExpressionRow` order.
+EXPRESSION_COLUMNS = (
     Expression.id,
     Expression.reaction_id,
     Expression.origin,
@@ -221,7 +222,7 @@ class _Rows:
     def columns(self) -> list[Any]:
         """The columns to select: without the provenance when no key of it is wanted,
         without the bookkeeping when lean."""
-        columns: list[Any] = list(_EXPRESSION_COLUMNS)
+        columns: list[Any] = list(EXPRESSION_COLUMNS)
         if self.keys is not None and not self.keys:
             columns[_PROVENANCE] = null().label("provenance")
             columns[_RUN] = null().label("run_id")
@@ -376,9 +377,7 @@ def species_by_name(session: Session, names: Iterable[str]) -> dict[str, Species
 
 
 def expression(session: Session, expression_id: int) -> ExpressionRow:
-    row = session.execute(
-        select(*_EXPRESSION_COLUMNS).where(Expression.id == expression_id)
-    ).first()
+    row = session.execute(select(*EXPRESSION_COLUMNS).where(Expression.id == expression_id)).first()
     if row is None:
         raise NotFoundError(f"no expression {expression_id} in the store")
     return with_terms(session, _Rows(session).all([row]))[0]
@@ -573,7 +572,7 @@ def _runs_in_use(session: Session) -> list[int]:
 
 def newest_fits(session: Session, reaction_ids: Sequence[int]) -> dict[int, ExpressionRow]:
     """The newest measured fit in use of each reaction that has one."""
-    columns = ", ".join(_sql_column(c) for c in _EXPRESSION_COLUMNS)
+    columns = ", ".join(_sql_column(c) for c in EXPRESSION_COLUMNS)
     query = (
         f"SELECT {columns} FROM expression WHERE id IN (SELECT MAX(id) FROM expression "
         f"WHERE origin = 'measured-fit' AND {EXPRESSION_IN_USE_SQL} "
@@ -607,7 +606,7 @@ def measured_fits(session: Session, *, reaction_class: str | None = None) -> lis
     """Every measured k(T) fit in use (plain form: not a fall-off or activated fit, whose A is
     k_inf) of a bimolecular reaction in use (of ``reaction_class``), oldest first."""
     query = (
-        select(*_EXPRESSION_COLUMNS)
+        select(*EXPRESSION_COLUMNS)
         .join(Reaction, Reaction.id == Expression.reaction_id)
         .where(
             Expression.origin == "measured-fit",
