@@ -160,13 +160,19 @@ NOT_FOR_A_LISTING = (
 )
 
 
-def test_listing_does_not_import_what_it_does_not_use(tmp_path):
+def _one_reaction_store(tmp_path: Path) -> str:
+    """The path of a new store holding OH, O, H2O and the reaction oh-oh (SYNTHETIC)."""
     db = str(tmp_path / "s.db")
     store, _ = ratebank.init(db)
     with store:
         for name, formula in (("OH", "HO"), ("O", "O"), ("H2O", "H2O")):
             store.add_species(name, formula)
         store.add_reaction("oh-oh", "OH + OH -> O + H2O")
+    return db
+
+
+def test_listing_does_not_import_what_it_does_not_use(tmp_path):
+    db = _one_reaction_store(tmp_path)
     code = f"""
 import json, sys
 from ratebank.cli.app import app
@@ -200,12 +206,7 @@ JOB_COMMANDS = (
 
 @pytest.mark.parametrize(("command", "not_imported"), JOB_COMMANDS, ids=lambda c: str(c[0]))
 def test_the_job_s_commands_do_not_import_typer_s_validators(tmp_path, command, not_imported):
-    db = str(tmp_path / "s.db")
-    store, _ = ratebank.init(db)
-    with store:
-        for name, formula in (("OH", "HO"), ("O", "O"), ("H2O", "H2O")):
-            store.add_species(name, formula)
-        store.add_reaction("oh-oh", "OH + OH -> O + H2O")
+    db = _one_reaction_store(tmp_path)
     args = [arg.replace("{out}", str(tmp_path / "out")) for arg in command]
     code = f"""
 import json, sys

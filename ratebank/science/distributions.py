@@ -96,12 +96,7 @@ def _gamma_fraction(a: np.ndarray, x: np.ndarray) -> np.ndarray:
     for i in range(1, _MAX_TERMS + 1):
         an = -i * (i - a)
         b += 2.0
-        d = an * d + b
-        d[np.abs(d) < _TINY] = _TINY
-        c = b + an / c
-        c[np.abs(c) < _TINY] = _TINY
-        d = 1.0 / d
-        step = d * c
+        d, c, step = _lentz_step(d, c, an, b)
         h *= step
         done = np.abs(step - 1.0) < _EPS
         if done.any():
@@ -143,6 +138,20 @@ def _regularized_gamma(a, x, upper: bool) -> np.ndarray:
     return out.reshape(shape)[()]
 
 
+def _lentz_step(
+    d: np.ndarray, c: np.ndarray, numerator: np.ndarray, denominator: np.ndarray | float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """One term of the modified Lentz method (NR 3rd ed. 5.2.8-5.2.10) for a continued
+    fraction's partial numerator and denominator: (the new D, the new C, the factor C D
+    the value is multiplied by)."""
+    d = denominator + numerator * d
+    d[np.abs(d) < _TINY] = _TINY
+    c = denominator + numerator / c
+    c[np.abs(c) < _TINY] = _TINY
+    d = 1.0 / d
+    return d, c, d * c
+
+
 def _beta_fraction(a: np.ndarray, b: np.ndarray, x: np.ndarray) -> np.ndarray:
     """ln of the continued fraction of A&S 26.5.8 for I_x(a, b) a B(a, b) x^-a (1-x)^-b
     (NR 6.4.5), by the modified Lentz method."""
@@ -159,19 +168,10 @@ def _beta_fraction(a: np.ndarray, b: np.ndarray, x: np.ndarray) -> np.ndarray:
     for m in range(1, _MAX_TERMS + 1):
         m2 = 2.0 * m
         aa = m * (b - m) * x / ((qam + m2) * (a + m2))  # even step
-        d = 1.0 + aa * d
-        d[np.abs(d) < _TINY] = _TINY
-        c = 1.0 + aa / c
-        c[np.abs(c) < _TINY] = _TINY
-        d = 1.0 / d
-        h *= d * c
+        d, c, step = _lentz_step(d, c, aa, 1.0)
+        h *= step
         aa = -(a + m) * (qab + m) * x / ((a + m2) * (qap + m2))  # odd step
-        d = 1.0 + aa * d
-        d[np.abs(d) < _TINY] = _TINY
-        c = 1.0 + aa / c
-        c[np.abs(c) < _TINY] = _TINY
-        d = 1.0 / d
-        step = d * c
+        d, c, step = _lentz_step(d, c, aa, 1.0)
         h *= step
         done = np.abs(step - 1.0) < _EPS
         if done.any():
